@@ -1,0 +1,11 @@
+//! Chemistry core: elements, formulas, the molecule graph, canonical labelling,
+//! rings, aromaticity and SMILES.
+
+pub mod canon;
+pub mod element;
+pub mod formula;
+pub mod molecule;
+
+pub use element::Element;
+pub use formula::Formula;
+pub use molecule::{Atom, Bond, Molecule};

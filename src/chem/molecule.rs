@@ -1,0 +1,95 @@
+//! The molecule model: a plain-data undirected graph of heavy atoms (petgraph),
+//! hydrogens implicit as a count on each atom.
+//!
+//! Bond orders are always stored in a Kekulé form (1, 2 or 3). Aromaticity is a
+//! perception result kept beside the graph (see [`super::aromaticity`]), never a
+//! bond order, so that every algorithm sees one representation. Perception and
+//! algorithms live in their own files, not as methods grown onto this type.
+
+use super::element::Element;
+use super::formula::Formula;
+use petgraph::graph::{NodeIndex, UnGraph};
+
+#[derive(Copy, Clone, Debug, PartialEq, Eq, Hash)]
+pub struct Atom {
+    pub element: Element,
+    /// Implicit hydrogens on this atom.
+    pub hydrogens: u8,
+}
+
+#[derive(Copy, Clone, Debug, PartialEq, Eq, Hash)]
+pub struct Bond {
+    /// Kekulé bond order: 1, 2 or 3.
+    pub order: u8,
+}
+
+/// A neutral molecule: heavy atoms as nodes, bonds as edges.
+#[derive(Clone, Debug, Default)]
+pub struct Molecule {
+    pub graph: UnGraph<Atom, Bond>,
+}
+
+impl Molecule {
+    pub fn new() -> Molecule {
+        Molecule {
+            graph: UnGraph::default(),
+        }
+    }
+
+    pub fn add_atom(&mut self, element: Element, hydrogens: u8) -> NodeIndex {
+        self.graph.add_node(Atom { element, hydrogens })
+    }
+
+    pub fn add_bond(&mut self, a: NodeIndex, b: NodeIndex, order: u8) {
+        self.graph.add_edge(a, b, Bond { order });
+    }
+
+    pub fn atom_count(&self) -> usize {
+        self.graph.node_count()
+    }
+
+    pub fn atom(&self, i: usize) -> Atom {
+        self.graph[NodeIndex::new(i)]
+    }
+
+    /// Neighbours of atom `i` with the bond order, in edge order.
+    pub fn neighbours(&self, i: usize) -> impl Iterator<Item = (usize, u8)> + '_ {
+        self.graph
+            .edges(NodeIndex::new(i))
+            .map(move |e| {
+                use petgraph::visit::EdgeRef;
+                let other = if e.source().index() == i {
+                    e.target().index()
+                } else {
+                    e.source().index()
+                };
+                (other, e.weight().order)
+            })
+    }
+
+    /// Sum of bond orders at atom `i` (not counting hydrogens).
+    pub fn bond_order_sum(&self, i: usize) -> u8 {
+        self.neighbours(i).map(|(_, o)| o).sum()
+    }
+
+    /// Bond order between atoms `a` and `b`, 0 when not bonded.
+    pub fn bond_order(&self, a: usize, b: usize) -> u8 {
+        self.graph
+            .find_edge(NodeIndex::new(a), NodeIndex::new(b))
+            .map(|e| self.graph[e].order)
+            .unwrap_or(0)
+    }
+
+    pub fn formula(&self) -> Formula {
+        let mut f = Formula::default();
+        for a in self.graph.node_weights() {
+            f.add(a.element, 1);
+            f.add(Element::H, a.hydrogens as u32);
+        }
+        f
+    }
+
+    pub fn total_hydrogens(&self) -> u32 {
+        self.graph.node_weights().map(|a| a.hydrogens as u32).sum()
+    }
+}

@@ -1,0 +1,1 @@
+//! Enumeration of constitutional isomers (filled in by the generator work).
