@@ -23,5 +23,6 @@ pub mod chem;
 pub mod cli;
 pub mod enumerate;
 pub mod error;
+pub mod predict;
 
 pub use error::{Error, Result};

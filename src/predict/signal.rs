@@ -1,0 +1,75 @@
+//! The predicted 1H signal: what the scorer compares with an observed multiplet.
+//! Field names follow the `predict --format json` schema.
+
+use serde::Serialize;
+
+/// A first-order splitting pattern as the trade labels it.
+///
+/// `Coupled(ns)` holds the number of equivalent partners for each distinct J,
+/// largest J first: `[3]` is a quartet, `[1, 1]` a dd, `[2, 1]` a td (triplet of
+/// doublets: the larger J to two H). `Singlet` is no resolved coupling;
+/// `Multiplet` is a pattern not first-order (reported as m).
+#[derive(Clone, Debug, PartialEq, Eq, Hash, Serialize)]
+pub enum Multiplicity {
+    Singlet,
+    Coupled(Vec<u8>),
+    Multiplet,
+}
+
+impl Multiplicity {
+    /// The trade's label: s, d, t, q, quint, sext, sept, oct, non, dd, dt, td,
+    /// dq, qd, tt, ddd, ..., m.
+    pub fn label(&self) -> String {
+        fn one(n: u8) -> &'static str {
+            match n {
+                1 => "d",
+                2 => "t",
+                3 => "q",
+                4 => "quint",
+                5 => "sext",
+                6 => "sept",
+                7 => "oct",
+                8 => "non",
+                _ => "m",
+            }
+        }
+        match self {
+            Multiplicity::Singlet => "s".into(),
+            Multiplicity::Multiplet => "m".into(),
+            Multiplicity::Coupled(ns) if ns.len() == 1 => one(ns[0]).into(),
+            Multiplicity::Coupled(ns) if ns.iter().all(|&n| (1..=3).contains(&n)) => {
+                ns.iter().map(|&n| one(n)).collect()
+            }
+            Multiplicity::Coupled(_) => "m".into(),
+        }
+    }
+
+    /// Number of lines of the first-order pattern: product of (n + 1).
+    pub fn lines(&self) -> Option<u32> {
+        match self {
+            Multiplicity::Singlet => Some(1),
+            Multiplicity::Coupled(ns) => Some(ns.iter().map(|&n| n as u32 + 1).product()),
+            Multiplicity::Multiplet => None,
+        }
+    }
+}
+
+/// One predicted signal: a group of equivalent H.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct PredictedSignal {
+    /// Chemical shift estimate, ppm.
+    pub shift: f64,
+    /// Typical error of the method that gave `shift`, ppm.
+    pub sigma: f64,
+    /// Number of H in the group (the integral).
+    pub hydrogens: u32,
+    pub multiplicity: Multiplicity,
+    /// Estimated J per distinct coupling, Hz, largest first (parallel to the
+    /// partner counts of `Multiplicity::Coupled`).
+    pub j_hz: Vec<f64>,
+    /// Heavy atoms (indices into the molecule) carrying these H.
+    pub atoms: Vec<usize>,
+    /// OH, NH, SH, COOH: exchangeable H, often broad or missing.
+    pub exchangeable: bool,
+    pub notes: Vec<String>,
+}
