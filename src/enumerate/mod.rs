@@ -221,11 +221,7 @@ impl Task {
     }
 
     fn node(&self, p: &Problem) -> Node {
-        let root_kind = self.kinds[0] as usize;
-        let mut node = generator::roots(p)
-            .into_iter()
-            .find(|r| r.kind[0] as usize == root_kind)
-            .expect("root of every kind present");
+        let mut node = generator::root(p, self.kinds[0] as usize);
         for (v, &k) in self.kinds.iter().enumerate().skip(1) {
             let attach: Vec<(usize, u8)> = self
                 .bonds
