@@ -26,17 +26,16 @@ of the same geng graph; the work is split over processes by geng's res/mod
 option without any compound crossing two shards.
 
 Usage:
-    nauty_isomers.py FORMULA [--smiles] [--expanded-valence [--lowest-valence-h]]
+    nauty_isomers.py FORMULA [--smiles] [--expanded-valence [--any-valence-h]]
                              [--jobs N] [--no-cache] [--stats]
 
 Prints the number of isomers, or with --smiles the sorted canonical SMILES,
-one per line. --expanded-valence also allows S 4 and 6 and P 5: each S or P
-atom may take any allowed valence not below its bond-order sum, with the rest
-filled by H as the formula's H total allows (so CH3-SH3=O counts as well as
-CH3-S(=O)-CH3). --lowest-valence-h narrows that to the SMILES reading of
-implicit H: each atom takes the lowest allowed valence not below its
-bond-order sum (so hypervalent S or P carries H only when its bonds alone
-pass the lower valence). Results are cached under
+one per line. --expanded-valence also allows S 4 and 6 and P 5, read as
+SMILES reads implicit H: each atom takes the lowest allowed valence not below
+its bond-order sum, so S(IV) needs a bond-order sum of 3 or 4, S(VI) 5 or 6,
+P(V) 4 or 5 (CH3-S(=O)-CH3 counts, CH3-SH3=O does not). --any-valence-h
+widens that to any allowed valence not below the bond-order sum, the rest
+filled by H as the formula's H total allows. Results are cached under
 <project>/.reference-cache/ (gitignored), keyed by the formula, the mode, the
 nauty and RDKit versions and this script's own hash; --no-cache bypasses it.
 --stats prints the pipeline's counts and timings on stderr.
@@ -103,8 +102,8 @@ def tool(name):
 class Plan:
     """Everything the pipeline needs for one formula, picklable for workers."""
 
-    def __init__(self, counts, expanded, lowest_valence_h=False):
-        self.lowest_valence_h = lowest_valence_h
+    def __init__(self, counts, expanded, any_valence_h=False):
+        self.any_valence_h = any_valence_h
         table = EXPANDED_VALENCES if expanded else STANDARD_VALENCES
         self.hydrogens = counts.get("H", 0)
         self.elements = [e for e in ELEMENT_ORDER if counts.get(e, 0) > 0]
@@ -154,7 +153,7 @@ def hydrogen_choices(plan, symbols_valences, bond_sums):
         hs = [v - b for v in allowed if v >= b]
         if not hs:
             return []
-        if plan.lowest_valence_h:
+        if not plan.any_valence_h:
             hs = hs[:1]
         options.append(hs)
     return [h for h in itertools.product(*options) if sum(h) == plan.hydrogens]
@@ -234,18 +233,18 @@ def nauty_version():
         return "geng-sha256-" + hashlib.sha256(f.read()).hexdigest()[:16]
 
 
-def cache_path(formula_key, expanded, lowest_valence_h):
+def cache_path(formula_key, expanded, any_valence_h):
     with open(os.path.abspath(__file__), "rb") as f:
         script_hash = hashlib.sha256(f.read()).hexdigest()[:16]
-    mode = ("x" + ("l" if lowest_valence_h else "")) if expanded else "s"
+    mode = ("x" + ("a" if any_valence_h else "")) if expanded else "s"
     key = "|".join([formula_key, mode,
                     nauty_version(), dist_version("rdkit"), script_hash])
     digest = hashlib.sha256(key.encode()).hexdigest()[:20]
     return os.path.join(PROJECT_ROOT, ".reference-cache", f"{formula_key}-{mode}-{digest}.smi.gz")
 
 
-def enumerate_isomers(counts, expanded, lowest_valence_h, jobs, stats):
-    plan = Plan(counts, expanded, lowest_valence_h)
+def enumerate_isomers(counts, expanded, any_valence_h, jobs, stats):
+    plan = Plan(counts, expanded, any_valence_h)
     if plan.empty():
         return set()
     # More shards than processes evens out geng's uneven res/mod split.
@@ -282,7 +281,7 @@ def main():
     parser.add_argument("formula")
     parser.add_argument("--smiles", action="store_true", help="print the SMILES, not the count")
     parser.add_argument("--expanded-valence", action="store_true")
-    parser.add_argument("--lowest-valence-h", action="store_true")
+    parser.add_argument("--any-valence-h", action="store_true")
     parser.add_argument("--jobs", type=int, default=min(2, os.cpu_count() or 1))
     parser.add_argument("--no-cache", action="store_true")
     parser.add_argument("--stats", action="store_true")
@@ -292,17 +291,17 @@ def main():
     except ValueError as exc:
         sys.exit(f"nauty_isomers: {exc}")
     key = hill(counts)
-    if args.lowest_valence_h and not args.expanded_valence:
-        sys.exit("nauty_isomers: --lowest-valence-h only goes with --expanded-valence")
+    if args.any_valence_h and not args.expanded_valence:
+        sys.exit("nauty_isomers: --any-valence-h only goes with --expanded-valence")
     path = None if args.no_cache else cache_path(key, args.expanded_valence,
-                                                 args.lowest_valence_h)
+                                                 args.any_valence_h)
     if path and os.path.exists(path):
         with gzip.open(path, "rt") as f:
             smiles = [line.rstrip("\n") for line in f if line.strip()]
         if args.stats:
             print(f"nauty_isomers: {len(smiles)} compounds from cache {path}", file=sys.stderr)
     else:
-        smiles = sorted(enumerate_isomers(counts, args.expanded_valence, args.lowest_valence_h,
+        smiles = sorted(enumerate_isomers(counts, args.expanded_valence, args.any_valence_h,
                                           max(1, args.jobs), args.stats))
         if path:
             os.makedirs(os.path.dirname(path), exist_ok=True)
