@@ -1,0 +1,94 @@
+//! One Kekulé structure per aromatic compound.
+//!
+//! The generator produces bond-order multigraphs, and the Kekulé structures of
+//! one aromatic system are different multigraphs (the two of o-xylene are not
+//! isomorphic), but they are one compound. For each complete isomer whose
+//! aromatic system (as `chem::aromaticity` perceives it) admits other Kekulé
+//! structures, all of them are listed (`chem::kekule`), each is given its
+//! canonical certificate, and the isomer is kept only when its own certificate
+//! is the smallest. Every Kekulé form of the compound is generated, so exactly
+//! one survives, and no table of seen structures is needed.
+
+use super::generator::{bits, Node};
+use crate::chem::canon::Canonizer;
+use crate::chem::{aromaticity, kekule, Molecule};
+
+/// Cheap exact test: another Kekulé structure with the same atoms' bond-order
+/// sums exists only along a cycle whose bonds alternate double and single
+/// (swapping them along the cycle gives the other structure). Depth-first
+/// search for such a cycle through each double bond.
+fn may_have_alternatives(node: &Node) -> bool {
+    for a in 0..node.n {
+        for b in bits(node.nb[a]) {
+            if b > a && node.order(a, b) == 2 && alternating_path(node, a, b, 1u64 << a | 1u64 << b)
+            {
+                return true;
+            }
+        }
+    }
+    false
+}
+
+/// From `v`, reached by a double bond, is there a single bond then a double
+/// bond, and so on, back to `target` ending with a single bond into it?
+fn alternating_path(node: &Node, target: usize, v: usize, seen: u64) -> bool {
+    for u in bits(node.nb[v]) {
+        if node.order(v, u) != 1 {
+            continue;
+        }
+        if u == target {
+            if seen.count_ones() >= 4 {
+                return true;
+            }
+            continue;
+        }
+        if seen >> u & 1 == 1 {
+            continue;
+        }
+        for w in bits(node.nb[u]) {
+            if w != v
+                && seen >> w & 1 == 0
+                && node.order(u, w) == 2
+                && alternating_path(node, target, w, seen | 1u64 << u | 1u64 << w)
+            {
+                return true;
+            }
+        }
+    }
+    false
+}
+
+/// Whether `node` (a complete isomer, as molecule `mol` when built) is the
+/// representative Kekulé structure of its compound.
+pub fn is_representative(
+    node: &Node,
+    molecule: impl FnOnce() -> Molecule,
+    canon: &mut Canonizer,
+) -> bool {
+    if !may_have_alternatives(node) {
+        return true;
+    }
+    let mol = molecule();
+    let arom = aromaticity::perceive(&mol);
+    if !arom.any() {
+        return true;
+    }
+    let forms = kekule::kekule_structures(&mol, &arom);
+    if forms.len() <= 1 {
+        return true;
+    }
+    canon.run(&node.g);
+    let own = canon.certificate().to_vec();
+    let mut g = node.g.clone();
+    for orders in &forms {
+        for e in mol.graph.edge_indices() {
+            let (a, b) = mol.graph.edge_endpoints(e).expect("edge exists");
+            g.set_edge(a.index(), b.index(), orders[e.index()]);
+        }
+        canon.run(&g);
+        if canon.certificate() < own.as_slice() {
+            return false;
+        }
+    }
+    true
+}
