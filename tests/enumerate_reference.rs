@@ -112,6 +112,7 @@ against_reference! {
     mixed_halide_c2h2clf => "C2H2ClF";           // 2
     big_c8h8o => "C8H8O";                        // 112380
     bigger_c9h10o => "C9H10O";                   // 697293
+    big_hydrocarbon_c11h14 => "C11H14";          // 949675 (950064 Kekule multigraphs)
 }
 
 // Expanded valences (S 2/4/6, P 3/5), read as SMILES reads implicit H: an atom
