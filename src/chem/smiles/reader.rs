@@ -429,7 +429,8 @@ fn parse_bracket(chars: &[char], start: usize) -> std::result::Result<(RawAtom, 
     }
     if i < close && (chars[i] == '+' || chars[i] == '-') {
         return Err(format!(
-            "charge in {text} at column {} is not supported (neutral molecules only)",
+            "charge '{}' in {text} at column {} is not supported (neutral molecules only)",
+            chars[i],
             i + 1
         ));
     }
