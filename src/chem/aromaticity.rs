@@ -16,15 +16,16 @@
 //! * Atoms that cannot take part: more than three neighbours including H
 //!   (sp3 carbon), a valence above the standard one (S(IV), S(VI), P(V)),
 //!   two multiple bonds (allene-type), halogens.
-//! * A candidate ring has only such atoms. Rings fused through a shared bond
-//!   form a system; every connected combination of up to six rings of a
-//!   system is tested, its electron count being the sum over the union of
-//!   its atoms, and it is aromatic when that sum is 4n+2 with n >= 1, or
-//!   exactly 2. A combination's atoms all become aromatic, and of its bonds
-//!   those that lie in exactly one of its rings (so the central bond of
-//!   azulene stays a plain single bond, as RDKit writes `c1ccc2cccc-2cc1`).
-//!   Rings larger than 24 atoms are not fused with others; the tests stop
-//!   once every candidate ring atom is aromatic.
+//! * A candidate ring has only such atoms. Rings fused through exactly one
+//!   shared bond form a system (bridged rings sharing two or more bonds do
+//!   not fuse); every connected combination of up to six rings of a system
+//!   is tested, its electron count being the sum over the atoms that lie in
+//!   one or two of its rings, and it is aromatic when that sum is 4n+2 with
+//!   n >= 1, or exactly 2. Of an aromatic combination's bonds, those in
+//!   exactly one of its rings become aromatic, with their atoms (so the
+//!   central bond of azulene stays a plain single bond, as RDKit writes
+//!   `c1ccc2cccc-2cc1`). Rings larger than 24 atoms are not fused with
+//!   others; a system's tests stop once each of its bonds has been covered.
 //!
 //! The ring set is the set of relevant cycles ([`super::rings`]), RDKit uses
 //! its symmetrised SSSR; the two agree on the molecules the tests compare.
@@ -42,6 +43,9 @@ use petgraph::visit::EdgeRef;
 const MAX_FUSED_RING_SIZE: usize = 24;
 /// Largest number of rings combined into one Hückel test (RDKit's limit).
 const MAX_FUSED_RINGS: usize = 6;
+/// Ring systems with more rings than this are tested one and two rings at a
+/// time only (RDKit's limit; larger combinations would take too long).
+const MAX_SYSTEM_FOR_TRIPLES: usize = 300;
 
 /// Aromaticity flags: `atom[i]` per node index, `bond[e]` per petgraph edge index.
 #[derive(Clone, Debug, PartialEq, Eq, Default)]
@@ -233,26 +237,29 @@ pub fn perceive_with_rings(mol: &Molecule, rings: &RingInfo) -> Aromaticity {
     let c = cand.len();
     let atoms_of = |k: usize| &rings.rings[cand[k]];
     let bonds_of = |k: usize| &rings.ring_bonds[cand[k]];
-    // Candidate rings are neighbours when they share a bond and neither is
-    // larger than MAX_FUSED_RING_SIZE.
+    // Candidate rings are neighbours when they share exactly one bond (ortho
+    // fusion) and neither is larger than MAX_FUSED_RING_SIZE; rings sharing
+    // two or more bonds (bridged cages) are not fused for this purpose.
     let mut neighbours = vec![Vec::new(); c];
     for i in 0..c {
         for j in i + 1..c {
             if atoms_of(i).len() > MAX_FUSED_RING_SIZE || atoms_of(j).len() > MAX_FUSED_RING_SIZE {
                 continue;
             }
-            if bonds_of(i).iter().any(|e| bonds_of(j).contains(e)) {
+            let shared = bonds_of(i)
+                .iter()
+                .filter(|e| bonds_of(j).contains(e))
+                .count();
+            if shared == 1 {
                 neighbours[i].push(j);
                 neighbours[j].push(i);
             }
         }
     }
-    let mut all_candidate_atoms: Vec<usize> =
-        (0..c).flat_map(|k| atoms_of(k).iter().copied()).collect();
-    all_candidate_atoms.sort_unstable();
-    all_candidate_atoms.dedup();
 
     let mut system_done = vec![false; c];
+    let mut ring_count_of_atom = vec![0usize; n];
+    let mut ring_count_of_bond = vec![0usize; m];
     for start in 0..c {
         if system_done[start] {
             continue;
@@ -271,51 +278,76 @@ pub fn perceive_with_rings(mol: &Molecule, rings: &RingInfo) -> Aromaticity {
             i += 1;
         }
         system.sort_unstable();
-        let mut done_atoms = vec![false; n];
+        let mut system_bonds: Vec<usize> = system
+            .iter()
+            .flat_map(|&k| bonds_of(k).iter().copied())
+            .collect();
+        system_bonds.sort_unstable();
+        system_bonds.dedup();
+        let mut done_bond = vec![false; m];
         let mut done_count = 0;
         let max_size = system.len().min(MAX_FUSED_RINGS);
         for size in 1..=max_size {
-            if done_count == all_candidate_atoms.len() {
+            if done_count >= system_bonds.len()
+                || (size > 2 && system.len() > MAX_SYSTEM_FOR_TRIPLES)
+            {
                 break;
             }
             for combo in itertools::Itertools::combinations(system.iter().copied(), size) {
                 if size > 1 && !connected(&combo, &neighbours) {
                     continue;
                 }
-                let mut union: Vec<usize> = combo
-                    .iter()
-                    .flat_map(|&k| atoms_of(k).iter().copied())
-                    .collect();
-                union.sort_unstable();
-                union.dedup();
-                let total: usize = union.iter().map(|&a| electrons(a)).sum();
-                if !huckel(total) {
-                    continue;
-                }
-                for &a in &union {
-                    arom.atom[a] = true;
-                    if !done_atoms[a] {
-                        done_atoms[a] = true;
-                        done_count += 1;
+                // Electrons of the atoms in one or two rings of the
+                // combination (an atom buried in three rings, like the
+                // centre of acepentalene, gives none).
+                for &k in &combo {
+                    for &a in atoms_of(k) {
+                        ring_count_of_atom[a] += 1;
+                    }
+                    for &e in bonds_of(k) {
+                        ring_count_of_bond[e] += 1;
                     }
                 }
-                // Bonds in exactly one ring of the combination.
-                let mut bonds: Vec<usize> = combo
-                    .iter()
-                    .flat_map(|&k| bonds_of(k).iter().copied())
-                    .collect();
-                bonds.sort_unstable();
-                let mut i = 0;
-                while i < bonds.len() {
-                    let mut j = i;
-                    while j < bonds.len() && bonds[j] == bonds[i] {
-                        j += 1;
+                let mut total = 0;
+                for &k in &combo {
+                    for &a in atoms_of(k) {
+                        let cnt = ring_count_of_atom[a];
+                        if cnt == 1 || cnt == 2 {
+                            total += electrons(a);
+                            // Count each atom once.
+                            ring_count_of_atom[a] += 100;
+                        }
                     }
-                    let e = bonds[i];
-                    if j - i == 1 && mol.graph[petgraph::graph::EdgeIndex::new(e)].order <= 2 {
-                        arom.bond[e] = true;
+                }
+                if huckel(total) {
+                    // Bonds in exactly one ring of the combination; single and
+                    // double ones become aromatic with their atoms.
+                    for &k in &combo {
+                        for &e in bonds_of(k) {
+                            if ring_count_of_bond[e] != 1 {
+                                continue;
+                            }
+                            if !done_bond[e] {
+                                done_bond[e] = true;
+                                done_count += 1;
+                            }
+                            let edge = petgraph::graph::EdgeIndex::new(e);
+                            if mol.graph[edge].order <= 2 {
+                                arom.bond[e] = true;
+                                let (a, b) = mol.graph.edge_endpoints(edge).expect("edge exists");
+                                arom.atom[a.index()] = true;
+                                arom.atom[b.index()] = true;
+                            }
+                        }
                     }
-                    i = j;
+                }
+                for &k in &combo {
+                    for &a in atoms_of(k) {
+                        ring_count_of_atom[a] = 0;
+                    }
+                    for &e in bonds_of(k) {
+                        ring_count_of_bond[e] = 0;
+                    }
                 }
             }
         }

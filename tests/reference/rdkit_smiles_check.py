@@ -29,7 +29,11 @@ def canon(smiles):
 
 
 def main():
-    for line in sys.stdin:
+    # Read all input before writing anything: the caller writes its whole
+    # input before reading, so writing early could fill the pipe and block.
+    lines = sys.stdin.read().split("\n")
+    out = []
+    for line in lines:
         line = line.rstrip("\n")
         if not line:
             continue
@@ -37,7 +41,7 @@ def main():
         m, can_in = canon(given)
         _, can_ours = canon(ours)
         if m is None:
-            print("\t".join([ident, can_in, can_ours, "", "", "", ""]))
+            out.append("\t".join([ident, can_in, can_ours, "", "", "", ""]))
             continue
         flags = "".join("1" if a.GetIsAromatic() else "0" for a in m.GetAtoms())
         bonds = []
@@ -51,7 +55,8 @@ def main():
         Chem.Kekulize(k, clearAromaticFlags=True)
         for _ in range(2):
             randoms.append(Chem.MolToSmiles(k, doRandom=True, kekuleSmiles=True))
-        print("\t".join([ident, can_in, can_ours, flags, ",".join(sorted(bonds)), ",".join(rings), " ".join(randoms)]))
+        out.append("\t".join([ident, can_in, can_ours, flags, ",".join(sorted(bonds)), ",".join(rings), " ".join(randoms)]))
+    sys.stdout.write("".join(x + "\n" for x in out))
 
 
 main()
