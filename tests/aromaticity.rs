@@ -134,6 +134,14 @@ fn every_isomer_of_small_formulas_agrees_with_rdkit() {
     // same aromatic atoms and bonds; RDKit reads our canonical SMILES as the
     // same compound; 5 random RDKit SMILES give our canonical string.
     let cmp = chem_reference::compare_with_rdkit(&inputs);
+    // Source: RDKit (PyPI rdkit). Our relevant cycles are the rings of
+    // RDKit's symmetrised SSSR on every one of these isomers.
+    assert!(
+        cmp.ring_set_differences.is_empty(),
+        "{} ring sets differ from RDKit's, e.g. {:?}",
+        cmp.ring_set_differences.len(),
+        cmp.ring_set_differences.iter().take(5).collect::<Vec<_>>()
+    );
     cmp.assert_clean("nauty isomers");
     // Source: RDKit (PyPI rdkit). Our canonical SMILES groups the Kekulé
     // multigraphs into compounds exactly as RDKit's canonical SMILES does

@@ -6,6 +6,7 @@
 
 use crate::common::run_reference_script;
 use isomerank::chem::aromaticity::perceive;
+use isomerank::chem::rings::ring_info;
 use isomerank::chem::smiles::{canonical_smiles, parse_smiles};
 use petgraph::visit::EdgeRef;
 
@@ -21,6 +22,9 @@ pub struct Compared {
 pub struct Comparison {
     pub molecules: Vec<Compared>,
     pub failures: Vec<String>,
+    /// Molecules whose ring set (our relevant cycles) differs from RDKit's
+    /// symmetrised SSSR; reported, not a failure by itself.
+    pub ring_set_differences: Vec<String>,
 }
 
 impl Comparison {
@@ -76,16 +80,30 @@ pub fn compare_with_rdkit(inputs: &[String]) -> Comparison {
         bonds.sort();
         let can = canonical_smiles(&mol);
         lines.push_str(&format!("{i}\t{s}\t{can}\n"));
-        ours.push(Some((can, flags, bonds.join(","))));
+        let mut rings: Vec<String> = ring_info(&mol)
+            .rings
+            .iter()
+            .map(|r| {
+                let mut r = r.clone();
+                r.sort_unstable();
+                r.iter()
+                    .map(|a| a.to_string())
+                    .collect::<Vec<_>>()
+                    .join(".")
+            })
+            .collect();
+        rings.sort();
+        ours.push(Some((can, flags, bonds.join(","), rings.join(","))));
     }
     let out = run_reference_script("rdkit_smiles_check.py", &[], &lines);
     let mut molecules = Vec::new();
+    let mut ring_set_differences = Vec::new();
     for line in out.lines() {
         let f: Vec<&str> = line.split('\t').collect();
         assert_eq!(f.len(), 7, "malformed reference line: {line}");
         let i: usize = f[0].parse().expect("id");
         let input = &inputs[i];
-        let (can, flags, bonds) = ours[i].clone().expect("parsed");
+        let (can, flags, bonds, rings) = ours[i].clone().expect("parsed");
         if f[1].starts_with("ERROR") {
             failures.push(format!("{input}: RDKit cannot read the input"));
             continue;
@@ -101,6 +119,9 @@ pub fn compare_with_rdkit(inputs: &[String]) -> Comparison {
                 "{input}: aromatic bonds ours [{bonds}] RDKit [{}]",
                 f[4]
             ));
+        }
+        if f[5] != rings {
+            ring_set_differences.push(format!("{input}: rings ours [{rings}] RDKit [{}]", f[5]));
         }
         if f[2] != f[1] {
             failures.push(format!(
@@ -133,5 +154,6 @@ pub fn compare_with_rdkit(inputs: &[String]) -> Comparison {
     Comparison {
         molecules,
         failures,
+        ring_set_differences,
     }
 }

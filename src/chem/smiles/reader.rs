@@ -743,7 +743,12 @@ mod tests {
             let s: String = (0..len)
                 .map(|_| alphabet[(next() % alphabet.len() as u64) as usize])
                 .collect();
-            let _ = parse_smiles(&s);
+            // Whatever parses must write and read back to the same string.
+            if let Ok(m) = parse_smiles(&s) {
+                let c = crate::chem::smiles::canonical_smiles(&m);
+                let back = parse_smiles(&c).unwrap_or_else(|e| panic!("{s} -> {c}: {e}"));
+                assert_eq!(crate::chem::smiles::canonical_smiles(&back), c, "{s}");
+            }
         }
     }
 }
