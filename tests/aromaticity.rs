@@ -23,7 +23,10 @@ use std::process::{Command, Stdio};
 fn nauty_isomers(heavy: &[(Element, usize)], hydrogens: usize) -> Vec<Molecule> {
     let n: usize = heavy.iter().map(|&(_, c)| c).sum();
     let valence_sum: usize = heavy.iter().map(|&(e, c)| e.valence() as usize * c).sum();
-    assert!((valence_sum - hydrogens) % 2 == 0, "odd total bond order");
+    assert!(
+        (valence_sum - hydrogens).is_multiple_of(2),
+        "odd total bond order"
+    );
     let bonds = (valence_sum - hydrogens) / 2;
     let counts: Vec<String> = heavy.iter().map(|&(_, c)| c.to_string()).collect();
     let degrees: Vec<String> = heavy

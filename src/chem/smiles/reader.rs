@@ -574,10 +574,28 @@ fn build(atoms: &[RawAtom], bonds: &[RawBond]) -> std::result::Result<Molecule, 
             .map(|e| e.weight().order as u32)
             .sum::<u32>()
             + extra_h[i];
-        let allowed = a.element.valences(true);
+        // Aromatic atoms keep their standard valence: an aromatic ring atom
+        // is never S(IV) or P(V) (the aromaticity rule excludes them), so a
+        // lower-case atom that would need one is a mistake, as RDKit holds.
+        let standard = [a.element.valence()];
+        let allowed: &[u8] = if a.aromatic {
+            &standard
+        } else {
+            a.element.valences(true)
+        };
         let (h, pi) = match a.bracket_h {
             None => {
                 let Some(&v) = allowed.iter().find(|&&v| v as u32 >= written) else {
+                    if a.aromatic {
+                        return Err(format!(
+                            "aromatic atom '{}' at column {} has {} bonds; in an aromatic ring {} takes valence {}",
+                            a.text,
+                            a.col,
+                            written,
+                            a.text,
+                            a.element.valence()
+                        ));
+                    }
                     return Err(format!(
                         "atom '{}' at column {} has {} bonds, more than {} can take ({}; charged forms are not supported)",
                         a.text,
@@ -723,6 +741,61 @@ mod tests {
         assert!(e("CC.O").contains("column 3"));
         assert!(e("[13CH4]").contains("isotope"));
         assert!(e("[CH3]").contains("valence 3"));
+    }
+
+    /// Random strings that follow the SMILES grammar loosely: atoms, bonds,
+    /// branches and ring digits in plausible places, so that many parse and
+    /// exercise ring perception, kekulisation and the writer.
+    fn grammar_like(next: &mut impl FnMut() -> u64) -> String {
+        const ATOMS: &[&str] = &[
+            "C", "C", "C", "c", "c", "c", "n", "o", "s", "N", "O", "S", "P", "F", "Cl", "[nH]", "p",
+        ];
+        const BONDS: &[&str] = &["", "", "", "", "=", "#", "-", ":"];
+        let mut s = String::new();
+        let mut open_branches = 0;
+        let len = 1 + next() % 14;
+        for i in 0..len {
+            if i > 0 {
+                s.push_str(BONDS[(next() % BONDS.len() as u64) as usize]);
+            }
+            s.push_str(ATOMS[(next() % ATOMS.len() as u64) as usize]);
+            match next() % 6 {
+                0 => s.push(char::from(b'1' + (next() % 3) as u8)),
+                1 if open_branches > 0 => {
+                    s.push(')');
+                    open_branches -= 1;
+                }
+                2 if i + 1 < len => {
+                    s.push('(');
+                    open_branches += 1;
+                }
+                _ => {}
+            }
+        }
+        s
+    }
+
+    #[test]
+    fn grammar_like_random_smiles_round_trip() {
+        let mut state = 0x1234_5678_9abc_def1u64;
+        let mut next = || {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            state
+        };
+        let mut parsed = 0;
+        for _ in 0..30_000 {
+            let s = grammar_like(&mut next);
+            if let Ok(m) = parse_smiles(&s) {
+                parsed += 1;
+                let c = crate::chem::smiles::canonical_smiles(&m);
+                let back = parse_smiles(&c).unwrap_or_else(|e| panic!("{s} -> {c}: {e}"));
+                assert_eq!(back.formula(), m.formula(), "{s} -> {c}");
+                assert_eq!(crate::chem::smiles::canonical_smiles(&back), c, "{s}");
+            }
+        }
+        assert!(parsed > 1000, "only {parsed} random SMILES parsed");
     }
 
     #[test]
