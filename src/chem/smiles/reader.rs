@@ -14,9 +14,12 @@
 //! bonds, and every syntax error. Columns count characters from 1.
 //!
 //! Aromatic (lower-case) atoms are kekulised: an aromatic atom needs a double
-//! bond when its lowest normal valence exceeds its bond count (aromatic bonds
+//! bond when its standard valence exceeds its bond count (aromatic bonds
 //! counted once), as in OpenSMILES; the double bonds are then placed by a
-//! perfect matching ([`crate::chem::kekule::kekulise`]).
+//! perfect matching ([`crate::chem::kekule::kekulise`]). Aromatic atoms take
+//! only their standard valence (no lower-case S(IV) or P(V), which RDKit
+//! refuses too), and an implicit bond between two aromatic atoms outside a
+//! ring is single (biphenyl written without `-`).
 
 use crate::chem::element::Element;
 use crate::chem::kekule::kekulise;
