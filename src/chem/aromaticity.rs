@@ -2,9 +2,9 @@
 //! ring systems.
 //!
 //! Why this exact model: isomer counts and canonical SMILES are checked
-//! against RDKit, so the rule follows RDKit's default aromaticity model
-//! (RDKit documentation, "The RDKit Book", section Aromaticity; RDKit source
-//! `Code/GraphMol/Aromaticity.cpp`). For neutral molecules of C N O S P and
+//! against RDKit, so the rule follows RDKit's default aromaticity model as
+//! its source implements it (`Code/GraphMol/Aromaticity.cpp`, 2022 form).
+//! For neutral molecules of C N O S P and
 //! halogens it comes down to:
 //!
 //! * Each ring atom donates pi electrons: a carbon with a double bond in a
