@@ -14,9 +14,12 @@
 //! bonds, and every syntax error. Columns count characters from 1.
 //!
 //! Aromatic (lower-case) atoms are kekulised: an aromatic atom needs a double
-//! bond when its lowest normal valence exceeds its bond count (aromatic bonds
+//! bond when its standard valence exceeds its bond count (aromatic bonds
 //! counted once), as in OpenSMILES; the double bonds are then placed by a
-//! perfect matching ([`crate::chem::kekule::kekulise`]).
+//! perfect matching ([`crate::chem::kekule::kekulise`]). Aromatic atoms take
+//! only their standard valence (no lower-case S(IV) or P(V), which RDKit
+//! refuses too), and an implicit bond between two aromatic atoms outside a
+//! ring is single (biphenyl written without `-`).
 
 use crate::chem::element::Element;
 use crate::chem::kekule::kekulise;
@@ -429,7 +432,8 @@ fn parse_bracket(chars: &[char], start: usize) -> std::result::Result<(RawAtom, 
     }
     if i < close && (chars[i] == '+' || chars[i] == '-') {
         return Err(format!(
-            "charge in {text} at column {} is not supported (neutral molecules only)",
+            "charge '{}' in {text} at column {} is not supported (neutral molecules only)",
+            chars[i],
             i + 1
         ));
     }
@@ -573,10 +577,28 @@ fn build(atoms: &[RawAtom], bonds: &[RawBond]) -> std::result::Result<Molecule, 
             .map(|e| e.weight().order as u32)
             .sum::<u32>()
             + extra_h[i];
-        let allowed = a.element.valences(true);
+        // Aromatic atoms keep their standard valence: an aromatic ring atom
+        // is never S(IV) or P(V) (the aromaticity rule excludes them), so a
+        // lower-case atom that would need one is a mistake, as RDKit holds.
+        let standard = [a.element.valence()];
+        let allowed: &[u8] = if a.aromatic {
+            &standard
+        } else {
+            a.element.valences(true)
+        };
         let (h, pi) = match a.bracket_h {
             None => {
                 let Some(&v) = allowed.iter().find(|&&v| v as u32 >= written) else {
+                    if a.aromatic {
+                        return Err(format!(
+                            "aromatic atom '{}' at column {} has {} bonds; in an aromatic ring {} takes valence {}",
+                            a.text,
+                            a.col,
+                            written,
+                            a.text,
+                            a.element.valence()
+                        ));
+                    }
                     return Err(format!(
                         "atom '{}' at column {} has {} bonds, more than {} can take ({}; charged forms are not supported)",
                         a.text,
@@ -724,6 +746,61 @@ mod tests {
         assert!(e("[CH3]").contains("valence 3"));
     }
 
+    /// Random strings that follow the SMILES grammar loosely: atoms, bonds,
+    /// branches and ring digits in plausible places, so that many parse and
+    /// exercise ring perception, kekulisation and the writer.
+    fn grammar_like(next: &mut impl FnMut() -> u64) -> String {
+        const ATOMS: &[&str] = &[
+            "C", "C", "C", "c", "c", "c", "n", "o", "s", "N", "O", "S", "P", "F", "Cl", "[nH]", "p",
+        ];
+        const BONDS: &[&str] = &["", "", "", "", "=", "#", "-", ":"];
+        let mut s = String::new();
+        let mut open_branches = 0;
+        let len = 1 + next() % 14;
+        for i in 0..len {
+            if i > 0 {
+                s.push_str(BONDS[(next() % BONDS.len() as u64) as usize]);
+            }
+            s.push_str(ATOMS[(next() % ATOMS.len() as u64) as usize]);
+            match next() % 6 {
+                0 => s.push(char::from(b'1' + (next() % 3) as u8)),
+                1 if open_branches > 0 => {
+                    s.push(')');
+                    open_branches -= 1;
+                }
+                2 if i + 1 < len => {
+                    s.push('(');
+                    open_branches += 1;
+                }
+                _ => {}
+            }
+        }
+        s
+    }
+
+    #[test]
+    fn grammar_like_random_smiles_round_trip() {
+        let mut state = 0x1234_5678_9abc_def1u64;
+        let mut next = || {
+            state ^= state << 13;
+            state ^= state >> 7;
+            state ^= state << 17;
+            state
+        };
+        let mut parsed = 0;
+        for _ in 0..30_000 {
+            let s = grammar_like(&mut next);
+            if let Ok(m) = parse_smiles(&s) {
+                parsed += 1;
+                let c = crate::chem::smiles::canonical_smiles(&m);
+                let back = parse_smiles(&c).unwrap_or_else(|e| panic!("{s} -> {c}: {e}"));
+                assert_eq!(back.formula(), m.formula(), "{s} -> {c}");
+                assert_eq!(crate::chem::smiles::canonical_smiles(&back), c, "{s}");
+            }
+        }
+        assert!(parsed > 1000, "only {parsed} random SMILES parsed");
+    }
+
     #[test]
     fn random_strings_never_panic() {
         // Deterministic pseudo-random strings over the SMILES alphabet.
@@ -742,7 +819,12 @@ mod tests {
             let s: String = (0..len)
                 .map(|_| alphabet[(next() % alphabet.len() as u64) as usize])
                 .collect();
-            let _ = parse_smiles(&s);
+            // Whatever parses must write and read back to the same string.
+            if let Ok(m) = parse_smiles(&s) {
+                let c = crate::chem::smiles::canonical_smiles(&m);
+                let back = parse_smiles(&c).unwrap_or_else(|e| panic!("{s} -> {c}: {e}"));
+                assert_eq!(crate::chem::smiles::canonical_smiles(&back), c, "{s}");
+            }
         }
     }
 }

@@ -350,4 +350,25 @@ mod tests {
         assert_eq!(canon("C"), "C");
         assert_eq!(canon("[SH4]"), "[SH4]");
     }
+
+    #[test]
+    fn large_molecules_are_written_without_panicking() {
+        // Above MAX_ATOMS the writer keeps input order: still a valid SMILES.
+        let chain = "C".repeat(100);
+        let s = canon(&chain);
+        assert_eq!(s, chain);
+        let rings: String = (0..30).map(|_| "C1CC1").collect::<Vec<_>>().join("");
+        let m = parse_smiles(&rings).unwrap();
+        let back = parse_smiles(&canonical_smiles(&m)).unwrap();
+        assert_eq!(back.formula(), m.formula());
+    }
+
+    #[test]
+    fn many_ring_closures_reuse_digits() {
+        // Cubane needs several ring closures open at once.
+        let s = canon("C12C3C4C1C5C2C3C45");
+        let back = parse_smiles(&s).unwrap();
+        assert_eq!(back.graph.edge_count(), 12);
+        assert_eq!(canon(&s), s);
+    }
 }
