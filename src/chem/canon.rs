@@ -36,7 +36,10 @@ pub struct CanonGraph {
 
 impl CanonGraph {
     pub fn new(n: usize) -> CanonGraph {
-        assert!(n <= MAX_ATOMS, "CanonGraph holds at most {MAX_ATOMS} vertices");
+        assert!(
+            n <= MAX_ATOMS,
+            "CanonGraph holds at most {MAX_ATOMS} vertices"
+        );
         CanonGraph {
             n,
             colour: [0; MAX_ATOMS],
