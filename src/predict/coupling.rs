@@ -197,7 +197,7 @@ impl Ctx<'_> {
                     let m = &mut out[i];
                     m.multiplicity = Multiplicity::Multiplet;
                     m.j.clear();
-                    m.notes |= note::MAGNETIC;
+                    m.notes = (m.notes & !note::SECOND_ORDER) | note::MAGNETIC;
                 }
             }
         }
