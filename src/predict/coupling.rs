@@ -313,7 +313,7 @@ impl Ctx<'_> {
 
     /// The kind of the three-bond coupling H-a-b-H over a single bond.
     fn vicinal_kind(&self, a: usize, b: usize) -> Option<CouplingKind> {
-        let v = &self.v;
+        let v = self.v;
         let (ea, eb) = (v.element[a], v.element[b]);
         if ea != Element::C || eb != Element::C {
             if ea != Element::C && eb != Element::C {

@@ -15,11 +15,11 @@ use super::{note, Ctx, Group, Method};
 use crate::chem::Element;
 
 impl Ctx<'_> {
-    pub(super) fn build_groups(&mut self) -> Vec<Group> {
+    pub(super) fn build_groups(&mut self, groups: &mut Vec<Group>) {
+        groups.clear();
         self.split_amide_rotamers();
         self.has_stereocentre = self.find_stereocentre();
         let n = self.v.n;
-        let mut groups: Vec<Group> = Vec::with_capacity(n);
         // One group per orbit, in atom order.
         let mut group_of_orbit = [u8::MAX; 256];
         for a in 0..n {
@@ -47,12 +47,12 @@ impl Ctx<'_> {
         // Environment of each group's atoms (same for the whole orbit).
         for g in groups.iter_mut() {
             let a = g.rep;
-            if let Some(i) = self
-                .lib
-                .environments
+            let key = super::library::root_key(self.v.elem_bit[a], self.v.hyb[a], self.v.h[a]);
+            let found = self.lib.env_index[key]
                 .iter()
-                .position(|e| e.pattern.matches(&self.v, a, None))
-            {
+                .map(|&i| i as usize)
+                .find(|&i| self.lib.environments[i].pattern.matches(self.v, a, None));
+            if let Some(i) = found {
                 g.method = Method::Special(i);
                 g.exchangeable = self.lib.environments[i].exchangeable;
                 for x in bits(g.atoms) {
@@ -61,18 +61,17 @@ impl Ctx<'_> {
             }
         }
         // =CH2 whose two H differ: one group per H position.
-        let mut extra = Vec::new();
-        for g in groups.iter_mut() {
+        for i in 0..groups.len() {
+            let g = &mut groups[i];
             if g.hs == 2 && self.vinyl_pair(g.rep).is_some() {
                 g.hs = 1;
                 g.slot = 1;
                 g.notes |= note::VINYL_PAIR;
                 let mut h2 = g.clone();
                 h2.slot = 2;
-                extra.push(h2);
+                groups.push(h2);
             }
         }
-        groups.extend(extra);
         for g in groups.iter_mut() {
             if g.atoms & self.rotamer != 0 {
                 g.notes |= note::AMIDE_ROTAMER;
@@ -85,13 +84,12 @@ impl Ctx<'_> {
                 }
             }
         }
-        groups
     }
 
     /// For a =CH2 carbon whose far carbon has two different substituent
     /// places, the far carbon; else None.
     pub(super) fn vinyl_pair(&self, a: usize) -> Option<usize> {
-        let v = &self.v;
+        let v = self.v;
         if v.h[a] != 2 || v.element[a] != Element::C || v.is_aromatic(a) {
             return None;
         }
@@ -115,7 +113,7 @@ impl Ctx<'_> {
     /// different orbits head different branches (an automorphism fixing the
     /// centre would map one onto the other), so distinct orbits suffice.
     fn find_stereocentre(&self) -> bool {
-        let v = &self.v;
+        let v = self.v;
         (0..v.n).any(|x| {
             if v.hyb[x] != 3 || v.element[x] != Element::C || v.deg[x] + v.h[x] != 4 || v.h[x] > 1 {
                 return false;
@@ -140,7 +138,7 @@ impl Ctx<'_> {
         let n = self.v.n;
         let mut fresh: u16 = 64;
         for nn in 0..n {
-            let v = &self.v;
+            let v = self.v;
             if v.element[nn] != Element::N || v.is_aromatic(nn) || v.deg[nn] != 3 || v.hyb[nn] != 3
             {
                 continue;

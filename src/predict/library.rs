@@ -182,9 +182,21 @@ pub struct CouplingSettings {
     pub para_pair_min_ratio: f64,
 }
 
+/// Root keys: (element, aromatic) feature bit x hybridisation (0-3) x H count (0-4).
+pub const ROOT_KEYS: usize = 18 * 4 * 5;
+
+/// The index key of an atom for [`Library::class_index`] and [`Library::env_index`].
+pub fn root_key(elem_bit: u8, hyb: u8, h: u8) -> usize {
+    (elem_bit as usize * 4 + hyb as usize) * 5 + h.min(4) as usize
+}
+
 /// The compiled library.
 pub struct Library {
     pub classes: Vec<Class>,
+    /// Classes whose pattern root can match, per [`root_key`], in priority order.
+    pub class_index: Vec<Vec<ClassId>>,
+    /// The same for the special environments.
+    pub env_index: Vec<Vec<u8>>,
     pub sp3: Sp3Table,
     pub alkene: IncrementTable,
     pub benzene: IncrementTable,
@@ -868,8 +880,27 @@ impl Library {
             return Err(Error::input(format!("fragment library {file}: no solvent")));
         }
 
+        let key_index = |n: usize, may: &dyn Fn(usize, u8, u8, u8) -> bool| -> Vec<Vec<u8>> {
+            (0..ROOT_KEYS)
+                .map(|k| {
+                    let (e, hyb, h) = ((k / 20) as u8, ((k / 5) % 4) as u8, (k % 5) as u8);
+                    (0..n)
+                        .filter(|&i| may(i, e, hyb, h))
+                        .map(|i| i as u8)
+                        .collect()
+                })
+                .collect()
+        };
+        let class_index = key_index(classes.len(), &|i, e, hyb, h| {
+            classes[i].pattern.root_may_match(e, hyb, h)
+        });
+        let env_index = key_index(environments.len(), &|i, e, hyb, h| {
+            environments[i].pattern.root_may_match(e, hyb, h)
+        });
         Ok(Library {
             classes,
+            class_index,
+            env_index,
             sp3,
             alkene,
             benzene,

@@ -61,10 +61,25 @@ pub struct Predictor {
     lib: Library,
 }
 
-/// Reusable working storage (canonical labelling buffers).
-#[derive(Default)]
+/// Reusable working storage: the molecule view, canonical labelling
+/// buffers and group lists (so a warmed-up prediction allocates only the
+/// signals it returns).
 pub struct Scratch {
     canon: Canonizer,
+    graph: Box<CanonGraph>,
+    view: Box<View>,
+    groups: Vec<Group>,
+}
+
+impl Default for Scratch {
+    fn default() -> Self {
+        Scratch {
+            canon: Canonizer::default(),
+            graph: Box::new(CanonGraph::new(0)),
+            view: Box::new(View::empty()),
+            groups: Vec::new(),
+        }
+    }
 }
 
 thread_local! {
@@ -141,13 +156,14 @@ impl Predictor {
                 opts.solvent
             )));
         }
-        let v = View::new(mol).map_err(Error::input)?;
-        let mut ctx = Ctx::new(&self.lib, v, opts);
-        ctx.orbits(&mut scratch.canon);
-        let mut groups = ctx.build_groups();
-        ctx.shifts(&mut groups);
-        let mult = ctx.multiplicities(&groups);
-        Ok(ctx.signals(&groups, &mult))
+        scratch.view.fill(mol).map_err(Error::input)?;
+        let mut ctx = Ctx::new(&self.lib, &scratch.view, opts);
+        ctx.orbits(&mut scratch.canon, &mut scratch.graph);
+        let groups = &mut scratch.groups;
+        ctx.build_groups(groups);
+        ctx.shifts(groups);
+        let mult = ctx.multiplicities(groups);
+        Ok(ctx.signals(groups, mult))
     }
 }
 
@@ -218,7 +234,7 @@ pub(crate) struct Mult {
 /// Everything known about one candidate while it is predicted.
 pub(crate) struct Ctx<'a> {
     pub lib: &'a Library,
-    pub v: View,
+    pub v: &'a View,
     pub opts: &'a PredictOptions,
     /// Orbit id per atom (refined by the amide-rotation split).
     pub orb: [u8; view::MAX_ATOMS],
@@ -236,7 +252,7 @@ const MEMO_UNSET: u8 = 255;
 const MEMO_NONE: u8 = 254;
 
 impl<'a> Ctx<'a> {
-    fn new(lib: &'a Library, v: View, opts: &'a PredictOptions) -> Ctx<'a> {
+    fn new(lib: &'a Library, v: &'a View, opts: &'a PredictOptions) -> Ctx<'a> {
         Ctx {
             lib,
             v,
@@ -252,21 +268,24 @@ impl<'a> Ctx<'a> {
     /// Automorphism orbits of the molecular graph (vertex colour: element
     /// and H count; edge colour: bond order, aromatic bonds as one colour so
     /// that Kekulé forms do not break the ring's symmetry).
-    fn orbits(&mut self, canon: &mut Canonizer) {
-        let v = &self.v;
-        let mut g = CanonGraph::new(v.n);
+    fn orbits(&mut self, canon: &mut Canonizer, g: &mut CanonGraph) {
+        let v = self.v;
+        // Reuse the graph: clear only the rows in use, then set each bond's
+        // bit in its colour layer (a fresh graph has no edges to remove).
+        g.n = v.n;
+        for layer in g.adj.iter_mut() {
+            layer[..v.n].fill(0);
+        }
         for a in 0..v.n {
             g.colour[a] = (v.element[a].heavy_index().unwrap_or(0) as u32) << 4 | v.h[a] as u32;
             for (b, kind) in v.neighbours(a) {
-                if b > a {
-                    g.set_edge(a, b, kind);
-                }
+                g.adj[kind as usize - 1][a] |= 1u64 << b;
             }
         }
         if v.n == 0 {
             return;
         }
-        canon.run(&g);
+        canon.run(g);
         let order = canon.order();
         let mut done = 0u64;
         for (p, &va) in order.iter().enumerate() {
@@ -289,11 +308,16 @@ impl<'a> Ctx<'a> {
             .expect("parent is a neighbour");
         let m = self.memo[root][k];
         if m == MEMO_UNSET {
-            let found = self
-                .lib
-                .classes
+            let key = library::root_key(self.v.elem_bit[root], self.v.hyb[root], self.v.h[root]);
+            let found = self.lib.class_index[key]
                 .iter()
-                .position(|c| c.pattern.matches(&self.v, root, Some(parent)));
+                .copied()
+                .find(|&i| {
+                    self.lib.classes[i as usize]
+                        .pattern
+                        .matches(self.v, root, Some(parent))
+                })
+                .map(|i| i as usize);
             let code = found.map(|i| i as u8).unwrap_or(MEMO_NONE);
             self.memo[root][k] = code;
             found.map(|i| i as u8)
@@ -304,7 +328,7 @@ impl<'a> Ctx<'a> {
         }
     }
 
-    fn signals(&self, groups: &[Group], mult: &[Mult]) -> Vec<PredictedSignal> {
+    fn signals(&self, groups: &[Group], mult: Vec<Mult>) -> Vec<PredictedSignal> {
         let mut out: Vec<PredictedSignal> = groups
             .iter()
             .zip(mult)
@@ -312,8 +336,8 @@ impl<'a> Ctx<'a> {
                 shift: (g.shift * 100.0).round() / 100.0,
                 sigma: (g.sigma * 100.0).round() / 100.0,
                 hydrogens: g.hydrogens(),
-                multiplicity: m.multiplicity.clone(),
-                j_hz: m.j.clone(),
+                multiplicity: m.multiplicity,
+                j_hz: m.j,
                 atoms: view::bits(g.atoms).collect(),
                 exchangeable: g.exchangeable,
                 notes: if self.opts.notes {

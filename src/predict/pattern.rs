@@ -117,6 +117,29 @@ impl Pattern {
         &self.text
     }
 
+    /// Could the root match an atom with this element feature bit and
+    /// hybridisation? (Used to index patterns by root, so that the matcher
+    /// only tries those that can start.)
+    pub fn root_may_match(&self, elem_bit: u8, hyb: u8, h: u8) -> bool {
+        let r = &self.nodes[0];
+        // Bond kinds the root must have (a child whose bond allows one kind).
+        let mut needs = 0u8;
+        for n in &self.nodes[1..] {
+            if n.parent == 0 && n.bond.count_ones() == 1 {
+                needs |= n.bond;
+            }
+        }
+        let possible = match hyb {
+            3 => 1 << SINGLE,
+            2 => 1 << SINGLE | 1 << DOUBLE | 1 << ARO,
+            _ => 1 << SINGLE | 1 << DOUBLE | 1 << TRIPLE,
+        };
+        needs & !possible == 0
+            && r.terms[..r.nterms as usize].iter().any(|t| {
+                t.elem >> elem_bit & 1 == 1 && t.hyb >> hyb & 1 == 1 && t.h >> h.min(7) & 1 == 1
+            })
+    }
+
     /// Does the pattern match with its root on `root`? `parent`, when given,
     /// is the atom the substituent hangs from: it is excluded from the match,
     /// so the pattern sees only the substituent side.

@@ -72,7 +72,7 @@ impl Ctx<'_> {
 
     /// The far carbon of a non-aromatic C=C at `a`, if `a` is such a carbon.
     pub(super) fn alkene_partner(&self, a: usize) -> Option<usize> {
-        let v = &self.v;
+        let v = self.v;
         if v.element[a] != Element::C || v.hyb[a] != 2 || v.is_aromatic(a) {
             return None;
         }
@@ -84,7 +84,7 @@ impl Ctx<'_> {
     /// The two places of each alkene carbon, place i of `c1` cis to place i
     /// of `c2`, and whether the geometry was assumed (E/Z unknown).
     pub(super) fn alkene_places(&self, c1: usize, c2: usize) -> ([Place; 2], [Place; 2], bool) {
-        let v = &self.v;
+        let v = self.v;
         let heavy = |c: usize, other: usize| {
             let mut out = [usize::MAX; 2];
             let mut k = 0;
@@ -164,7 +164,7 @@ impl Ctx<'_> {
         let Place::Atom(x) = x else {
             return (Some([0.0; 3]), true);
         };
-        let v = &self.v;
+        let v = self.v;
         if v.hyb[x] == 3 && v.element[x] == Element::C {
             let endo = v.rings[..v.nrings]
                 .iter()

@@ -56,20 +56,18 @@ pub struct View {
     pub ring_size: [u8; MAX_ATOMS],
     /// Smallest cycle through each ring bond (deduplicated), as atom bitsets.
     pub rings: [u64; MAX_RINGS],
+    /// Cyclic atom order of each ring of at most 8 atoms (for ring distances).
+    ring_order: [[u8; 8]; MAX_RINGS],
     pub nrings: usize,
+    /// Smallest aromatic ring of each atom (index into `rings`, 255 none).
+    aro_ring: [u8; MAX_ATOMS],
 }
 
 impl View {
-    /// Build the view; an error names what the view cannot hold.
-    pub fn new(mol: &Molecule) -> Result<View, String> {
-        let n = mol.atom_count();
-        if n > MAX_ATOMS {
-            return Err(format!(
-                "the molecule has {n} heavy atoms; prediction handles at most {MAX_ATOMS}"
-            ));
-        }
-        let mut v = View {
-            n,
+    /// An empty view, to be filled with [`View::fill`].
+    pub fn empty() -> View {
+        View {
+            n: 0,
             element: [Element::C; MAX_ATOMS],
             h: [0; MAX_ATOMS],
             deg: [0; MAX_ATOMS],
@@ -83,8 +81,39 @@ impl View {
             ring_atoms: 0,
             ring_size: [0; MAX_ATOMS],
             rings: [0; MAX_RINGS],
+            ring_order: [[0; 8]; MAX_RINGS],
             nrings: 0,
-        };
+            aro_ring: [u8::MAX; MAX_ATOMS],
+        }
+    }
+
+    /// Build the view; an error names what the view cannot hold.
+    pub fn new(mol: &Molecule) -> Result<View, String> {
+        let mut v = View::empty();
+        v.fill(mol)?;
+        Ok(v)
+    }
+
+    /// Refill this view for `mol` (reusing the storage: no allocation, and
+    /// only the first n entries of each table are written).
+    pub fn fill(&mut self, mol: &Molecule) -> Result<(), String> {
+        let n = mol.atom_count();
+        if n > MAX_ATOMS {
+            return Err(format!(
+                "the molecule has {n} heavy atoms; prediction handles at most {MAX_ATOMS}"
+            ));
+        }
+        let v = self;
+        v.n = n;
+        v.aromatic = 0;
+        v.ring_atoms = 0;
+        v.nrings = 0;
+        for i in 0..n {
+            v.deg[i] = 0;
+            v.adj[i] = 0;
+            v.ring_size[i] = 0;
+            v.aro_ring[i] = u8::MAX;
+        }
         let mut edges = 0usize;
         for i in 0..n {
             let a = mol.atom(i);
@@ -141,7 +170,7 @@ impl View {
             };
             v.elem_bit[i] = super::pattern::elem_bit(v.element[i], aro);
         }
-        Ok(v)
+        Ok(())
     }
 
     pub fn is_aromatic(&self, i: usize) -> bool {
@@ -169,11 +198,10 @@ impl View {
 
     /// The smallest aromatic ring containing `a`, as an atom bitset.
     pub fn aromatic_ring_of(&self, a: usize) -> Option<u64> {
-        self.rings[..self.nrings]
-            .iter()
-            .filter(|&&r| r >> a & 1 == 1 && r & self.aromatic == r && self.ring_is_aromatic(r))
-            .min_by_key(|r| r.count_ones())
-            .copied()
+        match self.aro_ring[a] {
+            u8::MAX => None,
+            i => Some(self.rings[i as usize]),
+        }
     }
 
     fn ring_is_aromatic(&self, r: u64) -> bool {
@@ -194,6 +222,18 @@ impl View {
 
     /// Ring distance (bonds along the ring) between two atoms of ring `r`.
     pub fn ring_distance(&self, r: u64, a: usize, b: usize) -> usize {
+        let size = r.count_ones() as usize;
+        if size <= 8 {
+            if let Some(i) = self.rings[..self.nrings].iter().position(|&x| x == r) {
+                let ord = &self.ring_order[i][..size];
+                let pa = ord.iter().position(|&x| x as usize == a);
+                let pb = ord.iter().position(|&x| x as usize == b);
+                if let (Some(pa), Some(pb)) = (pa, pb) {
+                    let d = pa.abs_diff(pb);
+                    return d.min(size - d);
+                }
+            }
+        }
         // Breadth-first walk restricted to the ring.
         let mut seen = 1u64 << a;
         let mut front = 1u64 << a;
@@ -266,6 +306,19 @@ impl View {
                 }
                 if !self.rings[..self.nrings].contains(&cycle) && self.nrings < MAX_RINGS {
                     self.rings[self.nrings] = cycle;
+                    if cycle.count_ones() <= 8 {
+                        // The parent chain from w back to u is the cyclic order.
+                        let mut x = w;
+                        let mut k = 0;
+                        loop {
+                            self.ring_order[self.nrings][k] = x as u8;
+                            k += 1;
+                            if x == u {
+                                break;
+                            }
+                            x = parent[x] as usize;
+                        }
+                    }
                     self.nrings += 1;
                 }
                 let size = cycle.count_ones() as u8;
@@ -374,6 +427,9 @@ impl View {
                 self.aromatic |= r;
             }
         }
+        // Smallest aromatic ring per atom, among rings all of whose bonds
+        // are aromatic (set below).
+        let mut best = [u8::MAX; MAX_ATOMS];
         // Bonds between two atoms of one aromatic ring become aromatic.
         for a in 0..self.n {
             for k in 0..self.deg[a] as usize {
@@ -387,6 +443,18 @@ impl View {
                 }
             }
         }
+        for (i, &r) in self.rings[..self.nrings].iter().enumerate() {
+            if arom_rings >> i & 1 == 0 || !self.ring_is_aromatic(r) {
+                continue;
+            }
+            for a in bits(r) {
+                if best[a] == u8::MAX || r.count_ones() < self.rings[best[a] as usize].count_ones()
+                {
+                    best[a] = i as u8;
+                }
+            }
+        }
+        self.aro_ring = best;
     }
 }
 
