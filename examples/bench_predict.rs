@@ -29,6 +29,21 @@ fn best_rate(n: usize, reps: usize, mut f: impl FnMut() -> usize) -> (f64, usize
     (best, out)
 }
 
+/// CPU time of this thread in seconds (Linux schedstat), if available: on a
+/// machine shared with other jobs it measures the work, not the waiting.
+fn thread_cpu() -> Option<f64> {
+    let s = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
+    let ns: f64 = s.split_whitespace().next()?.parse().ok()?;
+    Some(ns / 1e9)
+}
+
+/// Rate per second of single-thread CPU time for one run of `f`.
+fn cpu_rate(n: usize, mut f: impl FnMut() -> usize) -> Option<f64> {
+    let t0 = thread_cpu()?;
+    std::hint::black_box(f());
+    Some(n as f64 / (thread_cpu()? - t0))
+}
+
 fn main() {
     let formula = std::env::args().nth(1).unwrap_or_else(|| "C8H8O".into());
     let f = Formula::parse(&formula).expect("formula");
@@ -53,6 +68,20 @@ fn main() {
     };
     let with_notes = PredictOptions::default();
 
+    // `BENCH_ONLY=predict`: just the single-thread prediction loop (for
+    // instruction counts under `perf stat`, steadier than wall time on a
+    // shared machine).
+    if std::env::var("BENCH_ONLY").as_deref() == Ok("predict") {
+        let (rate, signals) = best_rate(mols.len(), 5, || {
+            mols.iter().map(|m| p.predict(m, &opts).len()).sum()
+        });
+        let cpu = cpu_rate(mols.len(), || {
+            mols.iter().map(|m| p.predict(m, &opts).len()).sum()
+        })
+        .unwrap_or(f64::NAN);
+        println!("prediction, 1 thread, no notes: {rate:.0} /s wall, {cpu:.0} /s of CPU time ({signals} signals)");
+        return;
+    }
     // Peer: canonical labelling alone (orbits are the first step of a prediction).
     let mut c = Canonizer::new();
     let n = mols.len();

@@ -127,6 +127,22 @@ impl Predictor {
         })
     }
 
+    /// Topological symmetry classes of the heavy atoms (automorphism orbits
+    /// of the molecular graph, aromatic bonds as one bond colour): class id
+    /// per atom, equal ids for equivalent atoms. The H groups of a
+    /// prediction are these classes before the amide and =CH2 splits; the
+    /// carbon classes count the expected 13C signals.
+    pub fn symmetry_classes(&self, mol: &Molecule) -> Result<Vec<usize>> {
+        SCRATCH.with(|s| {
+            let s = &mut *s.borrow_mut();
+            s.view.fill(mol).map_err(Error::input)?;
+            let opts = PredictOptions::default();
+            let mut ctx = Ctx::new(&self.lib, &s.view, &opts);
+            ctx.orbits(&mut s.canon, &mut s.graph);
+            Ok(ctx.orb[..s.view.n].iter().map(|&o| o as usize).collect())
+        })
+    }
+
     /// Predicted signals, highest shift first. A molecule the predictor
     /// cannot hold (more than 64 heavy atoms, explicit H atoms) gives an
     /// empty list; [`Predictor::try_predict`] says why.

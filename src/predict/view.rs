@@ -263,10 +263,23 @@ impl View {
         let n = self.n;
         let mut queue = [0u8; MAX_ATOMS];
         let mut parent = [0u8; MAX_ATOMS];
-        for u in 0..n {
+        // The 2-core: strip atoms with at most one neighbour left until none
+        // remain; only core atoms can lie on a ring, and the searches below
+        // never wander into side chains.
+        let mut core: u64 = if n == 64 { u64::MAX } else { (1u64 << n) - 1 };
+        loop {
+            let leaves = bits(core)
+                .filter(|&a| (self.adj[a] & core).count_ones() <= 1)
+                .fold(0u64, |m, a| m | 1u64 << a);
+            if leaves == 0 {
+                break;
+            }
+            core &= !leaves;
+        }
+        for u in bits(core) {
             for k in 0..self.deg[u] as usize {
                 let w = self.nbr[u][k] as usize;
-                if w < u || self.deg[u] < 2 || self.deg[w] < 2 {
+                if w < u || core >> w & 1 == 0 {
                     continue;
                 }
                 // BFS from u to w without the edge u-w.
@@ -278,7 +291,7 @@ impl View {
                 while head < tail && !found {
                     let x = queue[head] as usize;
                     head += 1;
-                    let mut m = self.adj[x] & !seen;
+                    let mut m = self.adj[x] & core & !seen;
                     if x == u {
                         m &= !(1u64 << w);
                     }
