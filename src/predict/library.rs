@@ -169,6 +169,8 @@ pub struct Solvent {
     pub aliases: Vec<String>,
     pub residual: f64,
     pub water: f64,
+    /// Shift of benzene in this solvent (base of the benzene increments).
+    pub benzene: Option<f64>,
     /// Environment indices whose H couple in this solvent.
     pub couples: Vec<usize>,
     /// (environment index, shift, sigma)
@@ -452,6 +454,7 @@ struct SolventRow {
     aliases: Vec<String>,
     residual: f64,
     water: f64,
+    benzene: Option<f64>,
     couples: Vec<String>,
     source: String,
     #[serde(default)]
@@ -872,6 +875,7 @@ impl Library {
                 aliases: row.aliases.iter().map(|a| a.to_lowercase()).collect(),
                 residual: row.residual,
                 water: row.water,
+                benzene: row.benzene,
                 couples,
                 exchange_shift,
             });

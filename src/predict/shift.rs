@@ -3,7 +3,9 @@
 //!
 //! - special environments (OH, NH, SH, CHO, alkyne H, ...): handbook ranges;
 //! - benzene H: Beeby, Sternhell, Hoffmann-Ostenhof, Pretsch & Simon,
-//!   Anal. Chem. 1973, 45, 1571 (7.26 + sum of ortho/meta/para increments);
+//!   Anal. Chem. 1973, 45, 1571 (7.26 + sum of ortho/meta/para increments;
+//!   the increments are counted from benzene's shift in the chosen solvent,
+//!   7.36 in CDCl3, when the solvent table gives it);
 //! - other aromatic rings: base shift per ring position plus the benzene
 //!   increments by ring distance;
 //! - alkene H: Pascual, Meier & Simon, Helv. Chim. Acta 1966, 49, 164
@@ -214,12 +216,9 @@ impl Ctx<'_> {
             .fold(0, |m, x| m | 1u64 << x);
         let size = r.count_ones() as usize;
         let (mut shift, mut sigma, method, skip) = if hetero == 0 && size == 6 {
-            (
-                self.lib.benzene.base,
-                self.lib.benzene.sigma,
-                Method::Benzene,
-                0u64,
-            )
+            let solvent = &self.lib.solvents[self.opts.solvent];
+            let base = solvent.benzene.unwrap_or(self.lib.benzene.base);
+            (base, self.lib.benzene.sigma, Method::Benzene, 0u64)
         } else {
             match self.hetero_base(r, hetero, a) {
                 Some((s, sg)) => (s, sg, Method::Hetero, hetero),
