@@ -119,14 +119,12 @@ impl Ctx<'_> {
                 return false;
             }
             let mut seen = [u8::MAX; 4];
-            let mut k = 0;
-            for (b, _) in v.neighbours(x) {
+            for (k, (b, _)) in v.neighbours(x).enumerate() {
                 let o = self.orb[b];
                 if seen[..k].contains(&o) {
                     return false;
                 }
                 seen[k] = o;
-                k += 1;
             }
             true
         })
