@@ -207,9 +207,7 @@ impl Ctx<'_> {
     fn aromatic_j(&self, r: u64, a: usize, y: usize) -> f64 {
         let d = self.v.ring_distance(r, a, y);
         let size = r.count_ones();
-        let hetero: u64 = bits(r)
-            .filter(|&x| self.v.element[x] != Element::C)
-            .fold(0, |m, x| m | 1u64 << x);
+        let hetero: u64 = r & self.v.hetero;
         if hetero != 0 {
             if let (Some((t, pa)), Some((_, py))) = (
                 self.hetero_template(r, hetero, a),

@@ -211,9 +211,7 @@ impl Ctx<'_> {
             let (s, sg) = self.lib.fallback[2];
             return (s, sg, note::FALLBACK, Method::Fallback);
         };
-        let hetero: u64 = bits(r)
-            .filter(|&x| self.v.element[x] != Element::C)
-            .fold(0, |m, x| m | 1u64 << x);
+        let hetero: u64 = r & self.v.hetero;
         let size = r.count_ones() as usize;
         let (mut shift, mut sigma, method, skip) = if hetero == 0 && size == 6 {
             let solvent = &self.lib.solvents[self.opts.solvent];

@@ -50,6 +50,8 @@ pub struct View {
     pub elem_bit: [u8; MAX_ATOMS],
     pub adj: [u64; MAX_ATOMS],
     pub aromatic: u64,
+    /// Atoms that are not carbon.
+    pub hetero: u64,
     /// Atoms on at least one ring.
     pub ring_atoms: u64,
     /// Smallest ring through each atom, 0 when acyclic.
@@ -78,6 +80,7 @@ impl View {
             elem_bit: [0; MAX_ATOMS],
             adj: [0; MAX_ATOMS],
             aromatic: 0,
+            hetero: 0,
             ring_atoms: 0,
             ring_size: [0; MAX_ATOMS],
             rings: [0; MAX_RINGS],
@@ -106,6 +109,7 @@ impl View {
         let v = self;
         v.n = n;
         v.aromatic = 0;
+        v.hetero = 0;
         v.ring_atoms = 0;
         v.nrings = 0;
         for i in 0..n {
@@ -125,6 +129,9 @@ impl View {
             }
             v.element[i] = a.element;
             v.h[i] = a.hydrogens;
+            if a.element != Element::C {
+                v.hetero |= 1u64 << i;
+            }
             for (j, order) in mol.neighbours(i) {
                 let d = v.deg[i] as usize;
                 if d == MAX_DEGREE {
