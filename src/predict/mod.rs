@@ -14,6 +14,26 @@
 //! folder) and shared; [`Predictor::predict`] is cheap enough for the inner
 //! loop of ranking (no subgraph search per candidate: patterns are tiny
 //! rooted trees and every substituent class is memoised per bond).
+//!
+//! API for callers (the ranker):
+//!
+//! ```no_run
+//! use isomerank::predict::{PredictOptions, Predictor};
+//! let p = Predictor::embedded()?;                    // once; Sync, share it
+//! let mut opts = p.options("CDCl3", 400.0)?;         // solvent, MHz
+//! opts.notes = false;                                // skip note strings in hot loops
+//! let mol = isomerank::chem::smiles::parse_smiles("CCOC(C)=O")?;
+//! for s in p.predict(&mol, &opts) {                  // highest shift first
+//!     println!("{:.2} +- {:.2} {} {}H", s.shift, s.sigma, s.label(), s.hydrogens);
+//! }
+//! let classes = p.symmetry_classes(&mol)?;           // per-atom symmetry class (13C count)
+//! let cdcl3 = &p.library().solvents[opts.solvent];   // residual / water peaks
+//! println!("{} {}", cdcl3.residual, cdcl3.water);
+//! # Ok::<(), isomerank::Error>(())
+//! ```
+//!
+//! `predict` keeps its working storage per thread; `predict_with` takes a
+//! caller-owned [`Scratch`]. Measured throughput: `examples/bench_predict.rs`.
 
 mod coupling;
 mod groups;
