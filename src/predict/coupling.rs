@@ -384,11 +384,16 @@ fn merge(c: &mut [Cpl], similar: f64) -> (Multiplicity, Vec<f64>) {
         ns.push(cnt.min(255) as u8);
         js.push(round1(sum / cnt as f64));
     }
-    let m = Multiplicity::Coupled(ns);
-    if m.label() == "m" || js.len() > 3 {
+    // Patterns without a trade name are reported as m (see Multiplicity::label).
+    let unnamed = match ns.len() {
+        1 => ns[0] > 8,
+        2 | 3 => ns.iter().any(|&n| n > 3),
+        _ => true,
+    };
+    if unnamed {
         return (Multiplicity::Multiplet, Vec::new());
     }
-    (m, js)
+    (Multiplicity::Coupled(ns), js)
 }
 
 fn round1(x: f64) -> f64 {
