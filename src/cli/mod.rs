@@ -6,6 +6,7 @@
 
 mod isomers;
 pub mod output;
+mod predict;
 
 use clap::{Parser, Subcommand};
 
@@ -28,6 +29,8 @@ pub struct Cli {
 #[derive(Subcommand)]
 pub enum Command {
     Isomers(isomers::Args),
+    /// Predict the 1H multiplet list of one structure (SMILES).
+    Predict(predict::Args),
 }
 
 /// Run the program; returns the process exit code.
@@ -48,6 +51,7 @@ pub fn main() -> i32 {
     }
     let result = match cli.command {
         Command::Isomers(args) => isomers::run(args),
+        Command::Predict(args) => predict::run(args),
     };
     match result {
         Ok(()) => 0,

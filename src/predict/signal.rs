@@ -44,6 +44,34 @@ impl Multiplicity {
         }
     }
 
+    /// Relative line intensities of the first-order pattern: for each set of
+    /// n equivalent partners a row of Pascal's triangle (binomial
+    /// coefficients C(n, k)), the rows convolved for several J (assumed
+    /// different enough that no lines coincide). `None` for m.
+    pub fn intensities(&self) -> Option<Vec<u64>> {
+        let ns: &[u8] = match self {
+            Multiplicity::Singlet => &[],
+            Multiplicity::Coupled(ns) => ns,
+            Multiplicity::Multiplet => return None,
+        };
+        let mut out = vec![1u64];
+        for &n in ns {
+            let mut row = vec![1u64];
+            for k in 0..n as u64 {
+                let next = row[k as usize] * (n as u64 - k) / (k + 1);
+                row.push(next);
+            }
+            let mut conv = Vec::with_capacity(out.len() * row.len());
+            for &a in &out {
+                for &b in &row {
+                    conv.push(a * b);
+                }
+            }
+            out = conv;
+        }
+        Some(out)
+    }
+
     /// Number of lines of the first-order pattern: product of (n + 1).
     pub fn lines(&self) -> Option<u32> {
         match self {
@@ -72,4 +100,16 @@ pub struct PredictedSignal {
     /// OH, NH, SH, COOH: exchangeable H, often broad or missing.
     pub exchangeable: bool,
     pub notes: Vec<String>,
+}
+
+impl PredictedSignal {
+    /// The label as a chemist writes it: the multiplicity label, with an
+    /// uncoupled exchangeable H written "br s".
+    pub fn label(&self) -> String {
+        if self.exchangeable && self.multiplicity == Multiplicity::Singlet {
+            "br s".into()
+        } else {
+            self.multiplicity.label()
+        }
+    }
 }

@@ -1,0 +1,150 @@
+//! `isomerank predict SMILES`: the predicted 1H multiplet list of one
+//! structure, in journal style (highest shift first) or as JSON.
+
+use super::output;
+use crate::chem::smiles::{canonical_smiles, parse_smiles};
+use crate::predict::{PredictedSignal, Predictor};
+use crate::Result;
+use serde::Serialize;
+use std::fmt::Write;
+use std::path::PathBuf;
+
+#[derive(clap::Args)]
+#[command(after_help = "Examples:
+  isomerank predict 'CC(=O)OC'                     journal-style text
+  isomerank predict 'OCc1ccccc1' --solvent DMSO-d6  OH couples to CH2 in DMSO
+  isomerank predict 'CC=O' --mhz 60 --format json
+  isomerank predict 'CCO' --library my-tables/     my TOML files replace the built-in ones
+
+Shifts are estimates from additive increment tables (sigma = typical error);
+multiplicities are first order. A prediction is a hypothesis, not a spectrum.")]
+pub struct Args {
+    /// The structure as SMILES, e.g. CC(=O)OC.
+    pub smiles: String,
+    /// Solvent: CDCl3 or DMSO-d6 (as named in the library's solvents.toml).
+    #[arg(long, default_value = "CDCl3")]
+    pub solvent: String,
+    /// Spectrometer 1H frequency in MHz (decides first order against m).
+    #[arg(long, default_value_t = 400.0)]
+    pub mhz: f64,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    pub format: Format,
+    /// Folder of fragment-library TOML files replacing the built-in ones.
+    #[arg(long, value_name = "DIR")]
+    pub library: Option<PathBuf>,
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
+pub enum Format {
+    Text,
+    Json,
+}
+
+#[derive(Serialize)]
+struct JsonOut<'a> {
+    smiles: String,
+    formula: String,
+    signals: Vec<JsonSignal<'a>>,
+}
+
+#[derive(Serialize)]
+struct JsonSignal<'a> {
+    shift: f64,
+    sigma: f64,
+    hydrogens: u32,
+    multiplicity: String,
+    j_hz: &'a [f64],
+    atoms: &'a [usize],
+    exchangeable: bool,
+    notes: &'a [String],
+}
+
+pub fn run(args: Args) -> Result<()> {
+    let predictor = match &args.library {
+        Some(dir) => Predictor::from_dir(dir)?,
+        None => Predictor::embedded()?,
+    };
+    let opts = predictor.options(&args.solvent, args.mhz)?;
+    let mol = parse_smiles(&args.smiles)?;
+    let signals = predictor.try_predict(&mol, &opts)?;
+    let solvent = &predictor.library().solvents[opts.solvent].name;
+    let text = match args.format {
+        Format::Json => {
+            let out = JsonOut {
+                smiles: canonical_smiles(&mol),
+                formula: mol.formula().to_string(),
+                signals: signals
+                    .iter()
+                    .map(|s| JsonSignal {
+                        shift: s.shift,
+                        sigma: s.sigma,
+                        hydrogens: s.hydrogens,
+                        multiplicity: s.label(),
+                        j_hz: &s.j_hz,
+                        atoms: &s.atoms,
+                        exchangeable: s.exchangeable,
+                        notes: &s.notes,
+                    })
+                    .collect(),
+            };
+            let mut t = serde_json::to_string_pretty(&out)
+                .map_err(|e| crate::Error::Internal(format!("JSON output: {e}")))?;
+            t.push('\n');
+            t
+        }
+        Format::Text => journal_text(
+            &canonical_smiles(&mol),
+            &mol.formula().to_string(),
+            solvent,
+            opts.mhz,
+            &signals,
+        ),
+    };
+    output::print_all(&text)
+}
+
+/// Journal style: `δ 4.12 (q, J = 7.1 Hz, 2H), 2.05 (s, 3H)` and notes.
+pub fn journal_text(
+    smiles: &str,
+    formula: &str,
+    solvent: &str,
+    mhz: f64,
+    signals: &[PredictedSignal],
+) -> String {
+    let mut t = String::new();
+    let _ = writeln!(
+        t,
+        "{smiles} ({formula}), predicted 1H NMR ({mhz:.0} MHz, {solvent})"
+    );
+    if signals.is_empty() {
+        t.push_str("no hydrogens: no 1H signals\n");
+        return t;
+    }
+    let parts: Vec<String> = signals
+        .iter()
+        .map(|s| {
+            let mut p = format!("{:.2} ({}", s.shift, s.label());
+            if !s.j_hz.is_empty() {
+                let js: Vec<String> = s.j_hz.iter().map(|j| format!("{j:.1}")).collect();
+                let _ = write!(p, ", J = {} Hz", js.join(", "));
+            }
+            let _ = write!(p, ", {}H)", s.hydrogens);
+            p
+        })
+        .collect();
+    let _ = writeln!(t, "δ {}", parts.join(", "));
+    for s in signals {
+        for n in &s.notes {
+            let _ = writeln!(t, "note {:.2} ppm ({}H): {n}", s.shift, s.hydrogens);
+        }
+    }
+    let _ =
+        writeln!(
+        t,
+        "shifts are increment estimates (sigma {:.2}-{:.2} ppm); confirm with a reference spectrum",
+        signals.iter().map(|s| s.sigma).fold(f64::INFINITY, f64::min),
+        signals.iter().map(|s| s.sigma).fold(0.0, f64::max)
+    );
+    t
+}
