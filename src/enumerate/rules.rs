@@ -185,7 +185,10 @@ fn enol(iso: &Isomer) -> bool {
             && iso.hydrogens(o) == 1
             && bits(iso.node.nb[o]).any(|c| {
                 iso.element(c) == Element::C
-                    && bits(iso.node.nb[c]).any(|y| y != o && iso.order(c, y) >= 2)
+                    && bits(iso.node.nb[c]).any(|y| {
+                        // C=C or C#C: an enol or ynol. C=O (an acid) and C=N are not.
+                        y != o && iso.element(y) == Element::C && iso.order(c, y) >= 2
+                    })
             })
     })
 }
