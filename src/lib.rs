@@ -24,5 +24,6 @@ pub mod cli;
 pub mod enumerate;
 pub mod error;
 pub mod predict;
+pub mod spectrum;
 
 pub use error::{Error, Result};
