@@ -24,6 +24,7 @@ pub mod cli;
 pub mod enumerate;
 pub mod error;
 pub mod predict;
+pub mod score;
 pub mod spectrum;
 
 pub use error::{Error, Result};
