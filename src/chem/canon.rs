@@ -36,7 +36,10 @@ pub struct CanonGraph {
 
 impl CanonGraph {
     pub fn new(n: usize) -> CanonGraph {
-        assert!(n <= MAX_ATOMS, "CanonGraph holds at most {MAX_ATOMS} vertices");
+        assert!(
+            n <= MAX_ATOMS,
+            "CanonGraph holds at most {MAX_ATOMS} vertices"
+        );
         CanonGraph {
             n,
             colour: [0; MAX_ATOMS],
@@ -219,6 +222,19 @@ impl Canonizer {
             r[v as usize] = i;
         }
         r
+    }
+
+    /// The automorphisms found, each as a vertex permutation `perm[v] = image of v`
+    /// (the first is the identity).
+    pub fn automorphisms(&self) -> impl Iterator<Item = [u8; MAX_ATOMS]> + '_ {
+        let first = &self.leaves[0];
+        self.leaves.iter().map(move |l| {
+            let mut perm = [0u8; MAX_ATOMS];
+            for p in 0..self.n {
+                perm[first[p] as usize] = l[p];
+            }
+            perm
+        })
     }
 
     /// Size of the automorphism group.

@@ -233,9 +233,16 @@ mod tests {
         assert!(e.contains("\"Xy\" at column 3 of \"C6Xy\""), "{e}");
         let e = Formula::parse("CCL4").unwrap_err().to_string();
         assert!(e.contains("\"L\" at column 3"), "{e}");
-        let e = Formula::parse("C2H7").unwrap().check_neutral().unwrap_err().to_string();
+        let e = Formula::parse("C2H7")
+            .unwrap()
+            .check_neutral()
+            .unwrap_err()
+            .to_string();
         assert!(e.contains("DBE = -0.5"), "{e}");
         assert!(Formula::parse("").is_err());
-        assert!(Formula::parse("c6h6").unwrap_err().to_string().contains("did you mean \"C\""));
+        assert!(Formula::parse("c6h6")
+            .unwrap_err()
+            .to_string()
+            .contains("did you mean \"C\""));
     }
 }

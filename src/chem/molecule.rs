@@ -54,17 +54,15 @@ impl Molecule {
 
     /// Neighbours of atom `i` with the bond order, in edge order.
     pub fn neighbours(&self, i: usize) -> impl Iterator<Item = (usize, u8)> + '_ {
-        self.graph
-            .edges(NodeIndex::new(i))
-            .map(move |e| {
-                use petgraph::visit::EdgeRef;
-                let other = if e.source().index() == i {
-                    e.target().index()
-                } else {
-                    e.source().index()
-                };
-                (other, e.weight().order)
-            })
+        self.graph.edges(NodeIndex::new(i)).map(move |e| {
+            use petgraph::visit::EdgeRef;
+            let other = if e.source().index() == i {
+                e.target().index()
+            } else {
+                e.source().index()
+            };
+            (other, e.weight().order)
+        })
     }
 
     /// Sum of bond orders at atom `i` (not counting hydrogens).

@@ -5,7 +5,11 @@
 use clap::{Parser, Subcommand};
 
 #[derive(Parser)]
-#[command(name = "isomerank", version, about = "Rank constitutional isomers of a molecular formula against an observed 1H NMR multiplet list")]
+#[command(
+    name = "isomerank",
+    version,
+    about = "Rank constitutional isomers of a molecular formula against an observed 1H NMR multiplet list"
+)]
 pub struct Cli {
     #[command(subcommand)]
     pub command: Command,

@@ -1,1 +1,340 @@
-//! Enumeration of constitutional isomers (filled in by the generator work).
+//! Enumeration of every constitutional isomer of a molecular formula.
+//!
+//! A formula becomes one or more [`generator::Problem`]s (one per way of giving
+//! the S and P atoms their valences when expanded valences are on). The search
+//! tree of each problem is cut at a fixed depth into *tasks*, in a
+//! deterministic order; tasks are run in parallel (rayon) in ordered chunks, so
+//! the output order does not depend on the thread count, memory stays flat
+//! (one chunk of results at a time), and `--part K/N` simply takes every N-th
+//! task, giving disjoint shards whose union is the whole set.
+
+pub mod generator;
+
+use crate::chem::canon::MAX_ATOMS;
+use crate::chem::{Element, Formula, Molecule};
+use crate::error::{Error, Result};
+use generator::{Generator, Kind, Node, Problem};
+use rayon::prelude::*;
+
+/// How many tasks the search tree is cut into (at least, where the tree is
+/// that wide): enough for even load on many cores and for fine-grained shards.
+const TARGET_TASKS: usize = 4096;
+/// Tasks run together before their results are emitted in order.
+const CHUNK: usize = 256;
+
+/// One shard of the search: the `index`-th (from 1) of `of`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Part {
+    pub index: usize,
+    pub of: usize,
+}
+
+impl Part {
+    /// Parse `K/N` with 1 <= K <= N.
+    pub fn parse(text: &str) -> Result<Part> {
+        let bad = || {
+            Error::input(format!(
+                "--part \"{text}\": expected K/N with whole numbers 1 <= K <= N, e.g. 3/8"
+            ))
+        };
+        let (k, n) = text.split_once('/').ok_or_else(bad)?;
+        let k: usize = k.trim().parse().map_err(|_| bad())?;
+        let n: usize = n.trim().parse().map_err(|_| bad())?;
+        if k == 0 || n == 0 || k > n {
+            return Err(bad());
+        }
+        Ok(Part { index: k, of: n })
+    }
+}
+
+/// What to enumerate and how.
+#[derive(Clone, Debug, Default)]
+pub struct Options {
+    /// Allow S(IV), S(VI) and P(V) besides the standard valences.
+    pub expanded_valence: bool,
+    /// Only this shard of the search.
+    pub part: Option<Part>,
+}
+
+/// Counts from one enumeration.
+#[derive(Clone, Debug, Default, PartialEq, Eq)]
+pub struct Summary {
+    /// Isomers passed to the caller's map function.
+    pub isomers: u64,
+}
+
+/// A complete isomer as the generator found it (compact form); convert with
+/// [`Isomer::molecule`].
+pub struct Isomer<'a> {
+    node: &'a Node,
+    problem: &'a Problem,
+}
+
+impl Isomer<'_> {
+    /// Number of heavy atoms.
+    pub fn atoms(&self) -> usize {
+        self.node.n
+    }
+
+    /// Element of atom `i`.
+    pub fn element(&self, i: usize) -> Element {
+        self.problem.kinds[self.node.kind[i] as usize].element
+    }
+
+    /// Bond order between atoms `a` and `b` (0 when not bonded).
+    pub fn order(&self, a: usize, b: usize) -> u8 {
+        self.node.order(a, b)
+    }
+
+    /// Implicit hydrogens on atom `i`.
+    pub fn hydrogens(&self, i: usize) -> u8 {
+        self.node.free[i]
+    }
+
+    /// The general molecule type for this isomer.
+    pub fn molecule(&self) -> Molecule {
+        let mut m = Molecule::new();
+        let idx: Vec<_> = (0..self.node.n)
+            .map(|i| m.add_atom(self.element(i), self.node.free[i]))
+            .collect();
+        for a in 0..self.node.n {
+            for b in generator::bits(self.node.nb[a]) {
+                if b > a {
+                    m.add_bond(idx[a], idx[b], self.node.order(a, b));
+                }
+            }
+        }
+        m
+    }
+}
+
+/// The generation problems for a formula: one per assignment of valences to
+/// the S and P atoms (just one with standard valences).
+pub fn problems(formula: &Formula, opts: &Options) -> Result<Vec<Problem>> {
+    let heavy = formula.heavy_atoms() as usize;
+    if heavy == 0 {
+        return Err(Error::input(format!(
+            "formula {formula} has no atom other than hydrogen"
+        )));
+    }
+    if heavy > MAX_ATOMS {
+        return Err(Error::input(format!(
+            "formula {formula} has {heavy} heavy atoms; the generator handles at most {MAX_ATOMS}"
+        )));
+    }
+    if !opts.expanded_valence {
+        formula.check_neutral()?;
+    }
+    // Per element, the ways of splitting its count over its allowed valences.
+    let mut per_element: Vec<Vec<Vec<(Kind, u8)>>> = Vec::new();
+    for &e in Element::HEAVY.iter() {
+        let c = formula.count(e) as u8;
+        if c == 0 {
+            continue;
+        }
+        let vals = e.valences(opts.expanded_valence);
+        let mut splits = Vec::new();
+        split_counts(c, vals, &mut Vec::new(), &mut splits);
+        per_element.push(
+            splits
+                .into_iter()
+                .map(|s| {
+                    vals.iter()
+                        .zip(s)
+                        .filter(|&(_, n)| n > 0)
+                        .map(|(&v, n)| (Kind::new(e, v), n))
+                        .collect()
+                })
+                .collect(),
+        );
+    }
+    let mut out = Vec::new();
+    for combo in itertools::Itertools::multi_cartesian_product(per_element.iter().map(|v| v.iter()))
+    {
+        let pairs: Vec<(Kind, u8)> = combo.into_iter().flatten().copied().collect();
+        let valence_sum: i64 = pairs
+            .iter()
+            .map(|(k, n)| k.valence as i64 * *n as i64)
+            .sum();
+        let h = formula.hydrogens() as i64;
+        let twice_b = valence_sum - h;
+        if twice_b < 0 || twice_b % 2 != 0 {
+            continue;
+        }
+        let dbe = twice_b / 2 - (heavy as i64 - 1);
+        if dbe < 0 {
+            continue;
+        }
+        out.push(Problem {
+            kinds: pairs.iter().map(|p| p.0).collect(),
+            counts: pairs.iter().map(|p| p.1).collect(),
+            atoms: heavy,
+            dbe: dbe as i32,
+        });
+    }
+    if out.is_empty() {
+        // Only reachable with expanded valences: no valence choice fits.
+        return Err(Error::input(format!(
+            "no neutral structure has formula {formula}, whatever valences S and P take"
+        )));
+    }
+    Ok(out)
+}
+
+fn split_counts(left: u8, vals: &[u8], cur: &mut Vec<u8>, out: &mut Vec<Vec<u8>>) {
+    if cur.len() + 1 == vals.len() {
+        cur.push(left);
+        out.push(cur.clone());
+        cur.pop();
+        return;
+    }
+    for k in (0..=left).rev() {
+        cur.push(k);
+        split_counts(left - k, vals, cur, out);
+        cur.pop();
+    }
+}
+
+/// A task: a node of the search tree at the cut depth, stored compactly.
+#[derive(Clone)]
+struct Task {
+    problem: usize,
+    kinds: Vec<u8>,
+    bonds: Vec<(u8, u8, u8)>,
+}
+
+impl Task {
+    fn from_node(problem: usize, node: &Node) -> Task {
+        let mut bonds = Vec::new();
+        for a in 0..node.n {
+            for b in generator::bits(node.nb[a]) {
+                if b > a {
+                    bonds.push((a as u8, b as u8, node.order(a, b)));
+                }
+            }
+        }
+        Task {
+            problem,
+            kinds: node.kind[..node.n].to_vec(),
+            bonds,
+        }
+    }
+
+    fn node(&self, p: &Problem) -> Node {
+        let root_kind = self.kinds[0] as usize;
+        let mut node = generator::roots(p)
+            .into_iter()
+            .find(|r| r.kind[0] as usize == root_kind)
+            .expect("root of every kind present");
+        for (v, &k) in self.kinds.iter().enumerate().skip(1) {
+            let attach: Vec<(usize, u8)> = self
+                .bonds
+                .iter()
+                .filter(|&&(_, b, _)| b as usize == v)
+                .map(|&(a, _, o)| (a as usize, o))
+                .collect();
+            node.add_vertex(p, k as usize, &attach);
+        }
+        node
+    }
+}
+
+/// Cut the search trees of all problems into tasks, in a fixed order.
+fn tasks(problems: &[Problem]) -> Vec<Task> {
+    let max_atoms = problems.iter().map(|p| p.atoms).max().unwrap_or(1);
+    let mut depth = 1;
+    loop {
+        let mut out = Vec::new();
+        for (pi, p) in problems.iter().enumerate() {
+            let mut gen = Generator::new(p);
+            let d = depth.min(p.atoms);
+            for mut root in generator::roots(p) {
+                gen.search(&mut root, d, &mut |n: &Node| {
+                    out.push(Task::from_node(pi, n))
+                });
+            }
+        }
+        if out.len() >= TARGET_TASKS || depth >= max_atoms {
+            return out;
+        }
+        depth += 1;
+    }
+}
+
+/// Progress of a long enumeration, reported after each chunk of tasks.
+#[derive(Clone, Copy, Debug)]
+pub struct Progress {
+    pub tasks_done: usize,
+    pub tasks_total: usize,
+    pub isomers: u64,
+}
+
+/// Enumerate the isomers of `formula`, calling `map` on each (in parallel) and
+/// `emit` on each result in a deterministic order. `emit` returns false to
+/// stop early. `progress` is called after every chunk.
+pub fn for_each_ordered<T, M, E>(
+    formula: &Formula,
+    opts: &Options,
+    map: M,
+    mut emit: E,
+    progress: &mut dyn FnMut(Progress),
+) -> Result<Summary>
+where
+    T: Send,
+    M: Fn(&Isomer) -> Option<T> + Sync,
+    E: FnMut(T) -> bool,
+{
+    let problems = problems(formula, opts)?;
+    let all = tasks(&problems);
+    let mine: Vec<&Task> = match opts.part {
+        Some(part) => all
+            .iter()
+            .enumerate()
+            .filter(|(i, _)| i % part.of == part.index - 1)
+            .map(|(_, t)| t)
+            .collect(),
+        None => all.iter().collect(),
+    };
+    let mut summary = Summary::default();
+    let total = mine.len();
+    for (ci, chunk) in mine.chunks(CHUNK).enumerate() {
+        let results: Vec<Vec<T>> = chunk
+            .par_iter()
+            .map(|task| {
+                let p = &problems[task.problem];
+                let mut gen = Generator::new(p);
+                let mut node = task.node(p);
+                let mut out = Vec::new();
+                gen.search(&mut node, p.atoms, &mut |leaf: &Node| {
+                    let iso = Isomer {
+                        node: leaf,
+                        problem: p,
+                    };
+                    if let Some(t) = map(&iso) {
+                        out.push(t);
+                    }
+                });
+                out
+            })
+            .collect();
+        for r in results {
+            for t in r {
+                summary.isomers += 1;
+                if !emit(t) {
+                    return Ok(summary);
+                }
+            }
+        }
+        progress(Progress {
+            tasks_done: (ci * CHUNK + chunk.len()).min(total),
+            tasks_total: total,
+            isomers: summary.isomers,
+        });
+    }
+    Ok(summary)
+}
+
+/// Number of isomers (of the shard, if one is given).
+pub fn count(formula: &Formula, opts: &Options) -> Result<u64> {
+    Ok(for_each_ordered(formula, opts, |_| Some(()), |_| true, &mut |_| {})?.isomers)
+}
