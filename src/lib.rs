@@ -24,6 +24,7 @@ pub mod cli;
 pub mod enumerate;
 pub mod error;
 pub mod predict;
+pub mod rank;
 pub mod score;
 pub mod spectrum;
 

@@ -1,0 +1,234 @@
+//! The streaming collector: a bounded top-k of scored candidates, the
+//! softmax normaliser over every candidate considered, and the shared cutoff
+//! that lets scoring threads give up early on hopeless candidates.
+//!
+//! Memory stays flat: the top-k heap holds at most k candidates, and the
+//! normaliser keeps only the costs that can still matter (within
+//! `skip_margin` of the running best; pruned as the best improves).
+//!
+//! Determinism: results reach [`Collector::push`] in the enumeration's fixed
+//! order. The cutoff that scoring threads read only ever falls, so a
+//! candidate they skip could never have entered the final top-k nor the
+//! normaliser (which counts only costs below final best + skip_margin; such
+//! a candidate is always below any cutoff ever published). Hence the output
+//! does not depend on thread timing.
+
+use std::cmp::Ordering;
+use std::collections::BinaryHeap;
+use std::sync::atomic::{AtomicU64, Ordering as AtomicOrdering};
+use std::sync::Arc;
+
+/// What scoring one candidate gave.
+pub enum Outcome<T> {
+    /// Scored exactly: the cost and the payload to keep if it ranks.
+    Scored { cost: f64, key: String, item: T },
+    /// Provably above the cutoff; not scored exactly.
+    Skipped,
+}
+
+/// The cutoff shared with the scoring threads (f64 bits in an atomic).
+#[derive(Clone)]
+pub struct Cutoff(Arc<AtomicU64>);
+
+impl Cutoff {
+    fn new() -> Cutoff {
+        Cutoff(Arc::new(AtomicU64::new(f64::INFINITY.to_bits())))
+    }
+
+    /// The cost at or above which a candidate cannot matter any more.
+    pub fn get(&self) -> f64 {
+        f64::from_bits(self.0.load(AtomicOrdering::Relaxed))
+    }
+
+    fn set(&self, v: f64) {
+        self.0.store(v.to_bits(), AtomicOrdering::Relaxed);
+    }
+}
+
+struct HeapItem<T> {
+    cost: f64,
+    key: String,
+    item: T,
+}
+
+impl<T> PartialEq for HeapItem<T> {
+    fn eq(&self, o: &Self) -> bool {
+        self.cmp(o) == Ordering::Equal
+    }
+}
+impl<T> Eq for HeapItem<T> {}
+impl<T> PartialOrd for HeapItem<T> {
+    fn partial_cmp(&self, o: &Self) -> Option<Ordering> {
+        Some(self.cmp(o))
+    }
+}
+impl<T> Ord for HeapItem<T> {
+    /// Better = lower cost, then smaller key; the heap's top is the worst.
+    fn cmp(&self, o: &Self) -> Ordering {
+        self.cost
+            .total_cmp(&o.cost)
+            .then_with(|| self.key.cmp(&o.key))
+    }
+}
+
+/// Collects scored candidates in stream order.
+pub struct Collector<T> {
+    k: usize,
+    skip_margin: f64,
+    heap: BinaryHeap<HeapItem<T>>,
+    /// Costs within skip_margin of the running best, in stream order.
+    costs: Vec<f64>,
+    prune_at: usize,
+    best: f64,
+    considered: u64,
+    skipped: u64,
+    cutoff: Cutoff,
+}
+
+/// The final top-k, best first, with softmax probabilities.
+pub struct TopK<T> {
+    /// (cost, probability, item), best first.
+    pub entries: Vec<(f64, f64, T)>,
+    /// Every candidate seen (scored or skipped).
+    pub considered: u64,
+    /// Candidates skipped by the cutoff without exact scoring.
+    pub skipped: u64,
+    /// All costs that enter the normaliser, ascending.
+    pub costs: Vec<f64>,
+}
+
+impl<T> Collector<T> {
+    pub fn new(k: usize, skip_margin: f64) -> Collector<T> {
+        Collector {
+            k: k.max(1),
+            skip_margin,
+            heap: BinaryHeap::new(),
+            costs: Vec::new(),
+            prune_at: 1024,
+            best: f64::INFINITY,
+            considered: 0,
+            skipped: 0,
+            cutoff: Cutoff::new(),
+        }
+    }
+
+    /// The shared cutoff handle for the scoring threads.
+    pub fn cutoff(&self) -> Cutoff {
+        self.cutoff.clone()
+    }
+
+    pub fn push(&mut self, outcome: Outcome<T>) {
+        self.considered += 1;
+        let (cost, key, item) = match outcome {
+            Outcome::Skipped => {
+                self.skipped += 1;
+                return;
+            }
+            Outcome::Scored { cost, key, item } => (cost, key, item),
+        };
+        if cost < self.best {
+            self.best = cost;
+        }
+        if cost < self.best + self.skip_margin {
+            self.costs.push(cost);
+            if self.costs.len() >= self.prune_at {
+                let limit = self.best + self.skip_margin;
+                self.costs.retain(|&c| c < limit);
+                self.prune_at = (2 * self.costs.len()).max(1024);
+            }
+        }
+        let entry = HeapItem { cost, key, item };
+        if self.heap.len() < self.k {
+            self.heap.push(entry);
+        } else if let Some(worst) = self.heap.peek() {
+            if entry < *worst {
+                self.heap.pop();
+                self.heap.push(entry);
+            }
+        }
+        let kth = if self.heap.len() >= self.k {
+            self.heap.peek().map(|w| w.cost).unwrap_or(f64::INFINITY)
+        } else {
+            f64::INFINITY
+        };
+        // A tiny slack keeps exact ties scored, so that the key decides them.
+        self.cutoff
+            .set(kth.max(self.best + self.skip_margin) + 1e-9);
+    }
+
+    pub fn finish(self) -> TopK<T> {
+        let best = self.best;
+        let limit = best + self.skip_margin;
+        let mut costs: Vec<f64> = self.costs.into_iter().filter(|&c| c < limit).collect();
+        // Sum in ascending order: deterministic and accurate.
+        costs.sort_by(|a, b| a.total_cmp(b));
+        let z: f64 = costs.iter().map(|&c| (-(c - best)).exp()).sum();
+        let mut items = self.heap.into_vec();
+        items.sort();
+        let entries = items
+            .into_iter()
+            .map(|h| {
+                let p = if z > 0.0 {
+                    (-(h.cost - best)).exp() / z
+                } else {
+                    0.0
+                };
+                (h.cost, p, h.item)
+            })
+            .collect();
+        TopK {
+            entries,
+            considered: self.considered,
+            skipped: self.skipped,
+            costs,
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn keeps_the_k_best_and_normalises_over_all() {
+        let mut c = Collector::new(2, 30.0);
+        for (i, cost) in [5.0, 1.0, 3.0, 1.0, 9.0].iter().enumerate() {
+            c.push(Outcome::Scored {
+                cost: *cost,
+                key: format!("c{i}"),
+                item: i,
+            });
+        }
+        c.push(Outcome::Skipped);
+        let t = c.finish();
+        assert_eq!(t.considered, 6);
+        assert_eq!(t.skipped, 1);
+        let items: Vec<usize> = t.entries.iter().map(|e| e.2).collect();
+        assert_eq!(items, vec![1, 3]);
+        // softmax of -cost over all five scored candidates
+        let z: f64 = [5.0f64, 1.0, 3.0, 1.0, 9.0]
+            .iter()
+            .map(|c| (-c).exp())
+            .sum();
+        assert!((t.entries[0].1 - (-1.0f64).exp() / z).abs() < 1e-12);
+    }
+
+    #[test]
+    fn cutoff_falls_as_better_candidates_arrive() {
+        let mut c = Collector::new(1, 2.0);
+        let h = c.cutoff();
+        assert_eq!(h.get(), f64::INFINITY);
+        c.push(Outcome::Scored {
+            cost: 10.0,
+            key: "a".into(),
+            item: (),
+        });
+        assert!((h.get() - 12.0).abs() < 1e-6);
+        c.push(Outcome::Scored {
+            cost: 4.0,
+            key: "b".into(),
+            item: (),
+        });
+        assert!((h.get() - 6.0).abs() < 1e-6);
+    }
+}
