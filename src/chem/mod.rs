@@ -1,10 +1,14 @@
 //! Chemistry core: elements, formulas, the molecule graph, canonical labelling,
 //! rings, aromaticity and SMILES.
 
+pub mod aromaticity;
 pub mod canon;
 pub mod element;
 pub mod formula;
+pub mod kekule;
 pub mod molecule;
+pub mod rings;
+pub mod smiles;
 
 pub use element::Element;
 pub use formula::Formula;
