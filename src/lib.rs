@@ -25,6 +25,7 @@ pub mod enumerate;
 pub mod error;
 pub mod predict;
 pub mod rank;
+pub mod report;
 pub mod score;
 pub mod spectrum;
 

@@ -7,6 +7,7 @@
 //! come in as functions in [`Steps`], so that this module depends only on
 //! the molecule type, the predicted signals and the scorer.
 
+pub mod carbon;
 pub mod evidence;
 pub mod groups;
 pub mod topk;
