@@ -203,7 +203,13 @@ mod tests {
         )
         .unwrap();
         assert!(s.multiplets[0].solvent.is_some());
-        assert!(s.notes.iter().any(|n| n.contains("CHCl3")), "{:?}", s.notes);
+        assert!(
+            s.notes
+                .iter()
+                .any(|n| n.contains("residual solvent peak of CDCl3")),
+            "{:?}",
+            s.notes
+        );
         assert_eq!(s.observed_hydrogens(), 8.0);
     }
 }

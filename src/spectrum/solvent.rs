@@ -12,9 +12,10 @@ use crate::error::{Error, Result};
 use crate::predict::Multiplicity;
 use serde::{Deserialize, Serialize};
 
-/// The embedded table; overridable by loading another file with
-/// [`SolventTable::from_toml`].
+/// The embedded tables; overridable with [`SolventTable::from_toml`].
 pub const SOLVENTS_TOML: &str = include_str!("../../fragment-library/solvents.toml");
+/// The matching tolerances live in the scorer's table (section `solvent_peaks`).
+const SCORING_TOML: &str = include_str!("../../fragment-library/scoring.toml");
 
 /// Which kind of stray peak a multiplet matched.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -25,17 +26,17 @@ pub struct SolventPeak {
     pub solvent: String,
     /// Expected shift, ppm.
     pub shift: f64,
-    /// What gives the peak, e.g. `CHCl3` or `H2O`.
+    /// What gives the peak: `residual solvent` or `H2O`.
     pub species: String,
 }
 
+/// A row of solvents.toml (other keys of the shared file are ignored here).
 #[derive(Clone, Debug, Deserialize)]
 struct SolventRow {
     name: String,
     #[serde(default)]
     aliases: Vec<String>,
     residual: f64,
-    residual_assignment: String,
     water: Option<f64>,
     #[allow(dead_code)]
     source: String,
@@ -49,41 +50,51 @@ struct Matching {
 }
 
 #[derive(Clone, Debug, Deserialize)]
-struct TableFile {
-    matching: Matching,
+struct SolventFile {
     solvent: Vec<SolventRow>,
+}
+
+#[derive(Clone, Debug, Deserialize)]
+struct ScoringFile {
+    solvent_peaks: Matching,
 }
 
 /// The solvent table in memory.
 #[derive(Clone, Debug)]
 pub struct SolventTable {
-    file: TableFile,
+    rows: Vec<SolventRow>,
+    matching: Matching,
 }
 
 impl SolventTable {
     pub fn embedded() -> SolventTable {
-        SolventTable::from_toml(SOLVENTS_TOML).expect("embedded solvents.toml is valid")
+        SolventTable::from_toml(SOLVENTS_TOML, SCORING_TOML).expect("embedded tables are valid")
     }
 
-    pub fn from_toml(text: &str) -> Result<SolventTable> {
-        let file: TableFile = toml::from_str(text)
-            .map_err(|e| Error::input(format!("solvent table: {}", e.message())))?;
-        Ok(SolventTable { file })
+    /// From the text of solvents.toml and of scoring.toml.
+    pub fn from_toml(solvents: &str, scoring: &str) -> Result<SolventTable> {
+        let f: SolventFile = toml::from_str(solvents)
+            .map_err(|e| Error::input(format!("solvents.toml: {}", e.message())))?;
+        let m: ScoringFile = toml::from_str(scoring)
+            .map_err(|e| Error::input(format!("scoring.toml: {}", e.message())))?;
+        Ok(SolventTable {
+            rows: f.solvent,
+            matching: m.solvent_peaks,
+        })
     }
 
     /// The table's name for a solvent as a user wrote it (`CDCl3`,
     /// `DMSO-d6`, `(CD3)2SO`, ...), case-insensitive.
     pub fn canonical_name(&self, written: &str) -> Option<&str> {
         let w = written.trim().to_lowercase();
-        self.file
-            .solvent
+        self.rows
             .iter()
             .find(|s| s.name.to_lowercase() == w || s.aliases.iter().any(|a| a.to_lowercase() == w))
             .map(|s| s.name.as_str())
     }
 
     pub fn default_solvent(&self) -> &str {
-        &self.file.matching.default_solvent
+        &self.matching.default_solvent
     }
 
     /// Mark the multiplets of `spectrum` that sit on the solvent's residual
@@ -103,29 +114,35 @@ impl SolventTable {
             None => (self.row(self.default_solvent()), true),
         };
         let Some(row) = row else { return };
-        let m = &self.file.matching;
+        let m = &self.matching;
         let mut notes = Vec::new();
         for mult in &mut spectrum.multiplets {
             if mult.pattern.multiplicity != Multiplicity::Singlet {
                 continue;
             }
             let hit = if mult.distance(row.residual) <= m.residual_tolerance {
-                Some(("residual", row.residual, row.residual_assignment.clone()))
+                Some(("residual", row.residual, "the residual solvent".to_string()))
             } else {
                 row.water
                     .filter(|&w| mult.distance(w) <= m.water_tolerance)
                     .map(|w| ("water", w, "H2O".to_string()))
             };
             if let Some((kind, shift, species)) = hit {
+                let what = if kind == "water" {
+                    format!("the water peak in {}", row.name)
+                } else {
+                    format!("the residual solvent peak of {}", row.name)
+                };
                 notes.push(format!(
-                    "entry {} at {} ppm matches the {} peak of {} in {} ({shift:.2} ppm, Gottlieb et al. 1997){}: \
+                    "entry {} at {} ppm matches {what} ({shift:.2} ppm, Gottlieb et al. 1997){}: \
                      it may be set aside rather than assigned",
                     mult.entry,
                     mult.shift_text(),
-                    kind,
-                    species,
-                    row.name,
-                    if assumed { ", solvent assumed" } else { "" }
+                    if assumed {
+                        "; solvent not given, assumed"
+                    } else {
+                        ""
+                    }
                 ));
                 mult.solvent = Some(SolventPeak {
                     kind: kind.to_string(),
@@ -139,7 +156,7 @@ impl SolventTable {
     }
 
     fn row(&self, name: &str) -> Option<&SolventRow> {
-        self.file.solvent.iter().find(|s| s.name == name)
+        self.rows.iter().find(|s| s.name == name)
     }
 
     /// Residual and water shifts of a solvent (for documentation and tests).
@@ -156,7 +173,7 @@ mod tests {
     #[test]
     fn aliases_find_the_table_row() {
         let t = SolventTable::embedded();
-        assert_eq!(t.canonical_name("dmso-d6"), Some("(CD3)2SO"));
+        assert_eq!(t.canonical_name("(CD3)2SO"), Some("DMSO-d6"));
         assert_eq!(t.canonical_name("CDCl3"), Some("CDCl3"));
         assert_eq!(t.canonical_name("toluene-d8"), None);
         // Gottlieb, Kotlyar & Nudelman, J. Org. Chem. 1997, 62, 7512, Table 1:
