@@ -241,7 +241,17 @@ pub fn perceive_with_rings(mol: &Molecule, rings: &RingInfo) -> Aromaticity {
             if atoms_of(i).len() > MAX_FUSED_RING_SIZE || atoms_of(j).len() > MAX_FUSED_RING_SIZE {
                 continue;
             }
-            if bonds_of(i).iter().any(|e| bonds_of(j).contains(e)) {
+            // Rings count as fused only when they share exactly one bond: a
+            // bridged pair (sharing two or more) is never one aromatic system.
+            // This follows RDKit, whose ring neighbour map is built with an
+            // overlap limit of one bond (from memory; confirmed by the C8H8O
+            // count against RDKit in tests/enumerate_reference.rs).
+            if bonds_of(i)
+                .iter()
+                .filter(|e| bonds_of(j).contains(e))
+                .count()
+                == 1
+            {
                 neighbours[i].push(j);
                 neighbours[j].push(i);
             }

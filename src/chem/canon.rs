@@ -92,11 +92,15 @@ pub struct Canonizer {
     labels_used: [bool; LABELS],
 }
 
-/// One ordered partition: cells as vertex bitsets, in order.
+/// One ordered partition in the lab/ptn form of McKay's papers: `lab` lists
+/// the vertices cell after cell; `start[i]` is true where a cell begins. A
+/// cell is named by the position where it starts, which depends only on the
+/// partition, so names are isomorphism-invariant.
 #[derive(Clone, Copy)]
 struct Partition {
-    cells: [u64; MAX_ATOMS],
-    len: usize,
+    lab: [u8; MAX_ATOMS],
+    start: [bool; MAX_ATOMS + 1],
+    cells: usize,
 }
 
 impl Canonizer {
@@ -107,53 +111,55 @@ impl Canonizer {
     /// Compute the canonical labelling of `g`. Results are read with
     /// [`Canonizer::certificate`], [`Canonizer::order`], [`Canonizer::orbit`].
     pub fn run(&mut self, g: &CanonGraph) {
-        self.n = g.n;
+        let n = g.n;
+        self.n = n;
         self.best.clear();
         self.leaves.clear();
         for l in 0..LABELS {
-            self.labels_used[l] = g.adj[l][..g.n].iter().any(|&r| r != 0);
+            self.labels_used[l] = g.adj[l][..n].iter().any(|&r| r != 0);
         }
-        if g.n == 0 {
+        if n == 0 {
             return;
         }
         // Initial partition: vertices grouped by colour, cells in colour order.
-        let mut idx: Vec<usize> = (0..g.n).collect();
-        idx.sort_by_key(|&v| g.colour[v]);
         let mut p = Partition {
-            cells: [0; MAX_ATOMS],
-            len: 0,
+            lab: [0; MAX_ATOMS],
+            start: [false; MAX_ATOMS + 1],
+            cells: 0,
         };
-        let mut prev = None;
-        for &v in &idx {
-            if prev != Some(g.colour[v]) {
-                p.len += 1;
-                prev = Some(g.colour[v]);
-            }
-            p.cells[p.len - 1] |= 1u64 << v;
+        for v in 0..n {
+            p.lab[v] = v as u8;
         }
+        p.lab[..n].sort_unstable_by_key(|&v| (g.colour[v as usize], v));
+        for i in 0..n {
+            if i == 0 || g.colour[p.lab[i] as usize] != g.colour[p.lab[i - 1] as usize] {
+                p.start[i] = true;
+                p.cells += 1;
+            }
+        }
+        p.start[n] = true;
         self.search(g, p);
     }
 
     fn search(&mut self, g: &CanonGraph, mut p: Partition) {
-        refine(g, &mut p, &self.labels_used);
-        if p.len == g.n {
+        let n = g.n;
+        refine(g, &mut p);
+        if p.cells == n {
             self.leaf(g, &p);
             return;
         }
-        let t = (0..p.len)
-            .find(|&i| p.cells[i].count_ones() > 1)
+        // Target: the first cell of more than one vertex.
+        let s = (0..n)
+            .find(|&i| p.start[i] && !p.start[i + 1])
             .expect("a non-discrete partition has a non-singleton cell");
-        let target = p.cells[t];
-        let mut rest = target;
-        while rest != 0 {
-            let v = rest.trailing_zeros() as usize;
-            rest &= rest - 1;
+        let e = (s + 1..=n).find(|&i| p.start[i]).expect("cells end");
+        for i in s..e {
             let mut q = p;
-            // Individualise v: {v} first, then the rest of its cell.
-            q.cells.copy_within(t + 1..q.len, t + 2);
-            q.cells[t] = 1u64 << v;
-            q.cells[t + 1] = target & !(1u64 << v);
-            q.len += 1;
+            // Individualise lab[i]: it becomes the cell {v} in front of the rest.
+            q.lab.swap(s, i);
+            q.lab[s + 1..e].sort_unstable();
+            q.start[s + 1] = true;
+            q.cells += 1;
             self.search(g, q);
         }
     }
@@ -163,7 +169,7 @@ impl Canonizer {
         let mut lab = [0u8; MAX_ATOMS];
         let mut pos = [0u8; MAX_ATOMS];
         for i in 0..n {
-            let v = p.cells[i].trailing_zeros() as usize;
+            let v = p.lab[i] as usize;
             lab[i] = v as u8;
             pos[v] = i as u8;
         }
@@ -275,81 +281,100 @@ impl Canonizer {
     }
 }
 
-/// Refine `p` to the coarsest equitable partition finer than it: every cell is
-/// split by the number of neighbours, per edge colour, that its vertices have
-/// in each cell. Fragments keep their place and are ordered by that number, so
-/// the result depends only on the graph up to isomorphism.
-fn refine(g: &CanonGraph, p: &mut Partition, used: &[bool; LABELS]) {
+/// The sorted list of (cell, edge colour) over the neighbours of `v`, packed
+/// into one number, a different number for each list: keys
+/// (cell * LABELS + colour + 1, below 4096) descending, 12 bits each, at most 8;
+/// lists of k keys fall in [4096^(k-1), 4096^k), so lengths never collide.
+#[inline]
+fn signature(g: &CanonGraph, v: usize, cell_of: &[u8; MAX_ATOMS], used: &[usize]) -> u128 {
+    let mut keys = [0u16; 8];
+    let mut k = 0;
+    for &l in used {
+        let mut row = g.adj[l][v];
+        while row != 0 {
+            let u = row.trailing_zeros() as usize;
+            row &= row - 1;
+            if k < 8 {
+                keys[k] = cell_of[u] as u16 * LABELS as u16 + l as u16 + 1;
+            }
+            k += 1;
+        }
+    }
+    debug_assert!(k <= 8, "vertex degree above 8");
+    let keys = &mut keys[..k.min(8)];
+    keys.sort_unstable_by(|a, b| b.cmp(a));
+    let mut packed = 0u128;
+    for &key in keys.iter() {
+        packed = packed << 12 | key as u128;
+    }
+    packed
+}
+
+/// Refine `p` to the coarsest equitable partition finer than it (colour
+/// refinement): each round gives every vertex the sorted list of (cell,
+/// bond colour) of its neighbours, and splits every cell by that list, the
+/// fragments in list order. Rounds repeat until no cell splits. Cells are
+/// named by position, so the result depends only on the graph up to
+/// isomorphism.
+fn refine(g: &CanonGraph, p: &mut Partition) {
+    let n = g.n;
+    let mut cell_of = [0u8; MAX_ATOMS];
+    let mut cs = 0;
+    for i in 0..n {
+        if p.start[i] {
+            cs = i;
+        }
+        cell_of[p.lab[i] as usize] = cs as u8;
+    }
+    let mut sig = [0u128; MAX_ATOMS];
+    let mut used_buf = [0usize; LABELS];
+    let mut nused = 0;
+    for l in 0..LABELS {
+        if g.adj[l][..n].iter().any(|&r| r != 0) {
+            used_buf[nused] = l;
+            nused += 1;
+        }
+    }
+    let used = &used_buf[..nused];
     loop {
-        let mut changed = false;
-        let mut si = 0;
-        while si < p.len {
-            let splitter = p.cells[si];
-            for l in 0..LABELS {
-                if !used[l] {
-                    continue;
-                }
-                let mut ci = 0;
-                while ci < p.len {
-                    let c = p.cells[ci];
-                    if c & (c - 1) == 0 {
-                        ci += 1;
-                        continue;
-                    }
-                    let k = split(g, p, ci, splitter, l);
-                    if k > 1 {
-                        changed = true;
-                    }
-                    ci += k;
+        // Only vertices of non-singleton cells can be split.
+        let mut s = 0;
+        while s < n {
+            let e = (s + 1..=n).find(|&i| p.start[i]).expect("cells end");
+            if e - s > 1 {
+                for &v in &p.lab[s..e] {
+                    sig[v as usize] = signature(g, v as usize, &cell_of, used);
                 }
             }
-            si += 1;
+            s = e;
+        }
+        let mut changed = false;
+        let mut s = 0;
+        while s < n {
+            let e = (s + 1..=n).find(|&i| p.start[i]).expect("cells end");
+            if e - s > 1 {
+                p.lab[s..e].sort_unstable_by_key(|&v| (sig[v as usize], v));
+                for i in s + 1..e {
+                    if sig[p.lab[i] as usize] != sig[p.lab[i - 1] as usize] {
+                        p.start[i] = true;
+                        p.cells += 1;
+                        changed = true;
+                    }
+                }
+            }
+            s = e;
         }
         if !changed {
             return;
         }
-    }
-}
-
-/// Split cell `ci` of `p` by the count of colour-`l` neighbours in `splitter`;
-/// returns the number of fragments now standing where the cell stood.
-fn split(g: &CanonGraph, p: &mut Partition, ci: usize, splitter: u64, l: usize) -> usize {
-    let c = p.cells[ci];
-    let mut counts = [0u8; MAX_ATOMS];
-    let (mut lo, mut hi) = (u32::MAX, 0u32);
-    let mut m = c;
-    while m != 0 {
-        let v = m.trailing_zeros() as usize;
-        m &= m - 1;
-        let k = (g.adj[l][v] & splitter).count_ones();
-        counts[v] = k as u8;
-        lo = lo.min(k);
-        hi = hi.max(k);
-    }
-    if lo == hi {
-        return 1;
-    }
-    let mut frags = [0u64; MAX_ATOMS];
-    let mut nf = 0;
-    for val in lo..=hi {
-        let mut f = 0u64;
-        let mut m = c;
-        while m != 0 {
-            let v = m.trailing_zeros() as usize;
-            m &= m - 1;
-            if counts[v] as u32 == val {
-                f |= 1u64 << v;
+        let mut cs = 0;
+        for i in 0..n {
+            if p.start[i] {
+                cs = i;
             }
-        }
-        if f != 0 {
-            frags[nf] = f;
-            nf += 1;
+            cell_of[p.lab[i] as usize] = cs as u8;
         }
     }
-    p.cells.copy_within(ci + 1..p.len, ci + nf);
-    p.cells[ci..ci + nf].copy_from_slice(&frags[..nf]);
-    p.len += nf - 1;
-    nf
 }
 
 #[cfg(test)]

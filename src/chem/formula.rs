@@ -42,9 +42,21 @@ impl Formula {
                         )));
                     }
                     None => {
+                        // Wrong case such as "CL": suggest the two-letter symbol.
+                        let hint = match i.checked_sub(1).map(|j| chars[j]) {
+                            Some(prev) if prev.is_ascii_uppercase() => {
+                                let two = format!("{prev}{}", sym.to_ascii_lowercase());
+                                if Element::from_symbol(&two).is_some() {
+                                    format!("; element symbols are case-sensitive: did you mean \"{two}\"?")
+                                } else {
+                                    String::new()
+                                }
+                            }
+                            _ => String::new(),
+                        };
                         return Err(Error::input(format!(
-                            "unknown element \"{sym}\" at column {col} of \"{text}\" (known: C H N O S P F Cl Br I)"
-                        )))
+                            "unknown element \"{sym}\" at column {col} of \"{text}\" (known: C H N O S P F Cl Br I){hint}"
+                        )));
                     }
                 };
                 i += sym.len();
@@ -93,8 +105,6 @@ impl Formula {
                 )));
             }
         }
-        // Wrong case such as "CL": C followed by an upper-case L, caught above as
-        // unknown element "L"; make that message point at the likely intent.
         Ok(f)
     }
 

@@ -1,6 +1,11 @@
-//! Command-line layer: argument definitions (clap) and one function per
-//! subcommand. Everything here converts flags into typed library values once,
-//! calls the library, and maps the result to an exit code.
+//! Command-line layer: argument definitions (clap) and one file per
+//! subcommand. Each converts flags into typed library values once, calls the
+//! library, and returns a `Result` that [`main`] maps to an exit code
+//! (0 success, 2 bad input, 1 internal fault). A closed output pipe
+//! (`isomerank isomers ... | head`) is a normal end.
+
+mod isomers;
+pub mod output;
 
 use clap::{Parser, Subcommand};
 
@@ -8,18 +13,48 @@ use clap::{Parser, Subcommand};
 #[command(
     name = "isomerank",
     version,
-    about = "Rank constitutional isomers of a molecular formula against an observed 1H NMR multiplet list"
+    about = "Rank the constitutional isomers of a molecular formula against an observed 1H NMR multiplet list",
+    long_about = None
 )]
 pub struct Cli {
+    /// Worker threads (default: all cores). Output does not depend on it.
+    #[arg(long, global = true, value_name = "N")]
+    pub threads: Option<usize>,
+
     #[command(subcommand)]
     pub command: Command,
 }
 
 #[derive(Subcommand)]
-pub enum Command {}
+pub enum Command {
+    Isomers(isomers::Args),
+}
 
 /// Run the program; returns the process exit code.
 pub fn main() -> i32 {
-    let _cli = Cli::parse();
-    0
+    let cli = Cli::parse();
+    if let Some(n) = cli.threads {
+        if n == 0 {
+            eprintln!("error: --threads must be at least 1");
+            return 2;
+        }
+        if let Err(e) = rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build_global()
+        {
+            eprintln!("error: cannot start {n} threads: {e}");
+            return 1;
+        }
+    }
+    let result = match cli.command {
+        Command::Isomers(args) => isomers::run(args),
+    };
+    match result {
+        Ok(()) => 0,
+        Err(crate::Error::Io(e)) if e.kind() == std::io::ErrorKind::BrokenPipe => 0,
+        Err(e) => {
+            eprintln!("error: {e}");
+            e.exit_code()
+        }
+    }
 }

@@ -99,6 +99,8 @@ pub struct Node {
     pub remaining: [u8; MAX_KINDS],
     /// Sum over remaining atoms of (valence - 1): how much excess they can add.
     pub room: i32,
+    /// Sum of `free` over the atoms present.
+    pub free_total: i32,
 }
 
 impl Node {
@@ -136,6 +138,7 @@ impl Node {
             sum += o;
         }
         self.free[v] = val - sum;
+        self.free_total += val as i32 - 2 * sum as i32;
         self.deg[v] = attach.len() as u8;
         self.excess += sum as i32 - 1;
         self.remaining[k] -= 1;
@@ -155,6 +158,7 @@ impl Node {
             sum += o;
         }
         self.nb[v] = 0;
+        self.free_total -= val as i32 - 2 * sum as i32;
         self.excess -= sum as i32 - 1;
         self.remaining[k] += 1;
         self.room += val as i32 - 1;
@@ -195,36 +199,39 @@ impl Node {
 
 /// The root nodes: one single-atom node per kind present (in kind order).
 pub fn roots(p: &Problem) -> Vec<Node> {
+    (0..p.kinds.len())
+        .filter(|&k| p.counts[k] > 0)
+        .map(|k| root(p, k))
+        .collect()
+}
+
+/// The single-atom node of kind `k`.
+pub fn root(p: &Problem, k: usize) -> Node {
     let room_all: i32 = p
         .kinds
         .iter()
         .zip(&p.counts)
         .map(|(k, &c)| (k.valence as i32 - 1) * c as i32)
         .sum();
-    let mut out = Vec::new();
-    for (k, kind) in p.kinds.iter().enumerate() {
-        if p.counts[k] == 0 {
-            continue;
-        }
-        let mut node = Node {
-            g: CanonGraph::new(1),
-            n: 1,
-            kind: [0; MAX_ATOMS],
-            free: [0; MAX_ATOMS],
-            deg: [0; MAX_ATOMS],
-            nb: [0; MAX_ATOMS],
-            excess: 0,
-            remaining: [0; MAX_KINDS],
-            room: room_all - (kind.valence as i32 - 1),
-        };
-        node.g.colour[0] = k as u32;
-        node.kind[0] = k as u8;
-        node.free[0] = kind.valence;
-        node.remaining[..p.counts.len()].copy_from_slice(&p.counts);
-        node.remaining[k] -= 1;
-        out.push(node);
-    }
-    out
+    let kind = p.kinds[k];
+    let mut node = Node {
+        g: CanonGraph::new(1),
+        n: 1,
+        kind: [0; MAX_ATOMS],
+        free: [0; MAX_ATOMS],
+        deg: [0; MAX_ATOMS],
+        nb: [0; MAX_ATOMS],
+        excess: 0,
+        remaining: [0; MAX_KINDS],
+        room: room_all - (kind.valence as i32 - 1),
+        free_total: kind.valence as i32,
+    };
+    node.g.colour[0] = k as u32;
+    node.kind[0] = k as u8;
+    node.free[0] = kind.valence;
+    node.remaining[..p.counts.len()].copy_from_slice(&p.counts);
+    node.remaining[k] -= 1;
+    node
 }
 
 /// Depth-first generation below given nodes, with reusable work space.
@@ -272,32 +279,47 @@ impl<'p> Generator<'p> {
             auts.extend(self.canon[n].automorphisms().skip(1));
         }
         // Non-cut vertices of the parent and their deletion keys, best first.
-        let mut keyed: Vec<(u32, usize)> = (0..n)
-            .filter(|&x| node.non_cut(x))
-            .map(|x| (node.key(p, x), x))
-            .collect();
-        keyed.sort_unstable_by(|a, b| b.cmp(a));
+        let mut keyed = [(0u32, 0u8); MAX_ATOMS];
+        let mut nkeyed = 0;
         let mut noncut_mask = 0u64;
-        for &(_, x) in &keyed {
-            noncut_mask |= 1u64 << x;
+        for x in 0..n {
+            if node.non_cut(x) {
+                keyed[nkeyed] = (node.key(p, x), x as u8);
+                nkeyed += 1;
+                noncut_mask |= 1u64 << x;
+            }
         }
+        keyed[..nkeyed].sort_unstable_by(|a, b| b.cmp(a));
         let mut ctx = ChildCtx {
             keyed,
+            nkeyed,
             noncut_mask,
             auts,
             attach: Vec::with_capacity(8),
+            sum_min: 0,
+            sum_max: 0,
         };
         for k in 0..p.kinds.len() {
             if node.remaining[k] == 0 {
                 continue;
             }
             let kind = p.kinds[k];
-            let max_deg = (kind.valence as usize).min(n);
+            // Bond-order sums of the new atom that keep the unsaturation
+            // reachable: excess + sum - 1 within [dbe - room', dbe].
+            let room = node.room - (kind.valence as i32 - 1);
+            let lo = (p.dbe - room - node.excess + 1).max(1);
+            let hi = (p.dbe - node.excess + 1).min(kind.valence as i32);
+            if lo > hi {
+                continue;
+            }
+            ctx.sum_min = lo as u8;
+            ctx.sum_max = hi as u8;
+            let max_deg = (kind.valence as usize).min(n).min(hi as usize);
             for d in 1..=max_deg {
                 // Best key the new atom can have with d bonds (all single).
                 let best = (kind.priority as u32) << 16 | (255 - d as u32) << 8 | (255 - d as u32);
                 let mut must = 0u64;
-                for &(key, x) in &ctx.keyed {
+                for &(key, x) in &ctx.keyed[..ctx.nkeyed] {
                     if key <= best {
                         break;
                     }
@@ -309,23 +331,27 @@ impl<'p> Generator<'p> {
                 if bits(must).any(|x| node.free[x] == 0) {
                     continue;
                 }
-                let others: Vec<usize> = (0..n)
-                    .filter(|&x| must >> x & 1 == 0 && node.free[x] > 0)
-                    .collect();
+                let mut others = [0u8; MAX_ATOMS];
+                let mut nothers = 0;
+                for x in 0..n {
+                    if must >> x & 1 == 0 && node.free[x] > 0 {
+                        others[nothers] = x as u8;
+                        nothers += 1;
+                    }
+                }
                 let extra = d - must.count_ones() as usize;
-                if extra > others.len() {
+                if extra > nothers {
                     continue;
                 }
-                let mut chosen: Vec<usize> = bits(must).collect();
                 self.choose(
                     node,
                     k,
                     limit,
                     &mut ctx,
-                    &others,
+                    &others[..nothers],
                     0,
                     extra,
-                    &mut chosen,
+                    must,
                     sink,
                 );
             }
@@ -341,30 +367,34 @@ impl<'p> Generator<'p> {
         k: usize,
         limit: usize,
         ctx: &mut ChildCtx,
-        others: &[usize],
+        others: &[u8],
         from: usize,
         extra: usize,
-        chosen: &mut Vec<usize>,
+        chosen: u64,
         sink: &mut Sink<'_>,
     ) {
         if extra == 0 {
-            let mut set = chosen.clone();
-            set.sort_unstable();
+            let mut set = [0u8; 8];
+            let mut len = 0;
+            for x in bits(chosen) {
+                set[len] = x as u8;
+                len += 1;
+            }
             ctx.attach.clear();
-            self.orders(node, k, limit, ctx, &set, 0, 0, sink);
+            self.orders(node, k, limit, ctx, &set[..len], 0, 0, sink);
             return;
         }
         for i in from..others.len() {
             if others.len() - i < extra {
                 break;
             }
-            chosen.push(others[i]);
-            self.choose(node, k, limit, ctx, others, i + 1, extra - 1, chosen, sink);
-            chosen.pop();
+            let c = chosen | 1u64 << others[i];
+            self.choose(node, k, limit, ctx, others, i + 1, extra - 1, c, sink);
         }
     }
 
-    /// Give each chosen atom a bond order (1-3) within both atoms' valences.
+    /// Give each chosen atom a bond order (1-3) within both atoms' valences
+    /// and the new atom's allowed bond-order sum.
     #[allow(clippy::too_many_arguments)]
     fn orders(
         &mut self,
@@ -372,20 +402,24 @@ impl<'p> Generator<'p> {
         k: usize,
         limit: usize,
         ctx: &mut ChildCtx,
-        set: &[usize],
+        set: &[u8],
         i: usize,
         sum: u8,
         sink: &mut Sink<'_>,
     ) {
-        let val = self.p.kinds[k].valence;
         if i == set.len() {
-            self.try_child(node, k, limit, ctx, sum, sink);
+            if sum >= ctx.sum_min {
+                self.try_child(node, k, limit, ctx, sum, sink);
+            }
             return;
         }
-        let x = set[i];
+        let x = set[i] as usize;
         // Each later atom needs at least order 1.
         let left = (set.len() - i - 1) as u8;
-        let top = node.free[x].min(3).min(val - sum - left);
+        if sum + 1 + left > ctx.sum_max {
+            return;
+        }
+        let top = node.free[x].min(3).min(ctx.sum_max - sum - left);
         for o in 1..=top {
             ctx.attach.push((x, o));
             self.orders(node, k, limit, ctx, set, i + 1, sum + o, sink);
@@ -411,7 +445,7 @@ impl<'p> Generator<'p> {
             attached |= 1u64 << x;
         }
         // A non-cut parent atom left unattached keeps its key and stays non-cut.
-        for &(key, x) in &ctx.keyed {
+        for &(key, x) in &ctx.keyed[..ctx.nkeyed] {
             if key <= key_v {
                 break;
             }
@@ -419,15 +453,8 @@ impl<'p> Generator<'p> {
                 return;
             }
         }
-        // Unsaturation bounds.
-        let excess = node.excess + sum as i32 - 1;
-        let room = node.room - (kind.valence as i32 - 1);
-        if excess > p.dbe || p.dbe - excess > room {
-            return;
-        }
-        let free_total: i32 = (0..node.n).map(|x| node.free[x] as i32).sum::<i32>()
-            - 2 * sum as i32
-            + kind.valence as i32;
+        // (The unsaturation bounds hold: `orders` keeps sum in range.)
+        let free_total: i32 = node.free_total - 2 * sum as i32 + kind.valence as i32;
         let last = node.n + 1 == p.atoms;
         if !last && free_total < 1 {
             return;
@@ -497,7 +524,12 @@ fn ctx_noncut(mask: u64, x: usize) -> bool {
 }
 
 struct ChildCtx {
-    keyed: Vec<(u32, usize)>,
+    /// Non-cut vertices of the parent with their keys, best first.
+    keyed: [(u32, u8); MAX_ATOMS],
+    nkeyed: usize,
+    /// Allowed bond-order sums of the new atom.
+    sum_min: u8,
+    sum_max: u8,
     /// Non-cut vertices of the parent (they stay non-cut when left unattached).
     noncut_mask: u64,
     auts: Vec<[u8; MAX_ATOMS]>,

@@ -9,12 +9,15 @@
 //! task, giving disjoint shards whose union is the whole set.
 
 pub mod generator;
+pub mod resonance;
+pub mod rules;
 
 use crate::chem::canon::MAX_ATOMS;
 use crate::chem::{Element, Formula, Molecule};
 use crate::error::{Error, Result};
 use generator::{Generator, Kind, Node, Problem};
 use rayon::prelude::*;
+use rules::{Rule, RuleSet};
 
 /// How many tasks the search tree is cut into (at least, where the tree is
 /// that wide): enough for even load on many cores and for fine-grained shards.
@@ -54,20 +57,29 @@ pub struct Options {
     pub expanded_valence: bool,
     /// Only this shard of the search.
     pub part: Option<Part>,
+    /// Plausibility rules to apply (none: every isomer).
+    pub rules: RuleSet,
 }
 
 /// Counts from one enumeration.
 #[derive(Clone, Debug, Default, PartialEq, Eq)]
 pub struct Summary {
-    /// Isomers passed to the caller's map function.
+    /// Isomers found (one per compound), before plausibility rules.
+    pub generated: u64,
+    /// Isomers that passed the rules and went to the caller's map function.
     pub isomers: u64,
+    /// Isomers removed by the rules (each counted once).
+    pub excluded: u64,
+    /// For each rule applied, how many isomers it flagged (an isomer flagged
+    /// by several rules counts for each).
+    pub flagged: Vec<(Rule, u64)>,
 }
 
 /// A complete isomer as the generator found it (compact form); convert with
 /// [`Isomer::molecule`].
 pub struct Isomer<'a> {
-    node: &'a Node,
-    problem: &'a Problem,
+    pub(crate) node: &'a Node,
+    pub(crate) problem: &'a Problem,
 }
 
 impl Isomer<'_> {
@@ -89,6 +101,11 @@ impl Isomer<'_> {
     /// Implicit hydrogens on atom `i`.
     pub fn hydrogens(&self, i: usize) -> u8 {
         self.node.free[i]
+    }
+
+    /// Canonical SMILES (aromatic lower-case form).
+    pub fn smiles(&self) -> String {
+        crate::chem::smiles::canonical_smiles(&self.molecule())
     }
 
     /// The general molecule type for this isomer.
@@ -221,11 +238,7 @@ impl Task {
     }
 
     fn node(&self, p: &Problem) -> Node {
-        let root_kind = self.kinds[0] as usize;
-        let mut node = generator::roots(p)
-            .into_iter()
-            .find(|r| r.kind[0] as usize == root_kind)
-            .expect("root of every kind present");
+        let mut node = generator::root(p, self.kinds[0] as usize);
         for (v, &k) in self.kinds.iter().enumerate().skip(1) {
             let attach: Vec<(usize, u8)> = self
                 .bonds
@@ -295,30 +308,63 @@ where
             .collect(),
         None => all.iter().collect(),
     };
-    let mut summary = Summary::default();
+    let rules = &opts.rules.rules;
+    let mut summary = Summary {
+        flagged: rules.iter().map(|&r| (r, 0)).collect(),
+        ..Summary::default()
+    };
     let total = mine.len();
     for (ci, chunk) in mine.chunks(CHUNK).enumerate() {
-        let results: Vec<Vec<T>> = chunk
+        let results: Vec<TaskResult<T>> = chunk
             .par_iter()
-            .map(|task| {
-                let p = &problems[task.problem];
-                let mut gen = Generator::new(p);
-                let mut node = task.node(p);
-                let mut out = Vec::new();
-                gen.search(&mut node, p.atoms, &mut |leaf: &Node| {
-                    let iso = Isomer {
-                        node: leaf,
-                        problem: p,
+            .map_init(
+                || {
+                    let gens: Vec<Generator> = problems.iter().map(Generator::new).collect();
+                    (gens, crate::chem::canon::Canonizer::new())
+                },
+                |(gens, canon), task| {
+                    let p = &problems[task.problem];
+                    let gen = &mut gens[task.problem];
+                    let mut node = task.node(p);
+                    let mut res = TaskResult {
+                        items: Vec::new(),
+                        generated: 0,
+                        excluded: 0,
+                        flagged: vec![0; rules.len()],
                     };
-                    if let Some(t) = map(&iso) {
-                        out.push(t);
-                    }
-                });
-                out
-            })
+                    gen.search(&mut node, p.atoms, &mut |leaf: &Node| {
+                        let iso = Isomer {
+                            node: leaf,
+                            problem: p,
+                        };
+                        if !resonance::is_representative(leaf, || iso.molecule(), canon) {
+                            return;
+                        }
+                        res.generated += 1;
+                        let mut out = false;
+                        for (i, r) in rules.iter().enumerate() {
+                            if r.flags(&iso) {
+                                res.flagged[i] += 1;
+                                out = true;
+                            }
+                        }
+                        if out {
+                            res.excluded += 1;
+                        } else if let Some(t) = map(&iso) {
+                            res.items.push(t);
+                        }
+                    });
+                    res
+                },
+            )
             .collect();
         for r in results {
-            for t in r {
+            summary.generated += r.generated;
+            summary.excluded += r.excluded;
+            for (i, f) in r.flagged.iter().enumerate() {
+                summary.flagged[i].1 += f;
+            }
+            for t in r.items {
                 summary.isomers += 1;
                 if !emit(t) {
                     return Ok(summary);
@@ -332,6 +378,13 @@ where
         });
     }
     Ok(summary)
+}
+
+struct TaskResult<T> {
+    items: Vec<T>,
+    generated: u64,
+    excluded: u64,
+    flagged: Vec<u64>,
 }
 
 /// Number of isomers (of the shard, if one is given).

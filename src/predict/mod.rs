@@ -1,4 +1,423 @@
-//! Prediction of a structure's 1H multiplet list.
+//! Prediction of a structure's 1H multiplet list: equivalent-H groups and
+//! integrals (automorphism orbits), chemical shifts from published additive
+//! increments, and first-order multiplicities (n+1 rule).
+//!
+//! ```text
+//! Molecule ──> View (neighbour tables, rings, aromaticity)      view.rs
+//!          ──> groups of equivalent H (orbits, splits, flags)    groups.rs
+//!          ──> shift + sigma per group (library tables)          shift.rs
+//!          ──> J and multiplicity per group                      coupling.rs
+//!          ──> Vec<PredictedSignal>, highest shift first
+//! ```
+//!
+//! A [`Predictor`] is built once from the fragment library (embedded, or a
+//! folder) and shared; [`Predictor::predict`] is cheap enough for the inner
+//! loop of ranking (no subgraph search per candidate: patterns are tiny
+//! rooted trees and every substituent class is memoised per bond).
 
+mod coupling;
+mod groups;
+pub mod library;
+pub mod pattern;
+mod shift;
 pub mod signal;
+pub mod view;
+
+pub use library::Library;
 pub use signal::{Multiplicity, PredictedSignal};
+
+use crate::chem::canon::{CanonGraph, Canonizer};
+use crate::chem::Molecule;
+use crate::error::{Error, Result};
+use std::cell::RefCell;
+use std::path::Path;
+use view::View;
+
+/// What the prediction should assume about the measurement.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PredictOptions {
+    /// Index of the solvent in the library (see [`Predictor::options`]).
+    pub solvent: usize,
+    /// Spectrometer frequency for 1H, MHz (decides when a pattern is first order).
+    pub mhz: f64,
+    /// Fill `notes` (diastereotopic, exchangeable, ...). The ranker may switch
+    /// this off to save the string allocations.
+    pub notes: bool,
+}
+
+impl Default for PredictOptions {
+    /// CDCl3 (the first solvent of the library), 400 MHz, with notes.
+    fn default() -> Self {
+        PredictOptions {
+            solvent: 0,
+            mhz: 400.0,
+            notes: true,
+        }
+    }
+}
+
+/// The predictor: the compiled fragment library.
+pub struct Predictor {
+    lib: Library,
+}
+
+/// Reusable working storage (canonical labelling buffers).
+#[derive(Default)]
+pub struct Scratch {
+    canon: Canonizer,
+}
+
+thread_local! {
+    static SCRATCH: RefCell<Scratch> = RefCell::new(Scratch::default());
+}
+
+impl Predictor {
+    /// The predictor over the library embedded in the binary.
+    pub fn embedded() -> Result<Predictor> {
+        Ok(Predictor {
+            lib: Library::embedded()?,
+        })
+    }
+
+    /// The embedded library with the files found in `dir` replacing theirs.
+    pub fn from_dir(dir: &Path) -> Result<Predictor> {
+        Ok(Predictor {
+            lib: Library::from_dir(dir)?,
+        })
+    }
+
+    pub fn library(&self) -> &Library {
+        &self.lib
+    }
+
+    /// Options for a solvent named as in the library (case-insensitive, with
+    /// aliases such as "dmso") and a spectrometer frequency.
+    pub fn options(&self, solvent: &str, mhz: f64) -> Result<PredictOptions> {
+        let Some(s) = self.lib.solvent(solvent) else {
+            let known: Vec<_> = self.lib.solvents.iter().map(|s| s.name.as_str()).collect();
+            return Err(Error::input(format!(
+                "unknown solvent \"{solvent}\" (known: {})",
+                known.join(", ")
+            )));
+        };
+        if !(mhz.is_finite() && (20.0..=2000.0).contains(&mhz)) {
+            return Err(Error::input(format!(
+                "spectrometer frequency {mhz} MHz is out of range (give 20-2000, e.g. 400)"
+            )));
+        }
+        Ok(PredictOptions {
+            solvent: s,
+            mhz,
+            notes: true,
+        })
+    }
+
+    /// Predicted signals, highest shift first. A molecule the predictor
+    /// cannot hold (more than 64 heavy atoms, explicit H atoms) gives an
+    /// empty list; [`Predictor::try_predict`] says why.
+    pub fn predict(&self, mol: &Molecule, opts: &PredictOptions) -> Vec<PredictedSignal> {
+        self.try_predict(mol, opts).unwrap_or_default()
+    }
+
+    /// Predicted signals, or an input error naming what cannot be predicted.
+    pub fn try_predict(
+        &self,
+        mol: &Molecule,
+        opts: &PredictOptions,
+    ) -> Result<Vec<PredictedSignal>> {
+        SCRATCH.with(|s| self.predict_with(mol, opts, &mut s.borrow_mut()))
+    }
+
+    /// As [`Predictor::try_predict`] with caller-owned working storage.
+    pub fn predict_with(
+        &self,
+        mol: &Molecule,
+        opts: &PredictOptions,
+        scratch: &mut Scratch,
+    ) -> Result<Vec<PredictedSignal>> {
+        if opts.solvent >= self.lib.solvents.len() {
+            return Err(Error::input(format!(
+                "solvent index {} is not in the library",
+                opts.solvent
+            )));
+        }
+        let v = View::new(mol).map_err(Error::input)?;
+        let mut ctx = Ctx::new(&self.lib, v, opts);
+        ctx.orbits(&mut scratch.canon);
+        let mut groups = ctx.build_groups();
+        ctx.shifts(&mut groups);
+        let mult = ctx.multiplicities(&groups);
+        Ok(ctx.signals(&groups, &mult))
+    }
+}
+
+/// Notes a group can carry (bit flags, turned into words at the end).
+pub(crate) mod note {
+    pub const DIASTEREOTOPIC: u32 = 1;
+    pub const EXCHANGEABLE: u32 = 1 << 1;
+    pub const EXCHANGE_COUPLES: u32 = 1 << 2;
+    pub const EZ_ASSUMED: u32 = 1 << 3;
+    pub const AMIDE_ROTAMER: u32 = 1 << 4;
+    pub const MONO_RING: u32 = 1 << 5;
+    pub const SECOND_ORDER: u32 = 1 << 6;
+    pub const MAGNETIC: u32 = 1 << 7;
+    pub const PARA_PAIR: u32 = 1 << 8;
+    pub const RING_SP3: u32 = 1 << 9;
+    pub const UNKNOWN_SUBSTITUENT: u32 = 1 << 10;
+    pub const FALLBACK: u32 = 1 << 11;
+    pub const SHOOLERY: u32 = 1 << 12;
+    pub const VINYL_PAIR: u32 = 1 << 13;
+    pub const RANGE: u32 = 1 << 14;
+}
+
+/// How a group's shift was obtained.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub(crate) enum Method {
+    /// A special environment (index into `Library::environments`).
+    Special(usize),
+    Benzene,
+    Hetero,
+    Alkene,
+    Sp3,
+    Fallback,
+}
+
+/// One group of equivalent H (one predicted signal).
+#[derive(Clone, Debug)]
+pub(crate) struct Group {
+    /// Heavy atoms carrying the H of this group.
+    pub atoms: u64,
+    /// Representative atom (the lowest index).
+    pub rep: usize,
+    /// H per atom that belong to this group.
+    pub hs: u8,
+    /// 0: all H of the atom; 1/2: one H of a =CH2 whose two H differ
+    /// (1 = cis to the reference substituent of the far carbon, 2 = trans).
+    pub slot: u8,
+    pub method: Method,
+    pub shift: f64,
+    pub sigma: f64,
+    pub exchangeable: bool,
+    pub notes: u32,
+}
+
+impl Group {
+    pub fn hydrogens(&self) -> u32 {
+        self.atoms.count_ones() * self.hs as u32
+    }
+}
+
+/// The multiplicity found for one group.
+#[derive(Clone, Debug)]
+pub(crate) struct Mult {
+    pub multiplicity: Multiplicity,
+    pub j: Vec<f64>,
+    pub notes: u32,
+}
+
+/// Everything known about one candidate while it is predicted.
+pub(crate) struct Ctx<'a> {
+    pub lib: &'a Library,
+    pub v: View,
+    pub opts: &'a PredictOptions,
+    /// Orbit id per atom (refined by the amide-rotation split).
+    pub orb: [u8; view::MAX_ATOMS],
+    /// Substituent class memo per (atom, neighbour slot): 255 not computed,
+    /// 254 no class.
+    memo: [[u8; view::MAX_DEGREE]; view::MAX_ATOMS],
+    /// Special environment per atom (index + 1; 0 none), filled by grouping.
+    pub env: [u8; view::MAX_ATOMS],
+    pub has_stereocentre: bool,
+    /// Atoms of tertiary-amide N-substituents split by slow C-N rotation.
+    pub rotamer: u64,
+}
+
+const MEMO_UNSET: u8 = 255;
+const MEMO_NONE: u8 = 254;
+
+impl<'a> Ctx<'a> {
+    fn new(lib: &'a Library, v: View, opts: &'a PredictOptions) -> Ctx<'a> {
+        Ctx {
+            lib,
+            v,
+            opts,
+            orb: [0; view::MAX_ATOMS],
+            memo: [[MEMO_UNSET; view::MAX_DEGREE]; view::MAX_ATOMS],
+            env: [0; view::MAX_ATOMS],
+            has_stereocentre: false,
+            rotamer: 0,
+        }
+    }
+
+    /// Automorphism orbits of the molecular graph (vertex colour: element
+    /// and H count; edge colour: bond order, aromatic bonds as one colour so
+    /// that Kekulé forms do not break the ring's symmetry).
+    fn orbits(&mut self, canon: &mut Canonizer) {
+        let v = &self.v;
+        let mut g = CanonGraph::new(v.n);
+        for a in 0..v.n {
+            g.colour[a] = (v.element[a].heavy_index().unwrap_or(0) as u32) << 4 | v.h[a] as u32;
+            for (b, kind) in v.neighbours(a) {
+                if b > a {
+                    g.set_edge(a, b, kind);
+                }
+            }
+        }
+        if v.n == 0 {
+            return;
+        }
+        canon.run(&g);
+        let order = canon.order();
+        let mut done = 0u64;
+        for (p, &va) in order.iter().enumerate() {
+            if done >> va & 1 == 1 {
+                continue;
+            }
+            let m = canon.orbit_at(p);
+            for u in view::bits(m) {
+                self.orb[u] = p as u8;
+            }
+            done |= m;
+        }
+    }
+
+    /// The substituent class of the group hanging from `parent` at `root`
+    /// (memoised per bond).
+    pub fn class_of(&mut self, root: usize, parent: usize) -> Option<library::ClassId> {
+        let k = (0..self.v.deg[root] as usize)
+            .find(|&k| self.v.nbr[root][k] as usize == parent)
+            .expect("parent is a neighbour");
+        let m = self.memo[root][k];
+        if m == MEMO_UNSET {
+            let found = self
+                .lib
+                .classes
+                .iter()
+                .position(|c| c.pattern.matches(&self.v, root, Some(parent)));
+            let code = found.map(|i| i as u8).unwrap_or(MEMO_NONE);
+            self.memo[root][k] = code;
+            found.map(|i| i as u8)
+        } else if m == MEMO_NONE {
+            None
+        } else {
+            Some(m)
+        }
+    }
+
+    fn signals(&self, groups: &[Group], mult: &[Mult]) -> Vec<PredictedSignal> {
+        let mut out: Vec<PredictedSignal> = groups
+            .iter()
+            .zip(mult)
+            .map(|(g, m)| PredictedSignal {
+                shift: (g.shift * 100.0).round() / 100.0,
+                sigma: (g.sigma * 100.0).round() / 100.0,
+                hydrogens: g.hydrogens(),
+                multiplicity: m.multiplicity.clone(),
+                j_hz: m.j.clone(),
+                atoms: view::bits(g.atoms).collect(),
+                exchangeable: g.exchangeable,
+                notes: if self.opts.notes {
+                    self.note_words(g, g.notes | m.notes)
+                } else {
+                    Vec::new()
+                },
+            })
+            .collect();
+        out.sort_by(|a, b| {
+            b.shift
+                .partial_cmp(&a.shift)
+                .unwrap_or(std::cmp::Ordering::Equal)
+                .then(a.atoms.cmp(&b.atoms))
+        });
+        out
+    }
+
+    fn note_words(&self, g: &Group, flags: u32) -> Vec<String> {
+        let solvent = &self.lib.solvents[self.opts.solvent].name;
+        let mut w = Vec::new();
+        let mut add = |bit: u32, text: String| {
+            if flags & bit != 0 {
+                w.push(text);
+            }
+        };
+        add(
+            note::EXCHANGEABLE,
+            format!("exchangeable H: broad, concentration-dependent, may be missing; does not couple in {solvent}"),
+        );
+        add(
+            note::EXCHANGE_COUPLES,
+            format!(
+                "exchangeable H: couples to neighbouring C-H in {solvent}; may be broad or missing"
+            ),
+        );
+        if let Method::Special(i) = g.method {
+            let e = &self.lib.environments[i];
+            add(
+                note::RANGE,
+                format!(
+                    "{}: handbook range {:.1}-{:.1} ppm",
+                    e.name.replace('_', " "),
+                    e.range.0,
+                    e.range.1
+                ),
+            );
+        }
+        add(
+            note::DIASTEREOTOPIC,
+            "diastereotopic CH2 (the molecule has a stereocentre): the two H may give two signals or a complex multiplet".into(),
+        );
+        add(
+            note::EZ_ASSUMED,
+            "E/Z not given: predicted for the isomer with the main substituents trans".into(),
+        );
+        add(
+            note::AMIDE_ROTAMER,
+            "slow rotation about the amide C-N bond: the two N-substituents give separate signals"
+                .into(),
+        );
+        add(
+            note::VINYL_PAIR,
+            "the two =CH2 hydrogens differ (cis/trans to the far substituent) and give separate signals".into(),
+        );
+        add(
+            note::MONO_RING,
+            "monosubstituted benzene ring: ortho, meta and para H often overlap as one 5H multiplet".into(),
+        );
+        add(
+            note::PARA_PAIR,
+            "para-disubstituted ring (AA'BB'): reported as two 2H doublets by common practice"
+                .into(),
+        );
+        add(
+            note::MAGNETIC,
+            "ring H equivalent by symmetry but coupled unequally to their partners: second-order pattern, reported as m".into(),
+        );
+        add(
+            note::RING_SP3,
+            "H on a saturated ring: unequal cis/trans couplings give a complex multiplet".into(),
+        );
+        add(
+            note::SECOND_ORDER,
+            format!(
+                "shift difference to a coupled group is under {:.0} x J at {:.0} MHz: not first order, reported as m",
+                self.lib.settings.first_order_min_ratio, self.opts.mhz
+            ),
+        );
+        add(
+            note::SHOOLERY,
+            "shift from Shoolery's rule (two or more functional groups on this carbon)".into(),
+        );
+        add(
+            note::UNKNOWN_SUBSTITUENT,
+            "a neighbouring group has no increment in the library: larger uncertainty".into(),
+        );
+        add(
+            note::FALLBACK,
+            "no increment rule covers this H: rough estimate from its hybridisation".into(),
+        );
+        w
+    }
+}
+
+#[cfg(test)]
+pub(crate) mod tests;

@@ -73,3 +73,15 @@ pub struct PredictedSignal {
     pub exchangeable: bool,
     pub notes: Vec<String>,
 }
+
+impl PredictedSignal {
+    /// The label as a chemist writes it: the multiplicity label, with an
+    /// uncoupled exchangeable H written "br s".
+    pub fn label(&self) -> String {
+        if self.exchangeable && self.multiplicity == Multiplicity::Singlet {
+            "br s".into()
+        } else {
+            self.multiplicity.label()
+        }
+    }
+}

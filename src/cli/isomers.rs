@@ -1,0 +1,89 @@
+//! `isomerank isomers FORMULA`: every constitutional isomer as canonical
+//! SMILES, one per line, or their number.
+
+use super::output;
+use crate::chem::Formula;
+use crate::enumerate::{self, rules::RuleSet, Options, Part};
+use std::io::Write;
+
+#[derive(clap::Args)]
+#[command(after_help = "Examples:
+  isomerank isomers C5H10O               every isomer, one SMILES a line
+  isomerank isomers C8H8O --count        just the number
+  isomerank isomers C9H10O --part 3/16   the 3rd of 16 disjoint shards
+  isomerank isomers C6H10O --plausible   apply every plausibility rule
+  isomerank isomers C6H10O --plausible=enol,peroxide
+
+Plausibility rules (the number each flags goes to stderr):
+  small-ring-triple, small-ring-cumulated, bredt, enol, peroxide")]
+pub struct Args {
+    /// Molecular formula, e.g. C8H10O or BrC3H7 (any element order).
+    pub formula: String,
+    /// Print only the number of isomers.
+    #[arg(long)]
+    pub count: bool,
+    /// Only shard K of N (1 <= K <= N); the N shards are disjoint and together
+    /// give every isomer.
+    #[arg(long, value_name = "K/N")]
+    pub part: Option<String>,
+    /// Apply plausibility rules: all, or a comma-separated list of names.
+    #[arg(long, value_name = "RULES", num_args = 0..=1, default_missing_value = "all")]
+    pub plausible: Option<String>,
+    /// Allow the expanded valences S(IV), S(VI) and P(V).
+    #[arg(long)]
+    pub expanded_valence: bool,
+}
+
+pub fn run(args: Args) -> crate::Result<()> {
+    let formula = Formula::parse(&args.formula)?;
+    let opts = Options {
+        expanded_valence: args.expanded_valence,
+        part: args.part.as_deref().map(Part::parse).transpose()?,
+        rules: match args.plausible.as_deref() {
+            Some(list) => RuleSet::parse(list)?,
+            None => RuleSet::none(),
+        },
+    };
+    // Check the formula before anything is written.
+    enumerate::problems(&formula, &opts)?;
+    let bar = output::task_bar(&format!("{formula}"));
+    let mut out = output::stdout();
+    let mut write_error = None;
+    let summary = if args.count {
+        enumerate::for_each_ordered(&formula, &opts, |_| Some(()), |_| true, &mut |p| {
+            output::update(&bar, p, "isomers")
+        })?
+    } else {
+        enumerate::for_each_ordered(
+            &formula,
+            &opts,
+            |iso| Some(iso.smiles()),
+            |s: String| match writeln!(out, "{s}") {
+                Ok(()) => true,
+                Err(e) => {
+                    write_error = Some(e);
+                    false
+                }
+            },
+            &mut |p| output::update(&bar, p, "isomers"),
+        )?
+    };
+    bar.finish_and_clear();
+    if let Some(e) = write_error {
+        return Err(e.into());
+    }
+    if args.count {
+        writeln!(out, "{}", summary.isomers)?;
+    }
+    out.flush()?;
+    if !opts.rules.is_empty() {
+        eprintln!(
+            "plausibility rules removed {} of {} isomers:",
+            summary.excluded, summary.generated
+        );
+        for (rule, n) in &summary.flagged {
+            eprintln!("  {:<22} flagged {n}", rule.name());
+        }
+    }
+    Ok(())
+}

@@ -1,0 +1,398 @@
+//! Coupling constants and first-order multiplicities.
+//!
+//! The n+1 rule (common practice): a group coupled to n equivalent H with
+//! one J shows n+1 lines with binomial intensities (Pascal's triangle);
+//! partners with clearly different J multiply, (n+1)(m+1) lines (dd, dt, td,
+//! qd, ...); partners whose J differ by less than `similar_j_hz` act as one
+//! set (an alkyl CH2 between CH3 and CH2 is a sextet). Couplings counted:
+//! vicinal H-C-C-H (three bonds), vinyl cis/trans, geminal =CH2, aromatic
+//! ortho/meta/para, aldehyde H to alpha-H, and HO-C-H / HN-C-H only in a
+//! solvent where the exchangeable H couples (DMSO-d6). Allylic and other
+//! long-range couplings are below the usual resolution and left out.
+//!
+//! Not first order, reported as m (common practice):
+//! - the shift difference in Hz to a coupled group is under
+//!   `first_order_min_ratio` times J at the given spectrometer frequency;
+//! - a ring whose symmetry-equivalent H couple unequally to a partner
+//!   (magnetic inequivalence: monosubstituted benzene, pyridine, o-xylene),
+//!   except the para-disubstituted AA'BB' ring, reported as two 2H doublets;
+//! - H on a saturated ring coupled to other ring H (unequal cis/trans J).
+
+use super::library::CouplingKind;
+use super::shift::Place;
+use super::view::{bits, DOUBLE, TRIPLE};
+use super::{note, Ctx, Group, Method, Mult, Multiplicity};
+use crate::chem::Element;
+
+/// One coupling of a group's representative H to a partner H set.
+#[derive(Clone, Copy, Debug)]
+struct Cpl {
+    atom: u8,
+    group: u8,
+    count: u8,
+    j: f64,
+}
+
+const MAX_CPL: usize = 32;
+const NONE: u8 = u8::MAX;
+
+impl Ctx<'_> {
+    pub(super) fn multiplicities(&mut self, groups: &[Group]) -> Vec<Mult> {
+        // Group index per (atom, slot 1/2); unsplit atoms have both equal.
+        let mut gid = [[NONE; 2]; super::view::MAX_ATOMS];
+        for (i, g) in groups.iter().enumerate() {
+            for a in bits(g.atoms) {
+                match g.slot {
+                    0 => gid[a] = [i as u8; 2],
+                    s => gid[a][s as usize - 1] = i as u8,
+                }
+            }
+        }
+        let set = &self.lib.settings;
+        let (resolved, similar, min_ratio) = (
+            set.resolved_min_hz,
+            set.similar_j_hz,
+            set.first_order_min_ratio,
+        );
+        let mut out = Vec::with_capacity(groups.len());
+        for (gi, g) in groups.iter().enumerate() {
+            let mut cpl = [Cpl {
+                atom: 0,
+                group: 0,
+                count: 0,
+                j: 0.0,
+            }; MAX_CPL];
+            let mut nc = 0;
+            self.couplings(g.rep, g.slot, &gid, &mut cpl, &mut nc);
+            let mut notes = 0;
+            let mut second_order = false;
+            // Keep resolved couplings to other groups.
+            let mut kept = [Cpl {
+                atom: 0,
+                group: 0,
+                count: 0,
+                j: 0.0,
+            }; MAX_CPL];
+            let mut nk = 0;
+            for c in &cpl[..nc] {
+                if c.group == gi as u8 || c.group == NONE || c.j < resolved {
+                    continue;
+                }
+                let p = &groups[c.group as usize];
+                let dv = (g.shift - p.shift).abs() * self.opts.mhz;
+                if dv < min_ratio * c.j {
+                    second_order = true;
+                }
+                kept[nk] = *c;
+                nk += 1;
+            }
+            if second_order {
+                notes |= note::SECOND_ORDER;
+            }
+            // Saturated ring H coupled to other ring H.
+            let a = g.rep;
+            if self.v.hyb[a] == 3 && self.v.in_ring(a) {
+                let ring_partner = kept[..nk].iter().any(|c| {
+                    let b = c.atom as usize;
+                    self.v.hyb[b] == 3
+                        && self.v.rings[..self.v.nrings]
+                            .iter()
+                            .any(|&r| r >> a & 1 == 1 && r >> b & 1 == 1)
+                });
+                if ring_partner {
+                    notes |= note::RING_SP3;
+                }
+            }
+            let multiplicity;
+            let mut j = Vec::new();
+            if notes & (note::SECOND_ORDER | note::RING_SP3) != 0 {
+                multiplicity = Multiplicity::Multiplet;
+            } else if nk == 0 {
+                multiplicity = Multiplicity::Singlet;
+            } else {
+                let (m, js) = merge(&mut kept[..nk], similar);
+                multiplicity = m;
+                j = js;
+            }
+            out.push(Mult {
+                multiplicity,
+                j,
+                notes,
+            });
+        }
+        self.aromatic_systems(groups, &mut out);
+        out
+    }
+
+    /// Aromatic rings whose equivalent H are magnetically inequivalent:
+    /// AA'XX' para pairs become two doublets, everything else m.
+    fn aromatic_systems(&mut self, groups: &[Group], out: &mut [Mult]) {
+        let mut done_rings = 0u64; // by representative ring's lowest atom
+        for g in groups {
+            if !matches!(g.method, Method::Benzene | Method::Hetero) {
+                continue;
+            }
+            let Some(r) = self.v.aromatic_ring_of(g.rep) else {
+                continue;
+            };
+            let key = r.trailing_zeros();
+            if done_rings >> key & 1 == 1 {
+                continue;
+            }
+            done_rings |= 1u64 << key;
+            let members: Vec<usize> = groups
+                .iter()
+                .enumerate()
+                .filter(|(_, h)| {
+                    r >> h.rep & 1 == 1 && matches!(h.method, Method::Benzene | Method::Hetero)
+                })
+                .map(|(i, _)| i)
+                .collect();
+            let ring_h: u64 = bits(r)
+                .filter(|&x| self.v.h[x] > 0)
+                .fold(0, |m, x| m | 1u64 << x);
+            let inequivalent = members.iter().any(|&i| {
+                let h = &groups[i];
+                let rep = h.rep;
+                bits(h.atoms & r & !(1u64 << rep)).any(|x| {
+                    bits(ring_h & !h.atoms).any(|y| {
+                        (self.aromatic_j(r, rep, y) - self.aromatic_j(r, x, y)).abs() > 0.05
+                    })
+                })
+            });
+            if !inequivalent {
+                continue;
+            }
+            let para_pair = r.count_ones() == 6
+                && members.len() == 2
+                && members
+                    .iter()
+                    .all(|&i| (groups[i].atoms & r).count_ones() == 2)
+                && ring_h.count_ones() == 4;
+            if para_pair {
+                let (g1, g2) = (&groups[members[0]], &groups[members[1]]);
+                let jo = self.lib.j(CouplingKind::AromaticOrtho);
+                let jpair = bits(g2.atoms & r)
+                    .map(|y| self.aromatic_j(r, g1.rep, y))
+                    .fold(0.0, f64::max)
+                    .max(f64::MIN_POSITIVE);
+                let dv = (g1.shift - g2.shift).abs() * self.opts.mhz;
+                let j = if jpair > 0.0 { jpair } else { jo };
+                let ok = dv >= self.lib.settings.para_pair_min_ratio * j;
+                for &i in &members {
+                    let m = &mut out[i];
+                    m.notes &= !note::SECOND_ORDER;
+                    if ok {
+                        m.multiplicity = Multiplicity::Coupled(vec![1]);
+                        m.j = vec![round1(j)];
+                        m.notes |= note::PARA_PAIR;
+                    } else {
+                        m.multiplicity = Multiplicity::Multiplet;
+                        m.j.clear();
+                        m.notes |= note::SECOND_ORDER;
+                    }
+                }
+            } else {
+                for &i in &members {
+                    let m = &mut out[i];
+                    m.multiplicity = Multiplicity::Multiplet;
+                    m.j.clear();
+                    m.notes |= note::MAGNETIC;
+                }
+            }
+        }
+    }
+
+    /// J between the H on aromatic ring atoms `a` and `y` of ring `r`.
+    fn aromatic_j(&self, r: u64, a: usize, y: usize) -> f64 {
+        let d = self.v.ring_distance(r, a, y);
+        let size = r.count_ones();
+        let hetero: u64 = bits(r)
+            .filter(|&x| self.v.element[x] != Element::C)
+            .fold(0, |m, x| m | 1u64 << x);
+        if hetero != 0 {
+            if let (Some((t, pa)), Some((_, py))) = (
+                self.hetero_template(r, hetero, a),
+                self.hetero_template(r, hetero, y),
+            ) {
+                let (lo, hi) = (pa.min(py) as u8, pa.max(py) as u8);
+                if let Some(c) = t
+                    .couplings
+                    .iter()
+                    .find(|c| c.0 == lo && c.1 == hi && c.2 == d as u8)
+                {
+                    return c.3;
+                }
+            }
+            if size == 5 {
+                return if d == 1 {
+                    self.lib.j(CouplingKind::AromaticOther)
+                } else {
+                    0.0
+                };
+            }
+        }
+        match d {
+            1 => self.lib.j(CouplingKind::AromaticOrtho),
+            2 => self.lib.j(CouplingKind::AromaticMeta),
+            3 => self.lib.j(CouplingKind::AromaticPara),
+            _ => 0.0,
+        }
+    }
+
+    /// Couplings of one H of atom `a` (slot as in [`Group::slot`]).
+    fn couplings(
+        &mut self,
+        a: usize,
+        slot: u8,
+        gid: &[[u8; 2]; 64],
+        out: &mut [Cpl; MAX_CPL],
+        n: &mut usize,
+    ) {
+        let mut push = |atom: usize, group: u8, count: u8, j: f64, n: &mut usize| {
+            if *n < MAX_CPL && count > 0 {
+                out[*n] = Cpl {
+                    atom: atom as u8,
+                    group,
+                    count,
+                    j,
+                };
+                *n += 1;
+            }
+        };
+        if self.v.is_aromatic(a) {
+            if let Some(r) = self.v.aromatic_ring_of(a) {
+                for y in bits(r & !(1u64 << a)) {
+                    if self.v.h[y] > 0 {
+                        let j = self.aromatic_j(r, a, y);
+                        push(y, gid[y][0], self.v.h[y], j, n);
+                    }
+                }
+            }
+            return;
+        }
+        for k in 0..self.v.deg[a] as usize {
+            let b = self.v.nbr[a][k] as usize;
+            let kind = self.v.bond[a][k];
+            if self.v.h[b] == 0 || kind == TRIPLE {
+                continue;
+            }
+            if kind == DOUBLE && self.alkene_partner(a) == Some(b) {
+                let (p1, p2, _) = self.alkene_places(a, b);
+                let i = Self::h_place(&p1, slot);
+                let split = self.vinyl_pair(b).is_some();
+                let ring = self.v.rings[..self.v.nrings]
+                    .iter()
+                    .any(|&r| r >> a & 1 == 1 && r >> b & 1 == 1);
+                for (jdx, p) in p2.iter().enumerate() {
+                    if *p != Place::H {
+                        continue;
+                    }
+                    let group = if split { gid[b][jdx] } else { gid[b][0] };
+                    let kind = match (i == jdx, ring) {
+                        (true, true) => CouplingKind::VinylCisRing,
+                        (true, false) => CouplingKind::VinylCis,
+                        _ => CouplingKind::VinylTrans,
+                    };
+                    push(b, group, 1, self.lib.j(kind), n);
+                }
+                continue;
+            }
+            if kind == DOUBLE {
+                continue;
+            }
+            if let Some(kind) = self.vicinal_kind(a, b) {
+                push(b, gid[b][0], self.v.h[b], self.lib.j(kind), n);
+            }
+        }
+        if slot != 0 {
+            let other = gid[a][2 - slot as usize];
+            push(a, other, 1, self.lib.j(CouplingKind::GeminalSp2), n);
+        }
+    }
+
+    /// The kind of the three-bond coupling H-a-b-H over a single bond.
+    fn vicinal_kind(&self, a: usize, b: usize) -> Option<CouplingKind> {
+        let v = &self.v;
+        let (ea, eb) = (v.element[a], v.element[b]);
+        if ea != Element::C || eb != Element::C {
+            if ea != Element::C && eb != Element::C {
+                return None;
+            }
+            let x = if ea != Element::C { a } else { b };
+            let env = self.env[x] as usize;
+            if env == 0 {
+                return None;
+            }
+            let env = env - 1;
+            let solvent = &self.lib.solvents[self.opts.solvent];
+            if !solvent.couples.contains(&env) {
+                return None;
+            }
+            return match v.element[x] {
+                Element::O => Some(CouplingKind::HydroxylCh),
+                Element::N => Some(CouplingKind::AmideNhCh),
+                _ => None,
+            };
+        }
+        let carbonyl = |c: usize| {
+            v.neighbours(c)
+                .any(|(o, k)| k == DOUBLE && v.element[o] == Element::O)
+        };
+        let (ha, hb) = (v.hyb[a], v.hyb[b]);
+        if ha == 1 || hb == 1 {
+            return None;
+        }
+        if carbonyl(a) || carbonyl(b) {
+            let other = if carbonyl(a) { b } else { a };
+            return Some(if v.hyb[other] == 3 {
+                CouplingKind::AldehydeSp3
+            } else {
+                CouplingKind::AldehydeSp2
+            });
+        }
+        Some(match (ha, hb) {
+            (3, 3) => CouplingKind::VicinalSp3,
+            (2, 2) => CouplingKind::VicinalSp2Sp2,
+            _ => CouplingKind::VicinalSp3Sp2,
+        })
+    }
+}
+
+/// Merge couplings with similar J (within `similar` Hz of the cluster's
+/// largest J) and build the multiplicity, largest J first.
+fn merge(c: &mut [Cpl], similar: f64) -> (Multiplicity, Vec<f64>) {
+    c.sort_by(|x, y| y.j.partial_cmp(&x.j).unwrap_or(std::cmp::Ordering::Equal));
+    let mut ns: Vec<u8> = Vec::new();
+    let mut js: Vec<f64> = Vec::new();
+    let mut first = f64::NAN;
+    let mut sum = 0.0;
+    let mut cnt = 0u32;
+    for x in c.iter() {
+        if cnt > 0 && first - x.j <= similar {
+            sum += x.j * x.count as f64;
+            cnt += x.count as u32;
+            continue;
+        }
+        if cnt > 0 {
+            ns.push(cnt.min(255) as u8);
+            js.push(round1(sum / cnt as f64));
+        }
+        first = x.j;
+        sum = x.j * x.count as f64;
+        cnt = x.count as u32;
+    }
+    if cnt > 0 {
+        ns.push(cnt.min(255) as u8);
+        js.push(round1(sum / cnt as f64));
+    }
+    let m = Multiplicity::Coupled(ns);
+    if m.label() == "m" || js.len() > 3 {
+        return (Multiplicity::Multiplet, Vec::new());
+    }
+    (m, js)
+}
+
+fn round1(x: f64) -> f64 {
+    (x * 10.0).round() / 10.0
+}

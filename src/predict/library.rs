@@ -1,0 +1,958 @@
+//! The fragment library: increment tables, coupling constants, solvents and
+//! the rooted patterns that name substituent classes, read from the TOML
+//! files of `fragment-library/` and compiled once into flat lookup tables.
+//!
+//! The files are embedded in the binary (`include_str!`); a folder given with
+//! `--library DIR` replaces any file it holds (same file name), so a user can
+//! extend or correct a table without rebuilding. Every row must carry a
+//! `source`; a row without one, an unknown class name, or a pattern that does
+//! not parse is a load error naming the file and the entry.
+//!
+//! Compilation resolves each class's fallback chain (`parent`) against each
+//! table once, so that the hot path looks a substituent up by index.
+
+use super::pattern::Pattern;
+use crate::error::{Error, Result};
+use serde::Deserialize;
+use std::path::Path;
+
+/// The library files, by name, with their embedded text.
+pub const FILES: [(&str, &str); 9] = [
+    (
+        "substituents.toml",
+        include_str!("../../fragment-library/substituents.toml"),
+    ),
+    ("sp3.toml", include_str!("../../fragment-library/sp3.toml")),
+    (
+        "alkene.toml",
+        include_str!("../../fragment-library/alkene.toml"),
+    ),
+    (
+        "benzene.toml",
+        include_str!("../../fragment-library/benzene.toml"),
+    ),
+    (
+        "heteroaromatic.toml",
+        include_str!("../../fragment-library/heteroaromatic.toml"),
+    ),
+    (
+        "special.toml",
+        include_str!("../../fragment-library/special.toml"),
+    ),
+    (
+        "couplings.toml",
+        include_str!("../../fragment-library/couplings.toml"),
+    ),
+    (
+        "solvents.toml",
+        include_str!("../../fragment-library/solvents.toml"),
+    ),
+    (
+        "README.md",
+        include_str!("../../fragment-library/README.md"),
+    ),
+];
+
+/// Kinds of H-H coupling the library gives a J for.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum CouplingKind {
+    VicinalSp3,
+    VicinalSp3Sp2,
+    VicinalSp2Sp2,
+    VinylCis,
+    VinylTrans,
+    VinylCisRing,
+    GeminalSp2,
+    AromaticOrtho,
+    AromaticMeta,
+    AromaticPara,
+    AromaticOther,
+    AldehydeSp3,
+    AldehydeSp2,
+    Allylic,
+    HydroxylCh,
+    AmideNhCh,
+}
+
+impl CouplingKind {
+    pub const ALL: [(CouplingKind, &'static str); 16] = [
+        (CouplingKind::VicinalSp3, "vicinal_sp3"),
+        (CouplingKind::VicinalSp3Sp2, "vicinal_sp3_sp2"),
+        (CouplingKind::VicinalSp2Sp2, "vicinal_sp2_sp2"),
+        (CouplingKind::VinylCis, "vinyl_cis"),
+        (CouplingKind::VinylTrans, "vinyl_trans"),
+        (CouplingKind::VinylCisRing, "vinyl_cis_ring"),
+        (CouplingKind::GeminalSp2, "geminal_sp2"),
+        (CouplingKind::AromaticOrtho, "aromatic_ortho"),
+        (CouplingKind::AromaticMeta, "aromatic_meta"),
+        (CouplingKind::AromaticPara, "aromatic_para"),
+        (CouplingKind::AromaticOther, "aromatic_other"),
+        (CouplingKind::AldehydeSp3, "aldehyde_sp3"),
+        (CouplingKind::AldehydeSp2, "aldehyde_sp2"),
+        (CouplingKind::Allylic, "allylic"),
+        (CouplingKind::HydroxylCh, "hydroxyl_ch"),
+        (CouplingKind::AmideNhCh, "amide_nh_ch"),
+    ];
+}
+
+/// Index of a substituent class in [`Library::classes`].
+pub type ClassId = u8;
+
+pub struct Class {
+    pub name: String,
+    pub pattern: Pattern,
+    pub parent: Option<ClassId>,
+}
+
+pub struct Sp3Table {
+    pub methyl: f64,
+    pub methylene: f64,
+    pub methine: f64,
+    pub methane: f64,
+    /// Beauchamp-Marquez (alpha, beta, gamma) per class, parents resolved.
+    pub abg: Vec<Option<[f64; 3]>>,
+    /// Shoolery constant per class, parents resolved.
+    pub shoolery: Vec<Option<f64>>,
+    /// Direct CH3-X shift per class (no parent fallback: exact group only).
+    pub methyl_direct: Vec<Option<f64>>,
+    pub shoolery_alkyl: f64,
+    /// Ring correction by ring size (index = size).
+    pub ring: [Option<f64>; 9],
+    pub sigma: f64,
+    pub sigma_per_extra_alpha: f64,
+    pub sigma_methyl_direct: f64,
+    pub sigma_unknown: f64,
+}
+
+pub struct IncrementTable {
+    pub base: f64,
+    pub sigma: f64,
+    pub sigma_unknown: f64,
+    pub sigma_per_extra: f64,
+    /// Three increments per class (alkene: gem, cis, trans; benzene:
+    /// ortho, meta, para), parents resolved.
+    pub z: Vec<Option<[f64; 3]>>,
+    /// Alkene only: the endocyclic alkyl row.
+    pub alkyl_ring: Option<[f64; 3]>,
+}
+
+pub struct HeteroRing {
+    pub name: String,
+    pub size: usize,
+    /// Ring heteroatom as an element with the aromatic flag.
+    pub heteroatom: crate::chem::Element,
+    pub sigma: f64,
+    /// Shift per position (index = position number).
+    pub shift: [Option<f64>; 5],
+    /// (low position, high position, ring distance, J)
+    pub couplings: Vec<(u8, u8, u8, f64)>,
+}
+
+pub struct HeteroTable {
+    pub rings: Vec<HeteroRing>,
+    pub generic_shift: f64,
+    pub generic_sigma: f64,
+    pub substituted_extra_sigma: f64,
+}
+
+pub struct Environment {
+    pub name: String,
+    pub pattern: Pattern,
+    pub shift: f64,
+    pub sigma: f64,
+    pub range: (f64, f64),
+    pub exchangeable: bool,
+}
+
+pub struct Solvent {
+    pub name: String,
+    pub aliases: Vec<String>,
+    pub residual: f64,
+    pub water: f64,
+    /// Environment indices whose H couple in this solvent.
+    pub couples: Vec<usize>,
+    /// (environment index, shift, sigma)
+    pub exchange_shift: Vec<(usize, f64, f64)>,
+}
+
+pub struct CouplingSettings {
+    pub resolved_min_hz: f64,
+    pub similar_j_hz: f64,
+    pub first_order_min_ratio: f64,
+    pub para_pair_min_ratio: f64,
+}
+
+/// The compiled library.
+pub struct Library {
+    pub classes: Vec<Class>,
+    pub sp3: Sp3Table,
+    pub alkene: IncrementTable,
+    pub benzene: IncrementTable,
+    pub hetero: HeteroTable,
+    pub environments: Vec<Environment>,
+    pub fallback: [(f64, f64); 4],
+    pub j: [f64; 16],
+    pub settings: CouplingSettings,
+    pub solvents: Vec<Solvent>,
+}
+
+// ---- file schemas ----
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct ClassesFile {
+    class: Vec<ClassRow>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct ClassRow {
+    name: String,
+    pattern: String,
+    parent: Option<String>,
+    source: String,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct Sourced<T> {
+    #[serde(alias = "shift")]
+    value: T,
+    source: String,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct Sp3File {
+    base: Sp3Base,
+    substituent: Vec<AbgRow>,
+    shoolery: Vec<ShooleryRow>,
+    methyl: Vec<MethylRow>,
+    ring: Vec<RingRow>,
+    sigma: Sp3Sigma,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct Sp3Base {
+    methyl: Sourced<f64>,
+    methylene: Sourced<f64>,
+    methine: Sourced<f64>,
+    methane: Sourced<f64>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct Sp3Sigma {
+    additive: Sourced<f64>,
+    per_extra_alpha: Sourced<f64>,
+    methyl_direct: Sourced<f64>,
+    unknown_substituent: Sourced<f64>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct AbgRow {
+    class: String,
+    alpha: f64,
+    beta: f64,
+    gamma: f64,
+    source: String,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct ShooleryRow {
+    class: String,
+    constant: f64,
+    source: String,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct MethylRow {
+    class: String,
+    shift: f64,
+    source: String,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RingRow {
+    size: usize,
+    correction: f64,
+    source: String,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct AlkeneFile {
+    base: Sourced<f64>,
+    sigma: Sourced<f64>,
+    unknown_substituent_sigma: Sourced<f64>,
+    substituent: Vec<AlkeneRow>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct AlkeneRow {
+    class: String,
+    gem: f64,
+    cis: f64,
+    trans: f64,
+    source: String,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct BenzeneFile {
+    base: Sourced<f64>,
+    sigma: Sourced<f64>,
+    per_extra_substituent: Sourced<f64>,
+    unknown_substituent_sigma: Sourced<f64>,
+    substituent: Vec<BenzeneRow>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct BenzeneRow {
+    class: String,
+    ortho: f64,
+    meta: f64,
+    para: f64,
+    source: String,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct HeteroFile {
+    substituted_extra_sigma: Sourced<f64>,
+    generic: HeteroGeneric,
+    ring: Vec<HeteroRingRow>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct HeteroGeneric {
+    shift: f64,
+    sigma: f64,
+    source: String,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct HeteroRingRow {
+    name: String,
+    size: usize,
+    heteroatom: String,
+    sigma: f64,
+    positions: Vec<PositionRow>,
+    source: String,
+    coupling: Vec<HeteroCouplingRow>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct PositionRow {
+    position: usize,
+    shift: f64,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct HeteroCouplingRow {
+    positions: [u8; 2],
+    distance: u8,
+    j: f64,
+    source: String,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct SpecialFile {
+    environment: Vec<EnvRow>,
+    fallback: FallbackRows,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct EnvRow {
+    name: String,
+    pattern: String,
+    shift: f64,
+    sigma: f64,
+    range: [f64; 2],
+    exchangeable: bool,
+    source: String,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct FallbackRows {
+    sp3: FallbackRow,
+    sp2: FallbackRow,
+    sp: FallbackRow,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct FallbackRow {
+    shift: f64,
+    sigma: f64,
+    source: String,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct CouplingFile {
+    coupling: Vec<CouplingRow>,
+    settings: SettingsRows,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct CouplingRow {
+    kind: String,
+    j: f64,
+    range: [f64; 2],
+    source: String,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct SettingsRows {
+    resolved_min_hz: Sourced<f64>,
+    similar_j_hz: Sourced<f64>,
+    first_order_min_ratio: Sourced<f64>,
+    para_pair_min_ratio: Sourced<f64>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct SolventFile {
+    solvent: Vec<SolventRow>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct SolventRow {
+    name: String,
+    aliases: Vec<String>,
+    residual: f64,
+    water: f64,
+    couples: Vec<String>,
+    source: String,
+    #[serde(default)]
+    exchange_shift: Vec<ExchangeRow>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct ExchangeRow {
+    environment: String,
+    shift: f64,
+    sigma: f64,
+    source: String,
+}
+
+/// Reads library files: the embedded copy, or a replacement from a folder.
+struct Reader<'a> {
+    dir: Option<&'a Path>,
+}
+
+impl Reader<'_> {
+    fn text(&self, name: &str) -> Result<String> {
+        if let Some(dir) = self.dir {
+            let p = dir.join(name);
+            if p.exists() {
+                return std::fs::read_to_string(&p)
+                    .map_err(|e| Error::input(format!("cannot read {}: {e}", p.display())));
+            }
+        }
+        let (_, t) = FILES
+            .iter()
+            .find(|(n, _)| *n == name)
+            .expect("library file is embedded");
+        Ok(t.to_string())
+    }
+
+    fn parse<T: serde::de::DeserializeOwned>(&self, name: &str) -> Result<T> {
+        let text = self.text(name)?;
+        toml::from_str(&text).map_err(|e| Error::input(format!("fragment library {name}: {e}")))
+    }
+}
+
+fn need_source(file: &str, entry: &str, s: &str) -> Result<()> {
+    if s.trim().is_empty() {
+        return Err(Error::input(format!(
+            "fragment library {file}: entry {entry} has an empty source; every row needs a citation, \"common practice\" or \"from memory\""
+        )));
+    }
+    Ok(())
+}
+
+impl Library {
+    /// The library compiled from the files embedded in the binary.
+    pub fn embedded() -> Result<Library> {
+        Library::load(Reader { dir: None })
+    }
+
+    /// The embedded library with any file present in `dir` replacing its
+    /// embedded namesake.
+    pub fn from_dir(dir: &Path) -> Result<Library> {
+        if !dir.is_dir() {
+            return Err(Error::input(format!(
+                "--library {}: not a folder (give a folder holding fragment-library TOML files)",
+                dir.display()
+            )));
+        }
+        Library::load(Reader { dir: Some(dir) })
+    }
+
+    fn load(r: Reader) -> Result<Library> {
+        let cf: ClassesFile = r.parse("substituents.toml")?;
+        let mut classes: Vec<Class> = Vec::new();
+        for (i, row) in cf.class.iter().enumerate() {
+            need_source("substituents.toml", &row.name, &row.source)?;
+            let pattern = Pattern::parse(&row.pattern).map_err(|e| {
+                Error::input(format!(
+                    "fragment library substituents.toml: class {}: {e}",
+                    row.name
+                ))
+            })?;
+            if classes.iter().any(|c| c.name == row.name) {
+                return Err(Error::input(format!(
+                    "fragment library substituents.toml: class {} defined twice (entry {})",
+                    row.name,
+                    i + 1
+                )));
+            }
+            classes.push(Class {
+                name: row.name.clone(),
+                pattern,
+                parent: None,
+            });
+        }
+        if classes.len() > 250 {
+            return Err(Error::input(
+                "fragment library substituents.toml: at most 250 classes",
+            ));
+        }
+        for row in &cf.class {
+            if let Some(p) = &row.parent {
+                let pid = class_id(&classes, "substituents.toml", p)?;
+                let me = class_id(&classes, "substituents.toml", &row.name)?;
+                classes[me as usize].parent = Some(pid);
+            }
+        }
+        // Parent chains must end (no cycles).
+        for (i, _) in classes.iter().enumerate() {
+            let mut c = Some(i as ClassId);
+            let mut steps = 0;
+            while let Some(x) = c {
+                c = classes[x as usize].parent;
+                steps += 1;
+                if steps > classes.len() {
+                    return Err(Error::input(format!(
+                        "fragment library substituents.toml: the parent chain of {} loops",
+                        classes[i].name
+                    )));
+                }
+            }
+        }
+        let nc = classes.len();
+
+        // sp3
+        let f: Sp3File = r.parse("sp3.toml")?;
+        let file = "sp3.toml";
+        for (k, s) in [
+            ("base.methyl", &f.base.methyl.source),
+            ("base.methylene", &f.base.methylene.source),
+            ("base.methine", &f.base.methine.source),
+            ("base.methane", &f.base.methane.source),
+            ("sigma.additive", &f.sigma.additive.source),
+            ("sigma.per_extra_alpha", &f.sigma.per_extra_alpha.source),
+            ("sigma.methyl_direct", &f.sigma.methyl_direct.source),
+            (
+                "sigma.unknown_substituent",
+                &f.sigma.unknown_substituent.source,
+            ),
+        ] {
+            need_source(file, k, s)?;
+        }
+        let mut abg = vec![None; nc];
+        for row in &f.substituent {
+            need_source(file, &row.class, &row.source)?;
+            abg[class_id(&classes, file, &row.class)? as usize] =
+                Some([row.alpha, row.beta, row.gamma]);
+        }
+        let mut shoolery = vec![None; nc];
+        let mut shoolery_alkyl = None;
+        for row in &f.shoolery {
+            need_source(file, &row.class, &row.source)?;
+            shoolery[class_id(&classes, file, &row.class)? as usize] = Some(row.constant);
+            if row.class == "alkyl" {
+                shoolery_alkyl = Some(row.constant);
+            }
+        }
+        let mut methyl_direct = vec![None; nc];
+        for row in &f.methyl {
+            need_source(file, &row.class, &row.source)?;
+            methyl_direct[class_id(&classes, file, &row.class)? as usize] = Some(row.shift);
+        }
+        let mut ring = [None; 9];
+        for row in &f.ring {
+            need_source(file, &format!("ring size {}", row.size), &row.source)?;
+            if !(3..=8).contains(&row.size) {
+                return Err(Error::input(format!(
+                    "fragment library {file}: ring size {} (3-8 only)",
+                    row.size
+                )));
+            }
+            ring[row.size] = Some(row.correction);
+        }
+        let sp3 = Sp3Table {
+            methyl: f.base.methyl.value,
+            methylene: f.base.methylene.value,
+            methine: f.base.methine.value,
+            methane: f.base.methane.value,
+            abg: resolve(&classes, &abg),
+            shoolery: resolve(&classes, &shoolery),
+            methyl_direct,
+            shoolery_alkyl: shoolery_alkyl.ok_or_else(|| {
+                Error::input(format!(
+                    "fragment library {file}: needs a [[shoolery]] row for class alkyl"
+                ))
+            })?,
+            ring,
+            sigma: f.sigma.additive.value,
+            sigma_per_extra_alpha: f.sigma.per_extra_alpha.value,
+            sigma_methyl_direct: f.sigma.methyl_direct.value,
+            sigma_unknown: f.sigma.unknown_substituent.value,
+        };
+
+        // alkene
+        let f: AlkeneFile = r.parse("alkene.toml")?;
+        let file = "alkene.toml";
+        need_source(file, "base", &f.base.source)?;
+        need_source(file, "sigma", &f.sigma.source)?;
+        need_source(
+            file,
+            "unknown_substituent_sigma",
+            &f.unknown_substituent_sigma.source,
+        )?;
+        let mut z = vec![None; nc];
+        let mut alkyl_ring = None;
+        for row in &f.substituent {
+            need_source(file, &row.class, &row.source)?;
+            let v = [row.gem, row.cis, row.trans];
+            if row.class == "alkyl_ring" {
+                alkyl_ring = Some(v);
+            } else {
+                z[class_id(&classes, file, &row.class)? as usize] = Some(v);
+            }
+        }
+        let alkene = IncrementTable {
+            base: f.base.value,
+            sigma: f.sigma.value,
+            sigma_unknown: f.unknown_substituent_sigma.value,
+            sigma_per_extra: 0.0,
+            z: resolve(&classes, &z),
+            alkyl_ring,
+        };
+
+        // benzene
+        let f: BenzeneFile = r.parse("benzene.toml")?;
+        let file = "benzene.toml";
+        need_source(file, "base", &f.base.source)?;
+        need_source(file, "sigma", &f.sigma.source)?;
+        need_source(
+            file,
+            "per_extra_substituent",
+            &f.per_extra_substituent.source,
+        )?;
+        need_source(
+            file,
+            "unknown_substituent_sigma",
+            &f.unknown_substituent_sigma.source,
+        )?;
+        let mut z = vec![None; nc];
+        for row in &f.substituent {
+            need_source(file, &row.class, &row.source)?;
+            z[class_id(&classes, file, &row.class)? as usize] =
+                Some([row.ortho, row.meta, row.para]);
+        }
+        let benzene = IncrementTable {
+            base: f.base.value,
+            sigma: f.sigma.value,
+            sigma_unknown: f.unknown_substituent_sigma.value,
+            sigma_per_extra: f.per_extra_substituent.value,
+            z: resolve(&classes, &z),
+            alkyl_ring: None,
+        };
+
+        // heteroaromatic
+        let f: HeteroFile = r.parse("heteroaromatic.toml")?;
+        let file = "heteroaromatic.toml";
+        need_source(
+            file,
+            "substituted_extra_sigma",
+            &f.substituted_extra_sigma.source,
+        )?;
+        need_source(file, "generic", &f.generic.source)?;
+        let mut rings = Vec::new();
+        for row in &f.ring {
+            need_source(file, &row.name, &row.source)?;
+            let heteroatom = match row.heteroatom.as_str() {
+                "n" => crate::chem::Element::N,
+                "o" => crate::chem::Element::O,
+                "s" => crate::chem::Element::S,
+                other => {
+                    return Err(Error::input(format!(
+                        "fragment library {file}: ring {}: heteroatom \"{other}\" (use n, o or s)",
+                        row.name
+                    )))
+                }
+            };
+            if row.size != 5 && row.size != 6 {
+                return Err(Error::input(format!(
+                    "fragment library {file}: ring {}: size 5 or 6",
+                    row.name
+                )));
+            }
+            let mut shift = [None; 5];
+            for p in &row.positions {
+                if !(2..=4).contains(&p.position) {
+                    return Err(Error::input(format!(
+                        "fragment library {file}: ring {}: position {} (2-4)",
+                        row.name, p.position
+                    )));
+                }
+                shift[p.position] = Some(p.shift);
+            }
+            let mut couplings = Vec::new();
+            for c in &row.coupling {
+                need_source(file, &format!("{} coupling", row.name), &c.source)?;
+                let (a, b) = (
+                    c.positions[0].min(c.positions[1]),
+                    c.positions[0].max(c.positions[1]),
+                );
+                couplings.push((a, b, c.distance, c.j));
+            }
+            rings.push(HeteroRing {
+                name: row.name.clone(),
+                size: row.size,
+                heteroatom,
+                sigma: row.sigma,
+                shift,
+                couplings,
+            });
+        }
+        let hetero = HeteroTable {
+            rings,
+            generic_shift: f.generic.shift,
+            generic_sigma: f.generic.sigma,
+            substituted_extra_sigma: f.substituted_extra_sigma.value,
+        };
+
+        // special environments
+        let f: SpecialFile = r.parse("special.toml")?;
+        let file = "special.toml";
+        let mut environments = Vec::new();
+        for row in &f.environment {
+            need_source(file, &row.name, &row.source)?;
+            let pattern = Pattern::parse(&row.pattern).map_err(|e| {
+                Error::input(format!(
+                    "fragment library {file}: environment {}: {e}",
+                    row.name
+                ))
+            })?;
+            environments.push(Environment {
+                name: row.name.clone(),
+                pattern,
+                shift: row.shift,
+                sigma: row.sigma,
+                range: (row.range[0], row.range[1]),
+                exchangeable: row.exchangeable,
+            });
+        }
+        for (k, fr) in [
+            ("sp3", &f.fallback.sp3),
+            ("sp2", &f.fallback.sp2),
+            ("sp", &f.fallback.sp),
+        ] {
+            need_source(file, &format!("fallback.{k}"), &fr.source)?;
+        }
+        let fallback = [
+            (f.fallback.sp3.shift, f.fallback.sp3.sigma),
+            (f.fallback.sp.shift, f.fallback.sp.sigma),
+            (f.fallback.sp2.shift, f.fallback.sp2.sigma),
+            (f.fallback.sp3.shift, f.fallback.sp3.sigma),
+        ];
+
+        // couplings
+        let f: CouplingFile = r.parse("couplings.toml")?;
+        let file = "couplings.toml";
+        let mut j = [f64::NAN; 16];
+        for row in &f.coupling {
+            need_source(file, &row.kind, &row.source)?;
+            let Some(pos) = CouplingKind::ALL.iter().position(|(_, n)| *n == row.kind) else {
+                let known: Vec<_> = CouplingKind::ALL.iter().map(|(_, n)| *n).collect();
+                return Err(Error::input(format!(
+                    "fragment library {file}: unknown coupling kind \"{}\" (known: {})",
+                    row.kind,
+                    known.join(", ")
+                )));
+            };
+            if row.range[0] > row.j || row.j > row.range[1] {
+                return Err(Error::input(format!(
+                    "fragment library {file}: {}: J {} outside its range {:?}",
+                    row.kind, row.j, row.range
+                )));
+            }
+            j[pos] = row.j;
+        }
+        if let Some(k) = j.iter().position(|x| x.is_nan()) {
+            return Err(Error::input(format!(
+                "fragment library {file}: no row for coupling kind {}",
+                CouplingKind::ALL[k].1
+            )));
+        }
+        let s = &f.settings;
+        for (k, src) in [
+            ("resolved_min_hz", &s.resolved_min_hz.source),
+            ("similar_j_hz", &s.similar_j_hz.source),
+            ("first_order_min_ratio", &s.first_order_min_ratio.source),
+            ("para_pair_min_ratio", &s.para_pair_min_ratio.source),
+        ] {
+            need_source(file, k, src)?;
+        }
+        let settings = CouplingSettings {
+            resolved_min_hz: s.resolved_min_hz.value,
+            similar_j_hz: s.similar_j_hz.value,
+            first_order_min_ratio: s.first_order_min_ratio.value,
+            para_pair_min_ratio: s.para_pair_min_ratio.value,
+        };
+
+        // solvents
+        let f: SolventFile = r.parse("solvents.toml")?;
+        let file = "solvents.toml";
+        let env_id = |name: &str| -> Result<usize> {
+            environments.iter().position(|e| e.name == name).ok_or_else(|| {
+                Error::input(format!("fragment library {file}: unknown environment \"{name}\" (see special.toml)"))
+            })
+        };
+        let mut solvents = Vec::new();
+        for row in &f.solvent {
+            need_source(file, &row.name, &row.source)?;
+            let couples = row
+                .couples
+                .iter()
+                .map(|c| env_id(c))
+                .collect::<Result<Vec<_>>>()?;
+            let mut exchange_shift = Vec::new();
+            for x in &row.exchange_shift {
+                need_source(file, &format!("{} {}", row.name, x.environment), &x.source)?;
+                exchange_shift.push((env_id(&x.environment)?, x.shift, x.sigma));
+            }
+            solvents.push(Solvent {
+                name: row.name.clone(),
+                aliases: row.aliases.iter().map(|a| a.to_lowercase()).collect(),
+                residual: row.residual,
+                water: row.water,
+                couples,
+                exchange_shift,
+            });
+        }
+        if solvents.is_empty() {
+            return Err(Error::input(format!("fragment library {file}: no solvent")));
+        }
+
+        Ok(Library {
+            classes,
+            sp3,
+            alkene,
+            benzene,
+            hetero,
+            environments,
+            fallback,
+            j,
+            settings,
+            solvents,
+        })
+    }
+
+    pub fn j(&self, kind: CouplingKind) -> f64 {
+        self.j[kind as usize]
+    }
+
+    /// Find a solvent by name or alias (case-insensitive).
+    pub fn solvent(&self, name: &str) -> Option<usize> {
+        let l = name.to_lowercase();
+        self.solvents
+            .iter()
+            .position(|s| s.name.to_lowercase() == l || s.aliases.contains(&l))
+    }
+
+    pub fn class_named(&self, name: &str) -> Option<ClassId> {
+        self.classes
+            .iter()
+            .position(|c| c.name == name)
+            .map(|i| i as ClassId)
+    }
+}
+
+fn class_id(classes: &[Class], file: &str, name: &str) -> Result<ClassId> {
+    classes
+        .iter()
+        .position(|c| c.name == name)
+        .map(|i| i as ClassId)
+        .ok_or_else(|| {
+            Error::input(format!(
+                "fragment library {file}: unknown substituent class \"{name}\" (classes are defined in substituents.toml)"
+            ))
+        })
+}
+
+/// For every class, the row of the nearest class up its parent chain.
+fn resolve<T: Copy>(classes: &[Class], rows: &[Option<T>]) -> Vec<Option<T>> {
+    (0..classes.len())
+        .map(|i| {
+            let mut c = Some(i as ClassId);
+            while let Some(x) = c {
+                if let Some(v) = rows[x as usize] {
+                    return Some(v);
+                }
+                c = classes[x as usize].parent;
+            }
+            None
+        })
+        .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn embedded_library_loads() {
+        let lib = Library::embedded().unwrap();
+        assert!(lib.classes.len() > 30);
+        let acyloxy = lib.class_named("acyloxy").unwrap() as usize;
+        // Beauchamp & Marquez 1997 (Colby table): RCO2- alpha 2.8.
+        assert_eq!(lib.sp3.abg[acyloxy], Some([2.8, 0.5, 0.1]));
+        // Parent fallback: vinyloxy has its own Beauchamp-Marquez row...
+        let ethyl = lib.class_named("ethyl").unwrap() as usize;
+        // ...and ethyl falls back to alkyl in the alkene table.
+        assert_eq!(lib.alkene.z[ethyl], Some([0.45, -0.22, -0.28]));
+        assert_eq!(lib.solvent("dmso"), Some(1));
+    }
+
+    #[test]
+    fn bad_folder_is_named() {
+        let e = Library::from_dir(Path::new("/nonexistent-folder"))
+            .err()
+            .unwrap();
+        assert!(e.to_string().contains("not a folder"));
+    }
+}

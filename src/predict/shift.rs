@@ -1,0 +1,411 @@
+//! Chemical shift and its sigma for each group, by the published additive
+//! methods whose numbers live in `fragment-library/`:
+//!
+//! - special environments (OH, NH, SH, CHO, alkyne H, ...): handbook ranges;
+//! - benzene H: Beeby, Sternhell, Hoffmann-Ostenhof, Pretsch & Simon,
+//!   Anal. Chem. 1973, 45, 1571 (7.26 + sum of ortho/meta/para increments);
+//! - other aromatic rings: base shift per ring position plus the benzene
+//!   increments by ring distance;
+//! - alkene H: Pascual, Meier & Simon, Helv. Chim. Acta 1966, 49, 164
+//!   (5.25 + Z gem + Z cis + Z trans);
+//! - sp3 C-H: Beauchamp & Marquez, J. Chem. Educ. 1997, 74, 1483 (base +
+//!   alpha, beta, gamma constants), Shoolery's rule (0.23 + sum S) when two
+//!   or more functional groups sit on the carbon, handbook CH3-X values for
+//!   methyl groups on a functional group, and a ring-size correction.
+
+use super::view::{bits, DOUBLE};
+use super::{note, Ctx, Group, Method};
+use crate::chem::Element;
+
+/// Occupant of one of the two substituent places of an alkene carbon.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub(super) enum Place {
+    H,
+    Atom(usize),
+}
+
+impl Ctx<'_> {
+    pub(super) fn shifts(&mut self, groups: &mut [Group]) {
+        for g in groups.iter_mut() {
+            let a = g.rep;
+            let (shift, sigma, notes, method) = match g.method {
+                Method::Special(i) => {
+                    let e = &self.lib.environments[i];
+                    let solvent = &self.lib.solvents[self.opts.solvent];
+                    let (s, sg) = solvent
+                        .exchange_shift
+                        .iter()
+                        .find(|x| x.0 == i)
+                        .map(|x| (x.1, x.2))
+                        .unwrap_or((e.shift, e.sigma));
+                    let mut notes = 0;
+                    if e.exchangeable {
+                        notes |= if solvent.couples.contains(&i) {
+                            note::EXCHANGE_COUPLES
+                        } else {
+                            note::EXCHANGEABLE
+                        };
+                        notes |= note::RANGE;
+                    }
+                    (s, sg, notes, g.method)
+                }
+                _ if self.v.is_aromatic(a) => self.aromatic_shift(a),
+                _ if self.alkene_partner(a).is_some() => {
+                    let (s, sg, n) = self.alkene_shift(a, g.slot);
+                    (s, sg, n, Method::Alkene)
+                }
+                _ if self.v.hyb[a] == 3 && self.v.element[a] == Element::C => {
+                    let (s, sg, n) = self.sp3_shift(a);
+                    (s, sg, n, Method::Sp3)
+                }
+                _ => {
+                    let (s, sg) = self.lib.fallback[self.v.hyb[a] as usize];
+                    (s, sg, note::FALLBACK, Method::Fallback)
+                }
+            };
+            g.shift = shift;
+            g.sigma = sigma;
+            g.notes |= notes;
+            g.method = method;
+        }
+    }
+
+    /// The far carbon of a non-aromatic C=C at `a`, if `a` is such a carbon.
+    pub(super) fn alkene_partner(&self, a: usize) -> Option<usize> {
+        let v = &self.v;
+        if v.element[a] != Element::C || v.hyb[a] != 2 || v.is_aromatic(a) {
+            return None;
+        }
+        v.neighbours(a)
+            .find(|&(b, k)| k == DOUBLE && v.element[b] == Element::C)
+            .map(|(b, _)| b)
+    }
+
+    /// The two places of each alkene carbon, place i of `c1` cis to place i
+    /// of `c2`, and whether the geometry was assumed (E/Z unknown).
+    pub(super) fn alkene_places(&self, c1: usize, c2: usize) -> ([Place; 2], [Place; 2], bool) {
+        let v = &self.v;
+        let heavy = |c: usize, other: usize| {
+            let mut out = [usize::MAX; 2];
+            let mut k = 0;
+            for (x, _) in v.neighbours(c) {
+                if x != other && k < 2 {
+                    out[k] = x;
+                    k += 1;
+                }
+            }
+            (out, k)
+        };
+        let (h2, k2) = heavy(c2, c1);
+        // Far carbon: reference substituent first (lowest orbit id).
+        let p2 = match k2 {
+            0 => [Place::H, Place::H],
+            1 => [Place::Atom(h2[0]), Place::H],
+            _ => {
+                let (x, y) = if self.orb[h2[0]] <= self.orb[h2[1]] {
+                    (h2[0], h2[1])
+                } else {
+                    (h2[1], h2[0])
+                };
+                [Place::Atom(x), Place::Atom(y)]
+            }
+        };
+        let (h1, k1) = heavy(c1, c2);
+        let mut assumed = false;
+        let p1 = match k1 {
+            0 => [Place::H, Place::H],
+            1 => {
+                let x = h1[0];
+                // In a ring, x is cis to the far carbon's substituent that
+                // shares a ring with it; otherwise assume E (x trans to the
+                // reference substituent).
+                let shares = |y: usize| {
+                    self.v.rings[..self.v.nrings].iter().any(|&r| {
+                        r >> x & 1 == 1 && r >> y & 1 == 1 && r >> c1 & 1 == 1 && r >> c2 & 1 == 1
+                    })
+                };
+                match p2 {
+                    [Place::Atom(r), _] if shares(r) => [Place::Atom(x), Place::H],
+                    [_, Place::Atom(s)] if shares(s) => [Place::H, Place::Atom(x)],
+                    [Place::Atom(_), _] => {
+                        assumed = true;
+                        [Place::H, Place::Atom(x)]
+                    }
+                    _ => [Place::H, Place::Atom(x)],
+                }
+            }
+            _ => [Place::Atom(h1[0]), Place::Atom(h1[1])],
+        };
+        (p1, p2, assumed)
+    }
+
+    /// Place index of the representative H of a group on alkene carbon `a`.
+    pub(super) fn h_place(p1: &[Place; 2], slot: u8) -> usize {
+        match slot {
+            2 => 1,
+            1 => 0,
+            _ => {
+                if p1[0] == Place::H {
+                    0
+                } else {
+                    1
+                }
+            }
+        }
+    }
+
+    fn alkene_z(
+        &mut self,
+        x: Place,
+        parent: usize,
+        c1: usize,
+        c2: usize,
+    ) -> (Option<[f64; 3]>, bool) {
+        let Place::Atom(x) = x else {
+            return (Some([0.0; 3]), true);
+        };
+        let v = &self.v;
+        if v.hyb[x] == 3 && v.element[x] == Element::C {
+            let endo = v.rings[..v.nrings]
+                .iter()
+                .any(|&r| r >> x & 1 == 1 && r >> c1 & 1 == 1 && r >> c2 & 1 == 1);
+            if endo {
+                if let Some(z) = self.lib.alkene.alkyl_ring {
+                    return (Some(z), true);
+                }
+            }
+        }
+        match self.class_of(x, parent) {
+            Some(c) => (self.lib.alkene.z[c as usize], true),
+            None => (None, false),
+        }
+    }
+
+    /// Pascual-Meier-Simon: 5.25 + Z(gem) + Z(cis) + Z(trans).
+    fn alkene_shift(&mut self, c1: usize, slot: u8) -> (f64, f64, u32) {
+        let c2 = self.alkene_partner(c1).expect("alkene carbon");
+        let (p1, p2, assumed) = self.alkene_places(c1, c2);
+        let i = Self::h_place(&p1, slot);
+        let t = &self.lib.alkene;
+        let (base, mut sigma, unknown) = (t.base, t.sigma, t.sigma_unknown);
+        let mut shift = base;
+        let mut notes = if assumed { note::EZ_ASSUMED } else { 0 };
+        for (occ, parent, col) in [(p1[1 - i], c1, 0), (p2[i], c2, 1), (p2[1 - i], c2, 2)] {
+            match self.alkene_z(occ, parent, c1, c2) {
+                (Some(z), _) => shift += z[col],
+                _ => {
+                    sigma += unknown;
+                    notes |= note::UNKNOWN_SUBSTITUENT;
+                }
+            }
+        }
+        (shift, sigma, notes)
+    }
+
+    /// Aromatic H: benzene increments, or a heteroaromatic ring's base
+    /// shift per position plus benzene increments by ring distance.
+    fn aromatic_shift(&mut self, a: usize) -> (f64, f64, u32, Method) {
+        let Some(r) = self.v.aromatic_ring_of(a) else {
+            let (s, sg) = self.lib.fallback[2];
+            return (s, sg, note::FALLBACK, Method::Fallback);
+        };
+        let hetero: u64 = bits(r)
+            .filter(|&x| self.v.element[x] != Element::C)
+            .fold(0, |m, x| m | 1u64 << x);
+        let size = r.count_ones() as usize;
+        let (mut shift, mut sigma, method, skip) = if hetero == 0 && size == 6 {
+            (
+                self.lib.benzene.base,
+                self.lib.benzene.sigma,
+                Method::Benzene,
+                0u64,
+            )
+        } else {
+            match self.hetero_base(r, hetero, a) {
+                Some((s, sg)) => (s, sg, Method::Hetero, hetero),
+                None => {
+                    return (
+                        self.lib.hetero.generic_shift,
+                        self.lib.hetero.generic_sigma,
+                        0,
+                        Method::Hetero,
+                    )
+                }
+            }
+        };
+        let mut notes = 0;
+        let mut nsub = 0;
+        for y in bits(r & !(1u64 << a) & !skip) {
+            let d = self.v.ring_distance(r, a, y);
+            if !(1..=3).contains(&d) {
+                continue;
+            }
+            for k in 0..self.v.deg[y] as usize {
+                let z = self.v.nbr[y][k] as usize;
+                if r >> z & 1 == 1 {
+                    continue;
+                }
+                nsub += 1;
+                match self
+                    .class_of(z, y)
+                    .and_then(|c| self.lib.benzene.z[c as usize])
+                {
+                    Some(inc) => shift += inc[d - 1],
+                    None => {
+                        sigma += self.lib.benzene.sigma_unknown;
+                        notes |= note::UNKNOWN_SUBSTITUENT;
+                    }
+                }
+            }
+        }
+        if method == Method::Benzene {
+            if nsub > 2 {
+                sigma += self.lib.benzene.sigma_per_extra * (nsub - 2) as f64;
+            }
+            if nsub == 1 && bits(r).filter(|&x| self.v.h[x] > 0).count() == 5 {
+                notes |= note::MONO_RING;
+            }
+        } else if nsub > 0 {
+            sigma += self.lib.hetero.substituted_extra_sigma;
+        }
+        (shift, sigma, notes, method)
+    }
+
+    /// Base shift of `a` in a ring with one heteroatom from the library.
+    fn hetero_base(&self, r: u64, hetero: u64, a: usize) -> Option<(f64, f64)> {
+        let (t, pos) = self.hetero_template(r, hetero, a)?;
+        t.shift[pos].map(|s| (s, t.sigma))
+    }
+
+    /// The library ring matching ring `r` and the position of `a` in it.
+    pub(super) fn hetero_template(
+        &self,
+        r: u64,
+        hetero: u64,
+        a: usize,
+    ) -> Option<(&super::library::HeteroRing, usize)> {
+        if hetero.count_ones() != 1 {
+            return None;
+        }
+        let h = hetero.trailing_zeros() as usize;
+        let size = r.count_ones() as usize;
+        let t = self
+            .lib
+            .hetero
+            .rings
+            .iter()
+            .find(|t| t.size == size && t.heteroatom == self.v.element[h])?;
+        let pos = self.v.ring_distance(r, h, a) + 1;
+        if pos > 4 {
+            return None;
+        }
+        Some((t, pos))
+    }
+
+    /// sp3 C-H: Beauchamp-Marquez, with Shoolery's rule and CH3-X values.
+    fn sp3_shift(&mut self, c: usize) -> (f64, f64, u32) {
+        let t = &self.lib.sp3;
+        let h = self.v.h[c];
+        let deg = self.v.deg[c] as usize;
+        if h == 4 || deg == 0 {
+            return (t.methane, t.sigma, 0);
+        }
+        let base = match h {
+            3 => t.methyl,
+            2 => t.methylene,
+            _ => t.methine,
+        };
+        let mut notes = 0;
+        // Methyl on a functional group: the handbook CH3-X value.
+        if h == 3 && deg == 1 {
+            let x = self.v.nbr[c][0] as usize;
+            if !self.is_alkyl(x) {
+                if let Some(s) = self
+                    .class_of(x, c)
+                    .and_then(|k| self.lib.sp3.methyl_direct[k as usize])
+                {
+                    return (s, self.lib.sp3.sigma_methyl_direct, 0);
+                }
+            }
+        }
+        let mut shift = base;
+        let mut sigma = self.lib.sp3.sigma;
+        let mut functional = 0usize;
+        // Shoolery: 0.23 + S for every heavy neighbour (alkyl counts as -R).
+        let mut shoolery = self.lib.sp3.methane;
+        let mut shoolery_ok = true;
+        for k in 0..deg {
+            let x = self.v.nbr[c][k] as usize;
+            if self.is_alkyl(x) {
+                shoolery += self.lib.sp3.shoolery_alkyl;
+                // beta and gamma substituents through this alkyl carbon
+                for k2 in 0..self.v.deg[x] as usize {
+                    let y = self.v.nbr[x][k2] as usize;
+                    if y == c {
+                        continue;
+                    }
+                    if self.is_alkyl(y) {
+                        for k3 in 0..self.v.deg[y] as usize {
+                            let z = self.v.nbr[y][k3] as usize;
+                            if z == x || z == c || self.is_alkyl(z) {
+                                continue;
+                            }
+                            match self
+                                .class_of(z, y)
+                                .and_then(|q| self.lib.sp3.abg[q as usize])
+                            {
+                                Some(v) => shift += v[2],
+                                None => notes |= note::UNKNOWN_SUBSTITUENT,
+                            }
+                        }
+                    } else {
+                        match self
+                            .class_of(y, x)
+                            .and_then(|q| self.lib.sp3.abg[q as usize])
+                        {
+                            Some(v) => shift += v[1],
+                            None => notes |= note::UNKNOWN_SUBSTITUENT,
+                        }
+                    }
+                }
+            } else {
+                functional += 1;
+                let cls = self.class_of(x, c);
+                match cls.and_then(|q| self.lib.sp3.abg[q as usize]) {
+                    Some(v) => shift += v[0],
+                    None => {
+                        notes |= note::UNKNOWN_SUBSTITUENT;
+                        sigma += self.lib.sp3.sigma_unknown;
+                    }
+                }
+                match cls.and_then(|q| self.lib.sp3.shoolery[q as usize]) {
+                    Some(s) => shoolery += s,
+                    None => shoolery_ok = false,
+                }
+            }
+        }
+        if functional >= 2 && shoolery_ok && h <= 2 {
+            shift = shoolery;
+            notes |= note::SHOOLERY;
+        } else if let Some(corr) = self.ring_correction(c) {
+            shift += corr;
+        }
+        if functional > 1 {
+            sigma += self.lib.sp3.sigma_per_extra_alpha * (functional - 1) as f64;
+        }
+        (shift, sigma, notes)
+    }
+
+    fn ring_correction(&self, c: usize) -> Option<f64> {
+        let size = self.v.ring_size[c] as usize;
+        if size == 0 || size >= self.lib.sp3.ring.len() {
+            return None;
+        }
+        self.lib.sp3.ring[size]
+    }
+
+    /// An sp3 carbon (the sp3 rule propagates through these).
+    pub(super) fn is_alkyl(&self, x: usize) -> bool {
+        self.v.element[x] == Element::C && self.v.hyb[x] == 3
+    }
+}

@@ -1,0 +1,1 @@
+//! Unit tests of the predictor on molecules built in code.

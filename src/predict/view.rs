@@ -1,0 +1,455 @@
+//! The per-candidate working view the predictor reads: fixed-size neighbour
+//! tables, bond kinds, hybridisation, smallest ring per atom and aromatic
+//! flags, computed once per molecule with no heap allocation.
+//!
+//! Why a view and not the petgraph molecule: prediction is the inner loop of
+//! ranking millions of candidates; the pattern matcher and the increment rules
+//! touch neighbours many times per molecule, and flat arrays indexed by atom
+//! are several times cheaper than graph iteration.
+//!
+//! Aromaticity here is the perception prediction needs, decided on the Kekulé
+//! bond orders the molecule stores (Hückel rule, 4n+2 pi electrons, applied
+//! to 5- and 6-membered rings; E. Hückel, Z. Phys. 1931, 70, 204):
+//! - a 6-ring of C/N atoms is aromatic when every ring atom has its double
+//!   bond to an atom of a 6-ring of the same kind (benzene, pyridine, and the
+//!   rings of fused systems such as naphthalene, whatever the Kekulé form);
+//! - a 5-ring is aromatic when four ring atoms have double bonds inside the
+//!   ring or to an aromatic 6-ring atom, and the fifth is O, S, or N with
+//!   three single bonds (furan, thiophene, pyrrole, azoles, indole).
+
+use crate::chem::{Element, Molecule};
+
+/// Largest molecule the view (and the canonical labelling behind it) holds.
+pub const MAX_ATOMS: usize = 64;
+/// Most heavy neighbours of one atom (S with expanded valence 6).
+pub const MAX_DEGREE: usize = 6;
+
+/// Bond kinds as stored in [`View::bond`].
+pub const SINGLE: u8 = 1;
+pub const DOUBLE: u8 = 2;
+pub const TRIPLE: u8 = 3;
+pub const ARO: u8 = 4;
+
+/// Most rings remembered per molecule (smallest cycle through each ring bond).
+const MAX_RINGS: usize = 32;
+
+#[derive(Clone)]
+pub struct View {
+    pub n: usize,
+    pub element: [Element; MAX_ATOMS],
+    pub h: [u8; MAX_ATOMS],
+    pub deg: [u8; MAX_ATOMS],
+    pub nbr: [[u8; MAX_DEGREE]; MAX_ATOMS],
+    /// Bond kind to each neighbour (SINGLE, DOUBLE, TRIPLE or ARO).
+    pub bond: [[u8; MAX_DEGREE]; MAX_ATOMS],
+    /// Kekulé bond order to each neighbour (1-3), kept beside the kind.
+    pub order: [[u8; MAX_DEGREE]; MAX_ATOMS],
+    /// 1 sp, 2 sp2 (incl. aromatic), 3 sp3.
+    pub hyb: [u8; MAX_ATOMS],
+    /// Element-and-aromaticity feature bit for the pattern matcher.
+    pub elem_bit: [u8; MAX_ATOMS],
+    pub adj: [u64; MAX_ATOMS],
+    pub aromatic: u64,
+    /// Atoms on at least one ring.
+    pub ring_atoms: u64,
+    /// Smallest ring through each atom, 0 when acyclic.
+    pub ring_size: [u8; MAX_ATOMS],
+    /// Smallest cycle through each ring bond (deduplicated), as atom bitsets.
+    pub rings: [u64; MAX_RINGS],
+    pub nrings: usize,
+}
+
+impl View {
+    /// Build the view; an error names what the view cannot hold.
+    pub fn new(mol: &Molecule) -> Result<View, String> {
+        let n = mol.atom_count();
+        if n > MAX_ATOMS {
+            return Err(format!(
+                "the molecule has {n} heavy atoms; prediction handles at most {MAX_ATOMS}"
+            ));
+        }
+        let mut v = View {
+            n,
+            element: [Element::C; MAX_ATOMS],
+            h: [0; MAX_ATOMS],
+            deg: [0; MAX_ATOMS],
+            nbr: [[0; MAX_DEGREE]; MAX_ATOMS],
+            bond: [[0; MAX_DEGREE]; MAX_ATOMS],
+            order: [[0; MAX_DEGREE]; MAX_ATOMS],
+            hyb: [3; MAX_ATOMS],
+            elem_bit: [0; MAX_ATOMS],
+            adj: [0; MAX_ATOMS],
+            aromatic: 0,
+            ring_atoms: 0,
+            ring_size: [0; MAX_ATOMS],
+            rings: [0; MAX_RINGS],
+            nrings: 0,
+        };
+        let mut edges = 0usize;
+        for i in 0..n {
+            let a = mol.atom(i);
+            if a.element == Element::H {
+                return Err(format!(
+                    "atom {} is an explicit hydrogen; hydrogens must be implicit counts",
+                    i + 1
+                ));
+            }
+            v.element[i] = a.element;
+            v.h[i] = a.hydrogens;
+            for (j, order) in mol.neighbours(i) {
+                let d = v.deg[i] as usize;
+                if d == MAX_DEGREE {
+                    return Err(format!(
+                        "atom {} has more than {MAX_DEGREE} neighbours",
+                        i + 1
+                    ));
+                }
+                if !(1..=3).contains(&order) {
+                    return Err(format!("bond {}-{} has order {order}", i + 1, j + 1));
+                }
+                v.nbr[i][d] = j as u8;
+                v.order[i][d] = order;
+                v.bond[i][d] = order;
+                v.deg[i] += 1;
+                v.adj[i] |= 1u64 << j;
+                edges += 1;
+            }
+        }
+        let edges = edges / 2;
+        // Cyclomatic number: no ring work at all for acyclic candidates.
+        if edges + 1 > n {
+            v.find_rings();
+            v.perceive_aromatic();
+        }
+        for i in 0..n {
+            let mut doubles = 0;
+            let mut triple = false;
+            for k in 0..v.deg[i] as usize {
+                match v.order[i][k] {
+                    2 => doubles += 1,
+                    3 => triple = true,
+                    _ => {}
+                }
+            }
+            let aro = v.is_aromatic(i);
+            v.hyb[i] = if triple || doubles >= 2 {
+                1
+            } else if doubles == 1 || aro {
+                2
+            } else {
+                3
+            };
+            v.elem_bit[i] = super::pattern::elem_bit(v.element[i], aro);
+        }
+        Ok(v)
+    }
+
+    pub fn is_aromatic(&self, i: usize) -> bool {
+        self.aromatic >> i & 1 == 1
+    }
+
+    pub fn in_ring(&self, i: usize) -> bool {
+        self.ring_atoms >> i & 1 == 1
+    }
+
+    /// Bond kind between two atoms, 0 when not bonded.
+    pub fn bond_between(&self, a: usize, b: usize) -> u8 {
+        for k in 0..self.deg[a] as usize {
+            if self.nbr[a][k] as usize == b {
+                return self.bond[a][k];
+            }
+        }
+        0
+    }
+
+    /// Neighbours of `a` as (atom, bond kind).
+    pub fn neighbours(&self, a: usize) -> impl Iterator<Item = (usize, u8)> + '_ {
+        (0..self.deg[a] as usize).map(move |k| (self.nbr[a][k] as usize, self.bond[a][k]))
+    }
+
+    /// The smallest aromatic ring containing `a`, as an atom bitset.
+    pub fn aromatic_ring_of(&self, a: usize) -> Option<u64> {
+        self.rings[..self.nrings]
+            .iter()
+            .filter(|&&r| r >> a & 1 == 1 && r & self.aromatic == r && self.ring_is_aromatic(r))
+            .min_by_key(|r| r.count_ones())
+            .copied()
+    }
+
+    fn ring_is_aromatic(&self, r: u64) -> bool {
+        // Every bond of the ring aromatic.
+        let mut m = r;
+        while m != 0 {
+            let a = m.trailing_zeros() as usize;
+            m &= m - 1;
+            let ring_nbrs = (0..self.deg[a] as usize)
+                .filter(|&k| r >> self.nbr[a][k] & 1 == 1 && self.bond[a][k] == ARO)
+                .count();
+            if ring_nbrs != 2 {
+                return false;
+            }
+        }
+        true
+    }
+
+    /// Ring distance (bonds along the ring) between two atoms of ring `r`.
+    pub fn ring_distance(&self, r: u64, a: usize, b: usize) -> usize {
+        // Breadth-first walk restricted to the ring.
+        let mut seen = 1u64 << a;
+        let mut front = 1u64 << a;
+        let mut d = 0;
+        while front >> b & 1 == 0 {
+            let mut next = 0u64;
+            let mut m = front;
+            while m != 0 {
+                let x = m.trailing_zeros() as usize;
+                m &= m - 1;
+                next |= self.adj[x] & r;
+            }
+            next &= !seen;
+            if next == 0 {
+                return usize::MAX;
+            }
+            seen |= next;
+            front = next;
+            d += 1;
+        }
+        d
+    }
+
+    /// For every ring bond, the smallest cycle through it (breadth-first
+    /// search from one end to the other with the bond removed).
+    fn find_rings(&mut self) {
+        let n = self.n;
+        let mut queue = [0u8; MAX_ATOMS];
+        let mut parent = [0u8; MAX_ATOMS];
+        for u in 0..n {
+            for k in 0..self.deg[u] as usize {
+                let w = self.nbr[u][k] as usize;
+                if w < u || self.deg[u] < 2 || self.deg[w] < 2 {
+                    continue;
+                }
+                // BFS from u to w without the edge u-w.
+                let mut seen = 1u64 << u;
+                let (mut head, mut tail) = (0, 0);
+                queue[tail] = u as u8;
+                tail += 1;
+                let mut found = false;
+                while head < tail && !found {
+                    let x = queue[head] as usize;
+                    head += 1;
+                    let mut m = self.adj[x] & !seen;
+                    if x == u {
+                        m &= !(1u64 << w);
+                    }
+                    while m != 0 {
+                        let y = m.trailing_zeros() as usize;
+                        m &= m - 1;
+                        seen |= 1u64 << y;
+                        parent[y] = x as u8;
+                        if y == w {
+                            found = true;
+                            break;
+                        }
+                        queue[tail] = y as u8;
+                        tail += 1;
+                    }
+                }
+                if !found {
+                    continue;
+                }
+                let mut cycle = 1u64 << w;
+                let mut x = w;
+                while x != u {
+                    x = parent[x] as usize;
+                    cycle |= 1u64 << x;
+                }
+                if !self.rings[..self.nrings].contains(&cycle) && self.nrings < MAX_RINGS {
+                    self.rings[self.nrings] = cycle;
+                    self.nrings += 1;
+                }
+                let size = cycle.count_ones() as u8;
+                self.ring_atoms |= cycle;
+                let mut m = cycle;
+                while m != 0 {
+                    let a = m.trailing_zeros() as usize;
+                    m &= m - 1;
+                    if self.ring_size[a] == 0 || size < self.ring_size[a] {
+                        self.ring_size[a] = size;
+                    }
+                }
+            }
+        }
+    }
+
+    /// Double-bond partner of `a`, if it has exactly one double bond.
+    fn double_partner(&self, a: usize) -> Option<usize> {
+        let mut p = None;
+        for k in 0..self.deg[a] as usize {
+            match self.order[a][k] {
+                2 if p.is_none() => p = Some(self.nbr[a][k] as usize),
+                2 | 3 => return None,
+                _ => {}
+            }
+        }
+        p
+    }
+
+    fn perceive_aromatic(&mut self) {
+        // Six-membered rings of C/N atoms each with one double bond.
+        let mut six = [0u64; MAX_RINGS];
+        let mut nsix = 0;
+        let mut cand = 0u64;
+        for &r in &self.rings[..self.nrings] {
+            if r.count_ones() != 6 {
+                continue;
+            }
+            let ok = bits(r).all(|a| {
+                matches!(self.element[a], Element::C | Element::N)
+                    && self.double_partner(a).is_some()
+            });
+            if ok {
+                six[nsix] = r;
+                nsix += 1;
+                cand |= r;
+            }
+        }
+        // Keep rings whose double bonds stay inside the candidate system;
+        // repeat because dropping one ring can disqualify a neighbour.
+        let mut aro6 = 0u64;
+        loop {
+            let mut next = 0u64;
+            for &r in &six[..nsix] {
+                if bits(r).all(|a| self.double_partner(a).is_some_and(|p| cand >> p & 1 == 1)) {
+                    next |= r;
+                }
+            }
+            if next == cand {
+                aro6 = next;
+                break;
+            }
+            cand = next;
+            if cand == 0 {
+                break;
+            }
+        }
+        let mut arom_rings = 0u64; // bitset over ring indices
+        for (i, &r) in self.rings[..self.nrings].iter().enumerate() {
+            if r.count_ones() == 6 && r & aro6 == r && six[..nsix].contains(&r) {
+                arom_rings |= 1 << i;
+            }
+        }
+        // Five-membered rings.
+        for (i, &r) in self.rings[..self.nrings].iter().enumerate() {
+            if r.count_ones() != 5 {
+                continue;
+            }
+            let mut pi = 0;
+            let mut donor = 0;
+            for a in bits(r) {
+                match self.double_partner(a) {
+                    Some(p) if r >> p & 1 == 1 || aro6 >> p & 1 == 1 => pi += 1,
+                    Some(_) => {}
+                    None => {
+                        let lone_pair = match self.element[a] {
+                            Element::O | Element::S => self.deg[a] + self.h[a] == 2,
+                            Element::N => {
+                                self.deg[a] + self.h[a] == 3
+                                    && (0..self.deg[a] as usize).all(|k| self.order[a][k] == 1)
+                            }
+                            _ => false,
+                        };
+                        if lone_pair {
+                            donor += 1;
+                        }
+                    }
+                }
+            }
+            if pi == 4 && donor == 1 {
+                arom_rings |= 1 << i;
+            }
+        }
+        for (i, &r) in self.rings[..self.nrings].iter().enumerate() {
+            if arom_rings >> i & 1 == 1 {
+                self.aromatic |= r;
+            }
+        }
+        // Bonds between two atoms of one aromatic ring become aromatic.
+        for a in 0..self.n {
+            for k in 0..self.deg[a] as usize {
+                let b = self.nbr[a][k] as usize;
+                let shared = self.rings[..self.nrings]
+                    .iter()
+                    .enumerate()
+                    .any(|(i, &r)| arom_rings >> i & 1 == 1 && r >> a & 1 == 1 && r >> b & 1 == 1);
+                if shared {
+                    self.bond[a][k] = ARO;
+                }
+            }
+        }
+    }
+}
+
+/// Iterate the set bits of a bitset.
+pub fn bits(mut m: u64) -> impl Iterator<Item = usize> {
+    std::iter::from_fn(move || {
+        if m == 0 {
+            None
+        } else {
+            let i = m.trailing_zeros() as usize;
+            m &= m - 1;
+            Some(i)
+        }
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    pub(crate) fn ring(elements: &[(Element, u8)], doubles: &[usize]) -> Molecule {
+        let mut m = Molecule::new();
+        let ids: Vec<_> = elements.iter().map(|&(e, h)| m.add_atom(e, h)).collect();
+        for i in 0..ids.len() {
+            let j = (i + 1) % ids.len();
+            let o = if doubles.contains(&i) { 2 } else { 1 };
+            m.add_bond(ids[i], ids[j], o);
+        }
+        m
+    }
+
+    #[test]
+    fn benzene_furan_and_cyclohexene() {
+        // Hückel rule (common practice): benzene and furan aromatic, cyclohexene not.
+        let benzene = ring(&[(Element::C, 1); 6], &[0, 2, 4]);
+        let v = View::new(&benzene).unwrap();
+        assert_eq!(v.aromatic, 0b111111);
+        assert_eq!(v.ring_size[3], 6);
+        let furan = ring(
+            &[
+                (Element::O, 0),
+                (Element::C, 1),
+                (Element::C, 1),
+                (Element::C, 1),
+                (Element::C, 1),
+            ],
+            &[1, 3],
+        );
+        assert_eq!(View::new(&furan).unwrap().aromatic, 0b11111);
+        let cyclohexene = ring(
+            &[
+                (Element::C, 1),
+                (Element::C, 1),
+                (Element::C, 2),
+                (Element::C, 2),
+                (Element::C, 2),
+                (Element::C, 2),
+            ],
+            &[0],
+        );
+        let v = View::new(&cyclohexene).unwrap();
+        assert_eq!(v.aromatic, 0);
+        assert_eq!(v.hyb[0], 2);
+        assert_eq!(v.hyb[3], 3);
+    }
+}
