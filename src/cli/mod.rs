@@ -4,8 +4,10 @@
 //! (0 success, 2 bad input, 1 internal fault). A closed output pipe
 //! (`isomerank isomers ... | head`) is a normal end.
 
+mod demo;
 mod isomers;
 pub mod output;
+mod rank;
 
 use clap::{Parser, Subcommand};
 
@@ -28,6 +30,10 @@ pub struct Cli {
 #[derive(Subcommand)]
 pub enum Command {
     Isomers(isomers::Args),
+    /// Rank the isomers of a formula (or a shortlist) against an observed 1H multiplet list.
+    Rank(rank::Args),
+    /// Run the ranking on an embedded, invented scenario.
+    Demo(demo::Args),
 }
 
 /// Run the program; returns the process exit code.
@@ -48,6 +54,8 @@ pub fn main() -> i32 {
     }
     let result = match cli.command {
         Command::Isomers(args) => isomers::run(args),
+        Command::Rank(args) => rank::run(args),
+        Command::Demo(args) => demo::run(args),
     };
     match result {
         Ok(()) => 0,

@@ -73,7 +73,7 @@ pub fn separating_evidence(members: &[Member]) -> Vec<String> {
             .collect();
         if !only_a.is_empty() || !only_b.is_empty() {
             out.push(format!(
-                "multiplicity: {} predicts {} where {} predicts {} (a better resolved spectrum, higher field, would show it)",
+                "multiplicity: {} predicts {} where {} predicts {}",
                 first.label,
                 or_none(&only_a),
                 m.label,

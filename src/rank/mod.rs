@@ -197,8 +197,12 @@ pub fn rank_formula(
             "no isomer of {formula} is left to rank (the plausibility rules removed all of them; --keep-all turns them off)"
         )));
     }
-    let _ = &summary;
-    Ok(finish(collector, steps, settings, 0, Vec::new()))
+    let rules = summary
+        .flagged
+        .iter()
+        .map(|(r, n)| (r.name().to_string(), *n))
+        .collect();
+    Ok(finish(collector, steps, settings, summary.excluded, rules))
 }
 
 fn finish(

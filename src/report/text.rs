@@ -10,6 +10,13 @@ use crate::score::{self, Explanation};
 use crate::spectrum::{ObservedMultiplet, Spectrum};
 use std::fmt::Write;
 
+/// Groups whose first member has less probability than this are listed
+/// without the evidence lines (they do not compete for the answer).
+const EVIDENCE_MIN_PROBABILITY: f64 = 1e-3;
+/// At most this many evidence lines per group in the text report (the JSON
+/// report has them all).
+const MAX_EVIDENCE_LINES: usize = 4;
+
 pub fn render(cx: &Context) -> String {
     let mut out = String::new();
     let r = cx.ranking;
@@ -125,10 +132,19 @@ pub fn render(cx: &Context) -> String {
                 String::new()
             };
             let _ = writeln!(out, "  group {}: {}{}", g.id, members.join(", "), more);
-            if g.evidence.is_empty() && g.members.len() > 1 {
+            if g.evidence.is_empty()
+                && g.members.len() > 1
+                && r.candidates[g.members[0] - 1].probability >= EVIDENCE_MIN_PROBABILITY
+            {
                 let _ = writeln!(out, "    no 13C count, multiplicity or J difference separates them: other data are needed (13C shifts, 2D NMR, MS fragments)");
             }
-            for ev in &g.evidence {
+            // Evidence matters for groups that hold real probability; for the
+            // rest the table says enough.
+            let first_p = r.candidates[g.members[0] - 1].probability;
+            if first_p < EVIDENCE_MIN_PROBABILITY {
+                continue;
+            }
+            for ev in g.evidence.iter().take(MAX_EVIDENCE_LINES) {
                 let _ = writeln!(out, "    to separate them: {ev}");
             }
         }
