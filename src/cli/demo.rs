@@ -44,6 +44,7 @@ pub fn run(args: Args) -> Result<()> {
         explain: Some(1),
         format: args.format,
         keep_all: false,
+        expanded_valence: false,
     };
     let report = execute(&job, None)?;
     let text = match args.format {

@@ -54,6 +54,10 @@ pub struct Args {
     /// Rank every isomer: do not apply the plausibility rules.
     #[arg(long)]
     pub keep_all: bool,
+    /// Allow the expanded valences S(IV), S(VI) and P(V) (sulfoxides,
+    /// sulfones, phosphine oxides).
+    #[arg(long)]
+    pub expanded_valence: bool,
     /// Number of candidates in the table.
     #[arg(long, default_value_t = 10, value_name = "N")]
     pub top: usize,
@@ -73,6 +77,7 @@ pub struct Job {
     pub explain: Option<usize>,
     pub format: Format,
     pub keep_all: bool,
+    pub expanded_valence: bool,
 }
 
 pub fn run(args: Args) -> Result<()> {
@@ -110,6 +115,7 @@ pub fn run(args: Args) -> Result<()> {
         explain: args.explain,
         format: args.format,
         keep_all: args.keep_all,
+        expanded_valence: args.expanded_valence,
     };
     let shortlist = match &args.candidates {
         Some(src) => Some(read_shortlist(src, &job.formula)?),
@@ -154,7 +160,10 @@ pub fn execute(job: &Job, shortlist: Option<Vec<ShortlistItem>>) -> Result<Strin
             Source::Shortlist,
         ),
         None => {
-            let mut options = enumerate::Options::default();
+            let mut options = enumerate::Options {
+                expanded_valence: job.expanded_valence,
+                ..Default::default()
+            };
             let rules = plausibility(&mut options, job.keep_all);
             let bar = progress_bar(&job.formula.to_string());
             let r =
