@@ -70,7 +70,11 @@ fn gottlieb_1997_cdcl3_compounds_rank_first() {
             ..Default::default()
         };
         let r = rank::rank_formula(&formula, &options, &steps, &settings, &mut |_, _| {}).unwrap();
-        let pos = r.candidates.iter().position(|x| x.smiles == want).map(|p| p + 1);
+        let pos = r
+            .candidates
+            .iter()
+            .position(|x| x.smiles == want)
+            .map(|p| p + 1);
         if pos == Some(1) {
             first += 1;
         }
@@ -99,6 +103,14 @@ fn gottlieb_1997_cdcl3_compounds_rank_first() {
         100.0 * f1,
         100.0 * f3
     );
-    assert!(f1 >= 0.90, "first for {first}/{n}: below the 90 % goal\n{}", report.join("\n"));
-    assert!(f3 >= 0.98, "top three for {top3}/{n}: below the 98 % goal\n{}", report.join("\n"));
+    assert!(
+        f1 >= 0.90,
+        "first for {first}/{n}: below the 90 % goal\n{}",
+        report.join("\n")
+    );
+    assert!(
+        f3 >= 0.98,
+        "top three for {top3}/{n}: below the 98 % goal\n{}",
+        report.join("\n")
+    );
 }
