@@ -154,6 +154,9 @@ pub fn rank_formula(
     let map = |iso: &enumerate::Isomer| -> Option<Outcome<Payload>> {
         let molecule = iso.molecule();
         Some(match evaluate(&molecule, steps, settings, cutoff.get()) {
+            Some((_, scored)) if scored.cost > cutoff.top_k() => {
+                Outcome::CostOnly { cost: scored.cost }
+            }
             Some((predicted, scored)) => {
                 // SMILES only for candidates that may rank (it costs a
                 // canonical labelling).

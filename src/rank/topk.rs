@@ -7,11 +7,13 @@
 //! `skip_margin` of the running best; pruned as the best improves).
 //!
 //! Determinism: results reach [`Collector::push`] in the enumeration's fixed
-//! order. The cutoff that scoring threads read only ever falls, so a
+//! order. The cutoffs that scoring threads read only ever fall, so a
 //! candidate they skip could never have entered the final top-k nor the
 //! normaliser (which counts only costs below final best + skip_margin; such
-//! a candidate is always below any cutoff ever published). Hence the output
-//! does not depend on thread timing.
+//! a candidate is always below any cutoff ever published), and one they
+//! report without a payload (cost above the top-k cutoff of the moment)
+//! could never have entered the top-k. Hence the output does not depend on
+//! thread timing.
 
 use std::cmp::Ordering;
 use std::collections::BinaryHeap;
@@ -22,26 +24,38 @@ use std::sync::Arc;
 pub enum Outcome<T> {
     /// Scored exactly: the cost and the payload to keep if it ranks.
     Scored { cost: f64, key: String, item: T },
+    /// Scored exactly, but provably not good enough for the top-k (its cost
+    /// still counts in the probabilities): no payload was built.
+    CostOnly { cost: f64 },
     /// Provably above the cutoff; not scored exactly.
     Skipped,
 }
 
-/// The cutoff shared with the scoring threads (f64 bits in an atomic).
+/// The cutoffs shared with the scoring threads (f64 bits in atomics).
 #[derive(Clone)]
-pub struct Cutoff(Arc<AtomicU64>);
+pub struct Cutoff(Arc<[AtomicU64; 2]>);
 
 impl Cutoff {
     fn new() -> Cutoff {
-        Cutoff(Arc::new(AtomicU64::new(f64::INFINITY.to_bits())))
+        let inf = f64::INFINITY.to_bits();
+        Cutoff(Arc::new([AtomicU64::new(inf), AtomicU64::new(inf)]))
     }
 
-    /// The cost at or above which a candidate cannot matter any more.
+    /// The cost at or above which a candidate cannot matter any more
+    /// (neither for the top-k nor for the probabilities).
     pub fn get(&self) -> f64 {
-        f64::from_bits(self.0.load(AtomicOrdering::Relaxed))
+        f64::from_bits(self.0[0].load(AtomicOrdering::Relaxed))
     }
 
-    fn set(&self, v: f64) {
-        self.0.store(v.to_bits(), AtomicOrdering::Relaxed);
+    /// The cost above which a candidate cannot enter the top-k: below it the
+    /// payload (SMILES, prediction) is worth building.
+    pub fn top_k(&self) -> f64 {
+        f64::from_bits(self.0[1].load(AtomicOrdering::Relaxed))
+    }
+
+    fn set(&self, any: f64, top_k: f64) {
+        self.0[0].store(any.to_bits(), AtomicOrdering::Relaxed);
+        self.0[1].store(top_k.to_bits(), AtomicOrdering::Relaxed);
     }
 }
 
@@ -124,19 +138,13 @@ impl<T> Collector<T> {
                 self.skipped += 1;
                 return;
             }
+            Outcome::CostOnly { cost } => {
+                self.count_cost(cost);
+                return;
+            }
             Outcome::Scored { cost, key, item } => (cost, key, item),
         };
-        if cost < self.best {
-            self.best = cost;
-        }
-        if cost < self.best + self.skip_margin {
-            self.costs.push(cost);
-            if self.costs.len() >= self.prune_at {
-                let limit = self.best + self.skip_margin;
-                self.costs.retain(|&c| c < limit);
-                self.prune_at = (2 * self.costs.len()).max(1024);
-            }
-        }
+        self.count_cost(cost);
         let entry = HeapItem { cost, key, item };
         if self.heap.len() < self.k {
             self.heap.push(entry);
@@ -153,7 +161,21 @@ impl<T> Collector<T> {
         };
         // A tiny slack keeps exact ties scored, so that the key decides them.
         self.cutoff
-            .set(kth.max(self.best + self.skip_margin) + 1e-9);
+            .set(kth.max(self.best + self.skip_margin) + 1e-9, kth + 1e-9);
+    }
+
+    fn count_cost(&mut self, cost: f64) {
+        if cost < self.best {
+            self.best = cost;
+        }
+        if cost < self.best + self.skip_margin {
+            self.costs.push(cost);
+            if self.costs.len() >= self.prune_at {
+                let limit = self.best + self.skip_margin;
+                self.costs.retain(|&c| c < limit);
+                self.prune_at = (2 * self.costs.len()).max(1024);
+            }
+        }
     }
 
     pub fn finish(self) -> TopK<T> {

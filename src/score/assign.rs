@@ -18,6 +18,10 @@
 //! - for each multiplet already holding groups: its overlap cost and, when it
 //!   already holds more H than observed, its integral cost (the H sum only
 //!   grows, and the integral cost grows with it past the observed value);
+//! - for each multiplet still empty: the cheaper of staying empty (its
+//!   unexplained cost) and the least extra any group still to place would
+//!   pay to go there instead of to its own cheapest option (each group fills
+//!   at most one multiplet, so these extras add up without double counting);
 //! - the deficit bound: multiplets holding fewer H than observed need
 //!   D H more in total, the groups left carry R H, so at least D - R H stay
 //!   missing; with quadratic costs the cheapest way to spread them is
@@ -106,6 +110,9 @@ struct Search<'a> {
     options: Vec<Vec<(f64, u16)>>,
     suffix_min: Vec<f64>,
     suffix_h: Vec<u32>,
+    /// `suffix_extra[d * m + j]`: least extra cost (over its cheapest option)
+    /// for any group at depth >= d to go to multiplet j.
+    suffix_extra: Vec<f64>,
     sigma2: Vec<f64>,
     h: Vec<u32>,
     k: Vec<u32>,
@@ -130,6 +137,20 @@ pub fn solve(c: &Costs, cutoff: f64) -> Option<Solution> {
             v
         })
         .collect();
+    // Cheap root bound: skip a hopeless candidate before any search.
+    let min_choice: Vec<f64> = opts.iter().map(|v| v[0].0).collect();
+    let root = min_choice.iter().sum::<f64>()
+        + (0..m)
+            .map(|j| {
+                let extra = (0..g)
+                    .map(|gi| c.pair[gi * m + j] - min_choice[gi])
+                    .fold(f64::INFINITY, f64::min);
+                c.empty[j].min(extra)
+            })
+            .sum::<f64>();
+    if root >= cutoff {
+        return None;
+    }
     // Greedy incumbent: each group on its cheapest option.
     let greedy: Vec<u16> = opts.iter().map(|v| v[0].1).collect();
     let greedy_cost = c.evaluate(&greedy);
@@ -142,6 +163,14 @@ pub fn solve(c: &Costs, cutoff: f64) -> Option<Solution> {
     for d in (0..g).rev() {
         suffix_min[d] = suffix_min[d + 1] + options[d][0].0;
         suffix_h[d] = suffix_h[d + 1] + c.hydrogens[order[d]];
+    }
+    let mut suffix_extra = vec![f64::INFINITY; (g + 1) * m];
+    for d in (0..g).rev() {
+        let gi = order[d];
+        for j in 0..m {
+            let extra = c.pair[gi * m + j] - min_choice[gi];
+            suffix_extra[d * m + j] = suffix_extra[(d + 1) * m + j].min(extra);
+        }
     }
     let sigma2 = (0..m)
         .map(|j| {
@@ -161,6 +190,7 @@ pub fn solve(c: &Costs, cutoff: f64) -> Option<Solution> {
         options,
         suffix_min,
         suffix_h,
+        suffix_extra,
         sigma2,
         h: vec![0; m],
         k: vec![0; m],
@@ -179,16 +209,19 @@ pub fn solve(c: &Costs, cutoff: f64) -> Option<Solution> {
 }
 
 impl<'a> Search<'a> {
-    /// Lower bound on the multiplet terms of any completion, `remaining` H
-    /// still to place.
-    fn multiplet_bound(&self, remaining: u32) -> f64 {
+    /// Lower bound on the multiplet terms of any completion when the groups
+    /// from depth `next` on are still to place.
+    fn multiplet_bound(&self, next: usize) -> f64 {
         let c = self.c;
+        let m = c.multiplets;
+        let remaining = self.suffix_h[next];
         let mut bound = 0.0;
         let mut deficit = 0.0;
         let mut sigma2 = 0.0;
-        for j in 0..c.multiplets {
+        for j in 0..m {
             let k = self.k[j];
             if k == 0 {
+                bound += c.empty[j].min(self.suffix_extra[next * m + j]);
                 continue;
             }
             bound += c.overlap[j] * (k - 1) as f64;
@@ -240,7 +273,7 @@ impl<'a> Search<'a> {
                 self.h[j as usize] += hg;
                 self.k[j as usize] += 1;
             }
-            if base + self.multiplet_bound(self.suffix_h[d + 1]) < self.best {
+            if base + self.multiplet_bound(d + 1) < self.best {
                 self.current[d] = j;
                 self.dfs(d + 1, partial + cost);
             }

@@ -28,8 +28,10 @@ pub fn costs(predicted: &[PredictedSignal], spectrum: &Spectrum, model: &Scoring
     let m = spectrum.multiplets.len();
     let mut pair = Vec::with_capacity(predicted.len() * m);
     for p in predicted {
+        let sigma = p.sigma.max(model.shift.min_sigma);
+        let ln_sigma = (sigma / model.shift.min_sigma).ln();
         for o in &spectrum.multiplets {
-            pair.push(model.pair_cost(p, o).total());
+            pair.push(model.pair_cost_with(p, o, sigma, ln_sigma).total());
         }
     }
     Costs {

@@ -6,7 +6,6 @@ use crate::error::{Error, Result};
 use crate::predict::{Multiplicity, PredictedSignal};
 use crate::spectrum::{ObservedMultiplet, ObservedPattern};
 use serde::Deserialize;
-use std::collections::HashMap;
 
 pub const SCORING_TOML: &str = include_str!("../../fragment-library/scoring.toml");
 
@@ -90,8 +89,9 @@ pub struct ScoringModel {
     pub coupling: CouplingParams,
     pub multiplicity: MultiplicityParams,
     pub ranking: RankingParams,
-    /// (predicted code, observed code, apparent) -> probability.
-    table: HashMap<(u64, u64, bool), f64>,
+    /// (predicted code, observed code, apparent, probability): a few dozen
+    /// rows, scanned linearly (faster than hashing at this size).
+    table: Vec<(u64, u64, bool, f64)>,
 }
 
 /// A compact, allocation-free key for a multiplicity (used in the hot loop).
@@ -113,7 +113,7 @@ impl ScoringModel {
     pub fn from_toml(text: &str) -> Result<ScoringModel> {
         let f: ModelFile = toml::from_str(text)
             .map_err(|e| Error::input(format!("scoring table: {}", e.message())))?;
-        let mut table = HashMap::new();
+        let mut table = Vec::new();
         for row in &f.compatibility {
             let p = ObservedPattern::parse(&row.predicted).ok_or_else(|| {
                 Error::input(format!(
@@ -133,10 +133,12 @@ impl ScoringModel {
                     row.probability, row.predicted, row.observed
                 )));
             }
-            table.insert(
-                (code(&p.multiplicity), code(&o.multiplicity), o.apparent),
+            table.push((
+                code(&p.multiplicity),
+                code(&o.multiplicity),
+                o.apparent,
                 row.probability,
-            );
+            ));
         }
         Ok(ScoringModel {
             shift: f.shift,
@@ -160,9 +162,9 @@ impl ScoringModel {
             mp.same
         } else if let Some(p) = self.derived(signal, &obs.multiplicity) {
             p
-        } else if let Some(&p) = self.table.get(&(pc, oc, obs.apparent)) {
+        } else if let Some(p) = self.row(pc, oc, obs.apparent) {
             p
-        } else if let Some(&p) = self.table.get(&(pc, oc, false)) {
+        } else if let Some(p) = self.row(pc, oc, false) {
             p
         } else if *pred == obs.multiplicity {
             mp.same
@@ -187,6 +189,13 @@ impl ScoringModel {
         p * broad
     }
 
+    fn row(&self, pc: u64, oc: u64, apparent: bool) -> Option<f64> {
+        self.table
+            .iter()
+            .find(|r| r.0 == pc && r.1 == oc && r.2 == apparent)
+            .map(|r| r.3)
+    }
+
     /// The patterns a first-order prediction turns into when small couplings
     /// are not resolved or similar couplings merge (FIELD-GUIDE 4: "s observed
     /// for a predicted d with tiny J is mild").
@@ -198,33 +207,46 @@ impl ScoringModel {
             return None;
         }
         let c = &self.coupling;
-        // Drop unresolved small couplings.
-        let kept: Vec<(u8, f64)> = ns
-            .iter()
-            .zip(&signal.j_hz)
-            .filter(|(_, &j)| j.abs() >= c.small_j_hz)
-            .map(|(&n, &j)| (n, j))
-            .collect();
-        let dropped = kept.len() < ns.len();
-        let as_mult = |v: &[(u8, f64)]| {
-            if v.is_empty() {
-                Multiplicity::Singlet
-            } else {
-                Multiplicity::Coupled(v.iter().map(|x| x.0).collect())
-            }
+        let Multiplicity::Coupled(target) = obs else {
+            // Everything unresolved: a singlet.
+            let all_small = signal.j_hz.iter().all(|j| j.abs() < c.small_j_hz);
+            return (*obs == Multiplicity::Singlet && all_small)
+                .then_some(self.multiplicity.unresolved);
         };
-        if dropped && as_mult(&kept) == *obs {
+        // Fixed-size buffers: this runs for every group against every
+        // observed multiplet of every candidate.
+        const MAX: usize = 8;
+        if ns.len() > MAX {
+            return None;
+        }
+        // Drop unresolved small couplings.
+        let mut kept = [(0u8, 0.0f64); MAX];
+        let mut nk = 0;
+        for (&n, &j) in ns.iter().zip(&signal.j_hz) {
+            if j.abs() >= c.small_j_hz {
+                kept[nk] = (n, j);
+                nk += 1;
+            }
+        }
+        let dropped = nk < ns.len();
+        let same = |v: &[(u8, f64)]| {
+            v.len() == target.len() && v.iter().zip(target).all(|(a, &b)| a.0 == b)
+        };
+        if dropped && same(&kept[..nk]) {
             return Some(self.multiplicity.unresolved);
         }
         // Merge neighbouring couplings with similar J (sorted largest first).
-        let mut merged: Vec<(u8, f64)> = Vec::new();
-        for &(n, j) in &kept {
-            match merged.last_mut() {
-                Some(last) if (last.1 - j).abs() < c.similar_j_hz => last.0 += n,
-                _ => merged.push((n, j)),
+        let mut merged = [(0u8, 0.0f64); MAX];
+        let mut nm = 0;
+        for &(n, j) in &kept[..nk] {
+            if nm > 0 && (merged[nm - 1].1 - j).abs() < c.similar_j_hz {
+                merged[nm - 1].0 += n;
+            } else {
+                merged[nm] = (n, j);
+                nm += 1;
             }
         }
-        if merged.len() < kept.len() && as_mult(&merged) == *obs {
+        if nm < nk && same(&merged[..nm]) {
             return Some(if dropped {
                 self.multiplicity.unresolved * self.multiplicity.merged
             } else {
@@ -238,8 +260,20 @@ impl ScoringModel {
     /// multiplicity and coupling constants.
     pub fn pair_cost(&self, signal: &PredictedSignal, obs: &ObservedMultiplet) -> PairCost {
         let sigma = signal.sigma.max(self.shift.min_sigma);
+        self.pair_cost_with(signal, obs, sigma, (sigma / self.shift.min_sigma).ln())
+    }
+
+    /// [`ScoringModel::pair_cost`] with the group's sigma and its log term
+    /// computed once by the caller.
+    pub fn pair_cost_with(
+        &self,
+        signal: &PredictedSignal,
+        obs: &ObservedMultiplet,
+        sigma: f64,
+        ln_sigma: f64,
+    ) -> PairCost {
         let d = obs.distance(signal.shift);
-        let shift = d * d / (2.0 * sigma * sigma) + (sigma / self.shift.min_sigma).ln();
+        let shift = d * d / (2.0 * sigma * sigma) + ln_sigma;
         let multiplicity = -self.compatibility(signal, &obs.pattern).ln();
         let mut coupling = 0.0;
         if !obs.j_hz.is_empty() && !signal.j_hz.is_empty() {

@@ -100,6 +100,11 @@ pub fn build(raw: RawSpectrum, formula: &Formula, solvents: &SolventTable) -> Re
                 .filter(own)
                 .filter_map(|m| m.integral)
                 .sum();
+            if total <= 0.0 {
+                return Err(Error::input(
+                    "every entry sits on a solvent or water peak: no integral is left to scale to the formula's H",
+                ));
+            }
             let scale = formula_h / total;
             for m in &mut spectrum.multiplets {
                 m.hydrogens = m.integral.map(|v| v * scale);
