@@ -139,7 +139,7 @@ pub fn parse(name: &str, text: &str) -> Result<SpectrumFile> {
             Some(OneOrMany::One(v)) => vec![v],
             Some(OneOrMany::Many(v)) => v,
         };
-        if let Some(v) = j_hz.iter().find(|v| !(v.abs() <= MAX_J_HZ)) {
+        if let Some(v) = j_hz.iter().find(|v| !j_in_range(**v)) {
             return Err(err(format!(
                 "J = {v} Hz is out of range (1H-1H couplings are below {MAX_J_HZ} Hz)"
             )));
@@ -171,6 +171,11 @@ pub fn parse(name: &str, text: &str) -> Result<SpectrumFile> {
         },
         formula: file.formula,
     })
+}
+
+/// Whether |J| is a plausible 1H-1H coupling (false for NaN).
+fn j_in_range(v: f64) -> bool {
+    v.abs() <= MAX_J_HZ
 }
 
 fn fmt_shift(shift: f64, range: Option<(f64, f64)>) -> String {

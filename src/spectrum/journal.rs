@@ -235,9 +235,8 @@ fn parse_header_items(chars: &[char], offset: usize, out: &mut RawSpectrum) -> R
     let mut depth = 0;
     let mut items = Vec::new();
     let mut buf = String::new();
-    let mut col = offset;
     let mut item_col = offset;
-    for c in text.chars() {
+    for (col, c) in (offset..).zip(text.chars()) {
         match c {
             '(' => depth += 1,
             ')' => depth -= 1,
@@ -249,7 +248,6 @@ fn parse_header_items(chars: &[char], offset: usize, out: &mut RawSpectrum) -> R
         } else {
             buf.push(c);
         }
-        col += 1;
     }
     items.push((buf, item_col));
     for (item, at) in items {
@@ -363,8 +361,7 @@ fn parse_entry(entry: usize, chars: &[char], s: usize, e: usize) -> Result<RawEn
     let mut items: Vec<(String, usize)> = Vec::new();
     let mut buf = String::new();
     let mut at = open + 1;
-    for j in open + 1..close {
-        let c = chars[j];
+    for (j, &c) in chars.iter().enumerate().take(close).skip(open + 1) {
         if c == ',' || c == ';' {
             items.push((std::mem::take(&mut buf), at));
             at = j + 1;
@@ -408,7 +405,8 @@ fn parse_entry(entry: usize, chars: &[char], s: usize, e: usize) -> Result<RawEn
                 }
             }
             for &v in &values {
-                if !(v.abs() <= MAX_J_HZ) {
+                let in_range = v.abs() <= MAX_J_HZ;
+                if !in_range {
                     return Err(err(format!(
                         "J = {v} Hz at character {} is out of range (1H-1H couplings are below {MAX_J_HZ} Hz)",
                         at + 1
