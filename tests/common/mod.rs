@@ -66,9 +66,7 @@ pub fn run_reference_script(script: &str, args: &[&str], stdin: &str) -> String 
         .unwrap_or_else(|e| panic!("start {}: {e}", path.display()));
     {
         let mut input = child.stdin.take().unwrap();
-        input
-            .write_all(stdin.as_bytes())
-            .expect("write to reference script");
+        input.write_all(stdin.as_bytes()).expect("write to reference script");
     }
     let out = child.wait_with_output().expect("wait for reference script");
     assert!(
