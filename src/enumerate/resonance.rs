@@ -13,21 +13,45 @@ use super::generator::{bits, Node};
 use crate::chem::canon::Canonizer;
 use crate::chem::{aromaticity, kekule, Molecule};
 
-/// Cheap test: an alternative Kekulé structure needs a cycle of alternating
-/// single and double bonds, so at least two double bonds between atoms that
-/// both have two or more neighbours.
+/// Cheap exact test: another Kekulé structure with the same atoms' bond-order
+/// sums exists only along a cycle whose bonds alternate double and single
+/// (swapping them along the cycle gives the other structure). Depth-first
+/// search for such a cycle through each double bond.
 fn may_have_alternatives(node: &Node) -> bool {
-    let mut doubles = 0;
     for a in 0..node.n {
-        if node.deg[a] < 2 {
+        for b in bits(node.nb[a]) {
+            if b > a && node.order(a, b) == 2 && alternating_path(node, a, b, 1u64 << a | 1u64 << b)
+            {
+                return true;
+            }
+        }
+    }
+    false
+}
+
+/// From `v`, reached by a double bond, is there a single bond then a double
+/// bond, and so on, back to `target` ending with a single bond into it?
+fn alternating_path(node: &Node, target: usize, v: usize, seen: u64) -> bool {
+    for u in bits(node.nb[v]) {
+        if node.order(v, u) != 1 {
             continue;
         }
-        for b in bits(node.nb[a]) {
-            if b > a && node.deg[b] >= 2 && node.order(a, b) == 2 {
-                doubles += 1;
-                if doubles >= 2 {
-                    return true;
-                }
+        if u == target {
+            if seen.count_ones() >= 4 {
+                return true;
+            }
+            continue;
+        }
+        if seen >> u & 1 == 1 {
+            continue;
+        }
+        for w in bits(node.nb[u]) {
+            if w != v
+                && seen >> w & 1 == 0
+                && node.order(u, w) == 2
+                && alternating_path(node, target, w, seen | 1u64 << u | 1u64 << w)
+            {
+                return true;
             }
         }
     }

@@ -64,11 +64,16 @@ pub fn run_reference_script(script: &str, args: &[&str], stdin: &str) -> String 
         .stderr(Stdio::piped())
         .spawn()
         .unwrap_or_else(|e| panic!("start {}: {e}", path.display()));
-    {
-        let mut input = child.stdin.take().unwrap();
-        input.write_all(stdin.as_bytes()).expect("write to reference script");
-    }
+    // Feed standard input from a thread: a big isomer list must not deadlock
+    // against the script's own output filling the pipe.
+    let mut input = child.stdin.take().unwrap();
+    let data = stdin.to_string();
+    let feeder = std::thread::spawn(move || input.write_all(data.as_bytes()));
     let out = child.wait_with_output().expect("wait for reference script");
+    feeder
+        .join()
+        .expect("stdin feeder thread")
+        .unwrap_or_else(|e| panic!("write to reference script {script}: {e}"));
     assert!(
         out.status.success(),
         "reference script {script} failed: {}",
@@ -93,4 +98,85 @@ pub fn nauty_tool(name: &str) -> PathBuf {
         }
     }
     panic!("nauty tool {name} not found: run scripts/test (it installs Debian's package nauty)");
+}
+
+/// Run `isomerank isomers <args>`; fails the test (showing stderr) unless it
+/// exits 0. Returns stdout.
+pub fn isomers_ok(args: &[&str]) -> String {
+    let mut full = vec!["isomers"];
+    full.extend_from_slice(args);
+    let out = isomerank(&full, None);
+    assert!(
+        out.status.success(),
+        "isomerank {} exited with {:?}: {}",
+        full.join(" "),
+        out.status.code(),
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8(out.stdout).expect("utf-8 from isomerank")
+}
+
+/// `isomerank isomers FORMULA --count` plus extra flags, parsed as a number.
+pub fn isomers_count(formula: &str, extra: &[&str]) -> u64 {
+    let mut args = vec![formula, "--count"];
+    args.extend_from_slice(extra);
+    let text = isomers_ok(&args);
+    text.trim()
+        .parse()
+        .unwrap_or_else(|_| panic!("isomers {formula} --count printed {text:?}, not a number"))
+}
+
+/// The independent isomer count of tests/reference/nauty_isomers.py
+/// (nauty geng | vcolg | multig, RDKit dedupe). `extra` takes its flags,
+/// e.g. `--expanded-valence`.
+pub fn reference_count(formula: &str, extra: &[&str]) -> u64 {
+    let mut args = vec![formula];
+    args.extend_from_slice(extra);
+    let text = run_reference_script("nauty_isomers.py", &args, "");
+    text.trim()
+        .parse()
+        .unwrap_or_else(|_| panic!("nauty_isomers.py {formula} printed {text:?}"))
+}
+
+/// The independent isomer set (RDKit canonical SMILES, sorted) of
+/// tests/reference/nauty_isomers.py.
+pub fn reference_smiles(formula: &str, extra: &[&str]) -> Vec<String> {
+    let mut args = vec![formula, "--smiles"];
+    args.extend_from_slice(extra);
+    run_reference_script("nauty_isomers.py", &args, "")
+        .lines()
+        .map(str::to_string)
+        .collect()
+}
+
+/// RDKit canonical SMILES of each line of `smiles`, in order (a line RDKit
+/// cannot read becomes `!INVALID <line>`).
+pub fn rdkit_canonical(smiles: &str) -> Vec<String> {
+    run_reference_script("canonical_smiles.py", &[], smiles)
+        .lines()
+        .map(str::to_string)
+        .collect()
+}
+
+/// A few members of each side of a set difference, for a failure message.
+pub fn set_difference_report(ours: &[String], theirs: &[String], shown: usize) -> String {
+    use std::collections::BTreeSet;
+    let a: BTreeSet<&String> = ours.iter().collect();
+    let b: BTreeSet<&String> = theirs.iter().collect();
+    let only_a: Vec<&&String> = a.difference(&b).collect();
+    let only_b: Vec<&&String> = b.difference(&a).collect();
+    let list = |v: &[&&String]| {
+        v.iter()
+            .take(shown)
+            .map(|s| format!("    {s}"))
+            .collect::<Vec<_>>()
+            .join("\n")
+    };
+    format!(
+        "{} only in isomerank's output, e.g.\n{}\n{} only in the nauty+RDKit reference, e.g.\n{}",
+        only_a.len(),
+        list(&only_a),
+        only_b.len(),
+        list(&only_b)
+    )
 }
