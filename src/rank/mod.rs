@@ -216,11 +216,10 @@ fn finish(
     rules: Vec<(String, u64)>,
 ) -> Ranking {
     let margin = settings.model.ranking.indistinguishable_margin;
-    let top = collector.finish();
+    let mut top = collector.finish();
     let costs: Vec<f64> = top.entries.iter().map(|e| e.0).collect();
     let ids = groups::group_ids(&costs, margin);
-    let candidates: Vec<Ranked> = top
-        .entries
+    let candidates: Vec<Ranked> = std::mem::take(&mut top.entries)
         .into_iter()
         .zip(&ids)
         .enumerate()
@@ -251,11 +250,13 @@ fn finish(
     }
     if let Some(last) = out_groups.last_mut() {
         let anchor = candidates[last.members[0] - 1].cost;
-        let within = top.costs.iter().filter(|&&c| c - anchor <= margin).count();
-        // Costs of the group members shown are among `top.costs` and at or
-        // above the anchor; the ones before the group are below it.
-        let before = top.costs.iter().filter(|&&c| c < anchor).count();
-        last.beyond_table = within.saturating_sub(before + last.members.len());
+        let last_shown = candidates[*last.members.last().unwrap_or(&1) - 1].cost;
+        // Counted candidates after the last one shown and within the margin
+        // of the group's first member (ties with the last shown cost are
+        // not counted: they may be shown members).
+        let within = top.count_between(anchor, anchor + margin);
+        let shown = top.count_between(anchor, last_shown);
+        last.beyond_table = within.saturating_sub(shown) as usize;
     }
     for g in &mut out_groups {
         if g.members.len() < 2 {

@@ -2,23 +2,28 @@
 //! softmax normaliser over every candidate considered, and the shared cutoff
 //! that lets scoring threads give up early on hopeless candidates.
 //!
-//! Memory stays flat: the top-k heap holds at most k candidates, and the
-//! normaliser keeps only the costs that can still matter (within
-//! `skip_margin` of the running best; pruned as the best improves).
+//! Memory stays flat: the top-k heap holds at most k candidates, the
+//! normaliser is one running sum (rescaled when the best improves), and the
+//! cost histogram used to count near-ties beyond the table has at most
+//! `skip_margin * HIST_BINS_PER_NAT` bins.
 //!
 //! Determinism: results reach [`Collector::push`] in the enumeration's fixed
 //! order. The cutoffs that scoring threads read only ever fall, so a
 //! candidate they skip could never have entered the final top-k nor the
-//! normaliser (which counts only costs below final best + skip_margin; such
-//! a candidate is always below any cutoff ever published), and one they
+//! normaliser (which counts a cost when it is below the running best +
+//! skip_margin at its turn in the stream; such a candidate is always below
+//! any cutoff published before, since the best only falls), and one they
 //! report without a payload (cost above the top-k cutoff of the moment)
 //! could never have entered the top-k. Hence the output does not depend on
 //! thread timing.
 
 use std::cmp::Ordering;
-use std::collections::BinaryHeap;
+use std::collections::{BTreeMap, BinaryHeap};
 use std::sync::atomic::{AtomicU64, Ordering as AtomicOrdering};
 use std::sync::Arc;
+
+/// Resolution of the cost histogram (bins per unit of cost).
+pub const HIST_BINS_PER_NAT: f64 = 1024.0;
 
 /// What scoring one candidate gave.
 pub enum Outcome<T> {
@@ -90,9 +95,10 @@ pub struct Collector<T> {
     k: usize,
     skip_margin: f64,
     heap: BinaryHeap<HeapItem<T>>,
-    /// Costs within skip_margin of the running best, in stream order.
-    costs: Vec<f64>,
-    prune_at: usize,
+    /// Sum of exp(-(cost - best)) over the costs counted so far.
+    z: f64,
+    /// Counts of costs within skip_margin of the running best, by bin.
+    hist: BTreeMap<i64, u64>,
     best: f64,
     considered: u64,
     skipped: u64,
@@ -107,8 +113,24 @@ pub struct TopK<T> {
     pub considered: u64,
     /// Candidates skipped by the cutoff without exact scoring.
     pub skipped: u64,
-    /// All costs that enter the normaliser, ascending.
-    pub costs: Vec<f64>,
+    /// Histogram of the costs that entered the normaliser.
+    hist: BTreeMap<i64, u64>,
+}
+
+impl<T> TopK<T> {
+    /// Number of counted candidates with cost in [lo, hi] (to the
+    /// histogram's resolution, 1/1024).
+    pub fn count_between(&self, lo: f64, hi: f64) -> u64 {
+        let (a, b) = (bin(lo), bin(hi));
+        if a > b {
+            return 0;
+        }
+        self.hist.range(a..=b).map(|(_, n)| n).sum()
+    }
+}
+
+fn bin(cost: f64) -> i64 {
+    (cost * HIST_BINS_PER_NAT).floor() as i64
 }
 
 impl<T> Collector<T> {
@@ -117,8 +139,8 @@ impl<T> Collector<T> {
             k: k.max(1),
             skip_margin,
             heap: BinaryHeap::new(),
-            costs: Vec::new(),
-            prune_at: 1024,
+            z: 0.0,
+            hist: BTreeMap::new(),
             best: f64::INFINITY,
             considered: 0,
             skipped: 0,
@@ -166,25 +188,24 @@ impl<T> Collector<T> {
 
     fn count_cost(&mut self, cost: f64) {
         if cost < self.best {
+            // Rescale the running sum to the new best.
+            self.z = if self.best.is_finite() {
+                self.z * (-(self.best - cost)).exp()
+            } else {
+                0.0
+            };
             self.best = cost;
+            let limit = bin(self.best + self.skip_margin);
+            self.hist.split_off(&limit);
         }
         if cost < self.best + self.skip_margin {
-            self.costs.push(cost);
-            if self.costs.len() >= self.prune_at {
-                let limit = self.best + self.skip_margin;
-                self.costs.retain(|&c| c < limit);
-                self.prune_at = (2 * self.costs.len()).max(1024);
-            }
+            self.z += (-(cost - self.best)).exp();
+            *self.hist.entry(bin(cost)).or_insert(0) += 1;
         }
     }
 
     pub fn finish(self) -> TopK<T> {
-        let best = self.best;
-        let limit = best + self.skip_margin;
-        let mut costs: Vec<f64> = self.costs.into_iter().filter(|&c| c < limit).collect();
-        // Sum in ascending order: deterministic and accurate.
-        costs.sort_by(|a, b| a.total_cmp(b));
-        let z: f64 = costs.iter().map(|&c| (-(c - best)).exp()).sum();
+        let (best, z) = (self.best, self.z);
         let mut items = self.heap.into_vec();
         items.sort();
         let entries = items
@@ -202,7 +223,7 @@ impl<T> Collector<T> {
             entries,
             considered: self.considered,
             skipped: self.skipped,
-            costs,
+            hist: self.hist,
         }
     }
 }
