@@ -76,9 +76,9 @@ pub fn render(cx: &Context) -> String {
     if r.skipped > 0 {
         let _ = writeln!(
             out,
-            "{} candidates were provably far from the top (cost above both the {}th best and the best + {}) and not scored exactly; their total weight in the probabilities is below 1e-7.",
+            "{} candidates were provably far from the top (cost above both the {} best and the best + {}) and not scored exactly; their total weight in the probabilities is below 1e-7.",
             r.skipped,
-            r.candidates.len(),
+            ordinal(r.candidates.len()),
             cx.model.ranking.skip_margin
         );
     }
@@ -158,6 +158,18 @@ pub fn render(cx: &Context) -> String {
     let _ = writeln!(out);
     let _ = writeln!(out, "{SAFETY}");
     out
+}
+
+/// 1st, 2nd, 3rd, 4th, ..., 11th, 12th, 13th, 21st, ...
+fn ordinal(n: usize) -> String {
+    let suffix = match (n % 10, n % 100) {
+        (_, 11..=13) => "th",
+        (1, _) => "st",
+        (2, _) => "nd",
+        (3, _) => "rd",
+        _ => "th",
+    };
+    format!("{n}{suffix}")
 }
 
 fn display_name(c: &Ranked) -> String {
