@@ -169,7 +169,7 @@ pub fn execute(job: &Job, shortlist: Option<Vec<ShortlistItem>>) -> Result<Strin
             let r =
                 rank::rank_formula(&job.formula, &options, &steps, &settings, &mut |n, frac| {
                     bar.set_position((frac * 1000.0) as u64);
-                    bar.set_message(format!("{n} candidates"));
+                    bar.set_message(format!("{n} scored"));
                 });
             bar.finish_and_clear();
             (r?, Source::Enumeration { rules })

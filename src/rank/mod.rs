@@ -113,20 +113,20 @@ pub fn rank_shortlist(items: Vec<ShortlistItem>, steps: &Steps, settings: &Setti
     let mut collector = Collector::new(settings.top, settings.model.ranking.skip_margin);
     // A shortlist is small: score everything exactly (no cutoff), in parallel,
     // then collect in input order.
-    let outcomes: Vec<Outcome<Payload>> = items
+    let outcomes: Vec<Outcome<Box<Payload>>> = items
         .into_par_iter()
         .map(
             |it| match evaluate(&it.molecule, steps, settings, f64::INFINITY) {
                 Some((predicted, scored)) => Outcome::Scored {
                     cost: scored.cost,
                     key: it.smiles.clone(),
-                    item: Payload {
+                    item: Box::new(Payload {
                         molecule: it.molecule,
                         smiles: it.smiles,
                         name: it.name,
                         predicted,
                         scored,
-                    },
+                    }),
                 },
                 None => Outcome::Skipped,
             },
@@ -138,7 +138,7 @@ pub fn rank_shortlist(items: Vec<ShortlistItem>, steps: &Steps, settings: &Setti
     finish(collector, steps, settings, 0, Vec::new())
 }
 
-/// Progress callback: (candidates considered so far, fraction of the search done).
+/// Progress callback: (candidates scored so far, fraction of the search done).
 pub type ProgressFn<'a> = dyn FnMut(u64, f64) + 'a;
 
 /// Rank every isomer of `formula` the generator gives under `options`.
@@ -151,10 +151,17 @@ pub fn rank_formula(
 ) -> Result<Ranking> {
     let mut collector = Collector::new(settings.top, settings.model.ranking.skip_margin);
     let cutoff = collector.cutoff();
-    let map = |iso: &enumerate::Isomer| -> Option<Outcome<Payload>> {
+    // Results wait in the generator's chunk buffer until emitted in order,
+    // so they are kept small: a skipped candidate is no result at all, a
+    // cost-only one a number, and the payload is boxed.
+    let run = topk::new_run();
+    let k = settings.top.max(1);
+    let map = |iso: &enumerate::Isomer| -> Option<Outcome<Box<Payload>>> {
         let molecule = iso.molecule();
         Some(match evaluate(&molecule, steps, settings, cutoff.get()) {
-            Some((_, scored)) if scored.cost > cutoff.top_k() => {
+            Some((_, scored))
+                if scored.cost > cutoff.top_k() || !topk::local_admits(run, k, scored.cost) =>
+            {
                 Outcome::CostOnly { cost: scored.cost }
             }
             Some((predicted, scored)) => {
@@ -164,25 +171,25 @@ pub fn rank_formula(
                 Outcome::Scored {
                     cost: scored.cost,
                     key: smiles.clone(),
-                    item: Payload {
+                    item: Box::new(Payload {
                         molecule,
                         smiles,
                         name: None,
                         predicted,
                         scored,
-                    },
+                    }),
                 }
             }
-            None => Outcome::Skipped,
+            None => return None,
         })
     };
-    let mut considered = 0u64;
+    let mut emitted = 0u64;
     let summary = enumerate::for_each_ordered(
         formula,
         options,
         map,
         |o| {
-            considered += 1;
+            emitted += 1;
             collector.push(o);
             true
         },
@@ -195,6 +202,8 @@ pub fn rank_formula(
             progress(p.isomers, frac);
         },
     )?;
+    let considered = summary.generated - summary.excluded;
+    collector.add_skipped(considered.saturating_sub(emitted));
     if considered == 0 {
         return Err(Error::input(format!(
             "no isomer of {formula} is left to rank (the plausibility rules removed all of them; --keep-all turns them off)"
@@ -209,7 +218,7 @@ pub fn rank_formula(
 }
 
 fn finish(
-    collector: Collector<Payload>,
+    collector: Collector<Box<Payload>>,
     steps: &Steps,
     settings: &Settings,
     excluded: u64,

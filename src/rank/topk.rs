@@ -153,6 +153,12 @@ impl<T> Collector<T> {
         self.cutoff.clone()
     }
 
+    /// Count `n` candidates skipped without a result reaching the collector.
+    pub fn add_skipped(&mut self, n: u64) {
+        self.considered += n;
+        self.skipped += n;
+    }
+
     pub fn push(&mut self, outcome: Outcome<T>) {
         self.considered += 1;
         let (cost, key, item) = match outcome {
@@ -228,6 +234,60 @@ impl<T> Collector<T> {
     }
 }
 
+/// A cost with a total order, for the per-thread heaps.
+#[derive(Clone, Copy, PartialEq)]
+struct Cost(f64);
+impl Eq for Cost {}
+impl PartialOrd for Cost {
+    fn partial_cmp(&self, o: &Self) -> Option<Ordering> {
+        Some(self.cmp(o))
+    }
+}
+impl Ord for Cost {
+    fn cmp(&self, o: &Self) -> Ordering {
+        self.0.total_cmp(&o.0)
+    }
+}
+
+thread_local! {
+    /// Per scoring thread: the run it belongs to and the k lowest costs this
+    /// thread has seen in that run.
+    static LOCAL: std::cell::RefCell<(u64, BinaryHeap<Cost>)> =
+        const { std::cell::RefCell::new((0, BinaryHeap::new())) };
+}
+
+static RUNS: AtomicU64 = AtomicU64::new(1);
+
+/// Identifies one ranking run for [`local_admits`].
+pub fn new_run() -> u64 {
+    RUNS.fetch_add(1, AtomicOrdering::Relaxed)
+}
+
+/// Whether a candidate of `cost` may still reach the final top-k, judged
+/// from what this thread alone has seen in `run`: if it has already seen k
+/// candidates that cost less, k better candidates exist and this one cannot.
+/// Records the cost. Why: before the first results are emitted in order the
+/// shared cutoff is still infinite, and without this bound every candidate
+/// of the first parallel chunk would carry a full payload (for a formula
+/// with millions of isomers, gigabytes).
+pub fn local_admits(run: u64, k: usize, cost: f64) -> bool {
+    LOCAL.with(|cell| {
+        let mut l = cell.borrow_mut();
+        if l.0 != run {
+            *l = (run, BinaryHeap::new());
+        }
+        let heap = &mut l.1;
+        let admits = heap.len() < k || heap.peek().is_some_and(|w| cost <= w.0);
+        if admits {
+            heap.push(Cost(cost));
+            if heap.len() > k {
+                heap.pop();
+            }
+        }
+        admits
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -254,6 +314,19 @@ mod tests {
             .map(|c| (-c).exp())
             .sum();
         assert!((t.entries[0].1 - (-1.0f64).exp() / z).abs() < 1e-12);
+    }
+
+    #[test]
+    fn a_thread_rejects_what_k_better_candidates_already_beat() {
+        let run = new_run();
+        assert!(local_admits(run, 2, 5.0));
+        assert!(local_admits(run, 2, 3.0));
+        assert!(local_admits(run, 2, 4.0));
+        // 3 and 4 are better: 6 cannot be in the top 2; a tie with 4 may be.
+        assert!(!local_admits(run, 2, 6.0));
+        assert!(local_admits(run, 2, 4.0));
+        // A new run starts afresh.
+        assert!(local_admits(new_run(), 2, 100.0));
     }
 
     #[test]
