@@ -189,9 +189,14 @@ pub fn reason(predicted: &[PredictedSignal], spectrum: &Spectrum, e: &Explanatio
             (Some(j), Some(t)) => {
                 let o = &spectrum.multiplets[j];
                 let d = o.distance(p.shift);
-                if t.shift > 2.0 && d > 0.0 {
+                // The deviation part of the shift term (without the sigma
+                // normalisation, which every match pays): worth naming when
+                // beyond two sigma.
+                let z = d / p.sigma.max(1e-6);
+                let deviation = z * z / 2.0;
+                if deviation > 2.0 {
                     worst.push((
-                        t.shift,
+                        deviation,
                         format!(
                             "{}H predicted at {:.2} for the {} signal at {} (off by {:.2} ppm)",
                             p.hydrogens,
