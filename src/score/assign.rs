@@ -126,19 +126,15 @@ struct Search<'a> {
 /// (`f64::INFINITY` for no cutoff). `None` when none is.
 pub fn solve(c: &Costs, cutoff: f64) -> Option<Solution> {
     let (g, m) = (c.groups, c.multiplets);
-    // Separable options of each group, cheapest first.
-    let opts: Vec<Vec<(f64, u16)>> = (0..g)
+    // Cheap root bound first: most candidates of a large enumeration are
+    // hopeless and leave here before any sorting or search.
+    let min_choice: Vec<f64> = (0..g)
         .map(|gi| {
-            let mut v: Vec<(f64, u16)> = (0..m)
-                .map(|j| (c.pair[gi * m + j], j as u16))
-                .chain(std::iter::once((c.unassigned[gi], NONE)))
-                .collect();
-            v.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
-            v
+            c.pair[gi * m..(gi + 1) * m]
+                .iter()
+                .fold(c.unassigned[gi], |a, &b| a.min(b))
         })
         .collect();
-    // Cheap root bound: skip a hopeless candidate before any search.
-    let min_choice: Vec<f64> = opts.iter().map(|v| v[0].0).collect();
     let root = min_choice.iter().sum::<f64>()
         + (0..m)
             .map(|j| {
@@ -151,13 +147,27 @@ pub fn solve(c: &Costs, cutoff: f64) -> Option<Solution> {
     if root >= cutoff {
         return None;
     }
-    // Greedy incumbent: each group on its cheapest option.
-    let greedy: Vec<u16> = opts.iter().map(|v| v[0].1).collect();
-    let greedy_cost = c.evaluate(&greedy);
     // Larger groups first: they decide the integrals; ties by index.
     let mut order: Vec<usize> = (0..g).collect();
     order.sort_by(|&a, &b| c.hydrogens[b].cmp(&c.hydrogens[a]).then(a.cmp(&b)));
-    let options: Vec<Vec<(f64, u16)>> = order.iter().map(|&gi| opts[gi].clone()).collect();
+    // Separable options of each group (in search order), cheapest first.
+    let options: Vec<Vec<(f64, u16)>> = order
+        .iter()
+        .map(|&gi| {
+            let mut v: Vec<(f64, u16)> = (0..m)
+                .map(|j| (c.pair[gi * m + j], j as u16))
+                .chain(std::iter::once((c.unassigned[gi], NONE)))
+                .collect();
+            v.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+            v
+        })
+        .collect();
+    // Greedy incumbent: each group on its cheapest option.
+    let mut greedy = vec![NONE; g];
+    for (d, &gi) in order.iter().enumerate() {
+        greedy[gi] = options[d][0].1;
+    }
+    let greedy_cost = c.evaluate(&greedy);
     let mut suffix_min = vec![0.0; g + 1];
     let mut suffix_h = vec![0u32; g + 1];
     for d in (0..g).rev() {
