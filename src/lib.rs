@@ -24,5 +24,9 @@ pub mod cli;
 pub mod enumerate;
 pub mod error;
 pub mod predict;
+pub mod rank;
+pub mod report;
+pub mod score;
+pub mod spectrum;
 
 pub use error::{Error, Result};

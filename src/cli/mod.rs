@@ -4,9 +4,11 @@
 //! (0 success, 2 bad input, 1 internal fault). A closed output pipe
 //! (`isomerank isomers ... | head`) is a normal end.
 
+mod demo;
 mod isomers;
 pub mod output;
 mod predict;
+mod rank;
 
 use clap::{Parser, Subcommand};
 
@@ -31,6 +33,10 @@ pub enum Command {
     Isomers(isomers::Args),
     /// Predict the 1H multiplet list of one structure (SMILES).
     Predict(predict::Args),
+    /// Rank the isomers of a formula (or a shortlist) against an observed 1H multiplet list.
+    Rank(rank::Args),
+    /// Run the ranking on an embedded, invented scenario.
+    Demo(demo::Args),
 }
 
 /// Run the program; returns the process exit code.
@@ -52,6 +58,8 @@ pub fn main() -> i32 {
     let result = match cli.command {
         Command::Isomers(args) => isomers::run(args),
         Command::Predict(args) => predict::run(args),
+        Command::Rank(args) => rank::run(args),
+        Command::Demo(args) => demo::run(args),
     };
     match result {
         Ok(()) => 0,

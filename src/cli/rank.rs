@@ -1,0 +1,310 @@
+//! `isomerank rank FORMULA --peaks TEXT | --spectrum FILE`: rank every
+//! isomer of the formula (or a shortlist) against an observed 1H multiplet
+//! list and print the table, the groups the data cannot separate, an
+//! optional signal-by-signal assignment, and the safety wording.
+
+use crate::chem::smiles::{canonical_smiles, parse_smiles};
+use crate::chem::{Formula, Molecule};
+use crate::enumerate::{self, rules::RuleSet};
+use crate::error::{Error, Result};
+use crate::predict::{PredictOptions, Predictor};
+use crate::rank::{self, carbon::carbon_signals, Ranking, Settings, ShortlistItem, Steps};
+use crate::report::{self, Context, Source};
+use crate::score::ScoringModel;
+use crate::spectrum::{file, integrals, journal, SolventTable, Spectrum};
+use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
+use std::io::{IsTerminal, Read, Write};
+use std::path::PathBuf;
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
+pub enum Format {
+    Text,
+    Json,
+}
+
+#[derive(clap::Args)]
+#[command(after_help = "Examples:
+  isomerank rank C4H8O2 --peaks '1H NMR (400 MHz, CDCl3) δ 4.12 (q, J = 7.1 Hz, 2H), 2.05 (s, 3H), 1.26 (t, J = 7.1 Hz, 3H)'
+  isomerank rank C4H8O2 --spectrum batch.toml --top 5 --explain 1
+  isomerank rank C4H8O2 --peaks '...' --format json
+  isomerank isomers C5H10O2 --plausible | isomerank rank C5H10O2 --candidates - --peaks '...'
+
+The peak list is journal style: optional header `1H NMR (MHz, solvent) δ`, then entries
+`shift (multiplicity, J = .. Hz, nH)` separated by commas; a shift may be a range (7.32-7.15).
+Integrals written as `2H` are H counts; bare numbers are relative and scaled to the formula.")]
+pub struct Args {
+    /// Molecular formula, e.g. C4H8O2.
+    pub formula: String,
+    /// Observed multiplets in journal style (see below).
+    #[arg(
+        long,
+        value_name = "TEXT",
+        required_unless_present = "spectrum",
+        conflicts_with = "spectrum"
+    )]
+    pub peaks: Option<String>,
+    /// Observed multiplets from a TOML or JSON file (keys: formula, solvent,
+    /// frequency, integrals, multiplets = [{shift or range, multiplicity, j, integral}]).
+    #[arg(long, value_name = "FILE")]
+    pub spectrum: Option<PathBuf>,
+    /// Rank only these structures: one SMILES a line, optional name after
+    /// whitespace; `-` reads standard input.
+    #[arg(long, value_name = "FILE")]
+    pub candidates: Option<String>,
+    /// Rank every isomer: do not apply the plausibility rules.
+    #[arg(long)]
+    pub keep_all: bool,
+    /// Allow the expanded valences S(IV), S(VI) and P(V) (sulfoxides,
+    /// sulfones, phosphine oxides).
+    #[arg(long)]
+    pub expanded_valence: bool,
+    /// Number of candidates in the table.
+    #[arg(long, default_value_t = 10, value_name = "N")]
+    pub top: usize,
+    /// Print candidate N's signal-by-signal assignment.
+    #[arg(long, value_name = "N")]
+    pub explain: Option<usize>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Text)]
+    pub format: Format,
+}
+
+/// Everything a ranking run needs, validated.
+pub struct Job {
+    pub formula: Formula,
+    pub spectrum: Spectrum,
+    pub top: usize,
+    pub explain: Option<usize>,
+    pub format: Format,
+    pub keep_all: bool,
+    pub expanded_valence: bool,
+}
+
+pub fn run(args: Args) -> Result<()> {
+    let formula = Formula::parse(&args.formula)?;
+    formula.check_neutral()?;
+    let raw = match (&args.peaks, &args.spectrum) {
+        (Some(text), _) => journal::parse(text)?,
+        (None, Some(path)) => {
+            let name = path.display().to_string();
+            let text = std::fs::read_to_string(path)
+                .map_err(|e| Error::input(format!("cannot read spectrum file {name}: {e}")))?;
+            let f = file::parse(&name, &text)?;
+            if let Some(ff) = &f.formula {
+                let theirs = Formula::parse(ff)
+                    .map_err(|e| Error::input(format!("{name}: formula \"{ff}\": {e}")))?;
+                if theirs != formula {
+                    return Err(Error::input(format!(
+                        "{name} is for {theirs} but the command line asks for {formula}"
+                    )));
+                }
+            }
+            f.spectrum
+        }
+        (None, None) => {
+            return Err(Error::input(
+                "no observed data: give --peaks TEXT or --spectrum FILE",
+            ))
+        }
+    };
+    let spectrum = integrals::build(raw, &formula, &SolventTable::embedded())?;
+    let job = Job {
+        formula,
+        spectrum,
+        top: args.top,
+        explain: args.explain,
+        format: args.format,
+        keep_all: args.keep_all,
+        expanded_valence: args.expanded_valence,
+    };
+    let shortlist = match &args.candidates {
+        Some(src) => Some(read_shortlist(src, &job.formula)?),
+        None => None,
+    };
+    let text = execute(&job, shortlist)?;
+    print_all(&text)
+}
+
+/// Check the options, rank, and render the report (nothing is printed here).
+pub fn execute(job: &Job, shortlist: Option<Vec<ShortlistItem>>) -> Result<String> {
+    if job.top == 0 {
+        return Err(Error::input("--top must be at least 1"));
+    }
+    if let Some(n) = job.explain {
+        if n == 0 || n > job.top {
+            return Err(Error::input(format!(
+                "--explain {n}: give a position from 1 to {} (the length of the table, --top)",
+                job.top
+            )));
+        }
+    }
+    let model = ScoringModel::embedded();
+    let predictor = Predictor::embedded()?;
+    let opts = predict_options(&predictor, &job.spectrum);
+    let predict = |m: &Molecule| predictor.predict(m, &opts);
+    let smiles = |m: &Molecule| canonical_smiles(m);
+    let carbons = |m: &Molecule| carbon_signals(m);
+    let steps = Steps {
+        predict: &predict,
+        smiles: &smiles,
+        carbon_signals: &carbons,
+    };
+    let settings = Settings {
+        spectrum: &job.spectrum,
+        model: &model,
+        top: job.top,
+    };
+    let (ranking, source): (Ranking, Source) = match shortlist {
+        Some(items) => (
+            rank::rank_shortlist(items, &steps, &settings),
+            Source::Shortlist,
+        ),
+        None => {
+            let mut options = enumerate::Options {
+                expanded_valence: job.expanded_valence,
+                ..Default::default()
+            };
+            let rules = plausibility(&mut options, job.keep_all);
+            let bar = progress_bar(&job.formula.to_string());
+            let r =
+                rank::rank_formula(&job.formula, &options, &steps, &settings, &mut |n, frac| {
+                    bar.set_position((frac * 1000.0) as u64);
+                    bar.set_message(format!("{n} scored"));
+                });
+            bar.finish_and_clear();
+            (r?, Source::Enumeration { rules })
+        }
+    };
+    if let Some(n) = job.explain {
+        if n > ranking.candidates.len() {
+            return Err(Error::input(format!(
+                "--explain {n}: only {} candidates were ranked",
+                ranking.candidates.len()
+            )));
+        }
+    }
+    let cx = Context {
+        formula: &job.formula,
+        spectrum: &job.spectrum,
+        ranking: &ranking,
+        model: &model,
+        source,
+        explain: job.explain,
+    };
+    Ok(match job.format {
+        Format::Text => report::text::render(&cx),
+        Format::Json => report::json::render(&cx),
+    })
+}
+
+/// Switch the generator's plausibility rules on (unless `keep_all`); returns
+/// their names for the report.
+fn plausibility(options: &mut enumerate::Options, keep_all: bool) -> Vec<String> {
+    options.rules = if keep_all {
+        RuleSet::none()
+    } else {
+        RuleSet::all()
+    };
+    options
+        .rules
+        .rules
+        .iter()
+        .map(|r| r.name().to_string())
+        .collect()
+}
+
+/// The predictor's options for the spectrum's solvent and frequency
+/// (CDCl3 and 400 MHz when not given or not known to the predictor).
+fn predict_options(predictor: &Predictor, spectrum: &Spectrum) -> PredictOptions {
+    let mhz = spectrum.frequency_mhz.unwrap_or(400.0);
+    let solvent = spectrum.solvent.as_deref().unwrap_or("CDCl3");
+    let mut o = predictor
+        .options(solvent, mhz)
+        .or_else(|_| predictor.options("CDCl3", mhz))
+        .unwrap_or_default();
+    // Notes are strings per signal: not needed for scoring.
+    o.notes = false;
+    o
+}
+
+/// Read a shortlist: one SMILES a line, optional name after whitespace;
+/// blank lines and lines starting with `#` are skipped. Every structure must
+/// have `formula`. Duplicates (same canonical SMILES) are kept once.
+pub fn read_shortlist(src: &str, formula: &Formula) -> Result<Vec<ShortlistItem>> {
+    let (name, text) = if src == "-" {
+        let mut s = String::new();
+        std::io::stdin().read_to_string(&mut s).map_err(|e| {
+            Error::input(format!("cannot read candidates from standard input: {e}"))
+        })?;
+        ("standard input".to_string(), s)
+    } else {
+        let t = std::fs::read_to_string(src)
+            .map_err(|e| Error::input(format!("cannot read candidates file {src}: {e}")))?;
+        (src.to_string(), t)
+    };
+    parse_shortlist(&name, &text, formula)
+}
+
+pub fn parse_shortlist(source: &str, text: &str, formula: &Formula) -> Result<Vec<ShortlistItem>> {
+    let mut items: Vec<ShortlistItem> = Vec::new();
+    for (i, line) in text.lines().enumerate() {
+        let n = i + 1;
+        let line = line.trim();
+        if line.is_empty() || line.starts_with('#') {
+            continue;
+        }
+        let (smi, rest) = match line.find(char::is_whitespace) {
+            Some(k) => (&line[..k], line[k..].trim()),
+            None => (line, ""),
+        };
+        let mol = parse_smiles(smi)
+            .map_err(|e| Error::input(format!("{source}, line {n}: \"{smi}\": {e}")))?;
+        let f = mol.formula();
+        if f != *formula {
+            return Err(Error::input(format!(
+                "{source}, line {n}: \"{smi}\" is {f}, not {formula}"
+            )));
+        }
+        let canon = canonical_smiles(&mol);
+        if items.iter().any(|it| it.smiles == canon) {
+            continue;
+        }
+        items.push(ShortlistItem {
+            molecule: mol,
+            smiles: canon,
+            name: (!rest.is_empty()).then(|| rest.to_string()),
+        });
+    }
+    if items.is_empty() {
+        return Err(Error::input(format!(
+            "{source}: no candidate structures (one SMILES a line)"
+        )));
+    }
+    Ok(items)
+}
+
+/// A progress bar on stderr, only when stderr is a terminal.
+fn progress_bar(label: &str) -> ProgressBar {
+    let bar = if std::io::stderr().is_terminal() {
+        ProgressBar::with_draw_target(Some(1000), ProgressDrawTarget::stderr())
+    } else {
+        ProgressBar::hidden()
+    };
+    bar.set_style(
+        ProgressStyle::with_template(
+            "ranking {prefix} [{bar:30}] {percent:>3}%, {msg} (about {eta} left)",
+        )
+        .expect("valid progress template")
+        .progress_chars("=> "),
+    );
+    bar.set_prefix(label.to_string());
+    bar
+}
+
+/// Write the whole report at once.
+pub fn print_all(text: &str) -> Result<()> {
+    let mut out = std::io::stdout().lock();
+    out.write_all(text.as_bytes())?;
+    out.flush()?;
+    Ok(())
+}

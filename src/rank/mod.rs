@@ -1,0 +1,296 @@
+//! Ranking: score every candidate (all isomers of a formula, streamed from
+//! the generator, or a shortlist) in parallel, keep a bounded top-k, turn
+//! costs into probabilities (softmax over every candidate considered), group
+//! the candidates the data cannot separate and say what would separate them.
+//!
+//! The structure-specific steps (prediction, SMILES, 13C symmetry classes)
+//! come in as functions in [`Steps`], so that this module depends only on
+//! the molecule type, the predicted signals and the scorer.
+
+pub mod carbon;
+pub mod evidence;
+pub mod groups;
+pub mod topk;
+
+use crate::chem::{Formula, Molecule};
+use crate::enumerate;
+use crate::error::{Error, Result};
+use crate::predict::PredictedSignal;
+use crate::score::{self, Scored, ScoringModel};
+use crate::spectrum::Spectrum;
+use rayon::prelude::*;
+use topk::{Collector, Outcome};
+
+/// The structure-specific steps the ranker calls.
+pub struct Steps<'a> {
+    /// Predicted 1H multiplet list of a structure.
+    pub predict: &'a (dyn Fn(&Molecule) -> Vec<PredictedSignal> + Sync),
+    /// Canonical SMILES of a structure.
+    pub smiles: &'a (dyn Fn(&Molecule) -> String + Sync),
+    /// Number of 13C signals expected (carbon symmetry classes).
+    pub carbon_signals: &'a (dyn Fn(&Molecule) -> usize + Sync),
+}
+
+/// What to rank against and how many to keep.
+pub struct Settings<'a> {
+    pub spectrum: &'a Spectrum,
+    pub model: &'a ScoringModel,
+    /// Length of the table (`--top`).
+    pub top: usize,
+}
+
+/// One candidate of a shortlist.
+pub struct ShortlistItem {
+    pub molecule: Molecule,
+    pub smiles: String,
+    pub name: Option<String>,
+}
+
+/// A ranked candidate.
+#[derive(Clone, Debug)]
+pub struct Ranked {
+    /// 1-based position in the ranking.
+    pub position: usize,
+    pub smiles: String,
+    pub name: Option<String>,
+    pub cost: f64,
+    pub probability: f64,
+    /// 1-based group number: equal numbers cannot be told apart by the data.
+    pub group: usize,
+    pub predicted: Vec<PredictedSignal>,
+    pub scored: Scored,
+    pub carbon_signals: usize,
+}
+
+/// A group of candidates the data cannot separate.
+#[derive(Clone, Debug)]
+pub struct Group {
+    pub id: usize,
+    /// Positions (1-based) of the members shown in the table.
+    pub members: Vec<usize>,
+    /// Candidates beyond the table that also belong to this group.
+    pub beyond_table: usize,
+    pub evidence: Vec<String>,
+}
+
+/// The result of a ranking.
+#[derive(Clone, Debug)]
+pub struct Ranking {
+    pub candidates: Vec<Ranked>,
+    pub groups: Vec<Group>,
+    /// Candidates scored or skipped (after the plausibility rules).
+    pub considered: u64,
+    /// Candidates skipped by the cutoff (provably far below the top).
+    pub skipped: u64,
+    /// Candidates removed by plausibility rules before scoring.
+    pub excluded: u64,
+    /// Per rule: name and how many it removed.
+    pub rules: Vec<(String, u64)>,
+}
+
+struct Payload {
+    molecule: Molecule,
+    smiles: String,
+    name: Option<String>,
+    predicted: Vec<PredictedSignal>,
+    scored: Scored,
+}
+
+/// Predict and score one structure; `None` when it cannot beat `cutoff`.
+fn evaluate(
+    molecule: &Molecule,
+    steps: &Steps,
+    settings: &Settings,
+    cutoff: f64,
+) -> Option<(Vec<PredictedSignal>, Scored)> {
+    let predicted = (steps.predict)(molecule);
+    let scored = score::score(&predicted, settings.spectrum, settings.model, cutoff)?;
+    Some((predicted, scored))
+}
+
+/// Rank a shortlist (every item must already have the formula).
+pub fn rank_shortlist(items: Vec<ShortlistItem>, steps: &Steps, settings: &Settings) -> Ranking {
+    let mut collector = Collector::new(settings.top, settings.model.ranking.skip_margin);
+    // A shortlist is small: score everything exactly (no cutoff), in parallel,
+    // then collect in input order.
+    let outcomes: Vec<Outcome<Box<Payload>>> = items
+        .into_par_iter()
+        .map(
+            |it| match evaluate(&it.molecule, steps, settings, f64::INFINITY) {
+                Some((predicted, scored)) => Outcome::Scored {
+                    cost: scored.cost,
+                    key: it.smiles.clone(),
+                    item: Box::new(Payload {
+                        molecule: it.molecule,
+                        smiles: it.smiles,
+                        name: it.name,
+                        predicted,
+                        scored,
+                    }),
+                },
+                None => Outcome::Skipped,
+            },
+        )
+        .collect();
+    for o in outcomes {
+        collector.push(o);
+    }
+    finish(collector, steps, settings, 0, Vec::new())
+}
+
+/// Progress callback: (candidates scored so far, fraction of the search done).
+pub type ProgressFn<'a> = dyn FnMut(u64, f64) + 'a;
+
+/// Rank every isomer of `formula` the generator gives under `options`.
+pub fn rank_formula(
+    formula: &Formula,
+    options: &enumerate::Options,
+    steps: &Steps,
+    settings: &Settings,
+    progress: &mut ProgressFn,
+) -> Result<Ranking> {
+    let mut collector = Collector::new(settings.top, settings.model.ranking.skip_margin);
+    let cutoff = collector.cutoff();
+    // Results wait in the generator's chunk buffer until emitted in order,
+    // so they are kept small: a skipped candidate is no result at all, a
+    // cost-only one a number, and the payload is boxed.
+    let run = topk::new_run();
+    let k = settings.top.max(1);
+    let map = |iso: &enumerate::Isomer| -> Option<Outcome<Box<Payload>>> {
+        let molecule = iso.molecule();
+        Some(match evaluate(&molecule, steps, settings, cutoff.get()) {
+            Some((_, scored))
+                if scored.cost > cutoff.top_k() || !topk::local_admits(run, k, scored.cost) =>
+            {
+                Outcome::CostOnly { cost: scored.cost }
+            }
+            Some((predicted, scored)) => {
+                // SMILES only for candidates that may rank (it costs a
+                // canonical labelling).
+                let smiles = (steps.smiles)(&molecule);
+                Outcome::Scored {
+                    cost: scored.cost,
+                    key: smiles.clone(),
+                    item: Box::new(Payload {
+                        molecule,
+                        smiles,
+                        name: None,
+                        predicted,
+                        scored,
+                    }),
+                }
+            }
+            None => return None,
+        })
+    };
+    let mut emitted = 0u64;
+    let summary = enumerate::for_each_ordered(
+        formula,
+        options,
+        map,
+        |o| {
+            emitted += 1;
+            collector.push(o);
+            true
+        },
+        &mut |p: enumerate::Progress| {
+            let frac = if p.tasks_total == 0 {
+                1.0
+            } else {
+                p.tasks_done as f64 / p.tasks_total as f64
+            };
+            progress(p.isomers, frac);
+        },
+    )?;
+    let considered = summary.generated - summary.excluded;
+    collector.add_skipped(considered.saturating_sub(emitted));
+    if considered == 0 {
+        return Err(Error::input(format!(
+            "no isomer of {formula} is left to rank (the plausibility rules removed all of them; --keep-all turns them off)"
+        )));
+    }
+    let rules = summary
+        .flagged
+        .iter()
+        .map(|(r, n)| (r.name().to_string(), *n))
+        .collect();
+    Ok(finish(collector, steps, settings, summary.excluded, rules))
+}
+
+fn finish(
+    collector: Collector<Box<Payload>>,
+    steps: &Steps,
+    settings: &Settings,
+    excluded: u64,
+    rules: Vec<(String, u64)>,
+) -> Ranking {
+    let margin = settings.model.ranking.indistinguishable_margin;
+    let mut top = collector.finish();
+    let costs: Vec<f64> = top.entries.iter().map(|e| e.0).collect();
+    let ids = groups::group_ids(&costs, margin);
+    let candidates: Vec<Ranked> = std::mem::take(&mut top.entries)
+        .into_iter()
+        .zip(&ids)
+        .enumerate()
+        .map(|(i, ((cost, probability, p), &group))| Ranked {
+            position: i + 1,
+            carbon_signals: (steps.carbon_signals)(&p.molecule),
+            smiles: p.smiles,
+            name: p.name,
+            cost,
+            probability,
+            group,
+            predicted: p.predicted,
+            scored: p.scored,
+        })
+        .collect();
+    // Groups with their members; the last group may continue past the table.
+    let mut out_groups: Vec<Group> = Vec::new();
+    for c in &candidates {
+        match out_groups.last_mut() {
+            Some(g) if g.id == c.group => g.members.push(c.position),
+            _ => out_groups.push(Group {
+                id: c.group,
+                members: vec![c.position],
+                beyond_table: 0,
+                evidence: Vec::new(),
+            }),
+        }
+    }
+    if let Some(last) = out_groups.last_mut() {
+        let anchor = candidates[last.members[0] - 1].cost;
+        let last_shown = candidates[*last.members.last().unwrap_or(&1) - 1].cost;
+        // Counted candidates after the last one shown and within the margin
+        // of the group's first member (ties with the last shown cost are
+        // not counted: they may be shown members).
+        let within = top.count_between(anchor, anchor + margin);
+        let shown = top.count_between(anchor, last_shown);
+        last.beyond_table = within.saturating_sub(shown) as usize;
+    }
+    for g in &mut out_groups {
+        if g.members.len() < 2 {
+            continue;
+        }
+        let members: Vec<evidence::Member> = g
+            .members
+            .iter()
+            .map(|&pos| {
+                let c = &candidates[pos - 1];
+                evidence::Member {
+                    label: format!("#{pos}"),
+                    predicted: &c.predicted,
+                    carbon_signals: Some(c.carbon_signals),
+                }
+            })
+            .collect();
+        g.evidence = evidence::separating_evidence(&members);
+    }
+    Ranking {
+        candidates,
+        groups: out_groups,
+        considered: top.considered,
+        skipped: top.skipped,
+        excluded,
+        rules,
+    }
+}

@@ -1,0 +1,121 @@
+//! The JSON report (`--format json`), a stable schema for scripts:
+//!
+//! ```text
+//! {"formula": str, "dbe": number, "isomers_considered": int,
+//!  "isomers_excluded": int,
+//!  "candidates": [{"position": int, "smiles": str, "cost": f64,
+//!                  "probability": f64, "group": int,
+//!                  "assignment": [{"observed": int or null,
+//!                                  "predicted_shift": f64,
+//!                                  "observed_shift": f64 or null,
+//!                                  "hydrogens": int,
+//!                                  "predicted_multiplicity": str,
+//!                                  "observed_multiplicity": str or null}]}]}
+//! ```
+//!
+//! `observed` is the entry number (1-based) of the observed multiplet in the
+//! input. Keys added beside the schema (never removed or renamed): per
+//! candidate `name` (shortlists), `reason`, `carbon_signals`,
+//! `unexplained_observed` (entries no group explains); at the top level
+//! `source`, `plausibility_rules`, `skipped`, `notes`, `groups` (with
+//! `evidence`) and `safety`.
+
+use super::{Context, Source, SAFETY};
+use crate::score;
+use serde_json::{json, Value};
+
+pub fn render(cx: &Context) -> String {
+    let s = cx.spectrum;
+    let r = cx.ranking;
+    let candidates: Vec<Value> = r
+        .candidates
+        .iter()
+        .map(|c| {
+            let e = score::explain(&c.predicted, s, cx.model, &c.scored);
+            let assignment: Vec<Value> = c
+                .predicted
+                .iter()
+                .zip(&c.scored.assigned)
+                .map(|(p, a)| {
+                    let o = a.map(|j| &s.multiplets[j]);
+                    json!({
+                        "observed": o.map(|o| o.entry),
+                        "predicted_shift": round4(p.shift),
+                        "observed_shift": o.map(|o| o.shift),
+                        "hydrogens": p.hydrogens,
+                        "predicted_multiplicity": p.multiplicity.label(),
+                        "observed_multiplicity": o.map(|o| o.pattern.label()),
+                    })
+                })
+                .collect();
+            let unexplained: Vec<usize> = e
+                .multiplets
+                .iter()
+                .filter(|m| m.groups.is_empty())
+                .map(|m| s.multiplets[m.observed].entry)
+                .collect();
+            let mut v = json!({
+                "position": c.position,
+                "smiles": c.smiles,
+                "cost": round4(c.cost),
+                "probability": c.probability,
+                "group": c.group,
+                "assignment": assignment,
+                "reason": score::reason(&c.predicted, s, &e),
+                "carbon_signals": c.carbon_signals,
+                "unexplained_observed": unexplained,
+            });
+            if let Some(n) = &c.name {
+                v["name"] = json!(n);
+            }
+            v
+        })
+        .collect();
+    let groups: Vec<Value> = r
+        .groups
+        .iter()
+        .map(|g| {
+            json!({"group": g.id, "members": g.members, "beyond_table": g.beyond_table, "evidence": g.evidence})
+        })
+        .collect();
+    let (source, rules) = match &cx.source {
+        Source::Enumeration { rules } => (
+            "all isomers",
+            rules
+                .iter()
+                .map(|name| {
+                    let n = r
+                        .rules
+                        .iter()
+                        .find(|(k, _)| k == name)
+                        .map(|x| x.1)
+                        .unwrap_or(0);
+                    json!({"rule": name, "removed": n})
+                })
+                .collect::<Vec<_>>(),
+        ),
+        Source::Shortlist => ("shortlist", Vec::new()),
+    };
+    let doc = json!({
+        "formula": cx.formula.to_string(),
+        "dbe": cx.formula.dbe(),
+        "isomers_considered": r.considered,
+        "isomers_excluded": r.excluded,
+        "candidates": candidates,
+        "source": source,
+        "plausibility_rules": rules,
+        "skipped": r.skipped,
+        "notes": s.notes,
+        "groups": groups,
+        "safety": SAFETY,
+    });
+    let mut text = serde_json::to_string_pretty(&doc).expect("JSON of plain values");
+    text.push('\n');
+    text
+}
+
+/// Four decimals are plenty for a cost or shift and keep the output stable
+/// against last-bit differences in summation.
+fn round4(x: f64) -> f64 {
+    (x * 1e4).round() / 1e4
+}

@@ -1,0 +1,350 @@
+//! The text report: header (formula, DBE, data, what was enumerated and which
+//! plausibility rules were applied), the ranked table, the groups the data
+//! cannot separate with the evidence that would, an optional signal-by-signal
+//! assignment, and the safety wording.
+
+use super::{Context, Source, SAFETY};
+use crate::predict::PredictedSignal;
+use crate::rank::Ranked;
+use crate::score::{self, Explanation};
+use crate::spectrum::{ObservedMultiplet, Spectrum};
+use std::fmt::Write;
+
+/// Groups whose first member has less probability than this are listed
+/// without the evidence lines (they do not compete for the answer).
+const EVIDENCE_MIN_PROBABILITY: f64 = 1e-3;
+/// At most this many evidence lines per group in the text report (the JSON
+/// report has them all).
+const MAX_EVIDENCE_LINES: usize = 4;
+
+pub fn render(cx: &Context) -> String {
+    let mut out = String::new();
+    let r = cx.ranking;
+    let s = cx.spectrum;
+    let _ = writeln!(
+        out,
+        "{}  (DBE {})  against {} observed multiplet{}{}",
+        cx.formula,
+        fmt_dbe(cx.formula.dbe()),
+        s.multiplets.len(),
+        if s.multiplets.len() == 1 { "" } else { "s" },
+        header_of(s)
+    );
+    match &cx.source {
+        Source::Enumeration { rules } => {
+            let _ = writeln!(
+                out,
+                "Candidates: every constitutional isomer of {}: {} considered{}.",
+                cx.formula,
+                r.considered,
+                if r.excluded > 0 {
+                    format!(", {} excluded by plausibility rules", r.excluded)
+                } else {
+                    String::new()
+                }
+            );
+            if rules.is_empty() {
+                let _ = writeln!(out, "Plausibility rules: off (--keep-all).");
+            } else {
+                let counts: Vec<String> = rules
+                    .iter()
+                    .map(|name| {
+                        let n = r
+                            .rules
+                            .iter()
+                            .find(|(k, _)| k == name)
+                            .map(|x| x.1)
+                            .unwrap_or(0);
+                        format!("{name} ({n} removed)")
+                    })
+                    .collect();
+                let _ = writeln!(
+                    out,
+                    "Plausibility rules applied (--keep-all turns them off): {}.",
+                    counts.join(", ")
+                );
+            }
+        }
+        Source::Shortlist => {
+            let _ = writeln!(
+                out,
+                "Candidates: a shortlist of {} structures.",
+                r.considered
+            );
+        }
+    }
+    if r.skipped > 0 {
+        let _ = writeln!(
+            out,
+            "{} candidates were provably far from the top (cost above both the {} best and the best + {}) and not scored exactly; their total weight in the probabilities is below 1e-7.",
+            r.skipped,
+            ordinal(r.candidates.len()),
+            cx.model.ranking.skip_margin
+        );
+    }
+    for n in &s.notes {
+        let _ = writeln!(out, "Note: {n}");
+    }
+    let _ = writeln!(out);
+    let width = r
+        .candidates
+        .iter()
+        .map(|c| display_name(c).chars().count())
+        .max()
+        .unwrap_or(6)
+        .clamp(6, 48);
+    let _ = writeln!(
+        out,
+        "{:>4}  {:>11}  {:>7}  {:>5}  {:<width$}  reason",
+        "rank", "probability", "cost", "group", "SMILES"
+    );
+    for c in &r.candidates {
+        let e = score::explain(&c.predicted, s, cx.model, &c.scored);
+        let reason = score::reason(&c.predicted, s, &e);
+        let _ = writeln!(
+            out,
+            "{:>4}  {:>11}  {:>7.2}  {:>5}  {:<width$}  {}",
+            c.position,
+            fmt_probability(c.probability),
+            c.cost,
+            c.group,
+            display_name(c),
+            reason
+        );
+    }
+    let shared: Vec<_> = r
+        .groups
+        .iter()
+        .filter(|g| g.members.len() > 1 || g.beyond_table > 0)
+        .collect();
+    if !shared.is_empty() {
+        let _ = writeln!(out);
+        let _ = writeln!(
+            out,
+            "Candidates the data cannot separate (costs within {} of the group's first member):",
+            cx.model.ranking.indistinguishable_margin
+        );
+        for g in shared {
+            let members: Vec<String> = g.members.iter().map(|p| format!("#{p}")).collect();
+            let more = if g.beyond_table > 0 {
+                format!(" and {} more beyond the table (--top)", g.beyond_table)
+            } else {
+                String::new()
+            };
+            let _ = writeln!(out, "  group {}: {}{}", g.id, members.join(", "), more);
+            if g.evidence.is_empty()
+                && g.members.len() > 1
+                && r.candidates[g.members[0] - 1].probability >= EVIDENCE_MIN_PROBABILITY
+            {
+                let _ = writeln!(out, "    no 13C count, multiplicity or J difference separates them: other data are needed (13C shifts, 2D NMR, MS fragments)");
+            }
+            // Evidence matters for groups that hold real probability; for the
+            // rest the table says enough.
+            let first_p = r.candidates[g.members[0] - 1].probability;
+            if first_p < EVIDENCE_MIN_PROBABILITY {
+                continue;
+            }
+            for ev in g.evidence.iter().take(MAX_EVIDENCE_LINES) {
+                let _ = writeln!(out, "    to separate them: {ev}");
+            }
+        }
+    }
+    if let Some(n) = cx.explain {
+        if let Some(c) = r.candidates.get(n - 1) {
+            let _ = writeln!(out);
+            out.push_str(&explanation(cx, c));
+        }
+    }
+    let _ = writeln!(out);
+    let _ = writeln!(out, "{SAFETY}");
+    out
+}
+
+/// 1st, 2nd, 3rd, 4th, ..., 11th, 12th, 13th, 21st, ...
+fn ordinal(n: usize) -> String {
+    let suffix = match (n % 10, n % 100) {
+        (_, 11..=13) => "th",
+        (1, _) => "st",
+        (2, _) => "nd",
+        (3, _) => "rd",
+        _ => "th",
+    };
+    format!("{n}{suffix}")
+}
+
+fn display_name(c: &Ranked) -> String {
+    match &c.name {
+        Some(n) => format!("{} ({n})", c.smiles),
+        None => c.smiles.clone(),
+    }
+}
+
+fn header_of(s: &Spectrum) -> String {
+    let mut parts = Vec::new();
+    if let Some(f) = s.frequency_mhz {
+        parts.push(format!("{f} MHz"));
+    }
+    if let Some(sv) = &s.solvent {
+        parts.push(sv.clone());
+    }
+    if parts.is_empty() {
+        String::new()
+    } else {
+        format!(" (1H NMR, {})", parts.join(", "))
+    }
+}
+
+fn fmt_dbe(d: f64) -> String {
+    if d.fract() == 0.0 {
+        format!("{}", d as i64)
+    } else {
+        format!("{d:.1}")
+    }
+}
+
+/// Probabilities: three decimals, or scientific for tiny ones.
+pub fn fmt_probability(p: f64) -> String {
+    if p >= 0.001 {
+        format!("{p:.3}")
+    } else if p > 0.0 {
+        format!("{p:.1e}")
+    } else {
+        "0".to_string()
+    }
+}
+
+fn fmt_signal(p: &PredictedSignal) -> String {
+    let mut s = format!("{:.2} {} {}H", p.shift, p.multiplicity.label(), p.hydrogens);
+    if !p.j_hz.is_empty() {
+        let js: Vec<String> = p.j_hz.iter().map(|j| format!("{j:.0}")).collect();
+        let _ = write!(s, " J {} Hz", js.join(", "));
+    }
+    if p.exchangeable {
+        s.push_str(" exch.");
+    }
+    s
+}
+
+fn fmt_observed(o: &ObservedMultiplet) -> String {
+    let mut s = format!(
+        "entry {}: {} {}",
+        o.entry,
+        o.shift_text(),
+        o.pattern.label()
+    );
+    if let Some(h) = o.hydrogens {
+        if (h - h.round()).abs() < 0.05 {
+            let _ = write!(s, " {}H", h.round());
+        } else {
+            let _ = write!(s, " {h:.1}H");
+        }
+    }
+    if !o.j_hz.is_empty() {
+        let js: Vec<String> = o.j_hz.iter().map(|j| format!("{j}")).collect();
+        let _ = write!(s, " J {} Hz", js.join(", "));
+    }
+    s
+}
+
+/// The signal-by-signal assignment of one candidate (`--explain N`).
+pub fn explanation(cx: &Context, c: &Ranked) -> String {
+    let s = cx.spectrum;
+    let e: Explanation = score::explain(&c.predicted, s, cx.model, &c.scored);
+    let mut out = String::new();
+    let _ = writeln!(
+        out,
+        "Assignment of #{} {} (cost {:.2}; terms are -ln likelihood):",
+        c.position,
+        display_name(c),
+        c.cost
+    );
+    let pw = c
+        .predicted
+        .iter()
+        .map(|p| fmt_signal(p).len())
+        .max()
+        .unwrap_or(10)
+        .max(9);
+    let ow = s
+        .multiplets
+        .iter()
+        .map(|o| fmt_observed(o).len())
+        .max()
+        .unwrap_or(10)
+        .max(8);
+    let _ = writeln!(
+        out,
+        "  {:<pw$}     {:<ow$}  {:>6} {:>6} {:>6}",
+        "predicted", "observed", "shift", "mult", "J"
+    );
+    // Predicted groups in order of their observed multiplet, then unassigned.
+    let mut lines: Vec<&score::GroupLine> = e.groups.iter().collect();
+    lines.sort_by_key(|l| (l.observed.unwrap_or(usize::MAX), l.group));
+    for l in lines {
+        let p = &c.predicted[l.group];
+        match (l.observed, l.terms) {
+            (Some(j), Some(t)) => {
+                let _ = writeln!(
+                    out,
+                    "  {:<pw$}  -> {:<ow$}  {:>6.2} {:>6.2} {:>6.2}",
+                    fmt_signal(p),
+                    fmt_observed(&s.multiplets[j]),
+                    t.shift,
+                    t.multiplicity,
+                    t.coupling
+                );
+            }
+            _ => {
+                let _ = writeln!(
+                    out,
+                    "  {:<pw$}  -> {:<ow$}  {:>6.2} (left unassigned{})",
+                    fmt_signal(p),
+                    "not observed",
+                    l.unassigned.unwrap_or(0.0),
+                    if p.exchangeable {
+                        ", exchangeable H often missing"
+                    } else {
+                        ""
+                    }
+                );
+            }
+        }
+    }
+    for m in &e.multiplets {
+        let o = &s.multiplets[m.observed];
+        if m.groups.is_empty() {
+            let why = match &o.solvent {
+                Some(sp) => format!(
+                    "set aside as the {} peak of {} ({})",
+                    sp.kind, sp.species, sp.solvent
+                ),
+                None => "explained by no predicted group".to_string(),
+            };
+            let _ = writeln!(out, "  {}: {} cost {:.2}", fmt_observed(o), why, m.cost);
+        } else if let Some(h) = o.hydrogens {
+            let _ = writeln!(
+                out,
+                "  {}: {} H assigned for {:.1} H observed{}, cost {:.2}",
+                fmt_observed(o),
+                m.assigned_h,
+                h,
+                if m.groups.len() > 1 {
+                    format!(", {} groups overlap", m.groups.len())
+                } else {
+                    String::new()
+                },
+                m.cost
+            );
+        } else if m.groups.len() > 1 {
+            let _ = writeln!(
+                out,
+                "  {}: {} groups overlap, cost {:.2}",
+                fmt_observed(o),
+                m.groups.len(),
+                m.cost
+            );
+        }
+    }
+    let _ = writeln!(out, "  total {:.2}", e.total);
+    out
+}

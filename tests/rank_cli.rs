@@ -1,0 +1,494 @@
+//! End-to-end tests of `isomerank rank` and `isomerank demo`: every error
+//! message of the observed-data and shortlist input (exit code 2, the message
+//! on stderr, nothing on stdout), the JSON schema, shortlist mode and its
+//! composition with `isomers`, and the demo.
+
+mod common;
+
+use common::isomerank;
+use std::io::Write;
+
+const ETHYL_ACETATE: &str =
+    "1H NMR (400 MHz, CDCl3) δ 4.12 (q, J = 7.1 Hz, 2H), 2.05 (s, 3H), 1.26 (t, J = 7.1 Hz, 3H)";
+
+/// Run and expect a bad-input failure whose stderr contains `needle`.
+fn fails_with(args: &[&str], stdin: Option<&str>, needle: &str) {
+    let out = isomerank(args, stdin);
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "args {args:?}: stderr {err}");
+    assert!(out.stdout.is_empty(), "args {args:?}: stdout not empty");
+    assert!(
+        err.contains(needle),
+        "args {args:?}: stderr {err:?} lacks {needle:?}"
+    );
+}
+
+fn temp_file(name: &str, text: &str) -> std::path::PathBuf {
+    let dir = std::env::temp_dir().join(format!("isomerank-rank-cli-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let p = dir.join(name);
+    std::fs::File::create(&p)
+        .unwrap()
+        .write_all(text.as_bytes())
+        .unwrap();
+    p
+}
+
+#[test]
+fn peak_text_errors_name_entry_and_character() {
+    fails_with(
+        &[
+            "rank",
+            "C4H8O2",
+            "--peaks",
+            "4.12 (q, 2H), 1.26 (t, 3H), 2.05 (s 3H",
+        ],
+        None,
+        "entry 3 \"2.05 (s 3H\": missing \")\"",
+    );
+    fails_with(
+        &["rank", "C4H8O2", "--peaks", "4.12 (q, 2H), 2.05 (x, 3H)"],
+        None,
+        "entry 2 \"2.05 (x, 3H)\": \"x\" at character 21 is not a multiplicity",
+    );
+    fails_with(
+        &["rank", "C4H8O2", "--peaks", "4.12 q 2H"],
+        None,
+        "entry 1 \"4.12 q 2H\": unexpected \"q\" at character 6",
+    );
+    fails_with(&["rank", "C4H8O2", "--peaks", ""], None, "no multiplets");
+    fails_with(
+        &["rank", "C4H8O2", "--peaks", "72.1 (s, 3H)"],
+        None,
+        "shift 72.1 ppm is outside the 1H range",
+    );
+    fails_with(
+        &["rank", "C4H8O2", "--peaks", "4.12 (q, J = 70 Hz, 2H)"],
+        None,
+        "J = 70 Hz",
+    );
+    fails_with(
+        &["rank", "C4H8O2", "--peaks", "4.12 (q, 2H), (s, 3H)"],
+        None,
+        "entry 2 \"(s, 3H)\": expected a chemical shift",
+    );
+    fails_with(
+        &["rank", "C4H8O2", "--peaks", "4.12 (2H)"],
+        None,
+        "entry 1 \"4.12 (2H)\": no multiplicity",
+    );
+}
+
+#[test]
+fn integral_errors_show_the_numbers() {
+    fails_with(
+        &[
+            "rank",
+            "C4H8O2",
+            "--peaks",
+            "4.12 (q, 2H), 2.05 (s, 3H), 1.26 (t, 6H)",
+        ],
+        None,
+        "the integrals add up to 11 H but C4H8O2 has 8 H",
+    );
+    fails_with(
+        &["rank", "C4H8O2", "--peaks", "4.12 (q, 2H), 2.05 (s, 1.5)"],
+        None,
+        "entry 2 gives a relative number (1.50) but entry 1 gave an H count",
+    );
+    fails_with(
+        &["rank", "C4H8O2", "--peaks", "4.12 (q, 2), 2.05 (s)"],
+        None,
+        "entry 2 has no integral: relative integrals",
+    );
+}
+
+#[test]
+fn too_few_integrals_are_reported_not_rejected() {
+    // Ethanol without the OH: 5 of 6 H (exchangeable H may be missing).
+    let out = isomerank(
+        &["rank", "C2H6O", "--peaks", "3.72 (q, 2H), 1.25 (t, 3H)"],
+        None,
+    );
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(
+        text.contains("add up to 5 H of the 6 H in C2H6O: 1 H not observed"),
+        "{text}"
+    );
+}
+
+#[test]
+fn spectrum_file_errors() {
+    let bad_toml = temp_file("bad.toml", "[[multiplets]]\nshift = \n");
+    fails_with(
+        &["rank", "C4H8O2", "--spectrum", bad_toml.to_str().unwrap()],
+        None,
+        "line 2",
+    );
+    let bad_mult = temp_file(
+        "mult.toml",
+        "[[multiplets]]\nshift = 4.12\nmultiplicity = \"q\"\nintegral = 2\n[[multiplets]]\nshift = 2.05\nmultiplicity = \"zz\"\n",
+    );
+    fails_with(
+        &["rank", "C4H8O2", "--spectrum", bad_mult.to_str().unwrap()],
+        None,
+        "entry 2: multiplicity \"zz\"",
+    );
+    let other = temp_file(
+        "other.json",
+        r#"{"formula": "C4H10O", "multiplets": [{"shift": 1.0, "multiplicity": "s"}]}"#,
+    );
+    fails_with(
+        &["rank", "C4H8O2", "--spectrum", other.to_str().unwrap()],
+        None,
+        "is for C4H10O but the command line asks for C4H8O2",
+    );
+    let unknown = temp_file(
+        "unknown.json",
+        r#"{"multiplets": [{"shift": 1.0, "colour": 2}]}"#,
+    );
+    fails_with(
+        &["rank", "C4H8O2", "--spectrum", unknown.to_str().unwrap()],
+        None,
+        "unknown field `colour`",
+    );
+    fails_with(
+        &["rank", "C4H8O2", "--spectrum", "/nonexistent/spectrum.toml"],
+        None,
+        "cannot read spectrum file /nonexistent/spectrum.toml",
+    );
+}
+
+#[test]
+fn spectrum_file_ranks_like_the_text() {
+    let f = temp_file(
+        "ea.toml",
+        "formula = \"C4H8O2\"\nsolvent = \"CDCl3\"\nfrequency = 400\n\
+         [[multiplets]]\nshift = 4.12\nmultiplicity = \"q\"\nj = 7.1\nintegral = 2\n\
+         [[multiplets]]\nshift = 2.05\nmultiplicity = \"s\"\nintegral = 3\n\
+         [[multiplets]]\nshift = 1.26\nmultiplicity = \"t\"\nj = [7.1]\nintegral = 3\n",
+    );
+    let a = isomerank(
+        &[
+            "rank",
+            "C4H8O2",
+            "--spectrum",
+            f.to_str().unwrap(),
+            "--format",
+            "json",
+        ],
+        None,
+    );
+    let b = isomerank(
+        &[
+            "rank",
+            "C4H8O2",
+            "--peaks",
+            ETHYL_ACETATE,
+            "--format",
+            "json",
+        ],
+        None,
+    );
+    assert_eq!(a.status.code(), Some(0));
+    assert_eq!(a.stdout, b.stdout);
+}
+
+#[test]
+fn option_errors() {
+    fails_with(
+        &["rank", "C4H8O2", "--peaks", ETHYL_ACETATE, "--top", "0"],
+        None,
+        "--top must be at least 1",
+    );
+    fails_with(
+        &[
+            "rank",
+            "C4H8O2",
+            "--peaks",
+            ETHYL_ACETATE,
+            "--top",
+            "5",
+            "--explain",
+            "6",
+        ],
+        None,
+        "--explain 6: give a position from 1 to 5",
+    );
+    fails_with(
+        &["rank", "C4H8Xx", "--peaks", ETHYL_ACETATE],
+        None,
+        "unknown element \"Xx\" at column 5",
+    );
+    fails_with(
+        &["rank", "C2H7", "--peaks", "1.0 (s, 3H)"],
+        None,
+        "DBE = -0.5",
+    );
+    // Neither --peaks nor --spectrum: the argument parser's own error (exit 2).
+    fails_with(&["rank", "C4H8O2"], None, "--peaks");
+}
+
+#[test]
+fn shortlist_errors_name_the_line() {
+    fails_with(
+        &[
+            "rank",
+            "C4H8O2",
+            "--peaks",
+            ETHYL_ACETATE,
+            "--candidates",
+            "-",
+        ],
+        Some("CCOC(C)=O ethyl acetate\nCC(C\n"),
+        "standard input, line 2: \"CC(C\"",
+    );
+    fails_with(
+        &[
+            "rank",
+            "C4H8O2",
+            "--peaks",
+            ETHYL_ACETATE,
+            "--candidates",
+            "-",
+        ],
+        Some("# expected esters\nCCOC(C)=O\n\nCCO ethanol\n"),
+        "standard input, line 4: \"CCO\" is C2H6O, not C4H8O2",
+    );
+    fails_with(
+        &[
+            "rank",
+            "C4H8O2",
+            "--peaks",
+            ETHYL_ACETATE,
+            "--candidates",
+            "-",
+        ],
+        Some("\n# nothing\n"),
+        "no candidate structures",
+    );
+    fails_with(
+        &[
+            "rank",
+            "C4H8O2",
+            "--peaks",
+            ETHYL_ACETATE,
+            "--candidates",
+            "/nonexistent/list.smi",
+        ],
+        None,
+        "cannot read candidates file /nonexistent/list.smi",
+    );
+}
+
+#[test]
+fn shortlist_ranks_the_expected_ester_first_with_names() {
+    let list = "COC(=O)CC methyl propanoate\nCCOC(C)=O ethyl acetate\nCCCC(=O)O butanoic acid\n";
+    let out = isomerank(
+        &[
+            "rank",
+            "C4H8O2",
+            "--peaks",
+            ETHYL_ACETATE,
+            "--candidates",
+            "-",
+            "--format",
+            "json",
+        ],
+        Some(list),
+    );
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["isomers_considered"], 3);
+    assert_eq!(v["candidates"][0]["smiles"], "CC(=O)OCC");
+    assert_eq!(v["candidates"][0]["name"], "ethyl acetate");
+}
+
+#[test]
+fn isomers_output_composes_with_shortlist_mode() {
+    let iso = isomerank(&["isomers", "C4H8O2", "--plausible"], None);
+    assert_eq!(iso.status.code(), Some(0));
+    let list = String::from_utf8(iso.stdout).unwrap();
+    let piped = isomerank(
+        &[
+            "rank",
+            "C4H8O2",
+            "--candidates",
+            "-",
+            "--peaks",
+            ETHYL_ACETATE,
+            "--format",
+            "json",
+        ],
+        Some(&list),
+    );
+    let direct = isomerank(
+        &[
+            "rank",
+            "C4H8O2",
+            "--peaks",
+            ETHYL_ACETATE,
+            "--format",
+            "json",
+        ],
+        None,
+    );
+    let a: serde_json::Value = serde_json::from_slice(&piped.stdout).unwrap();
+    let b: serde_json::Value = serde_json::from_slice(&direct.stdout).unwrap();
+    assert_eq!(a["isomers_considered"], b["isomers_considered"]);
+    let smiles = |v: &serde_json::Value| -> Vec<String> {
+        v["candidates"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|c| c["smiles"].as_str().unwrap().to_string())
+            .collect()
+    };
+    assert_eq!(smiles(&a), smiles(&b));
+}
+
+#[test]
+fn json_follows_the_schema() {
+    let out = isomerank(
+        &[
+            "rank",
+            "C4H8O2",
+            "--peaks",
+            ETHYL_ACETATE,
+            "--format",
+            "json",
+            "--top",
+            "3",
+        ],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(0));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["formula"], "C4H8O2");
+    assert_eq!(v["dbe"], 1.0);
+    assert!(v["isomers_considered"].as_u64().unwrap() > 10);
+    assert!(v["isomers_excluded"].as_u64().is_some());
+    let c = v["candidates"].as_array().unwrap();
+    assert_eq!(c.len(), 3);
+    let mut sum = 0.0;
+    for (i, cand) in c.iter().enumerate() {
+        assert_eq!(cand["position"], i + 1);
+        assert!(cand["smiles"].is_string() && cand["cost"].is_f64() && cand["group"].is_u64());
+        sum += cand["probability"].as_f64().unwrap();
+        for a in cand["assignment"].as_array().unwrap() {
+            assert!(a["observed"].is_u64() || a["observed"].is_null());
+            assert!(a["predicted_shift"].is_f64());
+            assert!(a["observed_shift"].is_f64() || a["observed_shift"].is_null());
+            assert!(a["hydrogens"].is_u64());
+            assert!(a["predicted_multiplicity"].is_string());
+            assert!(a["observed_multiplicity"].is_string() || a["observed_multiplicity"].is_null());
+        }
+    }
+    assert!(sum <= 1.0 + 1e-9);
+    // Ethyl acetate (Gottlieb et al. 1997, CDCl3): q 4.12 -> OCH2, s 2.05 -> CH3CO.
+    assert_eq!(c[0]["smiles"], "CC(=O)OCC");
+    let assigned: Vec<(u64, String)> = c[0]["assignment"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|a| {
+            (
+                a["observed"].as_u64().unwrap(),
+                a["predicted_multiplicity"].as_str().unwrap().to_string(),
+            )
+        })
+        .collect();
+    assert!(assigned.contains(&(1, "q".to_string())) && assigned.contains(&(3, "t".to_string())));
+}
+
+#[test]
+fn output_is_deterministic_across_thread_counts() {
+    let a = isomerank(
+        &[
+            "--threads",
+            "1",
+            "rank",
+            "C5H10O2",
+            "--peaks",
+            "4.99 (sept, 1H), 2.02 (s, 3H), 1.23 (d, 6H)",
+            "--format",
+            "json",
+        ],
+        None,
+    );
+    let b = isomerank(
+        &[
+            "--threads",
+            "2",
+            "rank",
+            "C5H10O2",
+            "--peaks",
+            "4.99 (sept, 1H), 2.02 (s, 3H), 1.23 (d, 6H)",
+            "--format",
+            "json",
+        ],
+        None,
+    );
+    assert_eq!(a.status.code(), Some(0));
+    assert_eq!(a.stdout, b.stdout);
+}
+
+#[test]
+fn explain_prints_the_assignment_and_the_safety_wording_ends_the_report() {
+    let out = isomerank(
+        &["rank", "C4H8O2", "--peaks", ETHYL_ACETATE, "--explain", "1"],
+        None,
+    );
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(text.contains("Assignment of #1 CC(=O)OCC"), "{text}");
+    assert!(text.contains("-> entry 1: 4.12 q 2H"), "{text}");
+    assert!(text.contains("Plausibility rules applied"), "{text}");
+    assert!(
+        text.trim_end()
+            .ends_with("follow the laboratory's safety rules and local regulations."),
+        "{text}"
+    );
+    let all = isomerank(
+        &["rank", "C4H8O2", "--peaks", ETHYL_ACETATE, "--keep-all"],
+        None,
+    );
+    let t2 = String::from_utf8(all.stdout).unwrap();
+    assert!(t2.contains("Plausibility rules: off (--keep-all)"), "{t2}");
+}
+
+#[test]
+fn demo_says_it_is_invented_and_ends_with_the_safety_wording() {
+    let out = isomerank(&["demo"], None);
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(
+        text.contains("invented scenario with invented data"),
+        "{text}"
+    );
+    assert!(text.contains("A ranking is a hypothesis, not an identification"));
+    assert!(text.contains("authentic reference standard"));
+    // The invented data describe isopropyl acetate (sept + 6H d + acetyl s).
+    assert!(
+        text.contains("   1 ") && text.contains("CC(=O)OC(C)C"),
+        "{text}"
+    );
+    for banned in ["chloroethane", "diethyl ether", "propylbenzene"] {
+        assert!(!text.to_lowercase().contains(banned));
+    }
+}

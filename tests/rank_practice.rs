@@ -1,0 +1,126 @@
+//! Hand-made cases from common practice: signal patterns every chemist reads
+//! at a glance, ranked over all isomers of the formula; and the behaviour of
+//! the probabilities when the data are made ambiguous.
+
+use isomerank::chem::smiles::canonical_smiles;
+use isomerank::chem::{Formula, Molecule};
+use isomerank::enumerate::{self, rules::RuleSet};
+use isomerank::predict::Predictor;
+use isomerank::rank::{self, carbon::carbon_signals, Ranking, Settings, Steps};
+use isomerank::score::ScoringModel;
+use isomerank::spectrum::{integrals, journal, SolventTable};
+
+fn rank_all(formula: &str, peaks: &str) -> Ranking {
+    let formula = Formula::parse(formula).unwrap();
+    let spectrum = integrals::build(
+        journal::parse(peaks).unwrap(),
+        &formula,
+        &SolventTable::embedded(),
+    )
+    .unwrap();
+    let predictor = Predictor::embedded().unwrap();
+    let mut opts = predictor.options("CDCl3", 400.0).unwrap();
+    opts.notes = false;
+    let model = ScoringModel::embedded();
+    let predict = |m: &Molecule| predictor.predict(m, &opts);
+    let smiles = |m: &Molecule| canonical_smiles(m);
+    let carbons = |m: &Molecule| carbon_signals(m);
+    let steps = Steps {
+        predict: &predict,
+        smiles: &smiles,
+        carbon_signals: &carbons,
+    };
+    let settings = Settings {
+        spectrum: &spectrum,
+        model: &model,
+        top: 10,
+    };
+    let options = enumerate::Options {
+        rules: RuleSet::all(),
+        ..Default::default()
+    };
+    rank::rank_formula(&formula, &options, &steps, &settings, &mut |_, _| {}).unwrap()
+}
+
+#[test]
+fn a_9h_singlet_is_a_tert_butyl_group() {
+    // Common practice: a 9H singlet is a tert-butyl group (three equivalent
+    // methyls on one quaternary carbon). Shift of tert-butyl chloride
+    // 1.60 ppm from memory.
+    let r = rank_all("C4H9Cl", "1.60 (s, 9H)");
+    assert_eq!(r.candidates[0].smiles, "CC(C)(C)Cl");
+    assert!(
+        r.candidates[0].probability > 0.9,
+        "{}",
+        r.candidates[0].probability
+    );
+}
+
+#[test]
+fn a_6h_doublet_with_a_1h_septet_is_an_isopropyl_group() {
+    // Common practice: 6H d + 1H sept = (CH3)2CH-. Shifts of 2-bromopropane
+    // (4.21 sept, 1.71 d, J about 6.6 Hz) from memory.
+    let r = rank_all(
+        "C3H7Br",
+        "4.21 (sept, J = 6.6 Hz, 1H), 1.71 (d, J = 6.6 Hz, 6H)",
+    );
+    assert_eq!(r.candidates[0].smiles, "CC(C)Br");
+    // The same pattern inside a larger formula: isopropyl acetate
+    // (4.99 sept, 2.02 s, 1.23 d; from memory) among all C5H10O2 isomers.
+    let r = rank_all("C5H10O2", "4.99 (sept, 1H), 2.02 (s, 3H), 1.23 (d, 6H)");
+    assert_eq!(r.candidates[0].smiles, "CC(=O)OC(C)C");
+}
+
+#[test]
+fn an_ethyl_group_is_a_quartet_and_a_triplet() {
+    // Common practice: 2H q + 3H t with the same J = CH3CH2-; ethyl acetate
+    // values from Gottlieb, Kotlyar & Nudelman, J. Org. Chem. 1997, 62, 7512.
+    let r = rank_all(
+        "C4H8O2",
+        "4.12 (q, J = 7.1 Hz, 2H), 2.05 (s, 3H), 1.26 (t, J = 7.1 Hz, 3H)",
+    );
+    assert_eq!(r.candidates[0].smiles, "CC(=O)OCC");
+    // Changing the 2.05 s into a 3.67 s (a methyl ester OCH3 shift, common
+    // practice) and the quartet to 2.32 moves methyl propanoate to the top.
+    let r = rank_all(
+        "C4H8O2",
+        "3.67 (s, 3H), 2.32 (q, J = 7.5 Hz, 2H), 1.14 (t, J = 7.5 Hz, 3H)",
+    );
+    assert_eq!(r.candidates[0].smiles, "CCC(=O)OC");
+}
+
+#[test]
+fn top_probability_falls_when_the_integrals_are_removed() {
+    // Without integrals the data no longer say how many H each signal has,
+    // so more candidates fit and the best one is less certain.
+    let with = rank_all("C5H10O2", "4.99 (sept, 1H), 2.02 (s, 3H), 1.23 (d, 6H)");
+    let without = rank_all("C5H10O2", "4.99 (sept), 2.02 (s), 1.23 (d)");
+    let (p1, p2) = (
+        with.candidates[0].probability,
+        without.candidates[0].probability,
+    );
+    assert!(p2 < p1, "with integrals {p1}, without {p2}");
+    // Dropping the multiplicities too (everything m) makes it worse still.
+    let vague = rank_all("C5H10O2", "4.99 (m), 2.02 (m), 1.23 (m)");
+    assert!(vague.candidates[0].probability < p2);
+}
+
+#[test]
+fn a_solvent_peak_in_the_list_is_set_aside() {
+    // Residual CHCl3 at 7.26 ppm in CDCl3 (Gottlieb et al. 1997, Table 1)
+    // pasted along with the compound's signals: ethyl acetate still first.
+    let r = rank_all(
+        "C4H8O2",
+        "1H NMR (400 MHz, CDCl3) δ 7.26 (s, 1H), 4.12 (q, 2H), 2.05 (s, 3H), 1.26 (t, 3H)",
+    );
+    assert_eq!(r.candidates[0].smiles, "CC(=O)OCC");
+    assert_eq!(
+        r.candidates[0]
+            .scored
+            .assigned
+            .iter()
+            .filter(|a| **a == Some(0))
+            .count(),
+        0
+    );
+}
