@@ -80,7 +80,7 @@ fn bad_smiles_exit_2_with_position_and_empty_stdout() {
     assert!(out.stdout.is_empty());
     let err = String::from_utf8(out.stderr).unwrap();
     assert!(err.contains("column"), "{err}");
-    let out = isomerank(&["predict", "CCO", "--solvent", "benzene-d6"], None);
+    let out = isomerank(&["predict", "CCO", "--solvent", "no-such-solvent"], None);
     assert_eq!(out.status.code(), Some(2));
     assert!(out.stdout.is_empty());
     assert!(String::from_utf8_lossy(&out.stderr).contains("unknown solvent"));
