@@ -4,10 +4,21 @@
 //! Method: the partition-refinement scheme of McKay, "Practical graph
 //! isomorphism", Congr. Numer. 30 (1981) 45-87, in the form described by
 //! McKay & Piperno, J. Symbolic Comput. 60 (2014) 94-112: refine an ordered
-//! partition to the coarsest equitable one (here by counting neighbours of each
-//! edge colour in each splitter cell), individualise each vertex of the first
-//! non-singleton cell in turn, and take as canonical the discrete leaf whose
-//! relabelled graph (the certificate) is lexicographically smallest.
+//! partition to the coarsest equitable one, individualise each vertex of the
+//! first non-singleton cell in turn, and take as canonical the discrete leaf
+//! whose relabelled graph (the certificate) is lexicographically smallest.
+//!
+//! Refinement follows McKay's splitter queue: a cell W taken from the queue
+//! splits every cell X by the number of neighbours (per edge colour) that each
+//! vertex of X has in W; the fragments of a split cell join the queue, all but
+//! one largest fragment when X itself was not waiting (counts against X are
+//! then known to be equal, so its last fragment tells nothing new). Only the
+//! cells that hold a neighbour of W are looked at, and the counts come from
+//! walking W's adjacency rows (no popcount: the default x86-64 target has no
+//! POPCNT instruction). After individualising v in an equitable partition, {v} alone
+//! is the queue. Every choice (queue order: lowest cell position first;
+//! fragment order: ascending count) depends only on positions and counts, so
+//! the result commutes with relabelling, as a canonical form needs.
 //!
 //! Why hand-written rather than nauty through FFI: molecules in the generator's
 //! hot path have at most a few dozen atoms, and rebuilding nauty's dense
@@ -17,7 +28,8 @@
 //! code short and gives the full automorphism group for free: the leaves with
 //! the best certificate are exactly the images of one of them under the group,
 //! which yields the orbits that the canonical augmentation test and the
-//! equivalent-H grouping need. The cost is |Aut| leaves, small for molecules.
+//! equivalent-H grouping need. The cost is at least |Aut| leaves, small for
+//! molecules.
 
 /// Largest number of vertices a [`CanonGraph`] can hold (one `u64` bitset row).
 pub const MAX_ATOMS: usize = 64;
@@ -82,25 +94,42 @@ impl CanonGraph {
 
 /// Reusable working storage for canonical labelling (no allocation per call
 /// once warmed up).
-#[derive(Default)]
 pub struct Canonizer {
     best: Vec<u64>,
     cur: Vec<u64>,
     /// Every leaf labelling (position -> vertex) that reaches the best certificate.
     leaves: Vec<[u8; MAX_ATOMS]>,
     n: usize,
-    labels_used: [bool; LABELS],
+    /// Edge colours present (indices into `CanonGraph::adj`).
+    used: [usize; LABELS],
+    nused: usize,
 }
 
 /// One ordered partition in the lab/ptn form of McKay's papers: `lab` lists
-/// the vertices cell after cell; `start[i]` is true where a cell begins. A
-/// cell is named by the position where it starts, which depends only on the
-/// partition, so names are isomorphism-invariant.
+/// the vertices cell after cell. A cell is named by the position where it
+/// starts, which depends only on the partition, so names are
+/// isomorphism-invariant.
 #[derive(Clone, Copy)]
 struct Partition {
     lab: [u8; MAX_ATOMS],
-    start: [bool; MAX_ATOMS + 1],
+    /// At the start position of a cell: one past its last position.
+    end: [u8; MAX_ATOMS],
+    /// Vertex -> start position of its cell.
+    cell: [u8; MAX_ATOMS],
     cells: usize,
+}
+
+impl Default for Canonizer {
+    fn default() -> Canonizer {
+        Canonizer {
+            best: Vec::new(),
+            cur: Vec::new(),
+            leaves: Vec::new(),
+            n: 0,
+            used: [0; LABELS],
+            nused: 0,
+        }
+    }
 }
 
 impl Canonizer {
@@ -115,8 +144,14 @@ impl Canonizer {
         self.n = n;
         self.best.clear();
         self.leaves.clear();
+        self.nused = 0;
+        let mut mask = 0u64;
         for l in 0..LABELS {
-            self.labels_used[l] = g.adj[l][..n].iter().any(|&r| r != 0);
+            if g.adj[l][..n].iter().any(|&r| r != 0) {
+                self.used[self.nused] = l;
+                self.nused += 1;
+                mask |= 1 << l;
+            }
         }
         if n == 0 {
             return;
@@ -124,65 +159,178 @@ impl Canonizer {
         // Initial partition: vertices grouped by colour, cells in colour order.
         let mut p = Partition {
             lab: [0; MAX_ATOMS],
-            start: [false; MAX_ATOMS + 1],
+            end: [0; MAX_ATOMS],
+            cell: [0; MAX_ATOMS],
             cells: 0,
         };
         for v in 0..n {
             p.lab[v] = v as u8;
         }
-        p.lab[..n].sort_unstable_by_key(|&v| (g.colour[v as usize], v));
-        for i in 0..n {
-            if i == 0 || g.colour[p.lab[i] as usize] != g.colour[p.lab[i - 1] as usize] {
-                p.start[i] = true;
+        p.lab[..n].sort_unstable_by_key(|&v| g.colour[v as usize]);
+        let mut queue = 0u64;
+        let mut s = 0;
+        for i in 1..=n {
+            if i == n || g.colour[p.lab[i] as usize] != g.colour[p.lab[s] as usize] {
+                p.end[s] = i as u8;
+                for &v in &p.lab[s..i] {
+                    p.cell[v as usize] = s as u8;
+                }
                 p.cells += 1;
+                queue |= 1u64 << s;
+                s = i;
             }
         }
-        p.start[n] = true;
-        self.search(g, p);
+        // The certificate opens with the edge colours used and the vertex
+        // colours in canonical order (the same for every leaf of one graph).
+        self.best.push(mask);
+        for i in 0..n {
+            self.best.push(g.colour[p.lab[i] as usize] as u64);
+        }
+        self.refine(g, &mut p, queue);
+        self.search(g, &p);
     }
 
-    fn search(&mut self, g: &CanonGraph, mut p: Partition) {
+    fn search(&mut self, g: &CanonGraph, p: &Partition) {
         let n = g.n;
-        refine(g, &mut p);
         if p.cells == n {
-            self.leaf(g, &p);
+            self.leaf(g, p);
             return;
         }
         // Target: the first cell of more than one vertex.
-        let s = (0..n)
-            .find(|&i| p.start[i] && !p.start[i + 1])
-            .expect("a non-discrete partition has a non-singleton cell");
-        let e = (s + 1..=n).find(|&i| p.start[i]).expect("cells end");
+        let mut s = 0;
+        while p.end[s] as usize == s + 1 {
+            s += 1;
+        }
+        let e = p.end[s] as usize;
         for i in s..e {
-            let mut q = p;
-            // Individualise lab[i]: it becomes the cell {v} in front of the rest.
+            let mut q = *p;
+            // Individualise p.lab[i]: it becomes the cell {v} in front of the rest.
             q.lab.swap(s, i);
-            q.lab[s + 1..e].sort_unstable();
-            q.start[s + 1] = true;
+            q.end[s] = s as u8 + 1;
+            q.end[s + 1] = e as u8;
+            for &u in &q.lab[s + 1..e] {
+                q.cell[u as usize] = s as u8 + 1;
+            }
             q.cells += 1;
-            self.search(g, q);
+            self.refine(g, &mut q, 1u64 << s);
+            self.search(g, &q);
+        }
+    }
+
+    /// Refine `p` with the cells whose start positions are set in `queue` as
+    /// the first splitters (see the module comment).
+    fn refine(&self, g: &CanonGraph, p: &mut Partition, mut queue: u64) {
+        let n = g.n;
+        let used = &self.used[..self.nused];
+        // key[x]: neighbours of x in the splitter, 8 bits per edge colour;
+        // zero outside the splitter's neighbourhood (reset after each use).
+        let mut key = [0u32; MAX_ATOMS];
+        while queue != 0 && p.cells < n {
+            let w = queue.trailing_zeros() as usize;
+            queue &= queue - 1;
+            let we = p.end[w] as usize;
+            let mut reach = 0u64;
+            for &u in &p.lab[w..we] {
+                for (j, &l) in used.iter().enumerate() {
+                    let mut r = g.adj[l][u as usize];
+                    reach |= r;
+                    while r != 0 {
+                        let x = r.trailing_zeros() as usize;
+                        r &= r - 1;
+                        key[x] += 1 << (8 * j);
+                    }
+                }
+            }
+            // Cells (by start) holding a neighbour of W, not singletons.
+            let mut touched = 0u64;
+            let mut r = reach;
+            while r != 0 {
+                let u = r.trailing_zeros() as usize;
+                r &= r - 1;
+                let c = p.cell[u] as usize;
+                if p.end[c] as usize > c + 1 {
+                    touched |= 1u64 << c;
+                }
+            }
+            while touched != 0 {
+                let s = touched.trailing_zeros() as usize;
+                touched &= touched - 1;
+                let e = p.end[s] as usize;
+                let k0 = key[p.lab[s] as usize];
+                let same = p.lab[s + 1..e].iter().all(|&x| key[x as usize] == k0);
+                if same {
+                    continue;
+                }
+                // Insertion sort of the cell by key (cells are small).
+                for i in s + 1..e {
+                    let x = p.lab[i];
+                    let kx = key[x as usize];
+                    let mut j = i;
+                    while j > s && key[p.lab[j - 1] as usize] > kx {
+                        p.lab[j] = p.lab[j - 1];
+                        j -= 1;
+                    }
+                    p.lab[j] = x;
+                }
+                let was_queued = queue >> s & 1 == 1;
+                let (mut big, mut big_len) = (s, 0);
+                let mut f = s;
+                for i in s + 1..=e {
+                    if i == e || key[p.lab[i] as usize] != key[p.lab[f] as usize] {
+                        p.end[f] = i as u8;
+                        if f != s {
+                            for &u in &p.lab[f..i] {
+                                p.cell[u as usize] = f as u8;
+                            }
+                            p.cells += 1;
+                        }
+                        queue |= 1u64 << f;
+                        if i - f > big_len {
+                            big = f;
+                            big_len = i - f;
+                        }
+                        f = i;
+                    }
+                }
+                if !was_queued {
+                    queue &= !(1u64 << big);
+                }
+                if p.cells == n {
+                    return;
+                }
+            }
+            let mut r = reach;
+            while r != 0 {
+                key[r.trailing_zeros() as usize] = 0;
+                r &= r - 1;
+            }
         }
     }
 
     fn leaf(&mut self, g: &CanonGraph, p: &Partition) {
         let n = g.n;
-        let mut lab = [0u8; MAX_ATOMS];
         let mut pos = [0u8; MAX_ATOMS];
         for i in 0..n {
-            let v = p.lab[i] as usize;
-            lab[i] = v as u8;
-            pos[v] = i as u8;
+            pos[p.lab[i] as usize] = i as u8;
         }
+        let head = n + 1;
+        let first = self.leaves.is_empty();
+        if first {
+            self.best.truncate(head);
+        }
+        // Relabelled rows, compared with the best as they are made: a leaf
+        // that turns out greater is dropped at its first differing row.
+        use std::cmp::Ordering;
+        let mut ord = if first {
+            Ordering::Less
+        } else {
+            Ordering::Equal
+        };
         self.cur.clear();
+        let mut idx = head;
         for i in 0..n {
-            self.cur.push(g.colour[lab[i] as usize] as u64);
-        }
-        for i in 0..n {
-            let v = lab[i] as usize;
-            for l in 0..LABELS {
-                if !self.labels_used[l] {
-                    continue;
-                }
+            let v = p.lab[i] as usize;
+            for &l in &self.used[..self.nused] {
                 let mut row = g.adj[l][v];
                 let mut out = 0u64;
                 while row != 0 {
@@ -190,23 +338,39 @@ impl Canonizer {
                     row &= row - 1;
                     out |= 1u64 << pos[u];
                 }
-                self.cur.push(out);
+                match ord {
+                    Ordering::Equal => {
+                        let b = self.best[idx];
+                        if out > b {
+                            return;
+                        }
+                        if out < b {
+                            ord = Ordering::Less;
+                            self.cur.extend_from_slice(&self.best[..idx]);
+                        }
+                    }
+                    Ordering::Less => {}
+                    Ordering::Greater => unreachable!(),
+                }
+                if ord == Ordering::Less {
+                    self.cur.push(out);
+                }
+                idx += 1;
             }
         }
-        use std::cmp::Ordering;
-        let ord = if self.best.is_empty() {
-            Ordering::Less
-        } else {
-            self.cur.as_slice().cmp(self.best.as_slice())
-        };
+        let mut lab = [0u8; MAX_ATOMS];
+        lab[..n].copy_from_slice(&p.lab[..n]);
         match ord {
             Ordering::Less => {
-                std::mem::swap(&mut self.best, &mut self.cur);
+                if first {
+                    self.best.extend_from_slice(&self.cur);
+                } else {
+                    std::mem::swap(&mut self.best, &mut self.cur);
+                }
                 self.leaves.clear();
                 self.leaves.push(lab);
             }
-            Ordering::Equal => self.leaves.push(lab),
-            Ordering::Greater => {}
+            _ => self.leaves.push(lab),
         }
     }
 
@@ -281,102 +445,6 @@ impl Canonizer {
     }
 }
 
-/// The sorted list of (cell, edge colour) over the neighbours of `v`, packed
-/// into one number, a different number for each list: keys
-/// (cell * LABELS + colour + 1, below 4096) descending, 12 bits each, at most 8;
-/// lists of k keys fall in [4096^(k-1), 4096^k), so lengths never collide.
-#[inline]
-fn signature(g: &CanonGraph, v: usize, cell_of: &[u8; MAX_ATOMS], used: &[usize]) -> u128 {
-    let mut keys = [0u16; 8];
-    let mut k = 0;
-    for &l in used {
-        let mut row = g.adj[l][v];
-        while row != 0 {
-            let u = row.trailing_zeros() as usize;
-            row &= row - 1;
-            if k < 8 {
-                keys[k] = cell_of[u] as u16 * LABELS as u16 + l as u16 + 1;
-            }
-            k += 1;
-        }
-    }
-    debug_assert!(k <= 8, "vertex degree above 8");
-    let keys = &mut keys[..k.min(8)];
-    keys.sort_unstable_by(|a, b| b.cmp(a));
-    let mut packed = 0u128;
-    for &key in keys.iter() {
-        packed = packed << 12 | key as u128;
-    }
-    packed
-}
-
-/// Refine `p` to the coarsest equitable partition finer than it (colour
-/// refinement): each round gives every vertex the sorted list of (cell,
-/// bond colour) of its neighbours, and splits every cell by that list, the
-/// fragments in list order. Rounds repeat until no cell splits. Cells are
-/// named by position, so the result depends only on the graph up to
-/// isomorphism.
-fn refine(g: &CanonGraph, p: &mut Partition) {
-    let n = g.n;
-    let mut cell_of = [0u8; MAX_ATOMS];
-    let mut cs = 0;
-    for i in 0..n {
-        if p.start[i] {
-            cs = i;
-        }
-        cell_of[p.lab[i] as usize] = cs as u8;
-    }
-    let mut sig = [0u128; MAX_ATOMS];
-    let mut used_buf = [0usize; LABELS];
-    let mut nused = 0;
-    for l in 0..LABELS {
-        if g.adj[l][..n].iter().any(|&r| r != 0) {
-            used_buf[nused] = l;
-            nused += 1;
-        }
-    }
-    let used = &used_buf[..nused];
-    loop {
-        // Only vertices of non-singleton cells can be split.
-        let mut s = 0;
-        while s < n {
-            let e = (s + 1..=n).find(|&i| p.start[i]).expect("cells end");
-            if e - s > 1 {
-                for &v in &p.lab[s..e] {
-                    sig[v as usize] = signature(g, v as usize, &cell_of, used);
-                }
-            }
-            s = e;
-        }
-        let mut changed = false;
-        let mut s = 0;
-        while s < n {
-            let e = (s + 1..=n).find(|&i| p.start[i]).expect("cells end");
-            if e - s > 1 {
-                p.lab[s..e].sort_unstable_by_key(|&v| (sig[v as usize], v));
-                for i in s + 1..e {
-                    if sig[p.lab[i] as usize] != sig[p.lab[i - 1] as usize] {
-                        p.start[i] = true;
-                        p.cells += 1;
-                        changed = true;
-                    }
-                }
-            }
-            s = e;
-        }
-        if !changed {
-            return;
-        }
-        let mut cs = 0;
-        for i in 0..n {
-            if p.start[i] {
-                cs = i;
-            }
-            cell_of[p.lab[i] as usize] = cs as u8;
-        }
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -427,5 +495,85 @@ mod tests {
         c.run(&ring);
         assert_eq!(c.group_size(), 12);
         assert_eq!(c.orbits(), vec![0; 6]);
+    }
+    /// A small deterministic generator (xorshift) for test graphs.
+    fn rng(state: &mut u64) -> u64 {
+        *state ^= *state << 13;
+        *state ^= *state >> 7;
+        *state ^= *state << 17;
+        *state
+    }
+
+    fn permuted(g: &CanonGraph, perm: &[usize]) -> CanonGraph {
+        let mut h = CanonGraph::new(g.n);
+        for v in 0..g.n {
+            h.colour[perm[v]] = g.colour[v];
+            for u in 0..g.n {
+                let l = g.label(v, u);
+                if l > 0 {
+                    h.set_edge(perm[v], perm[u], l);
+                }
+            }
+        }
+        h
+    }
+
+    #[test]
+    fn certificate_is_invariant_and_group_is_complete() {
+        // Checked against brute force: every permutation of up to 6 vertices
+        // is tried as an automorphism, and random relabellings must give the
+        // same certificate.
+        let mut state = 0x9e3779b97f4a7c15u64;
+        let mut c = Canonizer::new();
+        let mut d = Canonizer::new();
+        for round in 0..300 {
+            let n = 1 + round % 6;
+            let mut g = CanonGraph::new(n);
+            for v in 0..n {
+                g.colour[v] = (rng(&mut state) % 2) as u32;
+            }
+            for a in 0..n {
+                for b in a + 1..n {
+                    let r = rng(&mut state) % 6;
+                    if r < 3 {
+                        g.set_edge(a, b, if r == 0 { 2 } else { 1 });
+                    }
+                }
+            }
+            c.run(&g);
+            let mut perm: Vec<usize> = (0..n).collect();
+            for i in (1..n).rev() {
+                perm.swap(i, (rng(&mut state) % (i as u64 + 1)) as usize);
+            }
+            d.run(&permuted(&g, &perm));
+            assert_eq!(c.certificate(), d.certificate());
+            let mut count = 0;
+            let mut all: Vec<usize> = (0..n).collect();
+            permutations(&mut all, 0, &mut |p| {
+                let ok = (0..n).all(|v| {
+                    g.colour[p[v]] == g.colour[v]
+                        && (0..n).all(|u| g.label(v, u) == g.label(p[v], p[u]))
+                });
+                count += ok as usize;
+            });
+            assert_eq!(c.group_size(), count);
+            for a in c.automorphisms() {
+                assert!((0..n).all(
+                    |v| (0..n).all(|u| g.label(v, u) == g.label(a[v] as usize, a[u] as usize))
+                ));
+            }
+        }
+    }
+
+    fn permutations(a: &mut Vec<usize>, k: usize, f: &mut dyn FnMut(&[usize])) {
+        if k == a.len() {
+            f(a);
+            return;
+        }
+        for i in k..a.len() {
+            a.swap(k, i);
+            permutations(a, k + 1, f);
+            a.swap(k, i);
+        }
     }
 }
