@@ -1,29 +1,51 @@
-//! The isomer generator: canonical augmentation by vertex addition.
+//! The isomer generator: skeletons by canonical augmentation, then bond
+//! orders up to each skeleton's symmetry.
 //!
-//! Method: B. D. McKay, "Isomorph-free exhaustive generation", J. Algorithms 26
-//! (1998) 306-324. Every molecule graph G of n heavy atoms has one *canonical
-//! deletion*: a vertex chosen by a rule that depends only on G up to
-//! isomorphism, whose removal leaves a connected graph (the parent). A search
-//! tree that adds one atom at a time keeps a child only when the atom just added
-//! is (up to an automorphism) the child's canonical deletion, and tries the
-//! attachments of the new atom only up to the automorphisms of the parent. By
-//! induction each isomorphism class appears exactly once, with no global table
-//! of what has been seen: memory is flat in the number of isomers.
+//! An isomer is a connected multigraph (bond orders 1-3) on the heavy atoms.
+//! Its *skeleton* is the simple graph of which atom pairs are bonded. Two
+//! isomers are the same compound exactly when an isomorphism of their
+//! skeletons carries one set of bond orders onto the other, so the isomers
+//! with a given skeleton S are the orbits of Aut(S) on the bond-order
+//! assignments of S that fit the valences. The generator therefore works in
+//! two stages, each run per skeleton as soon as it is found (memory stays flat):
+//!
+//! 1. **Skeletons** by canonical augmentation by vertex addition: B. D. McKay,
+//!    "Isomorph-free exhaustive generation", J. Algorithms 26 (1998) 306-324.
+//!    Every skeleton G of n atoms has one *canonical deletion*: a vertex chosen
+//!    by a rule that depends only on G up to isomorphism, whose removal leaves
+//!    a connected graph (the parent). The search adds one atom at a time and
+//!    keeps a child only when the atom just added is (up to an automorphism)
+//!    the child's canonical deletion; the attachments of the new atom are tried
+//!    only up to the automorphisms of the parent. By induction each skeleton
+//!    appears exactly once, with no table of what has been seen.
+//! 2. **Bond orders** by orderly generation (R. C. Read, "Every one a winner",
+//!    Ann. Discrete Math. 2 (1978) 107-120): the extra bond orders (the
+//!    unsaturation the skeleton's rings do not account for) are spread over
+//!    the skeleton's edges in every way the valences allow, and an assignment
+//!    is kept only when it is the largest (in a fixed order of assignments) of
+//!    its images under Aut(S). Most skeletons have no symmetry, and then every
+//!    assignment is an isomer at almost no cost.
+//!
+//! This is the split of work of the simple-graph-then-multiplicities approach
+//! common in graph enumeration; here both stages are in one program and share
+//! the valence and unsaturation bounds.
 //!
 //! The canonical deletion rule. Among the non-cut vertices, prefer (1) the
 //! element of highest deletion priority (halogens, then O, S, N, P, C), then
-//! (2) the lowest degree, then (3) the lowest bond-order sum; among the
-//! vertices still tied, the one at the highest position of the canonical
-//! labelling (see `chem::canon`). The cheap parts (1)-(3) decide most children
-//! without a canonical labelling and also prune the attachments tried: a
-//! non-cut atom of the parent that would beat the new atom must be among the
-//! atoms the new one bonds to, otherwise the child can only be rejected.
+//! (2) the lowest degree, then (3) the highest neighbourhood hash (a sum over
+//! the neighbours of a mixed (kind, degree) value: isomorphism-invariant and
+//! cheap); among the vertices still tied, the one at the highest position of
+//! the canonical labelling (see `chem::canon`). Parts (1)-(3) decide most
+//! children without a canonical labelling, and so does the observation that a
+//! tied vertex with the new vertex's neighbourhood (a twin) is in its orbit.
+//! Parts (1)-(2) also prune the attachments tried: a non-cut atom of the
+//! parent that would beat the new atom must be among the atoms it bonds to,
+//! otherwise the child can only be rejected.
 //!
-//! Pruning by unsaturation. With B the total bond order the formula fixes, a
-//! partial graph of k atoms and bond sum b has "excess" b - (k - 1) (rings plus
-//! pi bonds so far). Excess never decreases as atoms are added, and atom r can
-//! raise it by at most valence(r) - 1, so a node survives only while
-//! excess <= DBE <= excess + sum over the atoms still to add of (valence - 1).
+//! Pruning by unsaturation. With B the total bond order the formula fixes and
+//! DBE = B - (n - 1), a skeleton's ring count edges - (atoms - 1) never
+//! decreases as atoms are added, so a node survives only while it is at most
+//! DBE; the rest, DBE - rings, is what stage 2 spreads as extra bond orders.
 //!
 //! The hot path works on [`Node`], a compact bitset graph; the general
 //! molecule type is built only for the isomers that come out.
@@ -82,23 +104,25 @@ pub struct Problem {
     pub dbe: i32,
 }
 
-/// A partial (or complete) molecule in the generator's compact form.
+/// A skeleton (or, as handed to an isomer sink, a complete isomer) in the
+/// generator's compact form.
 #[derive(Clone)]
 pub struct Node {
-    /// Vertex colour = kind index; edge colour = bond order.
+    /// Vertex colour = kind index; edge colour = bond order (all 1 in a
+    /// skeleton).
     pub g: CanonGraph,
     pub n: usize,
     pub kind: [u8; MAX_ATOMS],
-    /// Valence not yet used by bonds (the implicit H of a complete molecule).
+    /// Valence not used by bonds: in a skeleton, valence - degree (room for
+    /// more bonds or higher orders); in a complete isomer, the implicit H.
     pub free: [u8; MAX_ATOMS],
+    /// Number of neighbours.
     pub deg: [u8; MAX_ATOMS],
     /// Neighbours of each vertex, any bond order.
     pub nb: [u64; MAX_ATOMS],
-    /// Bond-order sum minus (n - 1).
-    pub excess: i32,
+    /// Independent cycles of the skeleton: edges - (n - 1).
+    pub cycles: i32,
     pub remaining: [u8; MAX_KINDS],
-    /// Sum over remaining atoms of (valence - 1): how much excess they can add.
-    pub room: i32,
     /// Sum of `free` over the atoms present.
     pub free_total: i32,
 }
@@ -109,68 +133,75 @@ impl Node {
         self.g.label(a, b)
     }
 
-    fn bond_sum(&self, p: &Problem, x: usize) -> u8 {
-        p.kinds[self.kind[x] as usize].valence - self.free[x]
-    }
-
-    /// Deletion preference of vertex x: higher is deleted first.
+    /// Deletion preference of vertex x by parts (1)-(2) of the rule: higher
+    /// is deleted first.
+    #[inline]
     fn key(&self, p: &Problem, x: usize) -> u32 {
-        let k = &p.kinds[self.kind[x] as usize];
-        (k.priority as u32) << 16
-            | (255 - self.deg[x] as u32) << 8
-            | (255 - self.bond_sum(p, x) as u32)
+        key_of(
+            p.kinds[self.kind[x] as usize].priority,
+            self.deg[x] as usize,
+        )
     }
 
-    pub fn add_vertex(&mut self, p: &Problem, k: usize, attach: &[(usize, u8)]) {
+    /// Part (3) of the deletion rule: a hash of the neighbours' kinds and
+    /// degrees, invariant under isomorphism (a sum is order-free).
+    #[inline]
+    fn hash(&self, x: usize) -> u32 {
+        let mut h = 0u32;
+        for u in bits(self.nb[x]) {
+            h = h.wrapping_add(mix(self.kind[u] as u32 * 64 + self.deg[u] as u32));
+        }
+        h
+    }
+
+    /// Add vertex `n` of kind `k` bonded (single bonds) to the vertices in
+    /// `attach`.
+    pub fn add_vertex(&mut self, p: &Problem, k: usize, attach: u64) {
         let v = self.n;
         let val = p.kinds[k].valence;
+        let d = attach.count_ones() as u8;
         self.g.n = v + 1;
         self.g.colour[v] = k as u32;
+        self.g.adj[0][v] = attach;
         self.kind[v] = k as u8;
-        self.nb[v] = 0;
-        let mut sum = 0;
-        for &(x, o) in attach {
-            self.g.set_edge(v, x, o);
-            self.nb[v] |= 1u64 << x;
+        self.nb[v] = attach;
+        for x in bits(attach) {
+            self.g.adj[0][x] |= 1u64 << v;
             self.nb[x] |= 1u64 << v;
-            self.free[x] -= o;
+            self.free[x] -= 1;
             self.deg[x] += 1;
-            sum += o;
         }
-        self.free[v] = val - sum;
-        self.free_total += val as i32 - 2 * sum as i32;
-        self.deg[v] = attach.len() as u8;
-        self.excess += sum as i32 - 1;
+        self.free[v] = val - d;
+        self.deg[v] = d;
+        self.free_total += val as i32 - 2 * d as i32;
+        self.cycles += d as i32 - 1;
         self.remaining[k] -= 1;
-        self.room -= val as i32 - 1;
         self.n = v + 1;
     }
 
-    fn remove_last(&mut self, p: &Problem, k: usize, attach: &[(usize, u8)]) {
+    fn remove_last(&mut self, p: &Problem, k: usize, attach: u64) {
         let v = self.n - 1;
         let val = p.kinds[k].valence;
-        let mut sum = 0;
-        for &(x, o) in attach {
-            self.g.set_edge(v, x, 0);
+        let d = attach.count_ones() as u8;
+        for x in bits(attach) {
+            self.g.adj[0][x] &= !(1u64 << v);
             self.nb[x] &= !(1u64 << v);
-            self.free[x] += o;
+            self.free[x] += 1;
             self.deg[x] -= 1;
-            sum += o;
         }
+        self.g.adj[0][v] = 0;
         self.nb[v] = 0;
-        self.free_total -= val as i32 - 2 * sum as i32;
-        self.excess -= sum as i32 - 1;
+        self.free_total -= val as i32 - 2 * d as i32;
+        self.cycles -= d as i32 - 1;
         self.remaining[k] += 1;
-        self.room += val as i32 - 1;
         self.n = v;
         self.g.n = v;
-        let _ = val;
     }
 
     /// Whether removing x leaves the graph connected.
     fn non_cut(&self, x: usize) -> bool {
         let n = self.n;
-        if n <= 2 {
+        if n <= 2 || self.deg[x] == 1 {
             return true;
         }
         let all = (if n == 64 { !0u64 } else { (1u64 << n) - 1 }) & !(1u64 << x);
@@ -191,10 +222,28 @@ impl Node {
         seen == all
     }
 
-    /// Whether the complete molecule uses every atom's valence within its bounds.
-    fn valences_complete(&self, p: &Problem) -> bool {
-        (0..self.n).all(|x| self.bond_sum(p, x) >= p.kinds[self.kind[x] as usize].min_bond_sum)
+    /// Whether u and v (u != v) have the same kind and the same neighbours
+    /// apart from each other: then swapping them is an automorphism.
+    #[inline]
+    fn twins(&self, u: usize, v: usize) -> bool {
+        self.kind[u] == self.kind[v] && self.nb[u] & !(1u64 << v) == self.nb[v] & !(1u64 << u)
     }
+}
+
+#[inline]
+fn key_of(priority: u8, deg: usize) -> u32 {
+    (priority as u32) << 8 | (255 - deg as u32)
+}
+
+/// A fixed mixing function (the 32-bit finaliser of MurmurHash3), so that
+/// sums of mixed values rarely collide.
+#[inline]
+fn mix(mut x: u32) -> u32 {
+    x ^= x >> 16;
+    x = x.wrapping_mul(0x85eb_ca6b);
+    x ^= x >> 13;
+    x = x.wrapping_mul(0xc2b2_ae35);
+    x ^ x >> 16
 }
 
 /// The root nodes: one single-atom node per kind present (in kind order).
@@ -207,12 +256,6 @@ pub fn roots(p: &Problem) -> Vec<Node> {
 
 /// The single-atom node of kind `k`.
 pub fn root(p: &Problem, k: usize) -> Node {
-    let room_all: i32 = p
-        .kinds
-        .iter()
-        .zip(&p.counts)
-        .map(|(k, &c)| (k.valence as i32 - 1) * c as i32)
-        .sum();
     let kind = p.kinds[k];
     let mut node = Node {
         g: CanonGraph::new(1),
@@ -221,9 +264,8 @@ pub fn root(p: &Problem, k: usize) -> Node {
         free: [0; MAX_ATOMS],
         deg: [0; MAX_ATOMS],
         nb: [0; MAX_ATOMS],
-        excess: 0,
+        cycles: 0,
         remaining: [0; MAX_KINDS],
-        room: room_all - (kind.valence as i32 - 1),
         free_total: kind.valence as i32,
     };
     node.g.colour[0] = k as u32;
@@ -237,8 +279,12 @@ pub fn root(p: &Problem, k: usize) -> Node {
 /// Depth-first generation below given nodes, with reusable work space.
 pub struct Generator<'p> {
     p: &'p Problem,
+    /// `canon[n]` labels graphs of n atoms (a parent's labelling survives
+    /// while its children are tried).
     canon: Vec<Canonizer>,
+    /// Non-identity automorphisms of the parent at each depth.
     auts: Vec<Vec<[u8; MAX_ATOMS]>>,
+    orders: Orders,
 }
 
 /// What a search step hands to its sink: a node at the depth limit.
@@ -250,20 +296,38 @@ impl<'p> Generator<'p> {
             p,
             canon: (0..=p.atoms + 1).map(|_| Canonizer::new()).collect(),
             auts: vec![Vec::new(); p.atoms + 2],
+            orders: Orders {
+                check_min: p.kinds.iter().any(|k| k.min_bond_sum > 0),
+                ..Orders::default()
+            },
         }
     }
 
-    /// Visit every accepted descendant of `node` (itself included) that has
-    /// `limit` atoms; complete molecules (limit = all atoms) are visited only
-    /// when all valence bounds hold. `node` itself must already be accepted.
-    pub fn search(&mut self, node: &mut Node, limit: usize, sink: &mut Sink<'_>) {
-        self.dfs(node, limit, false, sink)
+    /// Visit every complete isomer whose skeleton descends from `node` (an
+    /// accepted skeleton, itself included).
+    pub fn search(&mut self, node: &mut Node, sink: &mut Sink<'_>) {
+        self.dfs(node, self.p.atoms, true, false, sink)
     }
 
-    fn dfs(&mut self, node: &mut Node, limit: usize, canon_fresh: bool, sink: &mut Sink<'_>) {
+    /// Visit every accepted skeleton with `depth` atoms that descends from
+    /// `node` (an accepted skeleton, itself included).
+    pub fn skeletons(&mut self, node: &mut Node, depth: usize, sink: &mut Sink<'_>) {
+        self.dfs(node, depth, false, false, sink)
+    }
+
+    fn dfs(
+        &mut self,
+        node: &mut Node,
+        limit: usize,
+        isomers: bool,
+        canon_fresh: bool,
+        sink: &mut Sink<'_>,
+    ) {
         let p = self.p;
         if node.n == limit {
-            if limit < p.atoms || node.valences_complete(p) {
+            if isomers {
+                self.bond_orders(node, canon_fresh, sink);
+            } else {
                 sink(node);
             }
             return;
@@ -290,140 +354,78 @@ impl<'p> Generator<'p> {
             }
         }
         keyed[..nkeyed].sort_unstable_by(|a, b| b.cmp(a));
-        let mut ctx = ChildCtx {
-            keyed,
-            nkeyed,
+        let mut open = 0u64;
+        for x in 0..n {
+            if node.free[x] > 0 {
+                open |= 1u64 << x;
+            }
+        }
+        let ctx = ChildCtx {
             noncut_mask,
             auts,
-            attach: Vec::with_capacity(8),
-            sum_min: 0,
-            sum_max: 0,
+            limit,
+            isomers,
         };
+        let last = n + 1 == p.atoms;
         for k in 0..p.kinds.len() {
             if node.remaining[k] == 0 {
                 continue;
             }
             let kind = p.kinds[k];
-            // Bond-order sums of the new atom that keep the unsaturation
-            // reachable: excess + sum - 1 within [dbe - room', dbe].
-            let room = node.room - (kind.valence as i32 - 1);
-            let lo = (p.dbe - room - node.excess + 1).max(1);
-            let hi = (p.dbe - node.excess + 1).min(kind.valence as i32);
-            if lo > hi {
-                continue;
-            }
-            ctx.sum_min = lo as u8;
-            ctx.sum_max = hi as u8;
-            let max_deg = (kind.valence as usize).min(n).min(hi as usize);
+            let val = kind.valence as i32;
+            // d bonds close d - 1 rings; the rings may not pass the DBE.
+            let max_deg = (val as usize)
+                .min(n)
+                .min((p.dbe - node.cycles + 1).max(0) as usize);
             for d in 1..=max_deg {
-                // Best key the new atom can have with d bonds (all single).
-                let best = (kind.priority as u32) << 16 | (255 - d as u32) << 8 | (255 - d as u32);
+                // Later atoms need somewhere to bond.
+                if !last && node.free_total + val - 2 * (d as i32) < 1 {
+                    continue;
+                }
+                let best = key_of(kind.priority, d);
                 let mut must = 0u64;
-                for &(key, x) in &ctx.keyed[..ctx.nkeyed] {
+                for &(key, x) in &keyed[..nkeyed] {
                     if key <= best {
                         break;
                     }
                     must |= 1u64 << x;
                 }
-                if must.count_ones() as usize > d {
+                if must.count_ones() as usize > d || must & !open != 0 {
                     continue;
                 }
-                if bits(must).any(|x| node.free[x] == 0) {
-                    continue;
-                }
-                let mut others = [0u8; MAX_ATOMS];
-                let mut nothers = 0;
-                for x in 0..n {
-                    if must >> x & 1 == 0 && node.free[x] > 0 {
-                        others[nothers] = x as u8;
-                        nothers += 1;
-                    }
-                }
+                let others = open & !must;
                 let extra = d - must.count_ones() as usize;
-                if extra > nothers {
+                if extra > others.count_ones() as usize {
                     continue;
                 }
-                self.choose(
-                    node,
-                    k,
-                    limit,
-                    &mut ctx,
-                    &others[..nothers],
-                    0,
-                    extra,
-                    must,
-                    sink,
-                );
+                self.choose(node, k, &ctx, others, extra, must, sink);
             }
         }
         self.auts[n] = ctx.auts;
     }
 
-    /// Choose `extra` more attachment atoms from `others[from..]`, then orders.
+    /// Choose `extra` more attachment atoms from `others` (in increasing
+    /// order), then try the child.
     #[allow(clippy::too_many_arguments)]
     fn choose(
         &mut self,
         node: &mut Node,
         k: usize,
-        limit: usize,
-        ctx: &mut ChildCtx,
-        others: &[u8],
-        from: usize,
+        ctx: &ChildCtx,
+        others: u64,
         extra: usize,
         chosen: u64,
         sink: &mut Sink<'_>,
     ) {
         if extra == 0 {
-            let mut set = [0u8; 8];
-            let mut len = 0;
-            for x in bits(chosen) {
-                set[len] = x as u8;
-                len += 1;
-            }
-            ctx.attach.clear();
-            self.orders(node, k, limit, ctx, &set[..len], 0, 0, sink);
+            self.try_child(node, k, ctx, chosen, sink);
             return;
         }
-        for i in from..others.len() {
-            if others.len() - i < extra {
-                break;
-            }
-            let c = chosen | 1u64 << others[i];
-            self.choose(node, k, limit, ctx, others, i + 1, extra - 1, c, sink);
-        }
-    }
-
-    /// Give each chosen atom a bond order (1-3) within both atoms' valences
-    /// and the new atom's allowed bond-order sum.
-    #[allow(clippy::too_many_arguments)]
-    fn orders(
-        &mut self,
-        node: &mut Node,
-        k: usize,
-        limit: usize,
-        ctx: &mut ChildCtx,
-        set: &[u8],
-        i: usize,
-        sum: u8,
-        sink: &mut Sink<'_>,
-    ) {
-        if i == set.len() {
-            if sum >= ctx.sum_min {
-                self.try_child(node, k, limit, ctx, sum, sink);
-            }
-            return;
-        }
-        let x = set[i] as usize;
-        // Each later atom needs at least order 1.
-        let left = (set.len() - i - 1) as u8;
-        if sum + 1 + left > ctx.sum_max {
-            return;
-        }
-        let top = node.free[x].min(3).min(ctx.sum_max - sum - left);
-        for o in 1..=top {
-            ctx.attach.push((x, o));
-            self.orders(node, k, limit, ctx, set, i + 1, sum + o, sink);
-            ctx.attach.pop();
+        let mut rest = others;
+        while rest.count_ones() as usize >= extra {
+            let x = rest.trailing_zeros();
+            rest &= rest - 1;
+            self.choose(node, k, ctx, rest, extra - 1, chosen | 1u64 << x, sink);
         }
     }
 
@@ -431,45 +433,21 @@ impl<'p> Generator<'p> {
         &mut self,
         node: &mut Node,
         k: usize,
-        limit: usize,
-        ctx: &mut ChildCtx,
-        sum: u8,
+        ctx: &ChildCtx,
+        attach: u64,
         sink: &mut Sink<'_>,
     ) {
         let p = self.p;
-        let kind = p.kinds[k];
-        let d = ctx.attach.len();
-        let key_v = (kind.priority as u32) << 16 | (255 - d as u32) << 8 | (255 - sum as u32);
-        let mut attached = 0u64;
-        for &(x, _) in &ctx.attach {
-            attached |= 1u64 << x;
-        }
-        // A non-cut parent atom left unattached keeps its key and stays non-cut.
-        for &(key, x) in &ctx.keyed[..ctx.nkeyed] {
-            if key <= key_v {
-                break;
-            }
-            if attached >> x & 1 == 0 {
-                return;
-            }
-        }
-        // (The unsaturation bounds hold: `orders` keeps sum in range.)
-        let free_total: i32 = node.free_total - 2 * sum as i32 + kind.valence as i32;
-        let last = node.n + 1 == p.atoms;
-        if !last && free_total < 1 {
-            return;
-        }
         // Only one attachment per orbit of the parent's automorphism group.
-        if !ctx.auts.is_empty() && !attachment_is_minimal(node.n, &ctx.attach, &ctx.auts) {
+        if !ctx.auts.is_empty() && !attachment_is_minimal(attach, &ctx.auts) {
             return;
         }
-        let attach = std::mem::take(&mut ctx.attach);
-        node.add_vertex(p, k, &attach);
-        if let Some(fresh) = self.accept(node, key_v, attached, ctx.noncut_mask) {
-            self.dfs(node, limit, fresh, sink);
+        let key_v = key_of(p.kinds[k].priority, attach.count_ones() as usize);
+        node.add_vertex(p, k, attach);
+        if let Some(fresh) = self.accept(node, key_v, attach, ctx.noncut_mask) {
+            self.dfs(node, ctx.limit, ctx.isomers, fresh, sink);
         }
-        node.remove_last(p, k, &attach);
-        ctx.attach = attach;
+        node.remove_last(p, k, attach);
     }
 
     /// Is the newest vertex the canonical deletion of `node`? Returns
@@ -484,31 +462,48 @@ impl<'p> Generator<'p> {
     ) -> Option<bool> {
         let p = self.p;
         let v = node.n - 1;
-        let mut ties = 1u64 << v;
+        let mut ties = 0u64;
         for x in 0..v {
             let kx = node.key(p, x);
             if kx < key_v {
                 continue;
             }
             // Above key_v only attached atoms and former cut vertices remain
-            // (try_child ruled out the rest); any of them now non-cut wins.
+            // (the choice of attachments ruled out the rest); any of them now
+            // non-cut wins. An unattached non-cut atom of the parent stays
+            // non-cut (the new atom bonds to the rest of the parent).
             if kx > key_v {
                 if node.non_cut(x) {
                     return None;
                 }
-            } else if attached >> x & 1 == 0 && ctx_noncut(parent_noncut, x) || node.non_cut(x) {
+            } else if attached >> x & 1 == 0 && parent_noncut >> x & 1 == 1 || node.non_cut(x) {
                 ties |= 1u64 << x;
             }
         }
-        if ties.count_ones() == 1 {
+        if ties == 0 {
             return Some(false);
         }
+        let hv = node.hash(v);
+        let mut tied = 0u64;
+        for x in bits(ties) {
+            let hx = node.hash(x);
+            if hx > hv {
+                return None;
+            }
+            if hx == hv {
+                tied |= 1u64 << x;
+            }
+        }
+        if bits(tied).all(|x| node.twins(x, v)) {
+            return Some(false);
+        }
+        tied |= 1u64 << v;
         let c = &mut self.canon[node.n];
         c.run(&node.g);
         let order = c.order();
         let pos_w = (0..node.n)
             .rev()
-            .find(|&i| ties >> order[i] & 1 == 1)
+            .find(|&i| tied >> order[i] & 1 == 1)
             .expect("the tie set is not empty");
         if c.orbit_at(pos_w) >> v & 1 == 1 {
             Some(true)
@@ -516,51 +511,213 @@ impl<'p> Generator<'p> {
             None
         }
     }
-}
 
-#[inline]
-fn ctx_noncut(mask: u64, x: usize) -> bool {
-    mask >> x & 1 == 1
+    /// Stage 2: every assignment of bond orders to the complete skeleton
+    /// `node`, one per orbit of its automorphism group, handed to `sink`.
+    fn bond_orders(&mut self, node: &mut Node, canon_fresh: bool, sink: &mut Sink<'_>) {
+        let p = self.p;
+        let extra = p.dbe - node.cycles;
+        debug_assert!(extra >= 0, "skeletons never have more rings than the DBE");
+        let o = &mut self.orders;
+        if extra == 0 {
+            if !o.check_min || o.min_sums_hold(p, node) {
+                sink(node);
+            }
+            return;
+        }
+        // Edges that can take a higher order: both ends have free valence.
+        o.edges.clear();
+        for a in 0..node.n {
+            if node.free[a] == 0 {
+                continue;
+            }
+            for b in bits(node.nb[a] & !((2u64 << a) - 1)) {
+                if node.free[b] > 0 {
+                    o.edges.push((a as u8, b as u8));
+                }
+            }
+        }
+        let ne = o.edges.len();
+        // cap[i]: the most extra order edges i.. could take.
+        o.cap.clear();
+        o.cap.resize(ne + 1, 0);
+        for i in (0..ne).rev() {
+            let (a, b) = o.edges[i];
+            let c = node.free[a as usize].min(node.free[b as usize]).min(2);
+            o.cap[i] = o.cap[i + 1] + c as i32;
+        }
+        if o.cap[0] < extra {
+            return;
+        }
+        o.group = if canon_fresh {
+            GroupState::Ready
+        } else {
+            GroupState::Unknown
+        };
+        o.chosen.clear();
+        let canon = &mut self.canon[node.n];
+        o.assign(p, node, canon, 0, extra, sink);
+    }
 }
 
 struct ChildCtx {
-    /// Non-cut vertices of the parent with their keys, best first.
-    keyed: [(u32, u8); MAX_ATOMS],
-    nkeyed: usize,
-    /// Allowed bond-order sums of the new atom.
-    sum_min: u8,
-    sum_max: u8,
     /// Non-cut vertices of the parent (they stay non-cut when left unattached).
     noncut_mask: u64,
     auts: Vec<[u8; MAX_ATOMS]>,
-    attach: Vec<(usize, u8)>,
+    limit: usize,
+    isomers: bool,
 }
 
-/// Whether the attachment (order per parent vertex) is the lexicographically
-/// smallest of its images under the parent's automorphisms.
-fn attachment_is_minimal(n: usize, attach: &[(usize, u8)], auts: &[[u8; MAX_ATOMS]]) -> bool {
-    let mut a = [0u8; MAX_ATOMS];
-    for &(x, o) in attach {
-        a[x] = o;
-    }
-    for g in auts {
-        let mut b = [0u8; MAX_ATOMS];
-        for &(x, o) in attach {
-            b[g[x] as usize] = o;
+/// Whether the attachment set is the smallest (as a bitset number) of its
+/// images under the parent's automorphisms.
+fn attachment_is_minimal(attach: u64, auts: &[[u8; MAX_ATOMS]]) -> bool {
+    auts.iter().all(|g| {
+        let mut image = 0u64;
+        for x in bits(attach) {
+            image |= 1u64 << g[x];
         }
-        // Compare b with a over vertices 0..n; reject when an image is smaller.
-        // "Smaller" means: at the first differing vertex, the image has the larger
-        // order. Any fixed total order works; this one favours early vertices.
-        for i in 0..n {
-            if a[i] != b[i] {
-                if b[i] > a[i] {
-                    return false;
-                }
-                break;
+        image >= attach
+    })
+}
+
+#[derive(Clone, Copy, PartialEq, Eq, Default)]
+enum GroupState {
+    /// Not computed yet for this skeleton (done at its first valid assignment).
+    #[default]
+    Unknown,
+    /// The canonizer holds the skeleton's labelling; edge images not made yet.
+    Ready,
+    /// `eperm` holds the edge permutations of the non-identity automorphisms.
+    Done,
+}
+
+/// Work space of stage 2.
+#[derive(Default)]
+struct Orders {
+    edges: Vec<(u8, u8)>,
+    cap: Vec<i32>,
+    /// (edge index, extra order) of the edges given extra order so far, in
+    /// increasing edge index.
+    chosen: Vec<(u8, u8)>,
+    group: GroupState,
+    /// For each non-identity automorphism, the image of each edge index.
+    eperm: Vec<Vec<u8>>,
+    /// Edge index by end points (a * MAX_ATOMS + b), for building `eperm`.
+    index: Vec<u8>,
+    check_min: bool,
+}
+
+impl Orders {
+    fn min_sums_hold(&self, p: &Problem, node: &Node) -> bool {
+        (0..node.n).all(|x| {
+            let k = &p.kinds[node.kind[x] as usize];
+            k.valence - node.free[x] >= k.min_bond_sum
+        })
+    }
+
+    /// Give edges i.. extra orders summing to `left`; `node.free` tracks the
+    /// free valence as orders are raised.
+    fn assign(
+        &mut self,
+        p: &Problem,
+        node: &mut Node,
+        canon: &mut Canonizer,
+        i: usize,
+        left: i32,
+        sink: &mut Sink<'_>,
+    ) {
+        if left == 0 {
+            self.leaf(p, node, canon, sink);
+            return;
+        }
+        if self.cap[i] < left {
+            return;
+        }
+        let (a, b) = self.edges[i];
+        let (a, b) = (a as usize, b as usize);
+        let top = node.free[a].min(node.free[b]).min(2).min(left as u8);
+        for x in (1..=top).rev() {
+            node.free[a] -= x;
+            node.free[b] -= x;
+            self.chosen.push((i as u8, x));
+            self.assign(p, node, canon, i + 1, left - x as i32, sink);
+            self.chosen.pop();
+            node.free[a] += x;
+            node.free[b] += x;
+        }
+        self.assign(p, node, canon, i + 1, left, sink);
+    }
+
+    fn leaf(&mut self, p: &Problem, node: &mut Node, canon: &mut Canonizer, sink: &mut Sink<'_>) {
+        if self.check_min && !self.min_sums_hold(p, node) {
+            return;
+        }
+        if self.group != GroupState::Done {
+            self.make_group(node, canon);
+        }
+        if !self.is_largest() {
+            return;
+        }
+        for &(i, x) in &self.chosen {
+            let (a, b) = self.edges[i as usize];
+            node.g.set_edge(a as usize, b as usize, 1 + x);
+        }
+        sink(node);
+        for &(i, _) in &self.chosen {
+            let (a, b) = self.edges[i as usize];
+            node.g.set_edge(a as usize, b as usize, 1);
+        }
+    }
+
+    /// The skeleton's automorphisms as permutations of the edge indices.
+    /// `node.g` still holds the plain skeleton here (orders are written only
+    /// around the sink call).
+    fn make_group(&mut self, node: &Node, canon: &mut Canonizer) {
+        if self.group == GroupState::Unknown {
+            canon.run(&node.g);
+        }
+        self.group = GroupState::Done;
+        self.eperm.clear();
+        if canon.group_size() == 1 {
+            return;
+        }
+        self.index.resize(MAX_ATOMS * MAX_ATOMS, 0);
+        for (i, &(a, b)) in self.edges.iter().enumerate() {
+            self.index[a as usize * MAX_ATOMS + b as usize] = i as u8;
+            self.index[b as usize * MAX_ATOMS + a as usize] = i as u8;
+        }
+        for g in canon.automorphisms().skip(1) {
+            let perm = self
+                .edges
+                .iter()
+                .map(|&(a, b)| {
+                    self.index[g[a as usize] as usize * MAX_ATOMS + g[b as usize] as usize]
+                })
+                .collect();
+            self.eperm.push(perm);
+        }
+    }
+
+    /// Whether the assignment in `chosen` is the largest of its images: an
+    /// assignment is read as the sequence of extra orders by decreasing edge
+    /// index, compared lexicographically.
+    fn is_largest(&self) -> bool {
+        let own = self.chosen.iter().rev();
+        let mut img = [(0u8, 0u8); 256];
+        let k = self.chosen.len();
+        for perm in &self.eperm {
+            for (j, &(i, x)) in self.chosen.iter().enumerate() {
+                img[j] = (perm[i as usize], x);
+            }
+            img[..k].sort_unstable_by(|a, b| b.cmp(a));
+            // Both lists are by decreasing edge index; the first difference
+            // decides: a higher edge index present, or a larger order there.
+            if img[..k].iter().gt(own.clone()) {
+                return false;
             }
         }
+        true
     }
-    true
 }
 
 /// Iterate the set bits of a mask.
