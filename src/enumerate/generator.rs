@@ -32,8 +32,8 @@
 //!
 //! The canonical deletion rule. Among the non-cut vertices, prefer (1) the
 //! element of highest deletion priority (halogens, then O, S, N, P, C), then
-//! (2) the lowest degree, then (3) the highest neighbourhood hash (a sum over
-//! the neighbours of a mixed (kind, degree) value: isomorphism-invariant and
+//! (2) the lowest degree, then (3) the highest neighbourhood hash (sums of mixed (kind, degree)
+//! values over the atoms up to two bonds away: isomorphism-invariant and
 //! cheap); among the vertices still tied, the one at the highest position of
 //! the canonical labelling (see `chem::canon`). Parts (1)-(3) decide most
 //! children without a canonical labelling, and so does the observation that a
@@ -143,15 +143,51 @@ impl Node {
         )
     }
 
-    /// Part (3) of the deletion rule: a hash of the neighbours' kinds and
-    /// degrees, invariant under isomorphism (a sum is order-free).
+    /// Part (3) of the deletion rule: a hash of the neighbourhood up to
+    /// distance 2 (kinds and degrees), invariant under isomorphism (sums are
+    /// order-free).
     #[inline]
     fn hash(&self, x: usize) -> u32 {
         let mut h = 0u32;
         for u in bits(self.nb[x]) {
-            h = h.wrapping_add(mix(self.kind[u] as u32 * 64 + self.deg[u] as u32));
+            let mut hu = self.atom_code(u);
+            for w in bits(self.nb[u]) {
+                hu = hu.wrapping_add(mix(self.atom_code(w)));
+            }
+            h = h.wrapping_add(mix(hu));
         }
         h
+    }
+
+    /// Whether (kind, degree, [`Node::hash`]) differ for every pair of
+    /// vertices: then no automorphism but the identity exists (automorphisms
+    /// keep invariants), and no canonical labelling is needed to know it.
+    fn invariants_distinct(&self) -> bool {
+        let n = self.n;
+        let mut s1 = [0u32; MAX_ATOMS];
+        for u in 0..n {
+            let mut h = self.atom_code(u);
+            for w in bits(self.nb[u]) {
+                h = h.wrapping_add(mix(self.atom_code(w)));
+            }
+            s1[u] = mix(h);
+        }
+        let mut inv = [0u64; MAX_ATOMS];
+        for x in 0..n {
+            let mut h = 0u32;
+            for u in bits(self.nb[x]) {
+                h = h.wrapping_add(s1[u]);
+            }
+            inv[x] = (self.atom_code(x) as u64) << 32 | h as u64;
+        }
+        let inv = &mut inv[..n];
+        inv.sort_unstable();
+        inv.windows(2).all(|w| w[0] != w[1])
+    }
+
+    #[inline]
+    fn atom_code(&self, x: usize) -> u32 {
+        self.kind[x] as u32 * 64 + self.deg[x] as u32
     }
 
     /// Add vertex `n` of kind `k` bonded (single bonds) to the vertices in
@@ -334,12 +370,13 @@ impl<'p> Generator<'p> {
         }
         let n = node.n;
         // The parent's automorphisms: attachments are tried only up to them.
-        if !canon_fresh {
+        let trivial = !canon_fresh && node.invariants_distinct();
+        if !canon_fresh && !trivial {
             self.canon[n].run(&node.g);
         }
         let mut auts = std::mem::take(&mut self.auts[n]);
         auts.clear();
-        if self.canon[n].group_size() > 1 {
+        if (canon_fresh || !trivial) && self.canon[n].group_size() > 1 {
             auts.extend(self.canon[n].automorphisms().skip(1));
         }
         // Non-cut vertices of the parent and their deletion keys, best first.
@@ -674,6 +711,11 @@ impl Orders {
     /// around the sink call).
     fn make_group(&mut self, node: &Node, canon: &mut Canonizer) {
         if self.group == GroupState::Unknown {
+            if node.invariants_distinct() {
+                self.group = GroupState::Done;
+                self.eperm.clear();
+                return;
+            }
             canon.run(&node.g);
         }
         self.group = GroupState::Done;
