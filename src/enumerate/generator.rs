@@ -165,20 +165,20 @@ impl Node {
     fn invariants_distinct(&self) -> bool {
         let n = self.n;
         let mut s1 = [0u32; MAX_ATOMS];
-        for u in 0..n {
+        for (u, s) in s1[..n].iter_mut().enumerate() {
             let mut h = self.atom_code(u);
             for w in bits(self.nb[u]) {
                 h = h.wrapping_add(mix(self.atom_code(w)));
             }
-            s1[u] = mix(h);
+            *s = mix(h);
         }
         let mut inv = [0u64; MAX_ATOMS];
-        for x in 0..n {
+        for (x, i) in inv[..n].iter_mut().enumerate() {
             let mut h = 0u32;
             for u in bits(self.nb[x]) {
                 h = h.wrapping_add(s1[u]);
             }
-            inv[x] = (self.atom_code(x) as u64) << 32 | h as u64;
+            *i = (self.atom_code(x) as u64) << 32 | h as u64;
         }
         let inv = &mut inv[..n];
         inv.sort_unstable();
