@@ -159,10 +159,18 @@ impl Node {
         h
     }
 
-    /// Whether (kind, degree, [`Node::hash`]) differ for every pair of
-    /// vertices: then no automorphism but the identity exists (automorphisms
-    /// keep invariants), and no canonical labelling is needed to know it.
-    fn invariants_distinct(&self) -> bool {
+    /// The automorphism group without a canonical labelling, where cheap
+    /// invariants settle it: group the vertices by (kind, degree, a hash of
+    /// the neighbourhood up to two bonds); automorphisms keep these, so when
+    /// every group is a set of mutual twins (same kind, same neighbours apart
+    /// from each other), Aut is exactly the product of the symmetric groups
+    /// on the groups (each such permutation is an automorphism, and every
+    /// automorphism permutes each group). That covers the trivial group (all
+    /// groups single) and the common symmetries of molecules, such as the
+    /// methyls of an isopropyl or tert-butyl group. Pushes the non-identity
+    /// elements onto `auts` and returns true; returns false (and leaves
+    /// `auts` alone) when the invariants do not settle it.
+    fn cheap_group(&self, auts: &mut Vec<[u8; MAX_ATOMS]>) -> bool {
         let n = self.n;
         let mut s1 = [0u32; MAX_ATOMS];
         for (u, s) in s1[..n].iter_mut().enumerate() {
@@ -172,17 +180,88 @@ impl Node {
             }
             *s = mix(h);
         }
+        // (invariant, vertex), sorted: equal invariants side by side.
         let mut inv = [0u64; MAX_ATOMS];
         for (x, i) in inv[..n].iter_mut().enumerate() {
             let mut h = 0u32;
             for u in bits(self.nb[x]) {
                 h = h.wrapping_add(s1[u]);
             }
-            *i = (self.atom_code(x) as u64) << 32 | h as u64;
+            *i = ((self.atom_code(x) as u64) << 32 | h as u64) << 6 | x as u64;
         }
         let inv = &mut inv[..n];
         inv.sort_unstable();
-        inv.windows(2).all(|w| w[0] != w[1])
+        let mut classes = [(0u8, 0u8); MAX_ATOMS];
+        let mut nclasses = 0;
+        let mut size: usize = 1;
+        let mut s = 0;
+        while s < n {
+            let mut e = s + 1;
+            while e < n && inv[e] >> 6 == inv[s] >> 6 {
+                e += 1;
+            }
+            if e - s > 1 {
+                let first = (inv[s] & 63) as usize;
+                if !inv[s + 1..e]
+                    .iter()
+                    .all(|&i| self.twins(first, (i & 63) as usize))
+                {
+                    return false;
+                }
+                classes[nclasses] = (s as u8, e as u8);
+                nclasses += 1;
+                size = size.saturating_mul((1..=e - s).product());
+                if size > 1 << 16 {
+                    return false;
+                }
+            }
+            s = e;
+        }
+        if nclasses == 0 {
+            return true;
+        }
+        let mut members = [0u8; MAX_ATOMS];
+        for (i, m) in members[..n].iter_mut().enumerate() {
+            *m = (inv[i] & 63) as u8;
+        }
+        let start = auts.len();
+        let mut id = [0u8; MAX_ATOMS];
+        for (v, x) in id[..n].iter_mut().enumerate() {
+            *x = v as u8;
+        }
+        auts.push(id);
+        for &(cs, ce) in &classes[..nclasses] {
+            let class = &members[cs as usize..ce as usize];
+            let have = auts.len();
+            let mut perm = class.to_vec();
+            // Every ordering of the class, by Heap's algorithm; the first is
+            // the identity, already present in each element.
+            let mut c = vec![0usize; class.len()];
+            let mut i = 0;
+            while i < class.len() {
+                if c[i] < i {
+                    if i % 2 == 0 {
+                        perm.swap(0, i);
+                    } else {
+                        perm.swap(c[i], i);
+                    }
+                    for e in start..have {
+                        let mut g = auts[e];
+                        for (j, &m) in class.iter().enumerate() {
+                            g[m as usize] = perm[j];
+                        }
+                        auts.push(g);
+                    }
+                    c[i] += 1;
+                    i = 0;
+                } else {
+                    c[i] = 0;
+                    i += 1;
+                }
+            }
+        }
+        auts.remove(start);
+        true
     }
 
     #[inline]
@@ -370,14 +449,15 @@ impl<'p> Generator<'p> {
         }
         let n = node.n;
         // The parent's automorphisms: attachments are tried only up to them.
-        let trivial = !canon_fresh && node.invariants_distinct();
-        if !canon_fresh && !trivial {
-            self.canon[n].run(&node.g);
-        }
         let mut auts = std::mem::take(&mut self.auts[n]);
         auts.clear();
-        if (canon_fresh || !trivial) && self.canon[n].group_size() > 1 {
-            auts.extend(self.canon[n].automorphisms().skip(1));
+        if canon_fresh || !node.cheap_group(&mut auts) {
+            if !canon_fresh {
+                self.canon[n].run(&node.g);
+            }
+            if self.canon[n].group_size() > 1 {
+                auts.extend(self.canon[n].automorphisms().skip(1));
+            }
         }
         // Non-cut vertices of the parent and their deletion keys, best first.
         let mut keyed = [(0u32, 0u8); MAX_ATOMS];
@@ -637,8 +717,10 @@ struct Orders {
     /// increasing edge index.
     chosen: Vec<(u8, u8)>,
     group: GroupState,
-    /// For each non-identity automorphism, the image of each edge index.
-    eperm: Vec<Vec<u8>>,
+    /// The skeleton's non-identity automorphisms (vertex permutations).
+    auts: Vec<[u8; MAX_ATOMS]>,
+    /// For each of `auts`, the image of each edge index (`edges.len()` a row).
+    eperm: Vec<u8>,
     /// Edge index by end points (a * MAX_ATOMS + b), for building `eperm`.
     index: Vec<u8>,
     check_min: bool,
@@ -710,34 +792,31 @@ impl Orders {
     /// `node.g` still holds the plain skeleton here (orders are written only
     /// around the sink call).
     fn make_group(&mut self, node: &Node, canon: &mut Canonizer) {
-        if self.group == GroupState::Unknown {
-            if node.invariants_distinct() {
-                self.group = GroupState::Done;
-                self.eperm.clear();
-                return;
+        let mut auts = std::mem::take(&mut self.auts);
+        auts.clear();
+        if self.group == GroupState::Ready || !node.cheap_group(&mut auts) {
+            if self.group == GroupState::Unknown {
+                canon.run(&node.g);
             }
-            canon.run(&node.g);
+            auts.extend(canon.automorphisms().skip(1));
         }
         self.group = GroupState::Done;
         self.eperm.clear();
-        if canon.group_size() == 1 {
-            return;
+        let ne = self.edges.len();
+        if !auts.is_empty() {
+            self.index.resize(MAX_ATOMS * MAX_ATOMS, 0);
+            for (i, &(a, b)) in self.edges.iter().enumerate() {
+                self.index[a as usize * MAX_ATOMS + b as usize] = i as u8;
+                self.index[b as usize * MAX_ATOMS + a as usize] = i as u8;
+            }
         }
-        self.index.resize(MAX_ATOMS * MAX_ATOMS, 0);
-        for (i, &(a, b)) in self.edges.iter().enumerate() {
-            self.index[a as usize * MAX_ATOMS + b as usize] = i as u8;
-            self.index[b as usize * MAX_ATOMS + a as usize] = i as u8;
+        for g in &auts {
+            for &(a, b) in &self.edges[..ne] {
+                let image = self.index[g[a as usize] as usize * MAX_ATOMS + g[b as usize] as usize];
+                self.eperm.push(image);
+            }
         }
-        for g in canon.automorphisms().skip(1) {
-            let perm = self
-                .edges
-                .iter()
-                .map(|&(a, b)| {
-                    self.index[g[a as usize] as usize * MAX_ATOMS + g[b as usize] as usize]
-                })
-                .collect();
-            self.eperm.push(perm);
-        }
+        self.auts = auts;
     }
 
     /// Whether the assignment in `chosen` is the largest of its images: an
@@ -747,7 +826,8 @@ impl Orders {
         let own = self.chosen.iter().rev();
         let mut img = [(0u8, 0u8); 256];
         let k = self.chosen.len();
-        for perm in &self.eperm {
+        let ne = self.edges.len();
+        for perm in self.eperm.chunks_exact(ne) {
             for (j, &(i, x)) in self.chosen.iter().enumerate() {
                 img[j] = (perm[i as usize], x);
             }
