@@ -156,21 +156,35 @@ impl Canonizer {
         if n == 0 {
             return;
         }
-        // Initial partition: vertices grouped by colour, cells in colour order.
+        // Initial partition: vertices grouped by colour and then by degree
+        // per edge colour (what a first refinement round would find), cells
+        // in that order.
         let mut p = Partition {
             lab: [0; MAX_ATOMS],
             end: [0; MAX_ATOMS],
             cell: [0; MAX_ATOMS],
             cells: 0,
         };
+        let mut key = [0u64; MAX_ATOMS];
         for v in 0..n {
             p.lab[v] = v as u8;
+            let mut k = (g.colour[v] as u64) << 32;
+            for (j, &l) in self.used[..self.nused].iter().enumerate() {
+                let mut r = g.adj[l][v];
+                let mut d = 0u64;
+                while r != 0 {
+                    r &= r - 1;
+                    d += 1;
+                }
+                k |= d << (8 * j);
+            }
+            key[v] = k;
         }
-        p.lab[..n].sort_unstable_by_key(|&v| g.colour[v as usize]);
+        p.lab[..n].sort_unstable_by_key(|&v| key[v as usize]);
         let mut queue = 0u64;
         let mut s = 0;
         for i in 1..=n {
-            if i == n || g.colour[p.lab[i] as usize] != g.colour[p.lab[s] as usize] {
+            if i == n || key[p.lab[i] as usize] != key[p.lab[s] as usize] {
                 p.end[s] = i as u8;
                 for &v in &p.lab[s..i] {
                     p.cell[v as usize] = s as u8;

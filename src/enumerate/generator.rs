@@ -757,8 +757,10 @@ impl Orders {
         })
     }
 
-    /// Give edges i.. extra orders summing to `left`; `node.free` tracks the
-    /// free valence as orders are raised.
+    /// Give edges i.. extra orders summing to `left` (the next edge raised
+    /// is chosen directly, so runs of unraised edges cost nothing);
+    /// `node.free` tracks the free valence as orders are raised.
+    #[allow(clippy::too_many_arguments)]
     fn assign(
         &mut self,
         p: &Problem,
@@ -772,22 +774,22 @@ impl Orders {
             self.leaf(p, node, canon, sink);
             return;
         }
-        if self.cap[i] < left {
-            return;
+        let mut j = i;
+        while self.cap[j] >= left {
+            let (a, b) = self.edges[j];
+            let (a, b) = (a as usize, b as usize);
+            let top = node.free[a].min(node.free[b]).min(2).min(left as u8);
+            for x in (1..=top).rev() {
+                node.free[a] -= x;
+                node.free[b] -= x;
+                self.chosen.push((j as u8, x));
+                self.assign(p, node, canon, j + 1, left - x as i32, sink);
+                self.chosen.pop();
+                node.free[a] += x;
+                node.free[b] += x;
+            }
+            j += 1;
         }
-        let (a, b) = self.edges[i];
-        let (a, b) = (a as usize, b as usize);
-        let top = node.free[a].min(node.free[b]).min(2).min(left as u8);
-        for x in (1..=top).rev() {
-            node.free[a] -= x;
-            node.free[b] -= x;
-            self.chosen.push((i as u8, x));
-            self.assign(p, node, canon, i + 1, left - x as i32, sink);
-            self.chosen.pop();
-            node.free[a] += x;
-            node.free[b] += x;
-        }
-        self.assign(p, node, canon, i + 1, left, sink);
     }
 
     fn leaf(&mut self, p: &Problem, node: &mut Node, canon: &mut Canonizer, sink: &mut Sink<'_>) {
@@ -800,14 +802,25 @@ impl Orders {
         if !self.is_largest() {
             return;
         }
+        // Move each raised edge from the single-bond layer to its order's.
         for &(i, x) in &self.chosen {
             let (a, b) = self.edges[i as usize];
-            node.g.set_edge(a as usize, b as usize, 1 + x);
+            let (a, b) = (a as usize, b as usize);
+            let l = x as usize;
+            node.g.adj[0][a] ^= 1u64 << b;
+            node.g.adj[0][b] ^= 1u64 << a;
+            node.g.adj[l][a] |= 1u64 << b;
+            node.g.adj[l][b] |= 1u64 << a;
         }
         sink(node);
-        for &(i, _) in &self.chosen {
+        for &(i, x) in &self.chosen {
             let (a, b) = self.edges[i as usize];
-            node.g.set_edge(a as usize, b as usize, 1);
+            let (a, b) = (a as usize, b as usize);
+            let l = x as usize;
+            node.g.adj[0][a] |= 1u64 << b;
+            node.g.adj[0][b] |= 1u64 << a;
+            node.g.adj[l][a] &= !(1u64 << b);
+            node.g.adj[l][b] &= !(1u64 << a);
         }
     }
 
