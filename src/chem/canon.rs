@@ -166,7 +166,7 @@ impl Canonizer {
             cells: 0,
         };
         let mut key = [0u64; MAX_ATOMS];
-        for v in 0..n {
+        for (v, key) in key[..n].iter_mut().enumerate() {
             p.lab[v] = v as u8;
             let mut k = (g.colour[v] as u64) << 32;
             for (j, &l) in self.used[..self.nused].iter().enumerate() {
@@ -178,7 +178,7 @@ impl Canonizer {
                 }
                 k |= d << (8 * j);
             }
-            key[v] = k;
+            *key = k;
         }
         p.lab[..n].sort_unstable_by_key(|&v| key[v as usize]);
         let mut queue = 0u64;
