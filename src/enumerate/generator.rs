@@ -118,6 +118,8 @@ pub struct Node {
     pub free: [u8; MAX_ATOMS],
     /// Number of neighbours.
     pub deg: [u8; MAX_ATOMS],
+    /// Deletion priority of each vertex's kind (see [`Kind::priority`]).
+    pub priority: [u8; MAX_ATOMS],
     /// Neighbours of each vertex, any bond order.
     pub nb: [u64; MAX_ATOMS],
     /// Independent cycles of the skeleton: edges - (n - 1).
@@ -136,11 +138,8 @@ impl Node {
     /// Deletion preference of vertex x by parts (1)-(2) of the rule: higher
     /// is deleted first.
     #[inline]
-    fn key(&self, p: &Problem, x: usize) -> u32 {
-        key_of(
-            p.kinds[self.kind[x] as usize].priority,
-            self.deg[x] as usize,
-        )
+    fn key(&self, x: usize) -> u32 {
+        key_of(self.priority[x], self.deg[x] as usize)
     }
 
     /// Part (3) of the deletion rule: a hash of the neighbourhood up to
@@ -285,6 +284,7 @@ impl Node {
         self.g.colour[v] = k as u32;
         self.g.adj[0][v] = attach;
         self.kind[v] = k as u8;
+        self.priority[v] = p.kinds[k].priority;
         self.nb[v] = attach;
         for x in bits(attach) {
             self.g.adj[0][x] |= 1u64 << v;
@@ -384,6 +384,7 @@ pub fn root(p: &Problem, k: usize) -> Node {
         kind: [0; MAX_ATOMS],
         free: [0; MAX_ATOMS],
         deg: [0; MAX_ATOMS],
+        priority: [0; MAX_ATOMS],
         nb: [0; MAX_ATOMS],
         cycles: 0,
         remaining: [0; MAX_KINDS],
@@ -391,6 +392,7 @@ pub fn root(p: &Problem, k: usize) -> Node {
     };
     node.g.colour[0] = k as u32;
     node.kind[0] = k as u8;
+    node.priority[0] = kind.priority;
     node.free[0] = kind.valence;
     node.remaining[..p.counts.len()].copy_from_slice(&p.counts);
     node.remaining[k] -= 1;
@@ -471,7 +473,7 @@ impl<'p> Generator<'p> {
         let mut noncut_mask = 0u64;
         for x in 0..n {
             if node.non_cut(x) {
-                keyed[nkeyed] = (node.key(p, x), x as u8);
+                keyed[nkeyed] = (node.key(x), x as u8);
                 nkeyed += 1;
                 noncut_mask |= 1u64 << x;
             }
@@ -600,11 +602,10 @@ impl<'p> Generator<'p> {
         attached: u64,
         parent_noncut: u64,
     ) -> Option<bool> {
-        let p = self.p;
         let v = node.n - 1;
         let mut ties = 0u64;
         for x in 0..v {
-            let kx = node.key(p, x);
+            let kx = node.key(x);
             if kx < key_v {
                 continue;
             }
