@@ -32,12 +32,13 @@
 //!
 //! The canonical deletion rule. Among the non-cut vertices, prefer (1) the
 //! element of highest deletion priority (halogens, then O, S, N, P, C), then
-//! (2) the lowest degree, then (3) the highest neighbourhood hash (sums of mixed (kind, degree)
-//! values over the atoms up to two bonds away: isomorphism-invariant and
-//! cheap); among the vertices still tied, the one at the highest position of
-//! the canonical labelling (see `chem::canon`). Parts (1)-(3) decide most
-//! children without a canonical labelling, and so does the observation that a
-//! tied vertex with the new vertex's neighbourhood (a twin) is in its orbit.
+//! (2) the lowest degree, then (3) the highest neighbourhood hash (sums of
+//! mixed (kind, degree) values over the atoms up to two bonds away:
+//! isomorphism-invariant and cheap), then (4) the same hash over three bonds;
+//! among the vertices still tied, the one at the highest position of the
+//! canonical labelling (see `chem::canon`). Parts (1)-(4) decide most children
+//! without a canonical labelling, and so does the observation that a tied
+//! vertex with the new vertex's neighbourhood (a twin) is in its orbit.
 //! Parts (1)-(2) also prune the attachments tried: a non-cut atom of the
 //! parent that would beat the new atom must be among the atoms it bonds to,
 //! otherwise the child can only be rejected.
@@ -267,6 +268,24 @@ impl Node {
         }
         auts.remove(start);
         true
+    }
+
+    /// Part (4) of the deletion rule: like [`Node::hash`], over the atoms up
+    /// to three bonds away.
+    fn hash3(&self, x: usize) -> u32 {
+        let mut h = 0u32;
+        for u in bits(self.nb[x]) {
+            let mut hu = self.atom_code(u);
+            for w in bits(self.nb[u]) {
+                let mut hw = self.atom_code(w);
+                for t in bits(self.nb[w]) {
+                    hw = hw.wrapping_add(mix(self.atom_code(t)));
+                }
+                hu = hu.wrapping_add(mix(hw ^ 0x9e37_79b9));
+            }
+            h = h.wrapping_add(mix(hu));
+        }
+        h
     }
 
     #[inline]
@@ -638,7 +657,22 @@ impl<'p> Generator<'p> {
         if bits(tied).all(|x| node.twins(x, v)) {
             return Some(false);
         }
-        tied |= 1u64 << v;
+        // Part (4): the same hash one bond further out.
+        let hv = node.hash3(v);
+        let mut still = 0u64;
+        for x in bits(tied) {
+            let hx = node.hash3(x);
+            if hx > hv {
+                return None;
+            }
+            if hx == hv {
+                still |= 1u64 << x;
+            }
+        }
+        if bits(still).all(|x| node.twins(x, v)) {
+            return Some(false);
+        }
+        tied = still | 1u64 << v;
         let c = &mut self.canon[node.n];
         c.run(&node.g);
         let order = c.order();
