@@ -43,6 +43,16 @@
 //! parent that would beat the new atom must be among the atoms it bonds to,
 //! otherwise the child can only be rejected.
 //!
+//! Automorphism groups. A parent's group (for its attachments) and a complete
+//! skeleton's (for stage 2) are needed often; when every class of atoms with
+//! equal cheap invariants is a set of twins, the group is the product of the
+//! symmetric groups on those classes and is listed without a canonical
+//! labelling (`Node::cheap_group`), which covers trivial groups and the
+//! methyls of isopropyl and tert-butyl groups; otherwise `chem::canon` runs.
+//!
+//! The Kekulé structures of one aromatic compound share their skeleton, so
+//! they all come out of one stage-2 pass, one after the other.
+//!
 //! Pruning by unsaturation. With B the total bond order the formula fixes and
 //! DBE = B - (n - 1), a skeleton's ring count edges - (atoms - 1) never
 //! decreases as atoms are added, so a node survives only while it is at most

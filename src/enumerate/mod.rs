@@ -1,9 +1,9 @@
 //! Enumeration of every constitutional isomer of a molecular formula.
 //!
 //! A formula becomes one or more [`generator::Problem`]s (one per way of giving
-//! the S and P atoms their valences when expanded valences are on). The search
-//! tree of each problem is cut at a fixed depth into *tasks*, in a
-//! deterministic order; tasks are run in parallel (rayon) in ordered chunks, so
+//! the S and P atoms their valences when expanded valences are on). The
+//! skeleton search tree of each problem (see [`generator`]) is cut at the
+//! first depth with enough nodes into *tasks*, in a deterministic order; tasks are run in parallel (rayon) in ordered chunks, so
 //! the output order does not depend on the thread count, memory stays flat
 //! (one chunk of results at a time), and `--part K/N` simply takes every N-th
 //! task, giving disjoint shards whose union is the whole set.
