@@ -789,6 +789,9 @@ struct Orders {
     auts: Vec<[u8; MAX_ATOMS]>,
     /// For each of `auts`, the image of each edge index (`edges.len()` a row).
     eperm: Vec<u8>,
+    /// Work space of `is_largest`.
+    own: Vec<u16>,
+    img: Vec<u16>,
     /// Edge index by end points (a * MAX_ATOMS + b), for building `eperm`.
     index: Vec<u8>,
     check_min: bool,
@@ -903,22 +906,33 @@ impl Orders {
     /// Whether the assignment in `chosen` is the largest of its images: an
     /// assignment is read as the sequence of extra orders by decreasing edge
     /// index, compared lexicographically.
-    fn is_largest(&self) -> bool {
+    fn is_largest(&mut self) -> bool {
         if self.eperm.is_empty() {
             return true;
         }
-        let own = self.chosen.iter().rev();
-        let mut img = [(0u8, 0u8); 256];
-        let k = self.chosen.len();
+        // Each raised edge as one number, edge index first: comparing
+        // sequences of these compares the (index, order) pairs.
+        let code = |i: u8, x: u8| (i as u16) << 2 | x as u16;
+        let (own, img) = (&mut self.own, &mut self.img);
+        own.clear();
+        own.extend(self.chosen.iter().rev().map(|&(i, x)| code(i, x)));
         let ne = self.edges.len();
         for perm in self.eperm.chunks_exact(ne) {
-            for (j, &(i, x)) in self.chosen.iter().enumerate() {
-                img[j] = (perm[i as usize], x);
+            img.clear();
+            img.extend(self.chosen.iter().map(|&(i, x)| code(perm[i as usize], x)));
+            // Insertion sort, decreasing (a handful of entries).
+            for a in 1..img.len() {
+                let t = img[a];
+                let mut b = a;
+                while b > 0 && img[b - 1] < t {
+                    img[b] = img[b - 1];
+                    b -= 1;
+                }
+                img[b] = t;
             }
-            img[..k].sort_unstable_by(|a, b| b.cmp(a));
             // Both lists are by decreasing edge index; the first difference
             // decides: a higher edge index present, or a larger order there.
-            if img[..k].iter().gt(own.clone()) {
+            if *img > *own {
                 return false;
             }
         }
