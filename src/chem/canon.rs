@@ -4,20 +4,31 @@
 //! Method: the partition-refinement scheme of McKay, "Practical graph
 //! isomorphism", Congr. Numer. 30 (1981) 45-87, in the form described by
 //! McKay & Piperno, J. Symbolic Comput. 60 (2014) 94-112: refine an ordered
-//! partition to the coarsest equitable one (here by counting neighbours of each
-//! edge colour in each splitter cell), individualise each vertex of the first
-//! non-singleton cell in turn, and take as canonical the discrete leaf whose
-//! relabelled graph (the certificate) is lexicographically smallest.
+//! partition to the coarsest equitable one, individualise each vertex of the
+//! first non-singleton cell in turn, and take as canonical the discrete leaf
+//! whose relabelled graph (the certificate) is lexicographically smallest.
+//!
+//! Refinement follows McKay's splitter queue: a cell W taken from the queue
+//! splits every cell X by the number of neighbours (per edge colour) that each
+//! vertex of X has in W; the fragments of a split cell join the queue, all but
+//! one largest fragment when X itself was not waiting (counts against X are
+//! then known to be equal, so its last fragment tells nothing new). Only the
+//! cells that hold a neighbour of W are looked at, and the counts come from
+//! walking W's adjacency rows (no popcount: the default x86-64 target has no
+//! POPCNT instruction). After individualising v in an equitable partition, {v} alone
+//! is the queue. Every choice (queue order: lowest cell position first;
+//! fragment order: ascending count) depends only on positions and counts, so
+//! the result commutes with relabelling, as a canonical form needs.
 //!
 //! Why hand-written rather than nauty through FFI: molecules in the generator's
 //! hot path have at most a few dozen atoms, and rebuilding nauty's dense
 //! representation with bond orders encoded as extra layers costs more than a
 //! bitset refinement of a 10-atom graph (see DEVELOPERS.md for the measurement).
-//! The search explores every leaf (no automorphism pruning). That keeps the
-//! code short and gives the full automorphism group for free: the leaves with
-//! the best certificate are exactly the images of one of them under the group,
-//! which yields the orbits that the canonical augmentation test and the
-//! equivalent-H grouping need. The cost is |Aut| leaves, small for molecules.
+//! The search prunes by the automorphisms it finds (McKay 1981: orbits at
+//! the nodes on the path to the first leaf, and a jump back to that path when
+//! a leaf repeats the first one), and the automorphisms found generate the
+//! whole group, which is then listed in full: the canonical augmentation test
+//! and the equivalent-H grouping need its orbits and its elements.
 
 /// Largest number of vertices a [`CanonGraph`] can hold (one `u64` bitset row).
 pub const MAX_ATOMS: usize = 64;
@@ -82,26 +93,68 @@ impl CanonGraph {
 
 /// Reusable working storage for canonical labelling (no allocation per call
 /// once warmed up).
-#[derive(Default)]
 pub struct Canonizer {
+    /// The certificate of the best leaf so far (head, then relabelled rows).
     best: Vec<u64>,
+    /// The certificate of the first leaf (automorphisms are found against it).
+    zeta: Vec<u64>,
     cur: Vec<u64>,
-    /// Every leaf labelling (position -> vertex) that reaches the best certificate.
-    leaves: Vec<[u8; MAX_ATOMS]>,
+    /// Best and first leaf labellings (position -> vertex).
+    best_lab: [u8; MAX_ATOMS],
+    zeta_lab: [u8; MAX_ATOMS],
+    /// The vertices individualised on the way to the first leaf.
+    zeta_seq: [u8; MAX_ATOMS],
+    zeta_depth: usize,
+    have_leaf: bool,
+    /// Automorphisms found during the search (they generate the group).
+    gens: Vec<[u8; MAX_ATOMS]>,
+    /// The whole group, identity first (`perm[v]` = image of v).
+    group: Vec<[u8; MAX_ATOMS]>,
+    /// Work space of [`Canonizer::close_group`]: (orbit point, element).
+    trans: Vec<(u8, [u8; MAX_ATOMS])>,
     n: usize,
-    labels_used: [bool; LABELS],
+    /// Edge colours present (indices into `CanonGraph::adj`).
+    used: [usize; LABELS],
+    nused: usize,
 }
 
 /// One ordered partition in the lab/ptn form of McKay's papers: `lab` lists
-/// the vertices cell after cell; `start[i]` is true where a cell begins. A
-/// cell is named by the position where it starts, which depends only on the
-/// partition, so names are isomorphism-invariant.
+/// the vertices cell after cell. A cell is named by the position where it
+/// starts, which depends only on the partition, so names are
+/// isomorphism-invariant.
 #[derive(Clone, Copy)]
 struct Partition {
     lab: [u8; MAX_ATOMS],
-    start: [bool; MAX_ATOMS + 1],
+    /// At the start position of a cell: one past its last position.
+    end: [u8; MAX_ATOMS],
+    /// Vertex -> start position of its cell.
+    cell: [u8; MAX_ATOMS],
     cells: usize,
 }
+
+impl Default for Canonizer {
+    fn default() -> Canonizer {
+        Canonizer {
+            best: Vec::new(),
+            zeta: Vec::new(),
+            cur: Vec::new(),
+            best_lab: [0; MAX_ATOMS],
+            zeta_lab: [0; MAX_ATOMS],
+            zeta_seq: [0; MAX_ATOMS],
+            zeta_depth: 0,
+            have_leaf: false,
+            gens: Vec::new(),
+            group: Vec::new(),
+            trans: Vec::new(),
+            n: 0,
+            used: [0; LABELS],
+            nused: 0,
+        }
+    }
+}
+
+/// Returned by a search step that does not ask its callers to unwind.
+const NO_JUMP: usize = usize::MAX;
 
 impl Canonizer {
     pub fn new() -> Canonizer {
@@ -114,75 +167,320 @@ impl Canonizer {
         let n = g.n;
         self.n = n;
         self.best.clear();
-        self.leaves.clear();
+        self.group.clear();
+        self.gens.clear();
+        self.have_leaf = false;
+        self.nused = 0;
+        let mut mask = 0u64;
         for l in 0..LABELS {
-            self.labels_used[l] = g.adj[l][..n].iter().any(|&r| r != 0);
+            if g.adj[l][..n].iter().any(|&r| r != 0) {
+                self.used[self.nused] = l;
+                self.nused += 1;
+                mask |= 1 << l;
+            }
         }
         if n == 0 {
             return;
         }
-        // Initial partition: vertices grouped by colour, cells in colour order.
+        // Initial partition: vertices grouped by colour and then by degree
+        // per edge colour (what a first refinement round would find), cells
+        // in that order.
         let mut p = Partition {
             lab: [0; MAX_ATOMS],
-            start: [false; MAX_ATOMS + 1],
+            end: [0; MAX_ATOMS],
+            cell: [0; MAX_ATOMS],
             cells: 0,
         };
-        for v in 0..n {
+        let mut key = [0u64; MAX_ATOMS];
+        for (v, key) in key[..n].iter_mut().enumerate() {
             p.lab[v] = v as u8;
+            let mut k = (g.colour[v] as u64) << 32;
+            for (j, &l) in self.used[..self.nused].iter().enumerate() {
+                let mut r = g.adj[l][v];
+                let mut d = 0u64;
+                while r != 0 {
+                    r &= r - 1;
+                    d += 1;
+                }
+                k |= d << (8 * j);
+            }
+            *key = k;
         }
-        p.lab[..n].sort_unstable_by_key(|&v| (g.colour[v as usize], v));
-        for i in 0..n {
-            if i == 0 || g.colour[p.lab[i] as usize] != g.colour[p.lab[i - 1] as usize] {
-                p.start[i] = true;
+        p.lab[..n].sort_unstable_by_key(|&v| key[v as usize]);
+        let mut queue = 0u64;
+        let mut s = 0;
+        for i in 1..=n {
+            if i == n || key[p.lab[i] as usize] != key[p.lab[s] as usize] {
+                p.end[s] = i as u8;
+                for &v in &p.lab[s..i] {
+                    p.cell[v as usize] = s as u8;
+                }
                 p.cells += 1;
+                queue |= 1u64 << s;
+                s = i;
             }
         }
-        p.start[n] = true;
-        self.search(g, p);
+        // The certificate opens with the edge colours used and the vertex
+        // colours in canonical order (the same for every leaf of one graph).
+        self.cur.clear();
+        self.cur.push(mask);
+        for i in 0..n {
+            self.cur.push(g.colour[p.lab[i] as usize] as u64);
+        }
+        self.refine(g, &mut p, queue);
+        let mut seq = [0u8; MAX_ATOMS];
+        self.search(g, &p, 0, true, &mut seq);
+        self.close_group();
     }
 
-    fn search(&mut self, g: &CanonGraph, mut p: Partition) {
+    /// Search below partition `p`, reached by individualising `seq[..depth]`
+    /// (`first_path`: along the first children only). Returns the depth to
+    /// unwind to, or [`NO_JUMP`].
+    ///
+    /// Automorphism pruning (McKay 1981): at a node on the path to the first
+    /// leaf, a child whose vertex is in the orbit of an explored child under
+    /// the automorphisms found that fix `seq[..depth]` would only repeat that
+    /// subtree's certificates, mapped by an automorphism, so it is skipped.
+    /// And a leaf equivalent to the first leaf proves the whole subtree it
+    /// hangs from (below the last node it shares with the first path) to be
+    /// an image of the explored first subtree: the search unwinds to that
+    /// node. The automorphisms found still generate the whole group.
+    fn search(
+        &mut self,
+        g: &CanonGraph,
+        p: &Partition,
+        depth: usize,
+        first_path: bool,
+        seq: &mut [u8; MAX_ATOMS],
+    ) -> usize {
         let n = g.n;
-        refine(g, &mut p);
         if p.cells == n {
-            self.leaf(g, &p);
-            return;
+            return self.leaf(g, p, depth, seq);
         }
         // Target: the first cell of more than one vertex.
-        let s = (0..n)
-            .find(|&i| p.start[i] && !p.start[i + 1])
-            .expect("a non-discrete partition has a non-singleton cell");
-        let e = (s + 1..=n).find(|&i| p.start[i]).expect("cells end");
+        let mut s = 0;
+        while p.end[s] as usize == s + 1 {
+            s += 1;
+        }
+        let e = p.end[s] as usize;
+        let mut explored = 0u64;
         for i in s..e {
-            let mut q = p;
-            // Individualise lab[i]: it becomes the cell {v} in front of the rest.
+            let w = p.lab[i];
+            if first_path && i > s && self.orbit_meets(w, explored, &seq[..depth]) {
+                continue;
+            }
+            explored |= 1u64 << w;
+            let mut q = *p;
+            // Individualise w: it becomes the cell {w} in front of the rest.
             q.lab.swap(s, i);
-            q.lab[s + 1..e].sort_unstable();
-            q.start[s + 1] = true;
+            q.end[s] = s as u8 + 1;
+            q.end[s + 1] = e as u8;
+            for &u in &q.lab[s + 1..e] {
+                q.cell[u as usize] = s as u8 + 1;
+            }
             q.cells += 1;
-            self.search(g, q);
+            self.refine(g, &mut q, 1u64 << s);
+            seq[depth] = w;
+            let jump = self.search(g, &q, depth + 1, first_path && i == s, seq);
+            if jump < depth {
+                return jump;
+            }
+        }
+        NO_JUMP
+    }
+
+    /// Whether the orbit of `w` under the automorphisms found so far that fix
+    /// every vertex of `fixed` meets the vertex set `explored`.
+    fn orbit_meets(&self, w: u8, explored: u64, fixed: &[u8]) -> bool {
+        let mut orbit = 1u64 << w;
+        let mut frontier = orbit;
+        while frontier != 0 {
+            let mut next = 0u64;
+            for gen in &self.gens {
+                if fixed.iter().any(|&v| gen[v as usize] != v) {
+                    continue;
+                }
+                let mut f = frontier;
+                while f != 0 {
+                    let v = f.trailing_zeros() as usize;
+                    f &= f - 1;
+                    next |= 1u64 << gen[v];
+                }
+            }
+            frontier = next & !orbit;
+            orbit |= next;
+        }
+        orbit & explored != 0
+    }
+
+    /// The group generated by the automorphisms found, listed in full, as a
+    /// product of transversals along the path to the first leaf (the
+    /// stabiliser chain of Sims' method): with v_i the i-th vertex
+    /// individualised on that path and G_i the automorphisms fixing
+    /// v_0..v_(i-1), the generators found that fix v_0..v_(i-1) generate G_i
+    /// (McKay 1981), so G_i = U_i G_(i+1) with U_i one element per point of
+    /// the orbit of v_i. Every element comes out once, with no membership test.
+    fn close_group(&mut self) {
+        let n = self.n;
+        let mut id = [0u8; MAX_ATOMS];
+        for (v, x) in id[..n].iter_mut().enumerate() {
+            *x = v as u8;
+        }
+        self.group.push(id);
+        if self.gens.is_empty() {
+            return;
+        }
+        let mut trans = std::mem::take(&mut self.trans);
+        for i in (0..self.zeta_depth).rev() {
+            let fixed = &self.zeta_seq[..i];
+            let base = self.zeta_seq[i];
+            trans.clear();
+            trans.push((base, id));
+            let mut seen = 1u64 << base;
+            let mut k = 0;
+            while k < trans.len() {
+                let (w, u) = trans[k];
+                for gen in &self.gens {
+                    if fixed.iter().any(|&v| gen[v as usize] != v) {
+                        continue;
+                    }
+                    let w2 = gen[w as usize];
+                    if seen >> w2 & 1 == 1 {
+                        continue;
+                    }
+                    seen |= 1u64 << w2;
+                    let mut u2 = [0u8; MAX_ATOMS];
+                    for v in 0..n {
+                        u2[v] = gen[u[v] as usize];
+                    }
+                    trans.push((w2, u2));
+                }
+                k += 1;
+            }
+            let have = self.group.len();
+            for &(_, t) in &trans[1..] {
+                for j in 0..have {
+                    let e = self.group[j];
+                    let mut f = [0u8; MAX_ATOMS];
+                    for v in 0..n {
+                        f[v] = t[e[v] as usize];
+                    }
+                    self.group.push(f);
+                }
+            }
+        }
+        self.trans = trans;
+    }
+
+    /// Refine `p` with the cells whose start positions are set in `queue` as
+    /// the first splitters (see the module comment).
+    fn refine(&self, g: &CanonGraph, p: &mut Partition, mut queue: u64) {
+        let n = g.n;
+        let used = &self.used[..self.nused];
+        // key[x]: neighbours of x in the splitter, 8 bits per edge colour;
+        // zero outside the splitter's neighbourhood (reset after each use).
+        let mut key = [0u32; MAX_ATOMS];
+        while queue != 0 && p.cells < n {
+            let w = queue.trailing_zeros() as usize;
+            queue &= queue - 1;
+            let we = p.end[w] as usize;
+            let mut reach = 0u64;
+            for &u in &p.lab[w..we] {
+                for (j, &l) in used.iter().enumerate() {
+                    let mut r = g.adj[l][u as usize];
+                    reach |= r;
+                    while r != 0 {
+                        let x = r.trailing_zeros() as usize;
+                        r &= r - 1;
+                        key[x] += 1 << (8 * j);
+                    }
+                }
+            }
+            // Cells (by start) holding a neighbour of W, not singletons.
+            let mut touched = 0u64;
+            let mut r = reach;
+            while r != 0 {
+                let u = r.trailing_zeros() as usize;
+                r &= r - 1;
+                let c = p.cell[u] as usize;
+                if p.end[c] as usize > c + 1 {
+                    touched |= 1u64 << c;
+                }
+            }
+            while touched != 0 {
+                let s = touched.trailing_zeros() as usize;
+                touched &= touched - 1;
+                let e = p.end[s] as usize;
+                let k0 = key[p.lab[s] as usize];
+                let same = p.lab[s + 1..e].iter().all(|&x| key[x as usize] == k0);
+                if same {
+                    continue;
+                }
+                // Insertion sort of the cell by key (cells are small).
+                for i in s + 1..e {
+                    let x = p.lab[i];
+                    let kx = key[x as usize];
+                    let mut j = i;
+                    while j > s && key[p.lab[j - 1] as usize] > kx {
+                        p.lab[j] = p.lab[j - 1];
+                        j -= 1;
+                    }
+                    p.lab[j] = x;
+                }
+                let was_queued = queue >> s & 1 == 1;
+                let (mut big, mut big_len) = (s, 0);
+                let mut f = s;
+                for i in s + 1..=e {
+                    if i == e || key[p.lab[i] as usize] != key[p.lab[f] as usize] {
+                        p.end[f] = i as u8;
+                        if f != s {
+                            for &u in &p.lab[f..i] {
+                                p.cell[u as usize] = f as u8;
+                            }
+                            p.cells += 1;
+                        }
+                        queue |= 1u64 << f;
+                        if i - f > big_len {
+                            big = f;
+                            big_len = i - f;
+                        }
+                        f = i;
+                    }
+                }
+                if !was_queued {
+                    queue &= !(1u64 << big);
+                }
+                if p.cells == n {
+                    return;
+                }
+            }
+            let mut r = reach;
+            while r != 0 {
+                key[r.trailing_zeros() as usize] = 0;
+                r &= r - 1;
+            }
         }
     }
 
-    fn leaf(&mut self, g: &CanonGraph, p: &Partition) {
+    /// A discrete partition: compare its certificate with the first and the
+    /// best leaf's. Returns the depth to unwind to (see [`Canonizer::search`]).
+    fn leaf(
+        &mut self,
+        g: &CanonGraph,
+        p: &Partition,
+        depth: usize,
+        seq: &[u8; MAX_ATOMS],
+    ) -> usize {
         let n = g.n;
-        let mut lab = [0u8; MAX_ATOMS];
         let mut pos = [0u8; MAX_ATOMS];
         for i in 0..n {
+            pos[p.lab[i] as usize] = i as u8;
+        }
+        let head = n + 1;
+        self.cur.truncate(head);
+        for i in 0..n {
             let v = p.lab[i] as usize;
-            lab[i] = v as u8;
-            pos[v] = i as u8;
-        }
-        self.cur.clear();
-        for i in 0..n {
-            self.cur.push(g.colour[lab[i] as usize] as u64);
-        }
-        for i in 0..n {
-            let v = lab[i] as usize;
-            for l in 0..LABELS {
-                if !self.labels_used[l] {
-                    continue;
-                }
+            for &l in &self.used[..self.nused] {
                 let mut row = g.adj[l][v];
                 let mut out = 0u64;
                 while row != 0 {
@@ -193,21 +491,44 @@ impl Canonizer {
                 self.cur.push(out);
             }
         }
-        use std::cmp::Ordering;
-        let ord = if self.best.is_empty() {
-            Ordering::Less
-        } else {
-            self.cur.as_slice().cmp(self.best.as_slice())
-        };
-        match ord {
-            Ordering::Less => {
-                std::mem::swap(&mut self.best, &mut self.cur);
-                self.leaves.clear();
-                self.leaves.push(lab);
-            }
-            Ordering::Equal => self.leaves.push(lab),
-            Ordering::Greater => {}
+        if !self.have_leaf {
+            self.have_leaf = true;
+            self.zeta.clone_from(&self.cur);
+            self.best.clone_from(&self.cur);
+            self.zeta_lab[..n].copy_from_slice(&p.lab[..n]);
+            self.best_lab = self.zeta_lab;
+            self.zeta_seq[..depth].copy_from_slice(&seq[..depth]);
+            self.zeta_depth = depth;
+            return NO_JUMP;
         }
+        if self.cur == self.zeta {
+            self.add_automorphism(&self.zeta_lab.clone(), &p.lab);
+            return (0..depth.min(self.zeta_depth))
+                .take_while(|&i| seq[i] == self.zeta_seq[i])
+                .count();
+        }
+        match self.cur.as_slice().cmp(self.best.as_slice()) {
+            std::cmp::Ordering::Equal => {
+                self.add_automorphism(&self.best_lab.clone(), &p.lab);
+            }
+            std::cmp::Ordering::Less => {
+                std::mem::swap(&mut self.best, &mut self.cur);
+                self.cur.clear();
+                self.cur.extend_from_slice(&self.best[..head]);
+                self.best_lab[..n].copy_from_slice(&p.lab[..n]);
+            }
+            std::cmp::Ordering::Greater => {}
+        }
+        NO_JUMP
+    }
+
+    /// Record the automorphism taking leaf labelling `from` to `to`.
+    fn add_automorphism(&mut self, from: &[u8; MAX_ATOMS], to: &[u8; MAX_ATOMS]) {
+        let mut perm = [0u8; MAX_ATOMS];
+        for i in 0..self.n {
+            perm[from[i] as usize] = to[i];
+        }
+        self.gens.push(perm);
     }
 
     /// The certificate: equal for two graphs exactly when they are isomorphic
@@ -218,7 +539,7 @@ impl Canonizer {
 
     /// Canonical order: position -> vertex, for one canonical labelling.
     pub fn order(&self) -> &[u8] {
-        &self.leaves[0][..self.n]
+        &self.best_lab[..self.n]
     }
 
     /// Canonical rank of every vertex (vertex -> position) for one canonical labelling.
@@ -230,43 +551,33 @@ impl Canonizer {
         r
     }
 
-    /// The automorphisms found, each as a vertex permutation `perm[v] = image of v`
+    /// The automorphisms, each as a vertex permutation `perm[v] = image of v`
     /// (the first is the identity).
     pub fn automorphisms(&self) -> impl Iterator<Item = [u8; MAX_ATOMS]> + '_ {
-        let first = &self.leaves[0];
-        self.leaves.iter().map(move |l| {
-            let mut perm = [0u8; MAX_ATOMS];
-            for p in 0..self.n {
-                perm[first[p] as usize] = l[p];
-            }
-            perm
-        })
+        self.group.iter().copied()
     }
 
     /// Size of the automorphism group.
     pub fn group_size(&self) -> usize {
-        self.leaves.len()
+        self.group.len()
     }
 
     /// The automorphism orbit of vertex `v`, as a bitset.
     pub fn orbit(&self, v: usize) -> u64 {
-        let p = self.leaves[0][..self.n]
-            .iter()
-            .position(|&x| x as usize == v)
-            .expect("vertex in range");
-        self.orbit_at(p)
+        assert!(v < self.n, "vertex in range");
+        self.group.iter().fold(0, |m, g| m | 1u64 << g[v])
     }
 
     /// The orbit of the vertex at canonical position `p`.
     pub fn orbit_at(&self, p: usize) -> u64 {
-        self.leaves.iter().fold(0, |m, l| m | 1u64 << l[p])
+        self.orbit(self.best_lab[p] as usize)
     }
 
     /// Orbit identifier per vertex: the smallest canonical position in its orbit.
     pub fn orbits(&self) -> Vec<usize> {
         let mut id = vec![usize::MAX; self.n];
         for p in 0..self.n {
-            let v = self.leaves[0][p] as usize;
+            let v = self.best_lab[p] as usize;
             if id[v] != usize::MAX {
                 continue;
             }
@@ -278,102 +589,6 @@ impl Canonizer {
             }
         }
         id
-    }
-}
-
-/// The sorted list of (cell, edge colour) over the neighbours of `v`, packed
-/// into one number, a different number for each list: keys
-/// (cell * LABELS + colour + 1, below 4096) descending, 12 bits each, at most 8;
-/// lists of k keys fall in [4096^(k-1), 4096^k), so lengths never collide.
-#[inline]
-fn signature(g: &CanonGraph, v: usize, cell_of: &[u8; MAX_ATOMS], used: &[usize]) -> u128 {
-    let mut keys = [0u16; 8];
-    let mut k = 0;
-    for &l in used {
-        let mut row = g.adj[l][v];
-        while row != 0 {
-            let u = row.trailing_zeros() as usize;
-            row &= row - 1;
-            if k < 8 {
-                keys[k] = cell_of[u] as u16 * LABELS as u16 + l as u16 + 1;
-            }
-            k += 1;
-        }
-    }
-    debug_assert!(k <= 8, "vertex degree above 8");
-    let keys = &mut keys[..k.min(8)];
-    keys.sort_unstable_by(|a, b| b.cmp(a));
-    let mut packed = 0u128;
-    for &key in keys.iter() {
-        packed = packed << 12 | key as u128;
-    }
-    packed
-}
-
-/// Refine `p` to the coarsest equitable partition finer than it (colour
-/// refinement): each round gives every vertex the sorted list of (cell,
-/// bond colour) of its neighbours, and splits every cell by that list, the
-/// fragments in list order. Rounds repeat until no cell splits. Cells are
-/// named by position, so the result depends only on the graph up to
-/// isomorphism.
-fn refine(g: &CanonGraph, p: &mut Partition) {
-    let n = g.n;
-    let mut cell_of = [0u8; MAX_ATOMS];
-    let mut cs = 0;
-    for i in 0..n {
-        if p.start[i] {
-            cs = i;
-        }
-        cell_of[p.lab[i] as usize] = cs as u8;
-    }
-    let mut sig = [0u128; MAX_ATOMS];
-    let mut used_buf = [0usize; LABELS];
-    let mut nused = 0;
-    for l in 0..LABELS {
-        if g.adj[l][..n].iter().any(|&r| r != 0) {
-            used_buf[nused] = l;
-            nused += 1;
-        }
-    }
-    let used = &used_buf[..nused];
-    loop {
-        // Only vertices of non-singleton cells can be split.
-        let mut s = 0;
-        while s < n {
-            let e = (s + 1..=n).find(|&i| p.start[i]).expect("cells end");
-            if e - s > 1 {
-                for &v in &p.lab[s..e] {
-                    sig[v as usize] = signature(g, v as usize, &cell_of, used);
-                }
-            }
-            s = e;
-        }
-        let mut changed = false;
-        let mut s = 0;
-        while s < n {
-            let e = (s + 1..=n).find(|&i| p.start[i]).expect("cells end");
-            if e - s > 1 {
-                p.lab[s..e].sort_unstable_by_key(|&v| (sig[v as usize], v));
-                for i in s + 1..e {
-                    if sig[p.lab[i] as usize] != sig[p.lab[i - 1] as usize] {
-                        p.start[i] = true;
-                        p.cells += 1;
-                        changed = true;
-                    }
-                }
-            }
-            s = e;
-        }
-        if !changed {
-            return;
-        }
-        let mut cs = 0;
-        for i in 0..n {
-            if p.start[i] {
-                cs = i;
-            }
-            cell_of[p.lab[i] as usize] = cs as u8;
-        }
     }
 }
 
@@ -427,5 +642,169 @@ mod tests {
         c.run(&ring);
         assert_eq!(c.group_size(), 12);
         assert_eq!(c.orbits(), vec![0; 6]);
+    }
+    /// A small deterministic generator (xorshift) for test graphs.
+    fn rng(state: &mut u64) -> u64 {
+        *state ^= *state << 13;
+        *state ^= *state >> 7;
+        *state ^= *state << 17;
+        *state
+    }
+
+    fn permuted(g: &CanonGraph, perm: &[usize]) -> CanonGraph {
+        let mut h = CanonGraph::new(g.n);
+        for v in 0..g.n {
+            h.colour[perm[v]] = g.colour[v];
+            for u in 0..g.n {
+                let l = g.label(v, u);
+                if l > 0 {
+                    h.set_edge(perm[v], perm[u], l);
+                }
+            }
+        }
+        h
+    }
+
+    #[test]
+    fn certificate_is_invariant_and_group_is_complete() {
+        // Checked against brute force: every permutation of up to 6 vertices
+        // is tried as an automorphism, and random relabellings must give the
+        // same certificate.
+        let mut state = 0x9e3779b97f4a7c15u64;
+        let mut c = Canonizer::new();
+        let mut d = Canonizer::new();
+        for round in 0..600 {
+            let n = 1 + round % 7;
+            // Few colours and edge colours, varying density: many symmetric graphs.
+            let colours = 1 + (round / 7) % 2;
+            let density = 2 + (round / 14) % 4;
+            let mut g = CanonGraph::new(n);
+            for v in 0..n {
+                g.colour[v] = (rng(&mut state) % colours as u64) as u32;
+            }
+            for a in 0..n {
+                for b in a + 1..n {
+                    let r = rng(&mut state) % 8;
+                    if r < density as u64 {
+                        g.set_edge(a, b, if r == 0 && round % 3 == 0 { 2 } else { 1 });
+                    }
+                }
+            }
+            c.run(&g);
+            let mut perm: Vec<usize> = (0..n).collect();
+            for i in (1..n).rev() {
+                perm.swap(i, (rng(&mut state) % (i as u64 + 1)) as usize);
+            }
+            d.run(&permuted(&g, &perm));
+            assert_eq!(c.certificate(), d.certificate());
+            let mut count = 0;
+            let mut all: Vec<usize> = (0..n).collect();
+            permutations(&mut all, 0, &mut |p| {
+                let ok = (0..n).all(|v| {
+                    g.colour[p[v]] == g.colour[v]
+                        && (0..n).all(|u| g.label(v, u) == g.label(p[v], p[u]))
+                });
+                count += ok as usize;
+            });
+            assert_eq!(c.group_size(), count);
+            for a in c.automorphisms() {
+                assert!((0..n).all(
+                    |v| (0..n).all(|u| g.label(v, u) == g.label(a[v] as usize, a[u] as usize))
+                ));
+            }
+        }
+    }
+
+    #[test]
+    fn larger_graphs_keep_certificate_and_group_under_relabelling() {
+        // A canonical form must not depend on the numbering: for graphs too
+        // big for brute force, random relabellings must give the same
+        // certificate and group order, and every group element must be an
+        // automorphism.
+        let mut state = 0x1234_5678_9abc_def1u64;
+        let mut c = Canonizer::new();
+        let mut d = Canonizer::new();
+        for round in 0..400 {
+            let n = 8 + round % 9;
+            let mut g = CanonGraph::new(n);
+            // A random tree plus a few chords: sparse, often symmetric.
+            for v in 1..n {
+                g.set_edge(v, (rng(&mut state) % v as u64) as usize, 1);
+            }
+            for _ in 0..round % 4 {
+                let a = (rng(&mut state) % n as u64) as usize;
+                let b = (rng(&mut state) % n as u64) as usize;
+                if a != b {
+                    g.set_edge(a, b, 1);
+                }
+            }
+            c.run(&g);
+            for a in c.automorphisms() {
+                assert!((0..n).all(
+                    |v| (0..n).all(|u| g.label(v, u) == g.label(a[v] as usize, a[u] as usize))
+                ));
+            }
+            for _ in 0..5 {
+                let mut perm: Vec<usize> = (0..n).collect();
+                for i in (1..n).rev() {
+                    perm.swap(i, (rng(&mut state) % (i as u64 + 1)) as usize);
+                }
+                d.run(&permuted(&g, &perm));
+                assert_eq!(c.certificate(), d.certificate());
+                assert_eq!(c.group_size(), d.group_size());
+            }
+        }
+    }
+
+    #[test]
+    fn symmetric_graphs_have_their_known_group_orders() {
+        // Automorphism group orders (common practice, standard results):
+        // Petersen graph 120, cube Q3 48, K4 24, K3,3 72, 8-cycle 16,
+        // three disjoint edges 2^3 * 3! = 48.
+        let build = |n: usize, edges: &[(usize, usize)]| {
+            let mut g = CanonGraph::new(n);
+            for &(a, b) in edges {
+                g.set_edge(a, b, 1);
+            }
+            g
+        };
+        let petersen: Vec<(usize, usize)> = (0..5)
+            .flat_map(|i| [(i, (i + 1) % 5), (i, i + 5), (i + 5, (i + 2) % 5 + 5)])
+            .collect();
+        let cube: Vec<(usize, usize)> = (0..8)
+            .flat_map(|v| (0..3).map(move |b| (v, v ^ 1 << b)))
+            .filter(|&(a, b)| a < b)
+            .collect();
+        let k4: Vec<(usize, usize)> = (0..4)
+            .flat_map(|a| (a + 1..4).map(move |b| (a, b)))
+            .collect();
+        let k33: Vec<(usize, usize)> = (0..3).flat_map(|a| (3..6).map(move |b| (a, b))).collect();
+        let c8: Vec<(usize, usize)> = (0..8).map(|i| (i, (i + 1) % 8)).collect();
+        let cases = [
+            (build(10, &petersen), 120),
+            (build(8, &cube), 48),
+            (build(4, &k4), 24),
+            (build(6, &k33), 72),
+            (build(8, &c8), 16),
+            (build(6, &[(0, 1), (2, 3), (4, 5)]), 48),
+        ];
+        let mut c = Canonizer::new();
+        for (g, order) in &cases {
+            c.run(g);
+            assert_eq!(c.group_size(), *order);
+            assert_eq!(c.orbit(0).count_ones() as usize, g.n);
+        }
+    }
+
+    fn permutations(a: &mut Vec<usize>, k: usize, f: &mut dyn FnMut(&[usize])) {
+        if k == a.len() {
+            f(a);
+            return;
+        }
+        for i in k..a.len() {
+            a.swap(k, i);
+            permutations(a, k + 1, f);
+            a.swap(k, i);
+        }
     }
 }

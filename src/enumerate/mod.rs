@@ -1,9 +1,9 @@
 //! Enumeration of every constitutional isomer of a molecular formula.
 //!
 //! A formula becomes one or more [`generator::Problem`]s (one per way of giving
-//! the S and P atoms their valences when expanded valences are on). The search
-//! tree of each problem is cut at a fixed depth into *tasks*, in a
-//! deterministic order; tasks are run in parallel (rayon) in ordered chunks, so
+//! the S and P atoms their valences when expanded valences are on). The
+//! skeleton search tree of each problem (see [`generator`]) is cut at the
+//! first depth with enough nodes into *tasks*, in a deterministic order; tasks are run in parallel (rayon) in ordered chunks, so
 //! the output order does not depend on the thread count, memory stays flat
 //! (one chunk of results at a time), and `--part K/N` simply takes every N-th
 //! task, giving disjoint shards whose union is the whole set.
@@ -212,66 +212,65 @@ fn split_counts(left: u8, vals: &[u8], cur: &mut Vec<u8>, out: &mut Vec<Vec<u8>>
     }
 }
 
-/// A task: a node of the search tree at the cut depth, stored compactly.
+/// A task: a skeleton at the cut depth of the search tree, stored compactly.
 #[derive(Clone)]
 struct Task {
     problem: usize,
     kinds: Vec<u8>,
-    bonds: Vec<(u8, u8, u8)>,
+    /// Per atom, the earlier atoms it is bonded to (the order atoms were added).
+    attach: Vec<u64>,
 }
 
 impl Task {
     fn from_node(problem: usize, node: &Node) -> Task {
-        let mut bonds = Vec::new();
-        for a in 0..node.n {
-            for b in generator::bits(node.nb[a]) {
-                if b > a {
-                    bonds.push((a as u8, b as u8, node.order(a, b)));
-                }
-            }
-        }
         Task {
             problem,
             kinds: node.kind[..node.n].to_vec(),
-            bonds,
+            attach: (0..node.n)
+                .map(|v| node.nb[v] & ((1u64 << v) - 1))
+                .collect(),
         }
     }
 
     fn node(&self, p: &Problem) -> Node {
         let mut node = generator::root(p, self.kinds[0] as usize);
         for (v, &k) in self.kinds.iter().enumerate().skip(1) {
-            let attach: Vec<(usize, u8)> = self
-                .bonds
-                .iter()
-                .filter(|&&(_, b, _)| b as usize == v)
-                .map(|&(a, _, o)| (a as usize, o))
-                .collect();
-            node.add_vertex(p, k as usize, &attach);
+            node.add_vertex(p, k as usize, self.attach[v]);
         }
         node
     }
 }
 
-/// Cut the search trees of all problems into tasks, in a fixed order.
+/// Cut the search trees of all problems into tasks, in a fixed order: the
+/// accepted skeletons of the first depth with at least [`TARGET_TASKS`] of
+/// them (or complete skeletons), found level by level, so each level is the
+/// previous one's children in order, as a depth-first search would meet them.
 fn tasks(problems: &[Problem]) -> Vec<Task> {
-    let max_atoms = problems.iter().map(|p| p.atoms).max().unwrap_or(1);
+    let mut gens: Vec<Generator> = problems.iter().map(Generator::new).collect();
+    let mut level: Vec<Task> = Vec::new();
+    for (pi, p) in problems.iter().enumerate() {
+        for root in generator::roots(p) {
+            level.push(Task::from_node(pi, &root));
+        }
+    }
     let mut depth = 1;
-    loop {
-        let mut out = Vec::new();
-        for (pi, p) in problems.iter().enumerate() {
-            let mut gen = Generator::new(p);
-            let d = depth.min(p.atoms);
-            for mut root in generator::roots(p) {
-                gen.search(&mut root, d, &mut |n: &Node| {
-                    out.push(Task::from_node(pi, n))
-                });
+    while level.len() < TARGET_TASKS && problems.iter().any(|p| p.atoms > depth) {
+        let mut next = Vec::new();
+        for t in &level {
+            let p = &problems[t.problem];
+            let mut node = t.node(p);
+            if p.atoms <= depth {
+                next.push(t.clone());
+                continue;
             }
+            gens[t.problem].skeletons(&mut node, depth + 1, &mut |n: &Node| {
+                next.push(Task::from_node(t.problem, n))
+            });
         }
-        if out.len() >= TARGET_TASKS || depth >= max_atoms {
-            return out;
-        }
+        level = next;
         depth += 1;
     }
+    level
 }
 
 /// Progress of a long enumeration, reported after each chunk of tasks.
@@ -332,7 +331,7 @@ where
                         excluded: 0,
                         flagged: vec![0; rules.len()],
                     };
-                    gen.search(&mut node, p.atoms, &mut |leaf: &Node| {
+                    gen.search(&mut node, &mut |leaf: &Node| {
                         let iso = Isomer {
                             node: leaf,
                             problem: p,
