@@ -319,9 +319,9 @@ where
             .map_init(
                 || {
                     let gens: Vec<Generator> = problems.iter().map(Generator::new).collect();
-                    (gens, crate::chem::canon::Canonizer::new())
+                    (gens, resonance::Workspace::default())
                 },
-                |(gens, canon), task| {
+                |(gens, ws), task| {
                     let p = &problems[task.problem];
                     let gen = &mut gens[task.problem];
                     let mut node = task.node(p);
@@ -336,7 +336,7 @@ where
                             node: leaf,
                             problem: p,
                         };
-                        if !resonance::is_representative(leaf, || iso.molecule(), canon) {
+                        if !resonance::is_representative(leaf, || iso.molecule(), ws) {
                             return;
                         }
                         res.generated += 1;

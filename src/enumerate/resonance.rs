@@ -11,6 +11,7 @@
 
 use super::generator::{bits, Node};
 use crate::chem::canon::Canonizer;
+use crate::chem::rings::{ring_info, RingInfo};
 use crate::chem::{aromaticity, kekule, Molecule};
 
 /// Cheap exact test: another Kekulé structure with the same atoms' bond-order
@@ -58,18 +59,38 @@ fn alternating_path(node: &Node, target: usize, v: usize, seen: u64) -> bool {
     false
 }
 
+/// Work space for [`is_representative`]: the canonical labelling, and the ring
+/// perception of the last skeleton seen. All bond-order assignments of one
+/// skeleton come out of the generator one after another and share their
+/// rings, and ring perception is the costly step, so it runs once per
+/// skeleton. (`Isomer::molecule` numbers the bonds of one skeleton the same
+/// way every time, so the cached edge indices stay valid.)
+#[derive(Default)]
+pub struct Workspace {
+    pub canon: Canonizer,
+    skeleton: Vec<u64>,
+    rings: Option<RingInfo>,
+}
+
 /// Whether `node` (a complete isomer, as molecule `mol` when built) is the
 /// representative Kekulé structure of its compound.
 pub fn is_representative(
     node: &Node,
     molecule: impl FnOnce() -> Molecule,
-    canon: &mut Canonizer,
+    ws: &mut Workspace,
 ) -> bool {
     if !may_have_alternatives(node) {
         return true;
     }
     let mol = molecule();
-    let arom = aromaticity::perceive(&mol);
+    if ws.rings.is_none() || ws.skeleton.as_slice() != &node.nb[..node.n] {
+        ws.skeleton.clear();
+        ws.skeleton.extend_from_slice(&node.nb[..node.n]);
+        ws.rings = Some(ring_info(&mol));
+    }
+    let rings = ws.rings.as_ref().expect("rings computed above");
+    let arom = aromaticity::perceive_with_rings(&mol, rings);
+    let canon = &mut ws.canon;
     if !arom.any() {
         return true;
     }
