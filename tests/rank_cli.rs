@@ -5,7 +5,7 @@
 
 mod common;
 
-use common::isomerank;
+use common::{canonical, isomerank};
 use std::io::Write;
 
 const ETHYL_ACETATE: &str =
@@ -311,7 +311,7 @@ fn shortlist_ranks_the_expected_ester_first_with_names() {
     );
     let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     assert_eq!(v["isomers_considered"], 3);
-    assert_eq!(v["candidates"][0]["smiles"], "CC(=O)OCC");
+    assert_eq!(v["candidates"][0]["smiles"], canonical("CC(=O)OCC"));
     assert_eq!(v["candidates"][0]["name"], "ethyl acetate");
 }
 
@@ -397,7 +397,7 @@ fn json_follows_the_schema() {
     }
     assert!(sum <= 1.0 + 1e-9);
     // Ethyl acetate (Gottlieb et al. 1997, CDCl3): q 4.12 -> OCH2, s 2.05 -> CH3CO.
-    assert_eq!(c[0]["smiles"], "CC(=O)OCC");
+    assert_eq!(c[0]["smiles"], canonical("CC(=O)OCC"));
     let assigned: Vec<(u64, String)> = c[0]["assignment"]
         .as_array()
         .unwrap()
@@ -451,7 +451,10 @@ fn explain_prints_the_assignment_and_the_safety_wording_ends_the_report() {
         None,
     );
     let text = String::from_utf8(out.stdout).unwrap();
-    assert!(text.contains("Assignment of #1 CC(=O)OCC"), "{text}");
+    assert!(
+        text.contains(&format!("Assignment of #1 {}", canonical("CC(=O)OCC"))),
+        "{text}"
+    );
     assert!(text.contains("-> entry 1: 4.12 q 2H"), "{text}");
     assert!(text.contains("Plausibility rules applied"), "{text}");
     assert!(
@@ -485,7 +488,7 @@ fn demo_says_it_is_invented_and_ends_with_the_safety_wording() {
     assert!(text.contains("authentic reference standard"));
     // The invented data describe isopropyl acetate (sept + 6H d + acetyl s).
     assert!(
-        text.contains("   1 ") && text.contains("CC(=O)OC(C)C"),
+        text.contains("   1 ") && text.contains(&canonical("CC(=O)OC(C)C")),
         "{text}"
     );
     for banned in ["chloroethane", "diethyl ether", "propylbenzene"] {

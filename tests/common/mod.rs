@@ -180,3 +180,11 @@ pub fn set_difference_report(ours: &[String], theirs: &[String], shown: usize) -
         list(&only_b)
     )
 }
+
+/// Our canonical SMILES of a structure given as any SMILES, so that tests name
+/// the expected structure without pinning the writer's exact string.
+pub fn canonical(smiles: &str) -> String {
+    let mol = isomerank::chem::smiles::parse_smiles(smiles)
+        .unwrap_or_else(|e| panic!("test SMILES {smiles}: {e}"));
+    isomerank::chem::smiles::canonical_smiles(&mol)
+}
