@@ -6,10 +6,10 @@
 //! at least 98 %.
 
 use isomerank::chem::smiles::{canonical_smiles, parse_smiles};
-use isomerank::chem::{Element, Molecule};
+use isomerank::chem::Element;
 use isomerank::enumerate::{self, rules::RuleSet};
 use isomerank::predict::Predictor;
-use isomerank::rank::{self, carbon::carbon_signals, Settings, Steps};
+use isomerank::rank::{self, Settings};
 use isomerank::score::ScoringModel;
 use isomerank::spectrum::{integrals, journal, SolventTable};
 use serde::Deserialize;
@@ -48,14 +48,6 @@ fn gottlieb_1997_cdcl3_compounds_rank_first() {
             integrals::build(journal::parse(&c.peaks).unwrap(), &formula, &solvents).unwrap();
         let mut opts = predictor.options("CDCl3", 300.0).unwrap();
         opts.notes = false;
-        let predict = |m: &Molecule| predictor.predict(m, &opts);
-        let smiles = |m: &Molecule| canonical_smiles(m);
-        let carbons = |m: &Molecule| carbon_signals(m);
-        let steps = Steps {
-            predict: &predict,
-            smiles: &smiles,
-            carbon_signals: &carbons,
-        };
         let settings = Settings {
             spectrum: &spectrum,
             model: &model,
@@ -69,7 +61,9 @@ fn gottlieb_1997_cdcl3_compounds_rank_first() {
             expanded_valence: formula.count(Element::S) + formula.count(Element::P) > 0,
             ..Default::default()
         };
-        let r = rank::rank_formula(&formula, &options, &steps, &settings, &mut |_, _| {}).unwrap();
+        let r = rank::with_standard_steps(&predictor, &opts, |steps| {
+            rank::rank_formula(&formula, &options, steps, &settings, &mut |_, _| {}).unwrap()
+        });
         let pos = r
             .candidates
             .iter()

@@ -3,10 +3,10 @@
 //! the probabilities when the data are made ambiguous.
 
 use isomerank::chem::smiles::{canonical_smiles, parse_smiles};
-use isomerank::chem::{Formula, Molecule};
+use isomerank::chem::Formula;
 use isomerank::enumerate::{self, rules::RuleSet};
 use isomerank::predict::Predictor;
-use isomerank::rank::{self, carbon::carbon_signals, Ranking, Settings, Steps};
+use isomerank::rank::{self, Ranking, Settings};
 use isomerank::score::ScoringModel;
 use isomerank::spectrum::{integrals, journal, SolventTable};
 
@@ -22,14 +22,6 @@ fn rank_all(formula: &str, peaks: &str) -> Ranking {
     let mut opts = predictor.options("CDCl3", 400.0).unwrap();
     opts.notes = false;
     let model = ScoringModel::embedded();
-    let predict = |m: &Molecule| predictor.predict(m, &opts);
-    let smiles = |m: &Molecule| canonical_smiles(m);
-    let carbons = |m: &Molecule| carbon_signals(m);
-    let steps = Steps {
-        predict: &predict,
-        smiles: &smiles,
-        carbon_signals: &carbons,
-    };
     let settings = Settings {
         spectrum: &spectrum,
         model: &model,
@@ -39,7 +31,9 @@ fn rank_all(formula: &str, peaks: &str) -> Ranking {
         rules: RuleSet::all(),
         ..Default::default()
     };
-    rank::rank_formula(&formula, &options, &steps, &settings, &mut |_, _| {}).unwrap()
+    rank::with_standard_steps(&predictor, &opts, |steps| {
+        rank::rank_formula(&formula, &options, steps, &settings, &mut |_, _| {}).unwrap()
+    })
 }
 
 #[test]

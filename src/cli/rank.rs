@@ -4,11 +4,11 @@
 //! optional signal-by-signal assignment, and the safety wording.
 
 use crate::chem::smiles::{canonical_smiles, parse_smiles};
-use crate::chem::{Formula, Molecule};
+use crate::chem::Formula;
 use crate::enumerate::{self, rules::RuleSet};
 use crate::error::{Error, Result};
 use crate::predict::{PredictOptions, Predictor};
-use crate::rank::{self, carbon::carbon_signals, Ranking, Settings, ShortlistItem, Steps};
+use crate::rank::{self, Ranking, Settings, ShortlistItem};
 use crate::report::{self, Context, Source};
 use crate::score::ScoringModel;
 use crate::spectrum::{file, integrals, journal, SolventTable, Spectrum};
@@ -141,40 +141,40 @@ pub fn execute(job: &Job, shortlist: Option<Vec<ShortlistItem>>) -> Result<Strin
     let model = ScoringModel::embedded();
     let predictor = Predictor::embedded()?;
     let opts = predict_options(&predictor, &job.spectrum);
-    let predict = |m: &Molecule| predictor.predict(m, &opts);
-    let smiles = |m: &Molecule| canonical_smiles(m);
-    let carbons = |m: &Molecule| carbon_signals(m);
-    let steps = Steps {
-        predict: &predict,
-        smiles: &smiles,
-        carbon_signals: &carbons,
-    };
     let settings = Settings {
         spectrum: &job.spectrum,
         model: &model,
         top: job.top,
     };
-    let (ranking, source): (Ranking, Source) = match shortlist {
-        Some(items) => (
-            rank::rank_shortlist(items, &steps, &settings),
-            Source::Shortlist,
-        ),
-        None => {
-            let mut options = enumerate::Options {
-                expanded_valence: job.expanded_valence,
-                ..Default::default()
-            };
-            let rules = plausibility(&mut options, job.keep_all);
-            let bar = progress_bar(&job.formula.to_string());
-            let r =
-                rank::rank_formula(&job.formula, &options, &steps, &settings, &mut |n, frac| {
-                    bar.set_position((frac * 1000.0) as u64);
-                    bar.set_message(format!("{n} scored"));
-                });
-            bar.finish_and_clear();
-            (r?, Source::Enumeration { rules })
-        }
-    };
+    let (ranking, source): (Ranking, Source) =
+        rank::with_standard_steps(&predictor, &opts, |steps| -> Result<_> {
+            Ok(match shortlist {
+                Some(items) => (
+                    rank::rank_shortlist(items, steps, &settings),
+                    Source::Shortlist,
+                ),
+                None => {
+                    let mut options = enumerate::Options {
+                        expanded_valence: job.expanded_valence,
+                        ..Default::default()
+                    };
+                    let rules = plausibility(&mut options, job.keep_all);
+                    let bar = progress_bar(&job.formula.to_string());
+                    let r = rank::rank_formula(
+                        &job.formula,
+                        &options,
+                        steps,
+                        &settings,
+                        &mut |n, frac| {
+                            bar.set_position((frac * 1000.0) as u64);
+                            bar.set_message(format!("{n} scored"));
+                        },
+                    );
+                    bar.finish_and_clear();
+                    (r?, Source::Enumeration { rules })
+                }
+            })
+        })?;
     if let Some(n) = job.explain {
         if n > ranking.candidates.len() {
             return Err(Error::input(format!(

@@ -31,6 +31,25 @@ pub struct Steps<'a> {
     pub carbon_signals: &'a (dyn Fn(&Molecule) -> usize + Sync),
 }
 
+/// Run `f` with the standard steps: `predictor`'s 1H prediction under `opts`,
+/// our canonical SMILES, and 13C signal counts from carbon symmetry classes.
+/// (A callback, because `Steps` borrows the closures it is built from.)
+pub fn with_standard_steps<R>(
+    predictor: &crate::predict::Predictor,
+    opts: &crate::predict::PredictOptions,
+    f: impl FnOnce(&Steps) -> R,
+) -> R {
+    let predict = |m: &Molecule| predictor.predict(m, opts);
+    let smiles = |m: &Molecule| crate::chem::smiles::canonical_smiles(m);
+    let carbons = |m: &Molecule| carbon::carbon_signals(m);
+    let steps = Steps {
+        predict: &predict,
+        smiles: &smiles,
+        carbon_signals: &carbons,
+    };
+    f(&steps)
+}
+
 /// What to rank against and how many to keep.
 pub struct Settings<'a> {
     pub spectrum: &'a Spectrum,
