@@ -2,6 +2,7 @@
 //! rings, aromaticity and SMILES.
 
 pub mod aromaticity;
+pub mod bitset;
 pub mod canon;
 pub mod element;
 pub mod formula;

@@ -566,24 +566,26 @@ mod tests {
         ));
         assert_eq!(r.rings.len(), 3);
         // cubane: six 4-rings (common practice).
-        let cube = [
-            (0, 1),
-            (1, 2),
-            (2, 3),
-            (3, 0),
-            (4, 5),
-            (5, 6),
-            (6, 7),
-            (7, 4),
-            (0, 4),
-            (1, 5),
-            (2, 6),
-            (3, 7),
-        ];
-        let r = ring_info(&skeleton(8, &cube));
+        let r = ring_info(&skeleton(8, &CUBANE));
         assert_eq!(r.rings.len(), 6);
         assert!(r.rings.iter().all(|x| x.len() == 4));
     }
+
+    /// The bonds of cubane's carbon cube.
+    const CUBANE: [(usize, usize); 12] = [
+        (0, 1),
+        (1, 2),
+        (2, 3),
+        (3, 0),
+        (4, 5),
+        (5, 6),
+        (6, 7),
+        (7, 4),
+        (0, 4),
+        (1, 5),
+        (2, 6),
+        (3, 7),
+    ];
 
     #[test]
     fn spiro_rings_are_separate_systems() {
@@ -598,21 +600,7 @@ mod tests {
 
     #[test]
     fn horton_fallback_gives_a_basis() {
-        let cube = [
-            (0, 1),
-            (1, 2),
-            (2, 3),
-            (3, 0),
-            (4, 5),
-            (5, 6),
-            (6, 7),
-            (7, 4),
-            (0, 4),
-            (1, 5),
-            (2, 6),
-            (3, 7),
-        ];
-        let m = skeleton(8, &cube);
+        let m = skeleton(8, &CUBANE);
         let adj = adjacency(&m);
         let b = horton_basis(&adj, 12, 5);
         assert_eq!(b.len(), 5);

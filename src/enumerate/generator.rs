@@ -953,18 +953,7 @@ fn ones(mut m: u64) -> usize {
     c
 }
 
-/// Iterate the set bits of a mask.
-pub fn bits(mut m: u64) -> impl Iterator<Item = usize> {
-    std::iter::from_fn(move || {
-        if m == 0 {
-            None
-        } else {
-            let i = m.trailing_zeros() as usize;
-            m &= m - 1;
-            Some(i)
-        }
-    })
-}
+pub use crate::chem::bitset::bits;
 
 #[cfg(test)]
 mod tests {

@@ -107,6 +107,17 @@ pub struct Ranking {
     pub rules: Vec<(String, u64)>,
 }
 
+impl Ranking {
+    /// How many isomers the plausibility rule `name` removed (0 if not applied).
+    pub fn removed_by(&self, name: &str) -> u64 {
+        self.rules
+            .iter()
+            .find(|(k, _)| k == name)
+            .map(|x| x.1)
+            .unwrap_or(0)
+    }
+}
+
 struct Payload {
     molecule: Molecule,
     smiles: String,

@@ -84,12 +84,7 @@ pub fn render(cx: &Context) -> String {
             rules
                 .iter()
                 .map(|name| {
-                    let n = r
-                        .rules
-                        .iter()
-                        .find(|(k, _)| k == name)
-                        .map(|x| x.1)
-                        .unwrap_or(0);
+                    let n = r.removed_by(name);
                     json!({"rule": name, "removed": n})
                 })
                 .collect::<Vec<_>>(),

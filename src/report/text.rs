@@ -49,12 +49,7 @@ pub fn render(cx: &Context) -> String {
                 let counts: Vec<String> = rules
                     .iter()
                     .map(|name| {
-                        let n = r
-                            .rules
-                            .iter()
-                            .find(|(k, _)| k == name)
-                            .map(|x| x.1)
-                            .unwrap_or(0);
+                        let n = r.removed_by(name);
                         format!("{name} ({n} removed)")
                     })
                     .collect();
