@@ -30,7 +30,7 @@ fn main() {
         for p in &probs {
             let mut gen = Generator::new(p);
             for mut root in roots(p) {
-                gen.search(&mut root, &mut |_: &Node| count += 1);
+                gen.search(&mut root, &mut |_: &Node, _| count += 1);
             }
         }
         println!(

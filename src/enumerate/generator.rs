@@ -115,6 +115,18 @@ pub struct Problem {
     pub dbe: i32,
 }
 
+impl Problem {
+    /// Whether no element comes in two kinds (two valences): then the
+    /// skeleton's kind colouring is its element colouring, and a symmetry of
+    /// the finished molecule (which keeps elements) is one of the skeleton.
+    pub fn one_kind_per_element(&self) -> bool {
+        self.kinds
+            .iter()
+            .enumerate()
+            .all(|(i, k)| self.kinds[..i].iter().all(|o| o.element != k.element))
+    }
+}
+
 /// A skeleton (or, as handed to an isomer sink, a complete isomer) in the
 /// generator's compact form.
 #[derive(Clone)]
@@ -439,8 +451,12 @@ pub struct Generator<'p> {
     orders: Orders,
 }
 
-/// What a search step hands to its sink: a node at the depth limit.
-pub type Sink<'a> = dyn FnMut(&Node) + 'a;
+/// What a search step hands to its sink: a node at the depth limit and, for
+/// a complete isomer whose skeleton's group stage 2 computed, every
+/// non-identity automorphism of that skeleton (vertex permutations of the
+/// kind-coloured simple graph; empty: the group is trivial). `None` when the
+/// group was not needed (no extra bond orders to place, or a skeleton sink).
+pub type Sink<'a> = dyn FnMut(&Node, Option<&[[u8; MAX_ATOMS]]>) + 'a;
 
 impl<'p> Generator<'p> {
     pub fn new(p: &'p Problem) -> Generator<'p> {
@@ -480,7 +496,7 @@ impl<'p> Generator<'p> {
             if isomers {
                 self.bond_orders(node, canon_fresh, sink);
             } else {
-                sink(node);
+                sink(node, None);
             }
             return;
         }
@@ -706,7 +722,7 @@ impl<'p> Generator<'p> {
         let o = &mut self.orders;
         if extra == 0 {
             if !o.check_min || o.min_sums_hold(p, node) {
-                sink(node);
+                sink(node, None);
             }
             return;
         }
@@ -860,7 +876,7 @@ impl Orders {
             node.g.adj[l][a] |= 1u64 << b;
             node.g.adj[l][b] |= 1u64 << a;
         }
-        sink(node);
+        sink(node, Some(&self.auts));
         for &(i, x) in &self.chosen {
             let (a, b) = self.edges[i as usize];
             let (a, b) = (a as usize, b as usize);
@@ -972,7 +988,7 @@ mod tests {
         let mut gen = Generator::new(p);
         let mut count = 0;
         for mut root in roots(p) {
-            gen.search(&mut root, &mut |_: &Node| count += 1);
+            gen.search(&mut root, &mut |_: &Node, _| count += 1);
         }
         count
     }

@@ -80,6 +80,8 @@ pub struct Summary {
 pub struct Isomer<'a> {
     pub(crate) node: &'a Node,
     pub(crate) problem: &'a Problem,
+    pub(crate) auts: Option<&'a [[u8; crate::chem::canon::MAX_ATOMS]]>,
+    pub(crate) task: usize,
 }
 
 impl Isomer<'_> {
@@ -101,6 +103,26 @@ impl Isomer<'_> {
     /// Implicit hydrogens on atom `i`.
     pub fn hydrogens(&self, i: usize) -> u8 {
         self.node.free[i]
+    }
+
+    /// Index of the generation task this isomer came from. One thread
+    /// produces a task's isomers in a fixed order, so state kept per task
+    /// (not per thread) gives the same results whatever the thread count.
+    pub fn task(&self) -> usize {
+        self.task
+    }
+
+    /// Every non-identity automorphism of this isomer's skeleton (the simple
+    /// graph of its bonds, atoms coloured by element), as vertex permutations
+    /// in the numbering of [`Isomer::molecule`], when the generator has them
+    /// at hand (an empty list: the skeleton has no symmetry); `None` when it
+    /// did not compute them. The automorphisms of the isomer itself are those
+    /// of the skeleton that keep every bond order (or, for a prediction that
+    /// treats aromatic bonds as one kind, every bond kind): a caller needing
+    /// the isomer's symmetry classes can filter this list instead of running
+    /// a canonical labelling.
+    pub fn skeleton_automorphisms(&self) -> Option<&[[u8; crate::chem::canon::MAX_ATOMS]]> {
+        self.auts
     }
 
     /// Canonical SMILES (aromatic lower-case form).
@@ -263,7 +285,7 @@ fn tasks(problems: &[Problem]) -> Vec<Task> {
                 next.push(t.clone());
                 continue;
             }
-            gens[t.problem].skeletons(&mut node, depth + 1, &mut |n: &Node| {
+            gens[t.problem].skeletons(&mut node, depth + 1, &mut |n: &Node, _| {
                 next.push(Task::from_node(t.problem, n))
             });
         }
@@ -316,12 +338,14 @@ where
     for (ci, chunk) in mine.chunks(CHUNK).enumerate() {
         let results: Vec<TaskResult<T>> = chunk
             .par_iter()
+            .enumerate()
             .map_init(
                 || {
                     let gens: Vec<Generator> = problems.iter().map(Generator::new).collect();
                     (gens, resonance::Workspace::default())
                 },
-                |(gens, ws), task| {
+                |(gens, ws), (i, task)| {
+                    let task_index = ci * CHUNK + i;
                     let p = &problems[task.problem];
                     let gen = &mut gens[task.problem];
                     let mut node = task.node(p);
@@ -331,10 +355,12 @@ where
                         excluded: 0,
                         flagged: vec![0; rules.len()],
                     };
-                    gen.search(&mut node, &mut |leaf: &Node| {
+                    gen.search(&mut node, &mut |leaf: &Node, auts| {
                         let iso = Isomer {
                             node: leaf,
                             problem: p,
+                            auts: auts.filter(|_| p.one_kind_per_element()),
+                            task: task_index,
                         };
                         if !resonance::is_representative(leaf, || iso.molecule(), ws) {
                             return;
