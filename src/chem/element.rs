@@ -122,6 +122,22 @@ impl Element {
         )
     }
 
+    /// Atomic number.
+    pub fn atomic_number(self) -> u8 {
+        match self {
+            Element::H => 1,
+            Element::C => 6,
+            Element::N => 7,
+            Element::O => 8,
+            Element::F => 9,
+            Element::P => 15,
+            Element::S => 16,
+            Element::Cl => 17,
+            Element::Br => 35,
+            Element::I => 53,
+        }
+    }
+
     /// Average atomic mass (IUPAC standard atomic weights, conventional values).
     pub fn mass(self) -> f64 {
         match self {

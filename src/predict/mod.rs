@@ -47,7 +47,7 @@ pub use library::Library;
 pub use signal::{Multiplicity, PredictedSignal};
 
 use crate::chem::canon::{CanonGraph, Canonizer};
-use crate::chem::Molecule;
+use crate::chem::{Element, Molecule};
 use crate::error::{Error, Result};
 use std::cell::RefCell;
 use std::path::Path;
@@ -89,6 +89,7 @@ pub struct Scratch {
     graph: Box<CanonGraph>,
     view: Box<View>,
     groups: Vec<Group>,
+    estimates: Vec<ShiftEstimate>,
 }
 
 impl Default for Scratch {
@@ -98,6 +99,7 @@ impl Default for Scratch {
             graph: Box::new(CanonGraph::new(0)),
             view: Box::new(View::empty()),
             groups: Vec::new(),
+            estimates: Vec::new(),
         }
     }
 }
@@ -158,7 +160,7 @@ impl Predictor {
             s.view.fill(mol).map_err(Error::input)?;
             let opts = PredictOptions::default();
             let mut ctx = Ctx::new(&self.lib, &s.view, &opts);
-            ctx.orbits(&mut s.canon, &mut s.graph);
+            ctx.orbits(&mut s.canon, &mut s.graph, None);
             Ok(ctx.orb[..s.view.n].iter().map(|&o| o as usize).collect())
         })
     }
@@ -186,6 +188,31 @@ impl Predictor {
         opts: &PredictOptions,
         scratch: &mut Scratch,
     ) -> Result<Vec<PredictedSignal>> {
+        let all = self.predict_gated(mol, opts, None, scratch, &mut |_| true)?;
+        Ok(all.expect("an open gate always lets the prediction finish"))
+    }
+
+    /// Prediction in two steps, for the inner loop of a ranking. After the
+    /// groups and their shifts are known (before multiplicities and J, which
+    /// cost about a third of the work), `gate` sees one [`ShiftEstimate`]
+    /// per group, rounded as the final signals are; when it returns false the
+    /// prediction stops and `Ok(None)` comes back. A ranking passes a lower
+    /// bound of the score there and skips the rest for hopeless candidates.
+    ///
+    /// `symmetry`: every non-identity automorphism of the molecule's skeleton
+    /// (the simple graph of its bonds with atoms coloured by element), in the
+    /// molecule's atom numbering, as the generator lists them
+    /// (`enumerate::Isomer::skeleton_automorphisms`); the equivalent-H groups
+    /// then come from that list without a canonical labelling. The caller
+    /// vouches that the list is the whole group; `None` computes it.
+    pub fn predict_gated(
+        &self,
+        mol: &Molecule,
+        opts: &PredictOptions,
+        symmetry: Option<&[[u8; 64]]>,
+        scratch: &mut Scratch,
+        gate: &mut dyn FnMut(&[ShiftEstimate]) -> bool,
+    ) -> Result<Option<Vec<PredictedSignal>>> {
         if opts.solvent >= self.lib.solvents.len() {
             return Err(Error::input(format!(
                 "solvent index {} is not in the library",
@@ -194,13 +221,50 @@ impl Predictor {
         }
         scratch.view.fill(mol).map_err(Error::input)?;
         let mut ctx = Ctx::new(&self.lib, &scratch.view, opts);
-        ctx.orbits(&mut scratch.canon, &mut scratch.graph);
+        ctx.orbits(&mut scratch.canon, &mut scratch.graph, symmetry);
         let groups = &mut scratch.groups;
         ctx.build_groups(groups);
         ctx.shifts(groups);
+        scratch.estimates.clear();
+        scratch
+            .estimates
+            .extend(groups.iter().map(|g| ShiftEstimate {
+                shift: round2(g.shift),
+                sigma: round2(g.sigma),
+                hydrogens: g.hydrogens(),
+                exchangeable: g.exchangeable,
+            }));
+        if !gate(&scratch.estimates) {
+            return Ok(None);
+        }
         let mult = ctx.multiplicities(groups);
-        Ok(ctx.signals(groups, mult))
+        Ok(Some(ctx.signals(groups, mult)))
     }
+
+    /// [`Predictor::predict_gated`] with this thread's working storage.
+    pub fn predict_gated_here(
+        &self,
+        mol: &Molecule,
+        opts: &PredictOptions,
+        symmetry: Option<&[[u8; 64]]>,
+        gate: &mut dyn FnMut(&[ShiftEstimate]) -> bool,
+    ) -> Result<Option<Vec<PredictedSignal>>> {
+        SCRATCH.with(|s| self.predict_gated(mol, opts, symmetry, &mut s.borrow_mut(), gate))
+    }
+}
+
+/// One group's shift as the gate of [`Predictor::predict_gated`] sees it.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ShiftEstimate {
+    pub shift: f64,
+    pub sigma: f64,
+    pub hydrogens: u32,
+    pub exchangeable: bool,
+}
+
+/// Shifts and sigmas are reported to 0.01 ppm.
+fn round2(x: f64) -> f64 {
+    (x * 100.0).round() / 100.0
 }
 
 /// Notes a group can carry (bit flags, turned into words at the end).
@@ -304,7 +368,74 @@ impl<'a> Ctx<'a> {
     /// Automorphism orbits of the molecular graph (vertex colour: element
     /// and H count; edge colour: bond order, aromatic bonds as one colour so
     /// that Kekulé forms do not break the ring's symmetry).
-    fn orbits(&mut self, canon: &mut Canonizer, g: &mut CanonGraph) {
+    ///
+    /// With `skeleton` (every non-identity automorphism of the simple graph
+    /// of the bonds, atoms coloured by element, as the generator lists them)
+    /// the orbits come from the automorphisms that also keep every bond kind
+    /// and H count: those are exactly the molecule's automorphisms, and the
+    /// list is the whole group, so the orbit of `a` is the set of its images.
+    /// That needs no canonical labelling. The labelling still runs when the
+    /// orbit ids must be canonical positions (see [`Ctx::needs_canonical_ids`]).
+    fn orbits(&mut self, canon: &mut Canonizer, g: &mut CanonGraph, skeleton: Option<&[[u8; 64]]>) {
+        if let Some(auts) = skeleton {
+            self.orbits_from(auts);
+            if !self.needs_canonical_ids() {
+                return;
+            }
+        }
+        self.canonical_orbits(canon, g);
+    }
+
+    /// Orbit id = the smallest atom index of the orbit.
+    fn orbits_from(&mut self, auts: &[[u8; 64]]) {
+        let v = self.v;
+        let n = v.n;
+        for a in 0..n {
+            self.orb[a] = a as u8;
+        }
+        'perm: for g in auts {
+            for a in 0..n {
+                let ga = g[a] as usize;
+                if v.h[ga] != v.h[a] {
+                    continue 'perm;
+                }
+                for (b, kind) in v.neighbours(a) {
+                    if v.bond_between(ga, g[b] as usize) != kind {
+                        continue 'perm;
+                    }
+                }
+            }
+            for (o, &ga) in self.orb[..n].iter_mut().zip(&g[..n]) {
+                *o = (*o).min(ga);
+            }
+        }
+    }
+
+    /// Whether some rule reads the order of two orbit ids (not only their
+    /// equality): the E/Z reference of an alkene carbon whose two heavy
+    /// substituents tie on `alkene_reference_key` but are not equivalent
+    /// falls back to the lower orbit id, which must then be a canonical
+    /// position (the same whatever the input's atom numbering).
+    fn needs_canonical_ids(&self) -> bool {
+        let v = self.v;
+        (0..v.n).any(|c2| {
+            if v.element[c2] != Element::C || v.deg[c2] != 3 {
+                return false;
+            }
+            v.neighbours(c2).any(|(c1, k)| {
+                k == view::DOUBLE && v.element[c1] == Element::C && {
+                    let mut others = v.neighbours(c2).map(|x| x.0).filter(|&x| x != c1);
+                    let (x, y) = (others.next(), others.next());
+                    matches!((x, y), (Some(x), Some(y)) if self.orb[x] != self.orb[y]
+                        && self.alkene_reference_key(c2, x) == self.alkene_reference_key(c2, y))
+                }
+            })
+        })
+    }
+
+    /// Orbits from a canonical labelling; orbit id = the canonical position
+    /// of the orbit's first atom.
+    fn canonical_orbits(&mut self, canon: &mut Canonizer, g: &mut CanonGraph) {
         let v = self.v;
         // Reuse the graph: clear only the rows in use, then set each bond's
         // bit in its colour layer (a fresh graph has no edges to remove).
@@ -369,8 +500,8 @@ impl<'a> Ctx<'a> {
             .iter()
             .zip(mult)
             .map(|(g, m)| PredictedSignal {
-                shift: (g.shift * 100.0).round() / 100.0,
-                sigma: (g.sigma * 100.0).round() / 100.0,
+                shift: round2(g.shift),
+                sigma: round2(g.sigma),
                 hydrogens: g.hydrogens(),
                 multiplicity: m.multiplicity,
                 j_hz: m.j,

@@ -99,12 +99,17 @@ impl Ctx<'_> {
             (out, k)
         };
         let (h2, k2) = heavy(c2, c1);
-        // Far carbon: reference substituent first (lowest orbit id).
+        // Far carbon: reference substituent first (see `alkene_reference_key`).
         let p2 = match k2 {
             0 => [Place::H, Place::H],
             1 => [Place::Atom(h2[0]), Place::H],
             _ => {
-                let (x, y) = if self.orb[h2[0]] <= self.orb[h2[1]] {
+                let (k0, k1) = (
+                    self.alkene_reference_key(c2, h2[0]),
+                    self.alkene_reference_key(c2, h2[1]),
+                );
+                let first = k0 > k1 || k0 == k1 && self.orb[h2[0]] <= self.orb[h2[1]];
+                let (x, y) = if first {
                     (h2[0], h2[1])
                 } else {
                     (h2[1], h2[0])
@@ -119,17 +124,17 @@ impl Ctx<'_> {
             1 => {
                 let x = h1[0];
                 // In a ring, x is cis to the far carbon's substituent that
-                // shares a ring with it; otherwise assume E (x trans to the
-                // reference substituent).
-                let shares = |y: usize| {
-                    self.v.rings[..self.v.nrings].iter().any(|&r| {
-                        r >> x & 1 == 1 && r >> y & 1 == 1 && r >> c1 & 1 == 1 && r >> c2 & 1 == 1
-                    })
+                // closes the ring with it (the smaller ring when both do);
+                // otherwise assume E (x trans to the reference substituent).
+                let ring = |p: Place| match p {
+                    Place::Atom(y) => self.small_ring_through(x, c1, c2, y),
+                    Place::H => None,
                 };
-                match p2 {
-                    [Place::Atom(r), _] if shares(r) => [Place::Atom(x), Place::H],
-                    [_, Place::Atom(s)] if shares(s) => [Place::H, Place::Atom(x)],
-                    [Place::Atom(_), _] => {
+                match (ring(p2[0]), ring(p2[1])) {
+                    (Some(a), Some(b)) if b < a => [Place::H, Place::Atom(x)],
+                    (Some(_), _) => [Place::Atom(x), Place::H],
+                    (None, Some(_)) => [Place::H, Place::Atom(x)],
+                    _ if matches!(p2[0], Place::Atom(_)) => {
                         assumed = true;
                         [Place::H, Place::Atom(x)]
                     }
@@ -139,6 +144,56 @@ impl Ctx<'_> {
             _ => [Place::Atom(h1[0]), Place::Atom(h1[1])],
         };
         (p1, p2, assumed)
+    }
+
+    /// Size of the smallest ring x-c1=c2-y-...-x of at most 8 atoms, if any:
+    /// a double bond in such a ring has its ring bonds cis (trans-cyclooctene
+    /// is the smallest trans cycloalkene one meets; common practice). Found
+    /// by breadth-first search from y back to x avoiding c1 and c2, so it
+    /// does not depend on which rings the view happened to record.
+    fn small_ring_through(&self, x: usize, c1: usize, c2: usize, y: usize) -> Option<u32> {
+        let v = self.v;
+        let blocked = 1u64 << c1 | 1u64 << c2;
+        let mut seen = blocked | 1u64 << y;
+        let mut front = 1u64 << y;
+        for d in 0..=5u32 {
+            if front >> x & 1 == 1 {
+                return Some(d + 3);
+            }
+            let mut next = 0;
+            for a in bits(front) {
+                next |= v.adj[a];
+            }
+            next &= !seen;
+            seen |= next;
+            front = next;
+        }
+        None
+    }
+
+    /// Which of the two heavy substituents of an alkene carbon `c2` is its
+    /// reference (the one an unknown geometry puts trans to the other
+    /// carbon's substituent): the larger branch (more heavy atoms), then the
+    /// heavier attached atom, then more heavy neighbours there. The bulkier
+    /// groups trans is the usual assumption when E/Z is not given (common
+    /// practice). Equal keys fall back to the orbit ids, which are then
+    /// canonical positions (`Ctx::needs_canonical_ids`), so the choice never
+    /// depends on the input's atom numbering.
+    pub(super) fn alkene_reference_key(&self, c2: usize, y: usize) -> (u32, u8, u8) {
+        let v = self.v;
+        let mut seen = 1u64 << c2 | 1u64 << y;
+        let mut front = 1u64 << y;
+        while front != 0 {
+            let mut next = 0;
+            for x in bits(front) {
+                next |= v.adj[x];
+            }
+            next &= !seen;
+            seen |= next;
+            front = next;
+        }
+        let size = (seen & !(1u64 << c2)).count_ones();
+        (size, v.element[y].atomic_number(), v.deg[y])
     }
 
     /// Place index of the representative H of a group on alkene carbon `a`.

@@ -63,6 +63,12 @@ pub struct View {
     pub nrings: usize,
     /// Smallest aromatic ring of each atom (index into `rings`, 255 none).
     aro_ring: [u8; MAX_ATOMS],
+    /// The adjacency the ring tables were computed for (`ring_key_n` atoms;
+    /// `usize::MAX`: none). Ring perception depends on the skeleton alone,
+    /// and a generator hands over all bond-order assignments of one
+    /// skeleton in a row, so consecutive candidates usually share it.
+    ring_key: [u64; MAX_ATOMS],
+    ring_key_n: usize,
 }
 
 impl View {
@@ -87,6 +93,8 @@ impl View {
             ring_order: [[0; 8]; MAX_RINGS],
             nrings: 0,
             aro_ring: [u8::MAX; MAX_ATOMS],
+            ring_key: [0; MAX_ATOMS],
+            ring_key_n: usize::MAX,
         }
     }
 
@@ -110,12 +118,9 @@ impl View {
         v.n = n;
         v.aromatic = 0;
         v.hetero = 0;
-        v.ring_atoms = 0;
-        v.nrings = 0;
         for i in 0..n {
             v.deg[i] = 0;
             v.adj[i] = 0;
-            v.ring_size[i] = 0;
             v.aro_ring[i] = u8::MAX;
         }
         let mut edges = 0usize;
@@ -154,8 +159,20 @@ impl View {
         let edges = edges / 2;
         // Cyclomatic number: no ring work at all for acyclic candidates.
         if edges + 1 > n {
-            v.find_rings();
+            if v.ring_key_n != n || v.ring_key[..n] != v.adj[..n] {
+                v.ring_atoms = 0;
+                v.nrings = 0;
+                v.ring_size[..n].fill(0);
+                v.find_rings();
+                v.ring_key[..n].copy_from_slice(&v.adj[..n]);
+                v.ring_key_n = n;
+            }
             v.perceive_aromatic();
+        } else {
+            v.ring_atoms = 0;
+            v.nrings = 0;
+            v.ring_size[..n].fill(0);
+            v.ring_key_n = usize::MAX;
         }
         for i in 0..n {
             let mut doubles = 0;
