@@ -5,11 +5,10 @@
 //!
 //! Run: `cargo run --release --example bench_rank [FORMULA]`
 
-use isomerank::chem::smiles::canonical_smiles;
 use isomerank::chem::{Formula, Molecule};
 use isomerank::enumerate::{self, rules::RuleSet};
 use isomerank::predict::Predictor;
-use isomerank::rank::{self, carbon::carbon_signals, Settings, Steps};
+use isomerank::rank::{self, Settings};
 use isomerank::score::ScoringModel;
 use isomerank::spectrum::{integrals, journal, SolventTable};
 use std::time::Instant;
@@ -68,13 +67,6 @@ fn main() {
     opts.notes = false;
     let model = ScoringModel::embedded();
     let predict = |m: &Molecule| predictor.predict(m, &opts);
-    let smiles = |m: &Molecule| canonical_smiles(m);
-    let carbons = |m: &Molecule| carbon_signals(m);
-    let steps = Steps {
-        predict: &predict,
-        smiles: &smiles,
-        carbon_signals: &carbons,
-    };
     let settings = Settings {
         spectrum: &spectrum,
         model: &model,
@@ -94,8 +86,10 @@ fn main() {
     let c_pred = cpu_seconds() - c;
 
     let (t, c) = (Instant::now(), cpu_seconds());
-    let r =
-        rank::rank_formula(&formula, &options, &steps, &settings, &mut |_, _| {}).expect("ranking");
+    let r = rank::with_standard_steps(&predictor, &opts, |steps| {
+        rank::rank_formula(&formula, &options, steps, &settings, &mut |_, _| {})
+    })
+    .expect("ranking");
     let t_rank = t.elapsed().as_secs_f64();
     let c_rank = cpu_seconds() - c;
 

@@ -15,16 +15,28 @@ pub mod topk;
 use crate::chem::{Formula, Molecule};
 use crate::enumerate;
 use crate::error::{Error, Result};
-use crate::predict::PredictedSignal;
+use crate::predict::{PredictedSignal, ShiftEstimate};
 use crate::score::{self, Scored, ScoringModel};
 use crate::spectrum::Spectrum;
 use rayon::prelude::*;
 use topk::{Collector, Outcome};
 
+/// A structure's predicted 1H multiplet list, in the two steps of
+/// [`crate::predict::Predictor::predict_gated`]: the skeleton's
+/// automorphisms when the generator has them, and a gate that sees the
+/// groups' shifts first and may stop the prediction (`None` back).
+pub type PredictFn<'a> = dyn Fn(
+        &Molecule,
+        Option<&[[u8; 64]]>,
+        &mut dyn FnMut(&[ShiftEstimate]) -> bool,
+    ) -> Option<Vec<PredictedSignal>>
+    + Sync
+    + 'a;
+
 /// The structure-specific steps the ranker calls.
 pub struct Steps<'a> {
     /// Predicted 1H multiplet list of a structure.
-    pub predict: &'a (dyn Fn(&Molecule) -> Vec<PredictedSignal> + Sync),
+    pub predict: &'a PredictFn<'a>,
     /// Canonical SMILES of a structure.
     pub smiles: &'a (dyn Fn(&Molecule) -> String + Sync),
     /// Number of 13C signals expected (carbon symmetry classes).
@@ -39,7 +51,13 @@ pub fn with_standard_steps<R>(
     opts: &crate::predict::PredictOptions,
     f: impl FnOnce(&Steps) -> R,
 ) -> R {
-    let predict = |m: &Molecule| predictor.predict(m, opts);
+    let predict = |m: &Molecule,
+                   symmetry: Option<&[[u8; 64]]>,
+                   gate: &mut dyn FnMut(&[ShiftEstimate]) -> bool| {
+        predictor
+            .predict_gated_here(m, opts, symmetry, gate)
+            .unwrap_or(Some(Vec::new()))
+    };
     let smiles = |m: &Molecule| crate::chem::smiles::canonical_smiles(m);
     let carbons = |m: &Molecule| carbon::carbon_signals(m);
     let steps = Steps {
@@ -127,15 +145,46 @@ struct Payload {
 }
 
 /// Predict and score one structure; `None` when it cannot beat `cutoff`.
+/// The prediction stops after the shifts when even a score without its
+/// multiplicity and J terms (never negative) cannot beat `cutoff`.
 fn evaluate(
     molecule: &Molecule,
+    symmetry: Option<&[[u8; 64]]>,
     steps: &Steps,
     settings: &Settings,
     cutoff: f64,
 ) -> Option<(Vec<PredictedSignal>, Scored)> {
-    let predicted = (steps.predict)(molecule);
+    let mut gate =
+        |est: &[ShiftEstimate]| cutoff == f64::INFINITY || interim_may_beat(est, settings, cutoff);
+    let predicted = (steps.predict)(molecule, symmetry, &mut gate)?;
     let scored = score::score(&predicted, settings.spectrum, settings.model, cutoff)?;
     Some((predicted, scored))
+}
+
+fn interim_may_beat(est: &[ShiftEstimate], settings: &Settings, cutoff: f64) -> bool {
+    let sp = settings.spectrum;
+    let model = settings.model;
+    let fake: Vec<PredictedSignal> = est
+        .iter()
+        .map(|e| PredictedSignal {
+            shift: e.shift,
+            sigma: e.sigma,
+            hydrogens: e.hydrogens,
+            multiplicity: crate::predict::Multiplicity::Singlet,
+            j_hz: Vec::new(),
+            atoms: Vec::new(),
+            exchangeable: e.exchangeable,
+            notes: Vec::new(),
+        })
+        .collect();
+    let mut c = score::costs(&fake, sp, model);
+    let m = c.multiplets;
+    for (g, p) in fake.iter().enumerate() {
+        for (j, o) in sp.multiplets.iter().enumerate() {
+            c.pair[g * m + j] = model.pair_cost(p, o).shift;
+        }
+    }
+    score::assign::solve(&c, cutoff).is_some()
 }
 
 /// Rank a shortlist (every item must already have the formula).
@@ -146,7 +195,7 @@ pub fn rank_shortlist(items: Vec<ShortlistItem>, steps: &Steps, settings: &Setti
     let outcomes: Vec<Outcome<Box<Payload>>> = items
         .into_par_iter()
         .map(
-            |it| match evaluate(&it.molecule, steps, settings, f64::INFINITY) {
+            |it| match evaluate(&it.molecule, None, steps, settings, f64::INFINITY) {
                 Some((predicted, scored)) => Outcome::Scored {
                     cost: scored.cost,
                     key: it.smiles.clone(),
@@ -188,30 +237,45 @@ pub fn rank_formula(
     let k = settings.top.max(1);
     let map = |iso: &enumerate::Isomer| -> Option<Outcome<Box<Payload>>> {
         let molecule = iso.molecule();
-        Some(match evaluate(&molecule, steps, settings, cutoff.get()) {
-            Some((_, scored))
-                if scored.cost > cutoff.top_k() || !topk::local_admits(run, k, scored.cost) =>
-            {
-                Outcome::CostOnly { cost: scored.cost }
-            }
-            Some((predicted, scored)) => {
-                // SMILES only for candidates that may rank (it costs a
-                // canonical labelling).
-                let smiles = (steps.smiles)(&molecule);
-                Outcome::Scored {
-                    cost: scored.cost,
-                    key: smiles.clone(),
-                    item: Box::new(Payload {
-                        molecule,
-                        smiles,
-                        name: None,
-                        predicted,
-                        scored,
-                    }),
+        let limit = cutoff.get().min(topk::local_cutoff(
+            run,
+            iso.task(),
+            k,
+            settings.model.ranking.skip_margin,
+        ));
+        Some(
+            match evaluate(
+                &molecule,
+                iso.skeleton_automorphisms(),
+                steps,
+                settings,
+                limit,
+            ) {
+                Some((_, scored))
+                    if scored.cost > cutoff.top_k()
+                        || !topk::local_admits(run, iso.task(), k, scored.cost) =>
+                {
+                    Outcome::CostOnly { cost: scored.cost }
                 }
-            }
-            None => return None,
-        })
+                Some((predicted, scored)) => {
+                    // SMILES only for candidates that may rank (it costs a
+                    // canonical labelling).
+                    let smiles = (steps.smiles)(&molecule);
+                    Outcome::Scored {
+                        cost: scored.cost,
+                        key: smiles.clone(),
+                        item: Box::new(Payload {
+                            molecule,
+                            smiles,
+                            name: None,
+                            predicted,
+                            scored,
+                        }),
+                    }
+                }
+                None => return None,
+            },
+        )
     };
     let mut emitted = 0u64;
     let summary = enumerate::for_each_ordered(

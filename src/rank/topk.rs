@@ -252,8 +252,8 @@ impl Ord for Cost {
 thread_local! {
     /// Per scoring thread: the run it belongs to and the k lowest costs this
     /// thread has seen in that run.
-    static LOCAL: std::cell::RefCell<(u64, BinaryHeap<Cost>)> =
-        const { std::cell::RefCell::new((0, BinaryHeap::new())) };
+    static LOCAL: std::cell::RefCell<((u64, usize), BinaryHeap<Cost>)> =
+        const { std::cell::RefCell::new(((0, 0), BinaryHeap::new())) };
 }
 
 static RUNS: AtomicU64 = AtomicU64::new(1);
@@ -264,17 +264,17 @@ pub fn new_run() -> u64 {
 }
 
 /// Whether a candidate of `cost` may still reach the final top-k, judged
-/// from what this thread alone has seen in `run`: if it has already seen k
+/// from what this thread alone has seen of `task` in `run`: if it has already seen k
 /// candidates that cost less, k better candidates exist and this one cannot.
 /// Records the cost. Why: before the first results are emitted in order the
 /// shared cutoff is still infinite, and without this bound every candidate
 /// of the first parallel chunk would carry a full payload (for a formula
 /// with millions of isomers, gigabytes).
-pub fn local_admits(run: u64, k: usize, cost: f64) -> bool {
+pub fn local_admits(run: u64, task: usize, k: usize, cost: f64) -> bool {
     LOCAL.with(|cell| {
         let mut l = cell.borrow_mut();
-        if l.0 != run {
-            *l = (run, BinaryHeap::new());
+        if l.0 != (run, task) {
+            *l = ((run, task), BinaryHeap::new());
         }
         let heap = &mut l.1;
         let admits = heap.len() < k || heap.peek().is_some_and(|w| cost <= w.0);
@@ -285,6 +285,27 @@ pub fn local_admits(run: u64, k: usize, cost: f64) -> bool {
             }
         }
         admits
+    })
+}
+
+/// The cutoff of one generation task of `run`, from the costs this thread
+/// recorded for it through [`local_admits`]: above both the k-th lowest and
+/// the lowest + `margin` (infinite before k are recorded). A task has seen a
+/// subset of all candidates, so its k-th and lowest costs are at least the
+/// global ones and this cutoff is never below the one a complete view would
+/// give: skipping by it is safe. It matters before the first results are
+/// emitted in order, while the shared cutoff is still infinite. Per task,
+/// not per thread: one thread runs a task's isomers in order, so what is
+/// skipped does not depend on the thread count.
+pub fn local_cutoff(run: u64, task: usize, k: usize, margin: f64) -> f64 {
+    LOCAL.with(|cell| {
+        let l = cell.borrow();
+        if l.0 != (run, task) || l.1.len() < k {
+            return f64::INFINITY;
+        }
+        let kth = l.1.peek().map_or(f64::INFINITY, |c| c.0);
+        let best = l.1.iter().map(|c| c.0).fold(f64::INFINITY, f64::min);
+        kth.max(best + margin) + 1e-9
     })
 }
 
@@ -319,14 +340,33 @@ mod tests {
     #[test]
     fn a_thread_rejects_what_k_better_candidates_already_beat() {
         let run = new_run();
-        assert!(local_admits(run, 2, 5.0));
-        assert!(local_admits(run, 2, 3.0));
-        assert!(local_admits(run, 2, 4.0));
+        assert!(local_admits(run, 0, 2, 5.0));
+        assert!(local_admits(run, 0, 2, 3.0));
+        assert!(local_admits(run, 0, 2, 4.0));
         // 3 and 4 are better: 6 cannot be in the top 2; a tie with 4 may be.
-        assert!(!local_admits(run, 2, 6.0));
-        assert!(local_admits(run, 2, 4.0));
+        assert!(!local_admits(run, 0, 2, 6.0));
+        assert!(local_admits(run, 0, 2, 4.0));
         // A new run starts afresh.
-        assert!(local_admits(new_run(), 2, 100.0));
+        assert!(local_admits(new_run(), 0, 2, 100.0));
+    }
+
+    #[test]
+    fn local_cutoff_follows_this_threads_costs() {
+        let run = new_run();
+        assert_eq!(local_cutoff(run, 0, 2, 30.0), f64::INFINITY);
+        assert!(local_admits(run, 0, 2, 10.0));
+        assert_eq!(local_cutoff(run, 0, 2, 30.0), f64::INFINITY, "fewer than k");
+        assert!(local_admits(run, 0, 2, 50.0));
+        // k-th (50) above best + margin (40).
+        assert!((local_cutoff(run, 0, 2, 30.0) - 50.0).abs() < 1e-6);
+        assert!(local_admits(run, 0, 2, 12.0));
+        // Now 10 and 12 kept: best + margin = 40 wins.
+        assert!((local_cutoff(run, 0, 2, 30.0) - 40.0).abs() < 1e-6);
+        assert_eq!(
+            local_cutoff(new_run(), 0, 2, 30.0),
+            f64::INFINITY,
+            "another run"
+        );
     }
 
     #[test]
