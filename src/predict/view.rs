@@ -281,12 +281,17 @@ impl View {
         d
     }
 
-    /// For every ring bond, the smallest cycle through it (breadth-first
-    /// search from one end to the other with the bond removed).
+    /// For every ring bond, every smallest cycle through it: breadth-first
+    /// search from one end with the bond removed gives the distance of each
+    /// atom, and every shortest path back from the other end closes one
+    /// such cycle. The union over all bonds is the same set whatever the
+    /// atom order (one cycle per bond, chosen by the search order, would
+    /// not be: in fused and bridged systems ring sizes and ring-based rules
+    /// would then depend on how the input was written).
     fn find_rings(&mut self) {
         let n = self.n;
         let mut queue = [0u8; MAX_ATOMS];
-        let mut parent = [0u8; MAX_ATOMS];
+        let mut dist = [u8::MAX; MAX_ATOMS];
         // The 2-core: strip atoms with at most one neighbour left until none
         // remain; only core atoms can lie on a ring, and the searches below
         // never wander into side chains.
@@ -306,70 +311,86 @@ impl View {
                 if w < u || core >> w & 1 == 0 {
                     continue;
                 }
-                // BFS from u to w without the edge u-w.
-                let mut seen = 1u64 << u;
-                let (mut head, mut tail) = (0, 0);
-                queue[tail] = u as u8;
-                tail += 1;
-                let mut found = false;
-                while head < tail && !found {
+                // Distances from u without the edge u-w, up to w's.
+                for x in bits(core) {
+                    dist[x] = u8::MAX;
+                }
+                dist[u] = 0;
+                let (mut head, mut tail) = (0, 1);
+                queue[0] = u as u8;
+                while head < tail && dist[w] == u8::MAX {
                     let x = queue[head] as usize;
                     head += 1;
-                    let mut m = self.adj[x] & core & !seen;
+                    let mut m = self.adj[x] & core;
                     if x == u {
                         m &= !(1u64 << w);
                     }
-                    while m != 0 {
-                        let y = m.trailing_zeros() as usize;
-                        m &= m - 1;
-                        seen |= 1u64 << y;
-                        parent[y] = x as u8;
-                        if y == w {
-                            found = true;
-                            break;
+                    for y in bits(m) {
+                        if dist[y] == u8::MAX {
+                            dist[y] = dist[x] + 1;
+                            queue[tail] = y as u8;
+                            tail += 1;
                         }
-                        queue[tail] = y as u8;
-                        tail += 1;
                     }
                 }
-                if !found {
+                if dist[w] == u8::MAX {
                     continue;
                 }
-                let mut cycle = 1u64 << w;
-                let mut x = w;
-                while x != u {
-                    x = parent[x] as usize;
-                    cycle |= 1u64 << x;
-                }
-                if !self.rings[..self.nrings].contains(&cycle) && self.nrings < MAX_RINGS {
-                    self.rings[self.nrings] = cycle;
-                    if cycle.count_ones() <= 8 {
-                        // The parent chain from w back to u is the cyclic order.
-                        let mut x = w;
-                        let mut k = 0;
-                        loop {
-                            self.ring_order[self.nrings][k] = x as u8;
-                            k += 1;
-                            if x == u {
-                                break;
-                            }
-                            x = parent[x] as usize;
-                        }
-                    }
-                    self.nrings += 1;
-                }
-                let size = cycle.count_ones() as u8;
-                self.ring_atoms |= cycle;
-                let mut m = cycle;
-                while m != 0 {
-                    let a = m.trailing_zeros() as usize;
-                    m &= m - 1;
-                    if self.ring_size[a] == 0 || size < self.ring_size[a] {
-                        self.ring_size[a] = size;
-                    }
-                }
+                // Every shortest path w -> u, walked back by distance.
+                let mut path = [0u8; MAX_ATOMS];
+                path[0] = w as u8;
+                self.shortest_cycles(u, &dist, &mut path, 1);
             }
         }
+    }
+
+    /// Extend `path` (from the bond's far end, distances from `u` falling by
+    /// one per step) back to `u` in every way, recording each closed cycle.
+    fn shortest_cycles(
+        &mut self,
+        u: usize,
+        dist: &[u8; MAX_ATOMS],
+        path: &mut [u8; MAX_ATOMS],
+        len: usize,
+    ) {
+        let last = path[len - 1] as usize;
+        if last == u {
+            self.record_ring(&path[..len]);
+            return;
+        }
+        if self.nrings == MAX_RINGS {
+            return;
+        }
+        // Distances fall by one per step, so the removed edge w-u (which
+        // would jump from dist[w] >= 2 to 0) is never taken.
+        let want = dist[last] - 1;
+        for y in bits(self.adj[last]) {
+            if dist[y] == want {
+                path[len] = y as u8;
+                self.shortest_cycles(u, dist, path, len + 1);
+            }
+        }
+    }
+
+    /// Record one cycle given in cyclic order (deduplicated).
+    fn record_ring(&mut self, order: &[u8]) {
+        let cycle = order.iter().fold(0u64, |m, &a| m | 1u64 << a);
+        let size = order.len() as u8;
+        self.ring_atoms |= cycle;
+        for &a in order {
+            let a = a as usize;
+            if self.ring_size[a] == 0 || size < self.ring_size[a] {
+                self.ring_size[a] = size;
+            }
+        }
+        if self.rings[..self.nrings].contains(&cycle) || self.nrings == MAX_RINGS {
+            return;
+        }
+        self.rings[self.nrings] = cycle;
+        if order.len() <= 8 {
+            self.ring_order[self.nrings][..order.len()].copy_from_slice(order);
+        }
+        self.nrings += 1;
     }
 
     /// Double-bond partner of `a`, if it has exactly one double bond.
