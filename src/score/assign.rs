@@ -422,6 +422,7 @@ impl Search<'_> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::score::testgen::rng;
 
     /// Exhaustive reference: every one of (M+1)^G assignments.
     fn brute(c: &Costs) -> f64 {
@@ -438,14 +439,6 @@ mod tests {
             best = best.min(c.evaluate(&choice));
         }
         best
-    }
-
-    /// Small deterministic pseudo-random numbers (xorshift) for the test.
-    fn rng(state: &mut u64) -> f64 {
-        *state ^= *state << 13;
-        *state ^= *state >> 7;
-        *state ^= *state << 17;
-        (*state % 10_000) as f64 / 10_000.0
     }
 
     #[test]
