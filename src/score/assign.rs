@@ -227,6 +227,11 @@ struct Search<'a> {
     best_choice: &'a mut [u16],
     found: bool,
     nodes: u64,
+    /// Existence mode: stop at the first assignment below the cutoff.
+    first_only: bool,
+    /// Give up (set `stop`) beyond this many nodes.
+    max_nodes: u64,
+    stop: bool,
 }
 
 /// Find the cheapest assignment whose cost is below `cutoff`
@@ -244,13 +249,35 @@ pub fn solve(c: &Costs, cutoff: f64) -> Option<Solution> {
 /// [`solve`] in reused buffers: the cost, with the assignment left in
 /// [`Workspace::choice`].
 pub fn solve_in(c: &CostsRef, cutoff: f64, ws: &mut Workspace) -> Option<f64> {
+    match run(c, cutoff, ws, false, u64::MAX) {
+        Outcome::Below(cost) => Some(cost),
+        _ => None,
+    }
+}
+
+/// Whether some assignment may cost less than `cutoff`: the same search,
+/// stopped at the first assignment below the cutoff, and giving up with
+/// `true` ("not ruled out") after `max_nodes` nodes. `false` only when the
+/// whole search found nothing below the cutoff.
+pub fn may_reach_below(c: &CostsRef, cutoff: f64, ws: &mut Workspace, max_nodes: u64) -> bool {
+    !matches!(run(c, cutoff, ws, true, max_nodes), Outcome::Nothing)
+}
+
+enum Outcome {
+    /// The best (or, in existence mode, the first) cost below the cutoff.
+    Below(f64),
+    Nothing,
+    GaveUp,
+}
+
+fn run(c: &CostsRef, cutoff: f64, ws: &mut Workspace, first_only: bool, max_nodes: u64) -> Outcome {
     let (g, m) = (c.groups, c.multiplets);
     ws.nodes = 0;
     // Cheap root bound first: most candidates of a large enumeration are
     // hopeless and leave here before any sorting or search.
     let root = root_bound(c, &mut ws.min_choice);
     if root >= cutoff {
-        return None;
+        return Outcome::Nothing;
     }
     let Workspace {
         min_choice,
@@ -290,6 +317,9 @@ pub fn solve_in(c: &CostsRef, cutoff: f64, ws: &mut Workspace) -> Option<f64> {
     refill(h, m, 0);
     refill(k, m, 0);
     let greedy_cost = c.evaluate_in(greedy, h, k);
+    if first_only && greedy_cost < cutoff {
+        return Outcome::Below(greedy_cost);
+    }
     refill(h, m, 0);
     refill(k, m, 0);
     refill(suffix_min, g + 1, 0.0);
@@ -336,11 +366,19 @@ pub fn solve_in(c: &CostsRef, cutoff: f64, ws: &mut Workspace) -> Option<f64> {
         best_choice,
         found,
         nodes: 0,
+        first_only,
+        max_nodes,
+        stop: false,
     };
     s.dfs(0, 0.0);
-    let (best, found) = (s.best, s.found);
     *nodes = s.nodes;
-    found.then_some(best)
+    if s.found {
+        Outcome::Below(s.best)
+    } else if s.stop {
+        Outcome::GaveUp
+    } else {
+        Outcome::Nothing
+    }
 }
 
 impl Search<'_> {
@@ -379,6 +417,10 @@ impl Search<'_> {
 
     fn dfs(&mut self, d: usize, partial: f64) {
         self.nodes += 1;
+        if self.nodes > self.max_nodes {
+            self.stop = true;
+            return;
+        }
         let c = self.c;
         if d == self.order.len() {
             let total = partial
@@ -391,6 +433,7 @@ impl Search<'_> {
                 for (depth, &g) in self.order.iter().enumerate() {
                     self.best_choice[g] = self.current[depth];
                 }
+                self.stop = self.first_only;
             }
             return;
         }
@@ -410,6 +453,9 @@ impl Search<'_> {
             if base + self.multiplet_bound(d + 1) < self.best {
                 self.current[d] = j;
                 self.dfs(d + 1, partial + cost);
+                if self.stop {
+                    return;
+                }
             }
             if j != NONE {
                 self.h[j as usize] -= hg;
@@ -470,6 +516,11 @@ mod tests {
             assert!((c.evaluate(&s.choice) - s.cost).abs() < 1e-9);
             // With a cutoff below the optimum nothing is returned.
             assert!(solve(&c, exact - 1e-6).is_none());
+            // The existence search agrees, and gives up only with "maybe".
+            let mut ws = Workspace::default();
+            assert!(may_reach_below(&c.view(), exact + 1e-6, &mut ws, u64::MAX));
+            assert!(!may_reach_below(&c.view(), exact - 1e-6, &mut ws, u64::MAX));
+            assert!(may_reach_below(&c.view(), exact + 1e-6, &mut ws, 1));
         }
     }
 

@@ -13,80 +13,62 @@
 use super::model::ScoringModel;
 use crate::predict::{Multiplicity, PredictedSignal};
 use crate::spectrum::ObservedMultiplet;
-use std::collections::HashMap;
-use std::hash::{BuildHasherDefault, Hasher};
 
 /// Rows kept per thread at most; beyond, rows are computed each time (a
 /// bound on memory for pathological predictors, never reached in practice).
 const MAX_ROWS: usize = 1 << 14;
 
-/// The key is already a well-mixed 64-bit hash: pass it through.
-#[derive(Default)]
-struct PassHasher(u64);
+/// A pattern packed into four words: flags, kind and up to six coupling
+/// counts in the first, the bits of up to three J values in the others. A
+/// packed key compares in four integer comparisons, so a lookup costs less
+/// than hashing the vectors would. Patterns that do not fit (more couplings)
+/// are computed each time; first-order predictions rarely have them.
+type Key = [u64; 4];
 
-impl Hasher for PassHasher {
-    fn finish(&self) -> u64 {
-        self.0
+fn pack(p: &PredictedSignal) -> Option<Key> {
+    if p.j_hz.len() > 3 {
+        return None;
     }
-    fn write(&mut self, bytes: &[u8]) {
-        for &b in bytes {
-            self.0 = (self.0.rotate_left(8) ^ b as u64).wrapping_mul(0x100_0000_01b3);
+    let mut w0 = p.exchangeable as u64 | (p.j_hz.len() as u64) << 1;
+    match &p.multiplicity {
+        Multiplicity::Singlet => w0 |= 1 << 4,
+        Multiplicity::Multiplet => w0 |= 2 << 4,
+        Multiplicity::Coupled(ns) => {
+            if ns.len() > 6 {
+                return None;
+            }
+            w0 |= 3 << 4 | (ns.len() as u64) << 8;
+            for (i, &n) in ns.iter().enumerate() {
+                w0 |= (n as u64) << (16 + 8 * i);
+            }
         }
     }
-    fn write_u64(&mut self, x: u64) {
-        self.0 = x;
+    let mut key = [w0, 0, 0, 0];
+    for (i, j) in p.j_hz.iter().enumerate() {
+        key[1 + i] = j.to_bits();
     }
+    Some(key)
 }
 
-/// The full pattern a row belongs to (checked on every hit, so a hash
-/// collision can only cost time, never a wrong term).
-#[derive(Clone, Debug)]
-struct Key {
-    multiplicity: Multiplicity,
-    j_bits: Vec<u64>,
-    exchangeable: bool,
+/// Multiplicative hashing: the top `bits` bits of a sum of independent
+/// products (Knuth, TAOCP vol. 3, 6.4).
+fn slot(key: &Key, bits: u32) -> usize {
+    let h = key[0].wrapping_mul(0x9e37_79b9_7f4a_7c15)
+        ^ key[1].wrapping_mul(0xc2b2_ae3d_27d4_eb4f)
+        ^ key[2].wrapping_mul(0x1656_67b1_9e37_79f9)
+        ^ key[3].wrapping_mul(0xff51_afd7_ed55_8ccd);
+    (h.wrapping_mul(0x9e37_79b9_7f4a_7c15) >> (64 - bits)) as usize
 }
 
-impl Key {
-    fn matches(&self, p: &PredictedSignal) -> bool {
-        self.exchangeable == p.exchangeable
-            && self.multiplicity == p.multiplicity
-            && self.j_bits.len() == p.j_hz.len()
-            && self
-                .j_bits
-                .iter()
-                .zip(&p.j_hz)
-                .all(|(&a, b)| a == b.to_bits())
-    }
-}
+const EMPTY: u32 = u32::MAX;
 
-fn mix(h: u64, x: u64) -> u64 {
-    (h.rotate_left(5) ^ x).wrapping_mul(0x517c_c1b7_2722_0a95)
-}
-
-fn hash(p: &PredictedSignal) -> u64 {
-    let mut h = mix(0x9e37_79b9_7f4a_7c15, p.exchangeable as u64);
-    h = match &p.multiplicity {
-        Multiplicity::Singlet => mix(h, 1),
-        Multiplicity::Multiplet => mix(h, 2),
-        Multiplicity::Coupled(ns) => ns.iter().fold(mix(h, 3), |h, &n| mix(h, n as u64)),
-    };
-    h = mix(h, p.j_hz.len() as u64);
-    for j in &p.j_hz {
-        h = mix(h, j.to_bits());
-    }
-    // Final avalanche (MurmurHash3's fmix64): the table indexes by low bits.
-    h ^= h >> 33;
-    h = h.wrapping_mul(0xff51_afd7_ed55_8ccd);
-    h ^= h >> 33;
-    h
-}
-
-/// One thread's rows for one spectrum and model.
+/// One thread's rows for one spectrum and model: an open-addressing table
+/// (linear probing, at most half full) from packed pattern to row.
 #[derive(Default)]
 pub(crate) struct PatternRows {
-    index: HashMap<u64, u32, BuildHasherDefault<PassHasher>>,
-    keys: Vec<Key>,
+    slots: Vec<(Key, u32)>,
+    bits: u32,
+    count: usize,
     /// Per row, `2 m` numbers: the m multiplicity terms, then the m J terms.
     rows: Vec<f64>,
     scratch: Vec<f64>,
@@ -96,10 +78,26 @@ pub(crate) struct PatternRows {
 impl PatternRows {
     /// Forget every row (a new spectrum or model).
     pub(crate) fn reset(&mut self, multiplets: usize) {
-        self.index.clear();
-        self.keys.clear();
+        self.bits = 8;
+        self.slots.clear();
+        self.slots.resize(1 << self.bits, ([0; 4], EMPTY));
+        self.count = 0;
         self.rows.clear();
         self.m = multiplets;
+    }
+
+    fn grow(&mut self) {
+        let old = std::mem::take(&mut self.slots);
+        self.bits += 1;
+        self.slots.resize(1 << self.bits, ([0; 4], EMPTY));
+        let mask = self.slots.len() - 1;
+        for (key, row) in old.into_iter().filter(|s| s.1 != EMPTY) {
+            let mut i = slot(&key, self.bits);
+            while self.slots[i].1 != EMPTY {
+                i = (i + 1) & mask;
+            }
+            self.slots[i] = (key, row);
+        }
     }
 
     /// The row of `p`: `[multiplicity term; m]` followed by `[J term; m]`.
@@ -111,31 +109,37 @@ impl PatternRows {
     ) -> &[f64] {
         let m = self.m;
         debug_assert_eq!(m, multiplets.len());
-        let h = hash(p);
-        match self.index.get(&h).copied() {
-            Some(i) if self.keys[i as usize].matches(p) => {
-                let at = i as usize * 2 * m;
-                &self.rows[at..at + 2 * m]
-            }
-            None if self.keys.len() < MAX_ROWS => {
-                let i = self.keys.len() as u32;
-                self.keys.push(Key {
-                    multiplicity: p.multiplicity.clone(),
-                    j_bits: p.j_hz.iter().map(|j| j.to_bits()).collect(),
-                    exchangeable: p.exchangeable,
-                });
-                let at = self.rows.len();
-                fill(&mut self.rows, p, model, multiplets);
-                self.index.insert(h, i);
-                &self.rows[at..at + 2 * m]
-            }
-            // A collision with another pattern, or the table is full.
+        let key = match pack(p) {
+            Some(k) if self.count < MAX_ROWS => k,
             _ => {
                 self.scratch.clear();
                 fill(&mut self.scratch, p, model, multiplets);
-                &self.scratch
+                return &self.scratch;
             }
+        };
+        let mask = self.slots.len() - 1;
+        let mut i = slot(&key, self.bits);
+        loop {
+            let (k, row) = self.slots[i];
+            if row == EMPTY {
+                break;
+            }
+            if k == key {
+                let at = row as usize * 2 * m;
+                return &self.rows[at..at + 2 * m];
+            }
+            i = (i + 1) & mask;
         }
+        // First meeting: compute and remember.
+        let row = self.count as u32;
+        self.slots[i] = (key, row);
+        self.count += 1;
+        let at = self.rows.len();
+        fill(&mut self.rows, p, model, multiplets);
+        if 2 * self.count > self.slots.len() {
+            self.grow();
+        }
+        &self.rows[at..at + 2 * m]
     }
 }
 

@@ -79,7 +79,7 @@ pub(crate) fn spectrum(st: &mut u64) -> Spectrum {
 /// that patterns repeat, as they do across isomers), sigmas from a few
 /// values including one below the model's floor.
 pub(crate) fn prediction(st: &mut u64, spectrum: &Spectrum) -> Vec<PredictedSignal> {
-    let pool: [(Multiplicity, &[f64]); 14] = [
+    let pool: [(Multiplicity, &[f64]); 15] = [
         (Multiplicity::Singlet, &[]),
         (Multiplicity::Coupled(vec![1]), &[7.0]),
         (Multiplicity::Coupled(vec![1]), &[1.2]),
@@ -94,6 +94,11 @@ pub(crate) fn prediction(st: &mut u64, spectrum: &Spectrum) -> Vec<PredictedSign
         (Multiplicity::Multiplet, &[]),
         (Multiplicity::Coupled(vec![2]), &[]),
         (Multiplicity::Coupled(vec![7]), &[7.0]),
+        // Four couplings: more than a packed pattern key holds.
+        (
+            Multiplicity::Coupled(vec![1, 1, 1, 1]),
+            &[9.0, 7.0, 4.0, 2.0],
+        ),
     ];
     let g = 1 + (rng(st) * 7.0) as usize;
     (0..g)
