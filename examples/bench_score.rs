@@ -175,6 +175,7 @@ fn main() {
         for _ in 0..10 {
             let w = time_hot(n, warm, |i| match mode.as_str() {
                 "may_beat" => prepared.may_beat(groups(i), ranking_cutoff),
+                "may_beat_quick" => prepared.may_beat_quick(groups(i), ranking_cutoff),
                 _ => prepared.score(cand(i), ranking_cutoff).is_some(),
             });
             println!("{w:.3} µs per candidate");
@@ -226,6 +227,10 @@ fn main() {
         let (w, c, hits) = time(n, |i| prepared.may_beat(groups(i), cutoff));
         println!(
             "  Prepared::may_beat    cutoff {cutoff:>7.3}: {w:6.3} / {c:6.3}  ({hits} may beat)"
+        );
+        let (w, c, hits) = time(n, |i| prepared.may_beat_quick(groups(i), cutoff));
+        println!(
+            "  may_beat_quick        cutoff {cutoff:>7.3}: {w:6.3} / {c:6.3}  ({hits} may beat)"
         );
     }
     // What a ranking would do at that cutoff with may_beat first: the
