@@ -4,6 +4,10 @@
 //!
 //! Depends only on `&[PredictedSignal]` and the observed [`Spectrum`], so it
 //! is tested with hand-built predictions and knows nothing of structures.
+//!
+//! [`score`] is the plain path; a ranking builds one [`Prepared`] per
+//! spectrum and calls [`Prepared::score`] (same result, a fraction of the
+//! cost) and, before multiplicities are predicted, [`Prepared::may_beat`].
 
 pub mod assign;
 pub mod model;
