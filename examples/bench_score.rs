@@ -15,7 +15,27 @@ use isomerank::enumerate::{self, rules::RuleSet};
 use isomerank::predict::{PredictedSignal, Predictor};
 use isomerank::score::{self, GroupShift, Prepared, Scored, ScoringModel};
 use isomerank::spectrum::{integrals, journal, SolventTable};
+use std::alloc::{GlobalAlloc, Layout, System};
+use std::sync::atomic::{AtomicU64, Ordering};
 use std::time::Instant;
+
+/// Counts allocations, to check that scoring allocates only for results.
+struct Counting;
+
+static ALLOCATIONS: AtomicU64 = AtomicU64::new(0);
+
+unsafe impl GlobalAlloc for Counting {
+    unsafe fn alloc(&self, layout: Layout) -> *mut u8 {
+        ALLOCATIONS.fetch_add(1, Ordering::Relaxed);
+        System.alloc(layout)
+    }
+    unsafe fn dealloc(&self, ptr: *mut u8, layout: Layout) {
+        System.dealloc(ptr, layout)
+    }
+}
+
+#[global_allocator]
+static GLOBAL: Counting = Counting;
 
 /// Propiophenone in CDCl3, as in bench_rank (shifts from memory; any C9H10O
 /// list would do).
@@ -181,6 +201,16 @@ fn main() {
             println!("{w:.3} µs per candidate");
         }
         return;
+    }
+    // Allocations (the other threads are idle here).
+    for cutoff in [f64::INFINITY, ranking_cutoff] {
+        let before = ALLOCATIONS.load(Ordering::Relaxed);
+        let mut results = 0;
+        for i in 0..n {
+            results += prepared.score(cand(i), cutoff).is_some() as u64;
+        }
+        let a = ALLOCATIONS.load(Ordering::Relaxed) - before;
+        println!("cutoff {cutoff:.3}: Prepared::score made {a} allocations for {results} results over {n} candidates");
     }
     // Agreement, untimed.
     for cutoff in [f64::INFINITY, ranking_cutoff] {
