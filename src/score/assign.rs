@@ -53,7 +53,53 @@ pub struct Costs {
     pub rel_sigma: f64,
 }
 
+/// The same numbers borrowed: what the search reads. Lets a caller keep the
+/// spectrum-constant arrays once per ranking and the per-candidate ones in
+/// reused buffers.
+#[derive(Clone, Copy)]
+pub struct CostsRef<'c> {
+    pub groups: usize,
+    pub multiplets: usize,
+    pub pair: &'c [f64],
+    pub unassigned: &'c [f64],
+    pub hydrogens: &'c [u32],
+    pub observed_h: &'c [Option<f64>],
+    pub empty: &'c [f64],
+    pub overlap: &'c [f64],
+    pub abs_sigma: f64,
+    pub rel_sigma: f64,
+}
+
 impl Costs {
+    pub fn view(&self) -> CostsRef<'_> {
+        CostsRef {
+            groups: self.groups,
+            multiplets: self.multiplets,
+            pair: &self.pair,
+            unassigned: &self.unassigned,
+            hydrogens: &self.hydrogens,
+            observed_h: &self.observed_h,
+            empty: &self.empty,
+            overlap: &self.overlap,
+            abs_sigma: self.abs_sigma,
+            rel_sigma: self.rel_sigma,
+        }
+    }
+
+    /// Final cost of multiplet j holding k groups with h H.
+    pub fn multiplet(&self, j: usize, h: u32, k: u32) -> f64 {
+        self.view().multiplet(j, h, k)
+    }
+
+    /// Total cost of a complete assignment (group -> multiplet or NONE).
+    pub fn evaluate(&self, choice: &[u16]) -> f64 {
+        let m = self.multiplets;
+        self.view()
+            .evaluate_in(choice, &mut vec![0u32; m], &mut vec![0u32; m])
+    }
+}
+
+impl CostsRef<'_> {
     fn integral(&self, j: usize, h: u32) -> f64 {
         match self.observed_h[j] {
             Some(i) => {
@@ -74,11 +120,10 @@ impl Costs {
         }
     }
 
-    /// Total cost of a complete assignment (group -> multiplet or NONE).
-    pub fn evaluate(&self, choice: &[u16]) -> f64 {
+    /// Total cost of a complete assignment; `h` and `k` are zeroed scratch
+    /// of length `multiplets` (left dirty).
+    fn evaluate_in(&self, choice: &[u16], h: &mut [u32], k: &mut [u32]) -> f64 {
         let m = self.multiplets;
-        let mut h = vec![0u32; m];
-        let mut k = vec![0u32; m];
         let mut total = 0.0;
         for (g, &j) in choice.iter().enumerate() {
             if j == NONE {
@@ -103,39 +148,56 @@ pub struct Solution {
     pub nodes: u64,
 }
 
-struct Search<'a> {
-    c: &'a Costs,
+/// Buffers of one search, kept between calls so that scoring a stream of
+/// candidates allocates nothing once they have grown to the largest size.
+#[derive(Clone, Debug, Default)]
+pub struct Workspace {
+    min_choice: Vec<f64>,
     order: Vec<usize>,
-    /// Options per depth: (separable cost, multiplet or NONE), cheapest first.
-    options: Vec<Vec<(f64, u16)>>,
+    /// Options of the group at depth d: `options[d * (m + 1)..][..m + 1]`.
+    options: Vec<(f64, u16)>,
+    greedy: Vec<u16>,
     suffix_min: Vec<f64>,
     suffix_h: Vec<u32>,
-    /// `suffix_extra[d * m + j]`: least extra cost (over its cheapest option)
-    /// for any group at depth >= d to go to multiplet j.
     suffix_extra: Vec<f64>,
     sigma2: Vec<f64>,
     h: Vec<u32>,
     k: Vec<u32>,
     current: Vec<u16>,
-    best: f64,
-    best_choice: Option<Vec<u16>>,
+    best_choice: Vec<u16>,
     nodes: u64,
 }
 
-/// Find the cheapest assignment whose cost is below `cutoff`
-/// (`f64::INFINITY` for no cutoff). `None` when none is.
-pub fn solve(c: &Costs, cutoff: f64) -> Option<Solution> {
+impl Workspace {
+    /// Per group, the multiplet or [`NONE`] of the last successful
+    /// [`solve_in`].
+    pub fn choice(&self) -> &[u16] {
+        &self.best_choice
+    }
+
+    /// Search nodes of the last [`solve_in`].
+    pub fn nodes(&self) -> u64 {
+        self.nodes
+    }
+}
+
+fn refill<T: Copy>(v: &mut Vec<T>, n: usize, x: T) {
+    v.clear();
+    v.resize(n, x);
+}
+
+/// The root bound: every group on its cheapest option, plus per multiplet the
+/// cheaper of staying empty and the least extra a group pays to go there.
+/// Fills `min_choice` with each group's cheapest option.
+pub fn root_bound(c: &CostsRef, min_choice: &mut Vec<f64>) -> f64 {
     let (g, m) = (c.groups, c.multiplets);
-    // Cheap root bound first: most candidates of a large enumeration are
-    // hopeless and leave here before any sorting or search.
-    let min_choice: Vec<f64> = (0..g)
-        .map(|gi| {
-            c.pair[gi * m..(gi + 1) * m]
-                .iter()
-                .fold(c.unassigned[gi], |a, &b| a.min(b))
-        })
-        .collect();
-    let root = min_choice.iter().sum::<f64>()
+    min_choice.clear();
+    min_choice.extend((0..g).map(|gi| {
+        c.pair[gi * m..(gi + 1) * m]
+            .iter()
+            .fold(c.unassigned[gi], |a, &b| a.min(b))
+    }));
+    min_choice.iter().sum::<f64>()
         + (0..m)
             .map(|j| {
                 let extra = (0..g)
@@ -143,38 +205,130 @@ pub fn solve(c: &Costs, cutoff: f64) -> Option<Solution> {
                     .fold(f64::INFINITY, f64::min);
                 c.empty[j].min(extra)
             })
-            .sum::<f64>();
+            .sum::<f64>()
+}
+
+struct Search<'a> {
+    c: &'a CostsRef<'a>,
+    order: &'a [usize],
+    /// Options per depth: (separable cost, multiplet or NONE), cheapest first.
+    options: &'a [(f64, u16)],
+    stride: usize,
+    suffix_min: &'a [f64],
+    suffix_h: &'a [u32],
+    /// `suffix_extra[d * m + j]`: least extra cost (over its cheapest option)
+    /// for any group at depth >= d to go to multiplet j.
+    suffix_extra: &'a [f64],
+    sigma2: &'a [f64],
+    h: &'a mut [u32],
+    k: &'a mut [u32],
+    current: &'a mut [u16],
+    best: f64,
+    best_choice: &'a mut [u16],
+    found: bool,
+    nodes: u64,
+    /// Existence mode: stop at the first assignment below the cutoff.
+    first_only: bool,
+    /// Give up (set `stop`) beyond this many nodes.
+    max_nodes: u64,
+    stop: bool,
+}
+
+/// Find the cheapest assignment whose cost is below `cutoff`
+/// (`f64::INFINITY` for no cutoff). `None` when none is.
+pub fn solve(c: &Costs, cutoff: f64) -> Option<Solution> {
+    let mut ws = Workspace::default();
+    let cost = solve_in(&c.view(), cutoff, &mut ws)?;
+    Some(Solution {
+        cost,
+        choice: ws.best_choice,
+        nodes: ws.nodes,
+    })
+}
+
+/// [`solve`] in reused buffers: the cost, with the assignment left in
+/// [`Workspace::choice`].
+pub fn solve_in(c: &CostsRef, cutoff: f64, ws: &mut Workspace) -> Option<f64> {
+    match run(c, cutoff, ws, false, u64::MAX) {
+        Outcome::Below(cost) => Some(cost),
+        _ => None,
+    }
+}
+
+/// Whether some assignment may cost less than `cutoff`: the same search,
+/// stopped at the first assignment below the cutoff, and giving up with
+/// `true` ("not ruled out") after `max_nodes` nodes. `false` only when the
+/// whole search found nothing below the cutoff.
+pub fn may_reach_below(c: &CostsRef, cutoff: f64, ws: &mut Workspace, max_nodes: u64) -> bool {
+    !matches!(run(c, cutoff, ws, true, max_nodes), Outcome::Nothing)
+}
+
+enum Outcome {
+    /// The best (or, in existence mode, the first) cost below the cutoff.
+    Below(f64),
+    Nothing,
+    GaveUp,
+}
+
+fn run(c: &CostsRef, cutoff: f64, ws: &mut Workspace, first_only: bool, max_nodes: u64) -> Outcome {
+    let (g, m) = (c.groups, c.multiplets);
+    ws.nodes = 0;
+    // Cheap root bound first: most candidates of a large enumeration are
+    // hopeless and leave here before any sorting or search.
+    let root = root_bound(c, &mut ws.min_choice);
     if root >= cutoff {
-        return None;
+        return Outcome::Nothing;
     }
-    // Larger groups first: they decide the integrals; ties by index.
-    let mut order: Vec<usize> = (0..g).collect();
-    order.sort_by(|&a, &b| c.hydrogens[b].cmp(&c.hydrogens[a]).then(a.cmp(&b)));
+    let Workspace {
+        min_choice,
+        order,
+        options,
+        greedy,
+        suffix_min,
+        suffix_h,
+        suffix_extra,
+        sigma2,
+        h,
+        k,
+        current,
+        best_choice,
+        nodes,
+    } = ws;
+    // Larger groups first: they decide the integrals; ties by index. The
+    // comparison is a total order without ties, so the unstable sort (no
+    // allocation) gives the same order as a stable one.
+    order.clear();
+    order.extend(0..g);
+    order.sort_unstable_by(|&a, &b| c.hydrogens[b].cmp(&c.hydrogens[a]).then(a.cmp(&b)));
     // Separable options of each group (in search order), cheapest first.
-    let options: Vec<Vec<(f64, u16)>> = order
-        .iter()
-        .map(|&gi| {
-            let mut v: Vec<(f64, u16)> = (0..m)
-                .map(|j| (c.pair[gi * m + j], j as u16))
-                .chain(std::iter::once((c.unassigned[gi], NONE)))
-                .collect();
-            v.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
-            v
-        })
-        .collect();
-    // Greedy incumbent: each group on its cheapest option.
-    let mut greedy = vec![NONE; g];
-    for (d, &gi) in order.iter().enumerate() {
-        greedy[gi] = options[d][0].1;
+    let stride = m + 1;
+    options.clear();
+    for &gi in order.iter() {
+        let from = options.len();
+        options.extend((0..m).map(|j| (c.pair[gi * m + j], j as u16)));
+        options.push((c.unassigned[gi], NONE));
+        options[from..].sort_unstable_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
     }
-    let greedy_cost = c.evaluate(&greedy);
-    let mut suffix_min = vec![0.0; g + 1];
-    let mut suffix_h = vec![0u32; g + 1];
+    // Greedy incumbent: each group on its cheapest option.
+    refill(greedy, g, NONE);
+    for (d, &gi) in order.iter().enumerate() {
+        greedy[gi] = options[d * stride].1;
+    }
+    refill(h, m, 0);
+    refill(k, m, 0);
+    let greedy_cost = c.evaluate_in(greedy, h, k);
+    if first_only && greedy_cost < cutoff {
+        return Outcome::Below(greedy_cost);
+    }
+    refill(h, m, 0);
+    refill(k, m, 0);
+    refill(suffix_min, g + 1, 0.0);
+    refill(suffix_h, g + 1, 0);
     for d in (0..g).rev() {
-        suffix_min[d] = suffix_min[d + 1] + options[d][0].0;
+        suffix_min[d] = suffix_min[d + 1] + options[d * stride].0;
         suffix_h[d] = suffix_h[d + 1] + c.hydrogens[order[d]];
     }
-    let mut suffix_extra = vec![f64::INFINITY; (g + 1) * m];
+    refill(suffix_extra, (g + 1) * m, f64::INFINITY);
     for d in (0..g).rev() {
         let gi = order[d];
         for j in 0..m {
@@ -182,43 +336,52 @@ pub fn solve(c: &Costs, cutoff: f64) -> Option<Solution> {
             suffix_extra[d * m + j] = suffix_extra[(d + 1) * m + j].min(extra);
         }
     }
-    let sigma2 = (0..m)
-        .map(|j| {
-            let i = c.observed_h[j].unwrap_or(0.0);
-            let s = c.abs_sigma + c.rel_sigma * i;
-            s * s
-        })
-        .collect();
-    let (best, best_choice) = if greedy_cost < cutoff {
-        (greedy_cost, Some(greedy))
+    sigma2.clear();
+    sigma2.extend((0..m).map(|j| {
+        let i = c.observed_h[j].unwrap_or(0.0);
+        let s = c.abs_sigma + c.rel_sigma * i;
+        s * s
+    }));
+    refill(best_choice, g, NONE);
+    let (best, found) = if greedy_cost < cutoff {
+        best_choice.copy_from_slice(greedy);
+        (greedy_cost, true)
     } else {
-        (cutoff, None)
+        (cutoff, false)
     };
+    refill(current, g, NONE);
     let mut s = Search {
         c,
         order,
         options,
+        stride,
         suffix_min,
         suffix_h,
         suffix_extra,
         sigma2,
-        h: vec![0; m],
-        k: vec![0; m],
-        current: vec![NONE; g],
+        h,
+        k,
+        current,
         best,
         best_choice,
+        found,
         nodes: 0,
+        first_only,
+        max_nodes,
+        stop: false,
     };
     s.dfs(0, 0.0);
-    let nodes = s.nodes;
-    s.best_choice.map(|choice| Solution {
-        cost: s.best,
-        choice,
-        nodes,
-    })
+    *nodes = s.nodes;
+    if s.found {
+        Outcome::Below(s.best)
+    } else if s.stop {
+        Outcome::GaveUp
+    } else {
+        Outcome::Nothing
+    }
 }
 
-impl<'a> Search<'a> {
+impl Search<'_> {
     /// Lower bound on the multiplet terms of any completion when the groups
     /// from depth `next` on are still to place.
     fn multiplet_bound(&self, next: usize) -> f64 {
@@ -254,6 +417,10 @@ impl<'a> Search<'a> {
 
     fn dfs(&mut self, d: usize, partial: f64) {
         self.nodes += 1;
+        if self.nodes > self.max_nodes {
+            self.stop = true;
+            return;
+        }
         let c = self.c;
         if d == self.order.len() {
             let total = partial
@@ -262,18 +429,18 @@ impl<'a> Search<'a> {
                     .sum::<f64>();
             if total < self.best {
                 self.best = total;
-                let mut choice = vec![NONE; self.order.len()];
+                self.found = true;
                 for (depth, &g) in self.order.iter().enumerate() {
-                    choice[g] = self.current[depth];
+                    self.best_choice[g] = self.current[depth];
                 }
-                self.best_choice = Some(choice);
+                self.stop = self.first_only;
             }
             return;
         }
         let g = self.order[d];
         let hg = c.hydrogens[g];
-        for oi in 0..self.options[d].len() {
-            let (cost, j) = self.options[d][oi];
+        for oi in 0..self.stride {
+            let (cost, j) = self.options[d * self.stride + oi];
             let base = partial + cost + self.suffix_min[d + 1];
             if base >= self.best {
                 // Options are sorted: every later one is at least as dear.
@@ -286,6 +453,9 @@ impl<'a> Search<'a> {
             if base + self.multiplet_bound(d + 1) < self.best {
                 self.current[d] = j;
                 self.dfs(d + 1, partial + cost);
+                if self.stop {
+                    return;
+                }
             }
             if j != NONE {
                 self.h[j as usize] -= hg;
@@ -298,6 +468,7 @@ impl<'a> Search<'a> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::score::testgen::rng;
 
     /// Exhaustive reference: every one of (M+1)^G assignments.
     fn brute(c: &Costs) -> f64 {
@@ -314,14 +485,6 @@ mod tests {
             best = best.min(c.evaluate(&choice));
         }
         best
-    }
-
-    /// Small deterministic pseudo-random numbers (xorshift) for the test.
-    fn rng(state: &mut u64) -> f64 {
-        *state ^= *state << 13;
-        *state ^= *state >> 7;
-        *state ^= *state << 17;
-        (*state % 10_000) as f64 / 10_000.0
     }
 
     #[test]
@@ -353,6 +516,11 @@ mod tests {
             assert!((c.evaluate(&s.choice) - s.cost).abs() < 1e-9);
             // With a cutoff below the optimum nothing is returned.
             assert!(solve(&c, exact - 1e-6).is_none());
+            // The existence search agrees, and gives up only with "maybe".
+            let mut ws = Workspace::default();
+            assert!(may_reach_below(&c.view(), exact + 1e-6, &mut ws, u64::MAX));
+            assert!(!may_reach_below(&c.view(), exact - 1e-6, &mut ws, u64::MAX));
+            assert!(may_reach_below(&c.view(), exact + 1e-6, &mut ws, 1));
         }
     }
 

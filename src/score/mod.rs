@@ -4,11 +4,20 @@
 //!
 //! Depends only on `&[PredictedSignal]` and the observed [`Spectrum`], so it
 //! is tested with hand-built predictions and knows nothing of structures.
+//!
+//! [`score`] is the plain path; a ranking builds one [`Prepared`] per
+//! spectrum and calls [`Prepared::score`] (same result, a fraction of the
+//! cost) and, before multiplicities are predicted, [`Prepared::may_beat`].
 
 pub mod assign;
 pub mod model;
+mod pattern_rows;
+pub mod prepared;
+#[cfg(test)]
+mod testgen;
 
 pub use model::{PairCost, ScoringModel};
+pub use prepared::{GroupShift, Prepared};
 
 use crate::predict::PredictedSignal;
 use crate::spectrum::Spectrum;
@@ -28,8 +37,7 @@ pub fn costs(predicted: &[PredictedSignal], spectrum: &Spectrum, model: &Scoring
     let m = spectrum.multiplets.len();
     let mut pair = Vec::with_capacity(predicted.len() * m);
     for p in predicted {
-        let sigma = p.sigma.max(model.shift.min_sigma);
-        let ln_sigma = (sigma / model.shift.min_sigma).ln();
+        let (sigma, ln_sigma) = model.shift_sigma(p.sigma);
         for o in &spectrum.multiplets {
             pair.push(model.pair_cost_with(p, o, sigma, ln_sigma).total());
         }
@@ -58,6 +66,9 @@ pub fn costs(predicted: &[PredictedSignal], spectrum: &Spectrum, model: &Scoring
 
 /// Score a candidate exactly. Returns `None` when no assignment costs less
 /// than `cutoff` (pass `f64::INFINITY` to always get the optimum).
+///
+/// The plain path (fresh arrays per call); a ranking should build one
+/// [`Prepared`] and call [`Prepared::score`], which gives the same result.
 pub fn score(
     predicted: &[PredictedSignal],
     spectrum: &Spectrum,

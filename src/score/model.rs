@@ -113,26 +113,26 @@ impl ScoringModel {
     pub fn from_toml(text: &str) -> Result<ScoringModel> {
         let f: ModelFile = toml::from_str(text)
             .map_err(|e| Error::input(format!("scoring table: {}", e.message())))?;
+        validate(&f)?;
         let mut table = Vec::new();
-        for row in &f.compatibility {
+        for (n, row) in f.compatibility.iter().enumerate() {
+            let at = format!("scoring table: [[compatibility]] row {}", n + 1);
             let p = ObservedPattern::parse(&row.predicted).ok_or_else(|| {
                 Error::input(format!(
-                    "scoring table: unknown pattern \"{}\"",
+                    "{at}: unknown predicted pattern \"{}\"",
                     row.predicted
                 ))
             })?;
             let o = ObservedPattern::parse(&row.observed).ok_or_else(|| {
                 Error::input(format!(
-                    "scoring table: unknown pattern \"{}\"",
+                    "{at}: unknown observed pattern \"{}\"",
                     row.observed
                 ))
             })?;
-            if !(row.probability > 0.0 && row.probability <= 1.0) {
-                return Err(Error::input(format!(
-                    "scoring table: probability {} for {} -> {} must be in (0, 1]",
-                    row.probability, row.predicted, row.observed
-                )));
-            }
+            check_probability(
+                &format!("{at} ({} -> {}): probability", row.predicted, row.observed),
+                row.probability,
+            )?;
             table.push((
                 code(&p.multiplicity),
                 code(&o.multiplicity),
@@ -259,8 +259,8 @@ impl ScoringModel {
     /// Cost of assigning `signal` to `obs` apart from the integral: shift,
     /// multiplicity and coupling constants.
     pub fn pair_cost(&self, signal: &PredictedSignal, obs: &ObservedMultiplet) -> PairCost {
-        let sigma = signal.sigma.max(self.shift.min_sigma);
-        self.pair_cost_with(signal, obs, sigma, (sigma / self.shift.min_sigma).ln())
+        let (sigma, ln_sigma) = self.shift_sigma(signal.sigma);
+        self.pair_cost_with(signal, obs, sigma, ln_sigma)
     }
 
     /// [`ScoringModel::pair_cost`] with the group's sigma and its log term
@@ -272,31 +272,47 @@ impl ScoringModel {
         sigma: f64,
         ln_sigma: f64,
     ) -> PairCost {
-        let d = obs.distance(signal.shift);
-        let shift = d * d / (2.0 * sigma * sigma) + ln_sigma;
-        let multiplicity = -self.compatibility(signal, &obs.pattern).ln();
+        PairCost {
+            shift: shift_term(obs.distance(signal.shift), sigma, ln_sigma),
+            multiplicity: -self.compatibility(signal, &obs.pattern).ln(),
+            coupling: self.coupling_cost(&signal.j_hz, &obs.j_hz),
+        }
+    }
+
+    /// The group's shift sigma after the floor, and its normalisation term
+    /// ln(sigma / min_sigma) of the shift cost.
+    pub fn shift_sigma(&self, predicted_sigma: f64) -> (f64, f64) {
+        let sigma = predicted_sigma.max(self.shift.min_sigma);
+        (sigma, (sigma / self.shift.min_sigma).ln())
+    }
+
+    /// Coupling-constant term: reported J matched with predicted |J| in
+    /// order (both largest first), each squared deviation capped.
+    pub fn coupling_cost(&self, predicted_j: &[f64], observed_j: &[f64]) -> f64 {
         let mut coupling = 0.0;
-        if !obs.j_hz.is_empty() && !signal.j_hz.is_empty() {
+        if !observed_j.is_empty() && !predicted_j.is_empty() {
             let c = &self.coupling;
-            for (o, p) in obs.j_hz.iter().zip(&signal.j_hz) {
+            for (o, p) in observed_j.iter().zip(predicted_j) {
                 let dj = o - p.abs();
                 coupling += (dj * dj / (2.0 * c.sigma_hz * c.sigma_hz)).min(c.cap);
             }
         }
-        PairCost {
-            shift,
-            multiplicity,
-            coupling,
-        }
+        coupling
     }
 
     /// Cost of leaving `signal` without an observed multiplet.
     pub fn unassigned_cost(&self, signal: &PredictedSignal) -> f64 {
+        self.unassigned_cost_of(signal.hydrogens, signal.exchangeable)
+    }
+
+    /// [`ScoringModel::unassigned_cost`] from the H count and the
+    /// exchangeable flag alone.
+    pub fn unassigned_cost_of(&self, hydrogens: u32, exchangeable: bool) -> f64 {
         let p = &self.penalties;
-        if signal.exchangeable {
+        if exchangeable {
             p.unassigned_exchangeable
         } else {
-            p.unassigned_base + p.unassigned_per_h * signal.hydrogens as f64
+            p.unassigned_base + p.unassigned_per_h * hydrogens as f64
         }
     }
 
@@ -336,6 +352,98 @@ impl ScoringModel {
         };
         integral + overlap * (k.saturating_sub(1)) as f64
     }
+}
+
+/// Check the numbers of a model file before use.
+///
+/// Why these limits: the search (assign.rs) and the early rejections of
+/// `Prepared` (prepared.rs) prune with lower bounds that assume every cost
+/// term is >= 0, so that adding a group or a term never lowers a cost. A
+/// multiplicity cost -ln p is >= 0 only for p <= 1, and p = 0 would be an
+/// infinite cost, so every probability (table rows, the defaults and the
+/// broad factors, which multiply them) must lie in (0, 1]. Penalties, the J
+/// cap and the thresholds must be >= 0; a sigma divides and must be > 0
+/// (the relative integral sigma only adds and may be 0). Non-finite values
+/// (toml allows `inf` and `nan`) are refused everywhere.
+fn validate(f: &ModelFile) -> Result<()> {
+    check_positive("[shift] min_sigma", f.shift.min_sigma)?;
+    check_positive("[integral] abs_sigma", f.integral.abs_sigma)?;
+    check_non_negative("[integral] rel_sigma", f.integral.rel_sigma)?;
+    let p = &f.penalties;
+    for (name, v) in [
+        ("unexplained_base", p.unexplained_base),
+        ("unexplained_per_h", p.unexplained_per_h),
+        ("unassigned_base", p.unassigned_base),
+        ("unassigned_per_h", p.unassigned_per_h),
+        ("unassigned_exchangeable", p.unassigned_exchangeable),
+        ("solvent_set_aside", p.solvent_set_aside),
+        ("overlap_in_m", p.overlap_in_m),
+        ("overlap_other", p.overlap_other),
+    ] {
+        check_non_negative(&format!("[penalties] {name}"), v)?;
+    }
+    let c = &f.coupling;
+    check_positive("[coupling] sigma_hz", c.sigma_hz)?;
+    check_non_negative("[coupling] cap", c.cap)?;
+    check_non_negative("[coupling] small_j_hz", c.small_j_hz)?;
+    check_non_negative("[coupling] similar_j_hz", c.similar_j_hz)?;
+    let m = &f.multiplicity;
+    for (name, v) in [
+        ("same", m.same),
+        ("unresolved", m.unresolved),
+        ("merged", m.merged),
+        ("as_m", m.as_m),
+        ("predicted_m_as_m", m.predicted_m_as_m),
+        ("predicted_m_as_other", m.predicted_m_as_other),
+        ("other", m.other),
+        ("broad_exchangeable", m.broad_exchangeable),
+        ("broad_other", m.broad_other),
+    ] {
+        check_probability(&format!("scoring table: [multiplicity] {name}"), v)?;
+    }
+    check_non_negative(
+        "[ranking] indistinguishable_margin",
+        f.ranking.indistinguishable_margin,
+    )?;
+    check_non_negative("[ranking] skip_margin", f.ranking.skip_margin)?;
+    Ok(())
+}
+
+/// `what` names the row and field, e.g. "scoring table: [multiplicity] other".
+fn check_probability(what: &str, v: f64) -> Result<()> {
+    if v > 0.0 && v <= 1.0 {
+        Ok(())
+    } else {
+        Err(Error::input(format!(
+            "{what} = {v}: a probability must be in (0, 1] (its cost is -ln p, which must be >= 0 and finite)"
+        )))
+    }
+}
+
+fn check_non_negative(field: &str, v: f64) -> Result<()> {
+    if v >= 0.0 && v.is_finite() {
+        Ok(())
+    } else {
+        Err(Error::input(format!(
+            "scoring table: {field} = {v}: must be a finite number >= 0 (the search's lower bounds assume no cost term is negative)"
+        )))
+    }
+}
+
+fn check_positive(field: &str, v: f64) -> Result<()> {
+    if v > 0.0 && v.is_finite() {
+        Ok(())
+    } else {
+        Err(Error::input(format!(
+            "scoring table: {field} = {v}: must be a finite number > 0 (it divides a deviation)"
+        )))
+    }
+}
+
+/// Shift term of a pair: d^2 / (2 sigma^2) + ln(sigma / min_sigma), with the
+/// log term passed in (computed once per group).
+pub fn shift_term(distance: f64, sigma: f64, ln_sigma: f64) -> f64 {
+    distance * distance / (2.0 * sigma * sigma) + ln_sigma
 }
 
 /// The three per-pair terms, kept apart for `--explain`.
@@ -405,5 +513,62 @@ mod tests {
         oh.exchangeable = true;
         let ch = sig(Multiplicity::Singlet, vec![]);
         assert!(m.compatibility(&oh, &obs("br s")) > m.compatibility(&ch, &obs("br s")));
+    }
+
+    /// The embedded table with the first `from` replaced by `to`.
+    fn edited(from: &str, to: &str) -> String {
+        assert!(SCORING_TOML.contains(from), "{from}");
+        SCORING_TOML.replacen(from, to, 1)
+    }
+
+    fn error(text: &str) -> String {
+        match ScoringModel::from_toml(text) {
+            Ok(_) => panic!("accepted"),
+            Err(e) => {
+                assert_eq!(e.exit_code(), 2);
+                e.to_string()
+            }
+        }
+    }
+
+    #[test]
+    fn probabilities_outside_zero_one_are_refused() {
+        // A probability lies in (0, 1] (definition); -ln p >= 0 needs p <= 1.
+        let e = error(&edited("other = 0.004", "other = 1.5"));
+        assert!(e.contains("[multiplicity] other = 1.5"), "{e}");
+        assert!(e.contains("(0, 1]"), "{e}");
+        let e = error(&edited("broad_other = 0.3", "broad_other = 0"));
+        assert!(e.contains("[multiplicity] broad_other = 0"), "{e}");
+        // The first [[compatibility]] row is sext -> m.
+        let e = error(&edited("probability = 0.5", "probability = -0.2"));
+        assert!(
+            e.contains("[[compatibility]] row 1 (sext -> m): probability = -0.2"),
+            "{e}"
+        );
+        let e = error(&edited("probability = 0.5", "probability = nan"));
+        assert!(e.contains("row 1"), "{e}");
+    }
+
+    #[test]
+    fn negative_penalties_caps_and_sigmas_are_refused() {
+        let e = error(&edited("overlap_in_m = 0.3", "overlap_in_m = -0.3"));
+        assert!(e.contains("[penalties] overlap_in_m = -0.3"), "{e}");
+        assert!(e.contains(">= 0"), "{e}");
+        let e = error(&edited("cap = 4.5", "cap = -1.0"));
+        assert!(e.contains("[coupling] cap = -1"), "{e}");
+        let e = error(&edited("sigma_hz = 1.5", "sigma_hz = 0.0"));
+        assert!(e.contains("[coupling] sigma_hz = 0"), "{e}");
+        assert!(e.contains("> 0"), "{e}");
+        let e = error(&edited("min_sigma = 0.05", "min_sigma = -0.05"));
+        assert!(e.contains("[shift] min_sigma = -0.05"), "{e}");
+        let e = error(&edited("rel_sigma = 0.06", "rel_sigma = -0.01"));
+        assert!(e.contains("[integral] rel_sigma = -0.01"), "{e}");
+        let e = error(&edited("unassigned_base = 3.0", "unassigned_base = inf"));
+        assert!(e.contains("[penalties] unassigned_base = inf"), "{e}");
+        // Zero is allowed where it is a cost, and the embedded table loads.
+        assert!(
+            ScoringModel::from_toml(&edited("overlap_in_m = 0.3", "overlap_in_m = 0.0")).is_ok()
+        );
+        assert!(ScoringModel::from_toml(SCORING_TOML).is_ok());
     }
 }
