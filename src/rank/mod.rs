@@ -16,7 +16,7 @@ use crate::chem::{Formula, Molecule};
 use crate::enumerate;
 use crate::error::{Error, Result};
 use crate::predict::{PredictedSignal, ShiftEstimate};
-use crate::score::{self, Scored, ScoringModel};
+use crate::score::{Prepared, Scored, ScoringModel};
 use crate::spectrum::Spectrum;
 use rayon::prelude::*;
 use topk::{Collector, Outcome};
@@ -146,56 +146,31 @@ struct Payload {
 
 /// Predict and score one structure; `None` when it cannot beat `cutoff`.
 /// The prediction stops after the shifts when even a score without its
-/// multiplicity and J terms (never negative) cannot beat `cutoff`.
+/// multiplicity and J terms (never negative) cannot beat `cutoff`
+/// ([`score::Prepared::may_beat`]).
 fn evaluate(
     molecule: &Molecule,
     symmetry: Option<&[[u8; 64]]>,
     steps: &Steps,
-    settings: &Settings,
+    prepared: &Prepared,
     cutoff: f64,
 ) -> Option<(Vec<PredictedSignal>, Scored)> {
-    let mut gate =
-        |est: &[ShiftEstimate]| cutoff == f64::INFINITY || interim_may_beat(est, settings, cutoff);
+    let mut gate = |est: &[ShiftEstimate]| prepared.may_beat(est, cutoff);
     let predicted = (steps.predict)(molecule, symmetry, &mut gate)?;
-    let scored = score::score(&predicted, settings.spectrum, settings.model, cutoff)?;
+    let scored = prepared.score(&predicted, cutoff)?;
     Some((predicted, scored))
-}
-
-fn interim_may_beat(est: &[ShiftEstimate], settings: &Settings, cutoff: f64) -> bool {
-    let sp = settings.spectrum;
-    let model = settings.model;
-    let fake: Vec<PredictedSignal> = est
-        .iter()
-        .map(|e| PredictedSignal {
-            shift: e.shift,
-            sigma: e.sigma,
-            hydrogens: e.hydrogens,
-            multiplicity: crate::predict::Multiplicity::Singlet,
-            j_hz: Vec::new(),
-            atoms: Vec::new(),
-            exchangeable: e.exchangeable,
-            notes: Vec::new(),
-        })
-        .collect();
-    let mut c = score::costs(&fake, sp, model);
-    let m = c.multiplets;
-    for (g, p) in fake.iter().enumerate() {
-        for (j, o) in sp.multiplets.iter().enumerate() {
-            c.pair[g * m + j] = model.pair_cost(p, o).shift;
-        }
-    }
-    score::assign::solve(&c, cutoff).is_some()
 }
 
 /// Rank a shortlist (every item must already have the formula).
 pub fn rank_shortlist(items: Vec<ShortlistItem>, steps: &Steps, settings: &Settings) -> Ranking {
     let mut collector = Collector::new(settings.top, settings.model.ranking.skip_margin);
+    let prepared = Prepared::new(settings.spectrum, settings.model);
     // A shortlist is small: score everything exactly (no cutoff), in parallel,
     // then collect in input order.
     let outcomes: Vec<Outcome<Box<Payload>>> = items
         .into_par_iter()
         .map(
-            |it| match evaluate(&it.molecule, None, steps, settings, f64::INFINITY) {
+            |it| match evaluate(&it.molecule, None, steps, &prepared, f64::INFINITY) {
                 Some((predicted, scored)) => Outcome::Scored {
                     cost: scored.cost,
                     key: it.smiles.clone(),
@@ -229,6 +204,7 @@ pub fn rank_formula(
     progress: &mut ProgressFn,
 ) -> Result<Ranking> {
     let mut collector = Collector::new(settings.top, settings.model.ranking.skip_margin);
+    let prepared = Prepared::new(settings.spectrum, settings.model);
     let cutoff = collector.cutoff();
     // Results wait in the generator's chunk buffer until emitted in order,
     // so they are kept small: a skipped candidate is no result at all, a
@@ -248,7 +224,7 @@ pub fn rank_formula(
                 &molecule,
                 iso.skeleton_automorphisms(),
                 steps,
-                settings,
+                &prepared,
                 limit,
             ) {
                 Some((_, scored))

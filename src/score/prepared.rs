@@ -40,14 +40,9 @@ fn clears(bound: f64, cutoff: f64) -> bool {
 }
 
 /// What [`Prepared::may_beat`] needs of a group before its multiplicity is
-/// known.
-#[derive(Clone, Copy, Debug)]
-pub struct GroupShift {
-    pub shift: f64,
-    pub sigma: f64,
-    pub hydrogens: u32,
-    pub exchangeable: bool,
-}
+/// known: the predictor's own record of that step (shift, sigma, H count,
+/// exchangeable), so a ranking passes the predictor's list straight in.
+pub use crate::predict::ShiftEstimate as GroupShift;
 
 /// The spectrum- and model-constant part of scoring, built once per ranking
 /// and shared by all threads.
