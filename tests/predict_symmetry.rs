@@ -144,9 +144,9 @@ fn renumbered(mol: &isomerank::chem::Molecule, mut seed: u64) -> isomerank::chem
     out
 }
 
-/// The ranking predicts from the generator's list of skeleton automorphisms
-/// (no canonical labelling); `predict` on a parsed structure labels it
-/// canonically. Both must give the same multiplet list for every isomer,
+/// The ranking predicts from the generator's compact isomer and its list of
+/// skeleton automorphisms (no molecule, no canonical labelling); `predict`
+/// on a molecule labels it canonically. Both must give the same multiplet list for every isomer,
 /// and the same as for the structure with its atoms renumbered (same bonds,
 /// same Kekulé form): a prediction may not depend on the atom order. Reference: the canonical-labelling path, itself
 /// checked against RDKit above. Formulas with N and S as well as C, H, O,
@@ -167,7 +167,7 @@ fn generator_symmetry_gives_the_same_prediction_as_a_canonical_labelling() {
                 let mol = iso.molecule();
                 let auts = iso.skeleton_automorphisms();
                 let fast = predictor
-                    .predict_gated_here(&mol, &opts, auts, &mut |_| true)
+                    .predict_gated_here(iso, &opts, auts, &mut |_| true)
                     .unwrap()
                     .unwrap();
                 let plain = predictor.predict(&mol, &opts);

@@ -13,4 +13,4 @@ pub mod smiles;
 
 pub use element::Element;
 pub use formula::Formula;
-pub use molecule::{Atom, Bond, Molecule};
+pub use molecule::{Atom, Bond, HeavyAtoms, Molecule};

@@ -23,6 +23,41 @@ pub struct Bond {
     pub order: u8,
 }
 
+/// Read access to a heavy-atom graph with implicit hydrogens: what
+/// prediction needs of a structure. [`Molecule`] has it, and so does the
+/// generator's compact isomer (`enumerate::Isomer`), so that a ranking can
+/// predict every candidate without building a molecule for it.
+pub trait HeavyAtoms {
+    fn atom_count(&self) -> usize;
+    fn element_of(&self, i: usize) -> Element;
+    fn hydrogens_of(&self, i: usize) -> u8;
+    /// Call `f(neighbour, bond order)` for each neighbour of atom `i`.
+    fn each_neighbour(&self, i: usize, f: &mut dyn FnMut(usize, u8));
+    /// The neighbours of atom `i` as one bitset per bond order (single,
+    /// double, triple), when the graph stores them so (then this is the
+    /// cheap way to read them; atoms 0-63 only).
+    fn neighbour_masks(&self, _i: usize) -> Option<[u64; 3]> {
+        None
+    }
+}
+
+impl HeavyAtoms for Molecule {
+    fn atom_count(&self) -> usize {
+        self.graph.node_count()
+    }
+    fn element_of(&self, i: usize) -> Element {
+        self.atom(i).element
+    }
+    fn hydrogens_of(&self, i: usize) -> u8 {
+        self.atom(i).hydrogens
+    }
+    fn each_neighbour(&self, i: usize, f: &mut dyn FnMut(usize, u8)) {
+        for (j, o) in self.neighbours(i) {
+            f(j, o);
+        }
+    }
+}
+
 /// A neutral molecule: heavy atoms as nodes, bonds as edges.
 #[derive(Clone, Debug, Default)]
 pub struct Molecule {

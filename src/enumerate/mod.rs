@@ -147,6 +147,27 @@ impl Isomer<'_> {
     }
 }
 
+impl crate::chem::HeavyAtoms for Isomer<'_> {
+    fn atom_count(&self) -> usize {
+        self.node.n
+    }
+    fn element_of(&self, i: usize) -> Element {
+        self.element(i)
+    }
+    fn hydrogens_of(&self, i: usize) -> u8 {
+        self.node.free[i]
+    }
+    fn each_neighbour(&self, i: usize, f: &mut dyn FnMut(usize, u8)) {
+        for j in generator::bits(self.node.nb[i]) {
+            f(j, self.node.order(i, j));
+        }
+    }
+    fn neighbour_masks(&self, i: usize) -> Option<[u64; 3]> {
+        let adj = &self.node.g.adj;
+        Some([adj[0][i], adj[1][i], adj[2][i]])
+    }
+}
+
 /// The generation problems for a formula: one per assignment of valences to
 /// the S and P atoms (just one with standard valences).
 pub fn problems(formula: &Formula, opts: &Options) -> Result<Vec<Problem>> {

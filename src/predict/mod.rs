@@ -47,7 +47,7 @@ pub use library::Library;
 pub use signal::{Multiplicity, PredictedSignal};
 
 use crate::chem::canon::{CanonGraph, Canonizer};
-use crate::chem::{Element, Molecule};
+use crate::chem::{Element, HeavyAtoms, Molecule};
 use crate::error::{Error, Result};
 use std::cell::RefCell;
 use std::path::Path;
@@ -207,7 +207,7 @@ impl Predictor {
     /// vouches that the list is the whole group; `None` computes it.
     pub fn predict_gated(
         &self,
-        mol: &Molecule,
+        mol: &(impl HeavyAtoms + ?Sized),
         opts: &PredictOptions,
         symmetry: Option<&[[u8; 64]]>,
         scratch: &mut Scratch,
@@ -244,7 +244,7 @@ impl Predictor {
     /// [`Predictor::predict_gated`] with this thread's working storage.
     pub fn predict_gated_here(
         &self,
-        mol: &Molecule,
+        mol: &(impl HeavyAtoms + ?Sized),
         opts: &PredictOptions,
         symmetry: Option<&[[u8; 64]]>,
         gate: &mut dyn FnMut(&[ShiftEstimate]) -> bool,

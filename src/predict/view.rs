@@ -17,7 +17,7 @@
 //!   ring or to an aromatic 6-ring atom, and the fifth is O, S, or N with
 //!   three single bonds (furan, thiophene, pyrrole, azoles, indole).
 
-use crate::chem::{Element, Molecule};
+use crate::chem::{Element, HeavyAtoms, Molecule};
 
 /// Largest molecule the view (and the canonical labelling behind it) holds.
 pub const MAX_ATOMS: usize = 64;
@@ -107,7 +107,7 @@ impl View {
 
     /// Refill this view for `mol` (reusing the storage: no allocation, and
     /// only the first n entries of each table are written).
-    pub fn fill(&mut self, mol: &Molecule) -> Result<(), String> {
+    pub fn fill(&mut self, mol: &(impl HeavyAtoms + ?Sized)) -> Result<(), String> {
         let n = mol.atom_count();
         if n > MAX_ATOMS {
             return Err(format!(
@@ -125,28 +125,56 @@ impl View {
         }
         let mut edges = 0usize;
         for i in 0..n {
-            let a = mol.atom(i);
-            if a.element == Element::H {
+            let element = mol.element_of(i);
+            if element == Element::H {
                 return Err(format!(
                     "atom {} is an explicit hydrogen; hydrogens must be implicit counts",
                     i + 1
                 ));
             }
-            v.element[i] = a.element;
-            v.h[i] = a.hydrogens;
-            if a.element != Element::C {
+            v.element[i] = element;
+            v.h[i] = mol.hydrogens_of(i);
+            if element != Element::C {
                 v.hetero |= 1u64 << i;
             }
-            for (j, order) in mol.neighbours(i) {
+            if let Some(masks) = mol.neighbour_masks(i) {
+                // Bitsets per bond order: no callback per neighbour.
+                for (l, &m) in masks.iter().enumerate() {
+                    for j in bits(m) {
+                        let d = v.deg[i] as usize;
+                        if d == MAX_DEGREE || j >= n {
+                            return Err(format!(
+                                "atom {} has more than {MAX_DEGREE} neighbours or a bond out of range",
+                                i + 1
+                            ));
+                        }
+                        let order = l as u8 + 1;
+                        v.nbr[i][d] = j as u8;
+                        v.order[i][d] = order;
+                        v.bond[i][d] = order;
+                        v.deg[i] += 1;
+                        v.adj[i] |= 1u64 << j;
+                        edges += 1;
+                    }
+                }
+                continue;
+            }
+            let mut bad: Option<String> = None;
+            mol.each_neighbour(i, &mut |j, order| {
                 let d = v.deg[i] as usize;
+                if bad.is_some() {
+                    return;
+                }
                 if d == MAX_DEGREE {
-                    return Err(format!(
+                    bad = Some(format!(
                         "atom {} has more than {MAX_DEGREE} neighbours",
                         i + 1
                     ));
+                    return;
                 }
-                if !(1..=3).contains(&order) {
-                    return Err(format!("bond {}-{} has order {order}", i + 1, j + 1));
+                if !(1..=3).contains(&order) || j >= n {
+                    bad = Some(format!("bond {}-{} has order {order}", i + 1, j + 1));
+                    return;
                 }
                 v.nbr[i][d] = j as u8;
                 v.order[i][d] = order;
@@ -154,6 +182,9 @@ impl View {
                 v.deg[i] += 1;
                 v.adj[i] |= 1u64 << j;
                 edges += 1;
+            });
+            if let Some(e) = bad {
+                return Err(e);
             }
         }
         let edges = edges / 2;

@@ -12,7 +12,7 @@ pub mod evidence;
 pub mod groups;
 pub mod topk;
 
-use crate::chem::{Formula, Molecule};
+use crate::chem::{Formula, HeavyAtoms, Molecule};
 use crate::enumerate;
 use crate::error::{Error, Result};
 use crate::predict::{PredictedSignal, ShiftEstimate};
@@ -26,7 +26,7 @@ use topk::{Collector, Outcome};
 /// automorphisms when the generator has them, and a gate that sees the
 /// groups' shifts first and may stop the prediction (`None` back).
 pub type PredictFn<'a> = dyn Fn(
-        &Molecule,
+        &dyn HeavyAtoms,
         Option<&[[u8; 64]]>,
         &mut dyn FnMut(&[ShiftEstimate]) -> bool,
     ) -> Option<Vec<PredictedSignal>>
@@ -51,7 +51,7 @@ pub fn with_standard_steps<R>(
     opts: &crate::predict::PredictOptions,
     f: impl FnOnce(&Steps) -> R,
 ) -> R {
-    let predict = |m: &Molecule,
+    let predict = |m: &dyn HeavyAtoms,
                    symmetry: Option<&[[u8; 64]]>,
                    gate: &mut dyn FnMut(&[ShiftEstimate]) -> bool| {
         predictor
@@ -149,7 +149,7 @@ struct Payload {
 /// multiplicity and J terms (never negative) cannot beat `cutoff`
 /// ([`score::Prepared::may_beat`]).
 fn evaluate(
-    molecule: &Molecule,
+    molecule: &dyn HeavyAtoms,
     symmetry: Option<&[[u8; 64]]>,
     steps: &Steps,
     prepared: &Prepared,
@@ -212,7 +212,6 @@ pub fn rank_formula(
     let run = topk::new_run();
     let k = settings.top.max(1);
     let map = |iso: &enumerate::Isomer| -> Option<Outcome<Box<Payload>>> {
-        let molecule = iso.molecule();
         let limit = cutoff.get().min(topk::local_cutoff(
             run,
             iso.task(),
@@ -220,13 +219,9 @@ pub fn rank_formula(
             settings.model.ranking.skip_margin,
         ));
         Some(
-            match evaluate(
-                &molecule,
-                iso.skeleton_automorphisms(),
-                steps,
-                &prepared,
-                limit,
-            ) {
+            // Predicted from the generator's compact form: the molecule is
+            // built only for a candidate that may rank.
+            match evaluate(iso, iso.skeleton_automorphisms(), steps, &prepared, limit) {
                 Some((_, scored))
                     if scored.cost > cutoff.top_k()
                         || !topk::local_admits(run, iso.task(), k, scored.cost) =>
@@ -236,6 +231,7 @@ pub fn rank_formula(
                 Some((predicted, scored)) => {
                     // SMILES only for candidates that may rank (it costs a
                     // canonical labelling).
+                    let molecule = iso.molecule();
                     let smiles = (steps.smiles)(&molecule);
                     Outcome::Scored {
                         cost: scored.cost,
