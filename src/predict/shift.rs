@@ -174,12 +174,13 @@ impl Ctx<'_> {
     /// Which of the two heavy substituents of an alkene carbon `c2` is its
     /// reference (the one an unknown geometry puts trans to the other
     /// carbon's substituent): the larger branch (more heavy atoms), then the
-    /// heavier attached atom, then more heavy neighbours there. The bulkier
+    /// heavier attached atom, then more heavy neighbours there, then a hash
+    /// of the atoms one and two bonds further out. The bulkier
     /// groups trans is the usual assumption when E/Z is not given (common
     /// practice). Equal keys fall back to the orbit ids, which are then
     /// canonical positions (`Ctx::needs_canonical_ids`), so the choice never
     /// depends on the input's atom numbering.
-    pub(super) fn alkene_reference_key(&self, c2: usize, y: usize) -> (u32, u8, u8) {
+    pub(super) fn alkene_reference_key(&self, c2: usize, y: usize) -> (u32, u8, u8, u64) {
         let v = self.v;
         let mut seen = 1u64 << c2 | 1u64 << y;
         let mut front = 1u64 << y;
@@ -193,7 +194,30 @@ impl Ctx<'_> {
             front = next;
         }
         let size = (seen & !(1u64 << c2)).count_ones();
-        (size, v.element[y].atomic_number(), v.deg[y])
+        // Then the atoms one and two bonds out (a hash: unequal hashes order
+        // the substituents the same way in any numbering; equal ones are a
+        // tie, settled by canonical positions).
+        let code = |a: usize, kind: u8| {
+            let c = (v.element[a].atomic_number() as u64) << 16
+                | (v.deg[a] as u64) << 8
+                | (v.h[a] as u64) << 4
+                | kind as u64;
+            let x = (c ^ 0x9e37_79b9_7f4a_7c15).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+            x ^ x >> 31
+        };
+        let mut around = 0u64;
+        for (z, kz) in v.neighbours(y) {
+            if z == c2 {
+                continue;
+            }
+            around = around.wrapping_add(code(z, kz));
+            for (w, kw) in v.neighbours(z) {
+                if w != y && w != c2 {
+                    around = around.wrapping_add(code(w, kw).rotate_left(17));
+                }
+            }
+        }
+        (size, v.element[y].atomic_number(), v.deg[y], around)
     }
 
     /// Place index of the representative H of a group on alkene carbon `a`.
