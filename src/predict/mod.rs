@@ -39,6 +39,7 @@ mod coupling;
 mod groups;
 pub mod library;
 pub mod pattern;
+mod root_index;
 mod shift;
 pub mod signal;
 pub mod view;
@@ -475,19 +476,9 @@ impl<'a> Ctx<'a> {
             .expect("parent is a neighbour");
         let m = self.memo[root][k];
         if m == MEMO_UNSET {
-            let key = library::root_key(self.v.elem_bit[root], self.v.hyb[root], self.v.h[root]);
-            let found = self.lib.class_index[key]
-                .iter()
-                .copied()
-                .find(|&i| {
-                    self.lib.classes[i as usize]
-                        .pattern
-                        .matches(self.v, root, Some(parent))
-                })
-                .map(|i| i as usize);
-            let code = found.map(|i| i as u8).unwrap_or(MEMO_NONE);
-            self.memo[root][k] = code;
-            found.map(|i| i as u8)
+            let found = self.lib.class_at(self.v, root, parent);
+            self.memo[root][k] = found.unwrap_or(MEMO_NONE);
+            found
         } else if m == MEMO_NONE {
             None
         } else {
