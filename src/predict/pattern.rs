@@ -89,7 +89,7 @@ pub struct Pattern {
     /// Per root child of the pattern (the first [`MAX_CHILD_NEEDS`]), the
     /// [`child_feature`] bits of the root neighbours it could be matched to:
     /// a quick necessary condition tested before backtracking.
-    child_needs: [u128; MAX_CHILD_NEEDS],
+    child_needs: [u64; MAX_CHILD_NEEDS],
     n_child_needs: u8,
     /// The root is one conjunction with no ring primitive: an index key
     /// (element, hybridisation, H count, degree) that passed
@@ -102,9 +102,20 @@ pub struct Pattern {
 const MAX_CHILD_NEEDS: usize = 4;
 
 /// The feature bit of a neighbour reached by a bond of `kind` (SINGLE..ARO)
-/// with element feature `elem_bit`, for [`Pattern::children_may_match`].
-pub fn child_feature(kind: u8, elem_bit: u8) -> u128 {
-    1u128 << ((kind as u32 - 1) * 18 + elem_bit as u32)
+/// with element feature `elem_bit`, for [`Pattern::children_may_match`]:
+/// one bit per (kind, element) pair, except that an aromatic bond shares
+/// the bit of the aromatic element with its non-aromatic namesake (the only
+/// atoms on aromatic bonds are aromatic), so that all fit in 63 bits. Only
+/// the union of bits is compared, so a shared bit can only let a pattern
+/// through, never turn one away.
+#[inline]
+pub fn child_feature(kind: u8, elem_bit: u8) -> u64 {
+    let bit = if kind == ARO {
+        3 * 18 + (elem_bit >> 1) as u32
+    } else {
+        (kind as u32 - 1) * 18 + elem_bit as u32
+    };
+    1u64 << bit
 }
 
 impl Pattern {
@@ -127,7 +138,7 @@ impl Pattern {
             return Err(format!("empty pattern \"{text}\""));
         }
         let nodes = p.nodes;
-        let mut child_needs = [0u128; MAX_CHILD_NEEDS];
+        let mut child_needs = [0u64; MAX_CHILD_NEEDS];
         let mut n_child_needs = 0;
         for n in nodes[1..].iter().filter(|n| n.parent == 0) {
             if n_child_needs == MAX_CHILD_NEEDS {
@@ -149,6 +160,14 @@ impl Pattern {
 
     pub fn text(&self) -> &str {
         &self.text
+    }
+
+    /// Element feature bits (see [`elem_bit`]) the root may have.
+    pub fn root_elements(&self) -> u32 {
+        let r = &self.nodes[0];
+        r.terms[..r.nterms as usize]
+            .iter()
+            .fold(0, |a, t| a | t.elem)
     }
 
     /// Heavy degrees (bit n) the root may have on an atom with this element
@@ -202,7 +221,7 @@ impl Pattern {
     /// Quick necessary condition on the root's neighbours: `features` is the
     /// union of [`child_feature`] over the neighbours the pattern may use.
     #[inline]
-    pub fn children_may_match(&self, features: u128) -> bool {
+    pub fn children_may_match(&self, features: u64) -> bool {
         self.child_needs[..self.n_child_needs as usize]
             .iter()
             .all(|&need| need & features != 0)
@@ -274,19 +293,24 @@ impl Pattern {
 }
 
 /// The [`child_feature`] bits a neighbour matching node `n` could have.
-fn node_features(n: &Node) -> u128 {
+fn node_features(n: &Node) -> u64 {
     let elems = n.terms[..n.nterms as usize]
         .iter()
         .fold(0u32, |a, t| a | t.elem);
-    let mut out = 0u128;
+    let mut out = 0u64;
     for kind in [SINGLE, DOUBLE, TRIPLE, ARO] {
         if n.bond >> kind & 1 == 1 {
-            out |= (elems as u128) << ((kind as u32 - 1) * 18);
+            for e in 0..18u8 {
+                if elems >> e & 1 == 1 {
+                    out |= child_feature(kind, e);
+                }
+            }
         }
     }
     out
 }
 
+#[inline]
 fn node_holds(n: &Node, v: &View, atom: usize) -> bool {
     n.terms[..n.nterms as usize]
         .iter()

@@ -18,9 +18,10 @@
 //! match of a scan over the whole library in priority order.
 //!
 //! The lists are built when the library loads (it loads on every command):
-//! only atom keys that some pattern's root admits get a block, and each
-//! pattern's neighbour condition is decided once per (count, kinds) pair,
-//! so building costs bit tests, not pattern walks.
+//! only atom keys that some pattern's root admits get a block, atom keys
+//! with the same candidates share one, and each pattern's neighbour
+//! condition is decided once per (count, kinds) pair, so building costs bit
+//! tests, not pattern walks.
 
 use super::pattern::{child_feature, Pattern};
 use super::view::{View, MAX_DEGREE};
@@ -74,32 +75,58 @@ impl RootIndex {
                 m
             })
             .collect();
+        // Neighbour keys a lookup can produce: every present kind leads to at
+        // least one neighbour, and the root's degree stays within the view's.
+        let reachable: Vec<usize> = (0..NEIGHBOUR_KEYS)
+            .filter(|&nk| {
+                let (children, kinds) = ((nk / 16) as u32, (nk % 16) as u32);
+                kinds.count_ones() <= children
+                    && (kinds == 0) == (children == 0)
+                    && children + parent_degree as u32 <= MAX_DEGREE as u32
+            })
+            .collect();
         let mut blocks = vec![NO_BLOCK; ATOM_KEYS];
         let mut spans = Vec::new();
         let mut ids = Vec::new();
         let mut base: Vec<(u8, u8)> = Vec::new();
+        let mut built: Vec<(Vec<(u8, u8)>, u32)> = Vec::new();
         for elem_bit in 0..18u8 {
+            // Patterns whose root admits the element at all.
+            let with_elem: Vec<usize> = (0..patterns.len())
+                .filter(|&i| patterns[i].root_elements() >> elem_bit & 1 == 1)
+                .collect();
+            if with_elem.is_empty() {
+                continue;
+            }
             for hyb in 0..4u8 {
                 for h in 0..8u8 {
                     base.clear();
-                    base.extend(patterns.iter().enumerate().filter_map(|(i, p)| {
-                        let d = p.root_degrees(elem_bit, hyb, h);
+                    base.extend(with_elem.iter().filter_map(|&i| {
+                        let d = patterns[i].root_degrees(elem_bit, hyb, h);
                         (d != 0).then_some((i as u8, d))
                     }));
                     if base.is_empty() {
                         continue;
                     }
-                    blocks[atom_key(elem_bit, hyb, h)] = spans.len() as u32;
-                    for nk in 0..NEIGHBOUR_KEYS {
+                    // Atom keys with the same candidates and degrees share a block.
+                    if let Some((_, b)) = built.iter().find(|(l, _)| *l == base) {
+                        blocks[atom_key(elem_bit, hyb, h)] = *b;
+                        continue;
+                    }
+                    let block = spans.len();
+                    blocks[atom_key(elem_bit, hyb, h)] = block as u32;
+                    built.push((base.clone(), block as u32));
+                    spans.resize(block + NEIGHBOUR_KEYS, (0, 0));
+                    for &nk in &reachable {
                         let children = (nk / 16) as u8;
-                        let deg = (children + parent_degree).min(7);
+                        let deg = children + parent_degree;
                         let start = ids.len() as u32;
                         for &(i, degrees) in &base {
                             if degrees >> deg & 1 == 1 && fits[i as usize] >> nk & 1 == 1 {
                                 ids.push(i);
                             }
                         }
-                        spans.push((start, ids.len() as u32));
+                        spans[block + nk] = (start, ids.len() as u32);
                     }
                 }
             }
@@ -128,7 +155,7 @@ impl RootIndex {
             return None;
         }
         let skip = parent.unwrap_or(usize::MAX);
-        let (mut children, mut kinds, mut features) = (0u8, 0u8, 0u128);
+        let (mut children, mut kinds, mut features) = (0u8, 0u8, 0u64);
         for k in 0..v.deg[root] as usize {
             let nb = v.nbr[root][k] as usize;
             if nb == skip {
