@@ -785,6 +785,11 @@ impl Library {
                 exchangeable: row.exchangeable,
             });
         }
+        if environments.len() > 250 {
+            return Err(Error::input(format!(
+                "fragment library {file}: at most 250 environments"
+            )));
+        }
         for (k, fr) in [
             ("sp3", &f.fallback.sp3),
             ("sp2", &f.fallback.sp2),
