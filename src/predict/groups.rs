@@ -47,11 +47,7 @@ impl Ctx<'_> {
         // Environment of each group's atoms (same for the whole orbit).
         for g in groups.iter_mut() {
             let a = g.rep;
-            let key = super::library::root_key(self.v.elem_bit[a], self.v.hyb[a], self.v.h[a]);
-            let found = self.lib.env_index[key]
-                .iter()
-                .map(|&i| i as usize)
-                .find(|&i| self.lib.environments[i].pattern.matches(self.v, a, None));
+            let found = self.lib.environment_at(self.v, a);
             if let Some(i) = found {
                 g.method = Method::Special(i);
                 g.exchangeable = self.lib.environments[i].exchangeable;

@@ -12,6 +12,8 @@
 //! table once, so that the hot path looks a substituent up by index.
 
 use super::pattern::Pattern;
+use super::root_index::RootIndex;
+use super::view::View;
 use crate::error::{Error, Result};
 use serde::Deserialize;
 use std::path::Path;
@@ -184,21 +186,13 @@ pub struct CouplingSettings {
     pub para_pair_min_ratio: f64,
 }
 
-/// Root keys: (element, aromatic) feature bit x hybridisation (0-3) x H count (0-4).
-pub const ROOT_KEYS: usize = 18 * 4 * 5;
-
-/// The index key of an atom for [`Library::class_index`] and [`Library::env_index`].
-pub fn root_key(elem_bit: u8, hyb: u8, h: u8) -> usize {
-    (elem_bit as usize * 4 + hyb as usize) * 5 + h.min(4) as usize
-}
-
 /// The compiled library.
 pub struct Library {
     pub classes: Vec<Class>,
-    /// Classes whose pattern root can match, per [`root_key`], in priority order.
-    pub class_index: Vec<Vec<ClassId>>,
-    /// The same for the special environments.
-    pub env_index: Vec<Vec<u8>>,
+    /// Classes that can match at a root atom, in priority order (parent excluded).
+    pub class_index: RootIndex,
+    /// The same for the special environments (all neighbours usable).
+    pub env_index: RootIndex,
     pub sp3: Sp3Table,
     pub alkene: IncrementTable,
     pub benzene: IncrementTable,
@@ -791,6 +785,11 @@ impl Library {
                 exchangeable: row.exchangeable,
             });
         }
+        if environments.len() > 250 {
+            return Err(Error::input(format!(
+                "fragment library {file}: at most 250 environments"
+            )));
+        }
         for (k, fr) in [
             ("sp3", &f.fallback.sp3),
             ("sp2", &f.fallback.sp2),
@@ -884,23 +883,14 @@ impl Library {
             return Err(Error::input(format!("fragment library {file}: no solvent")));
         }
 
-        let key_index = |n: usize, may: &dyn Fn(usize, u8, u8, u8) -> bool| -> Vec<Vec<u8>> {
-            (0..ROOT_KEYS)
-                .map(|k| {
-                    let (e, hyb, h) = ((k / 20) as u8, ((k / 5) % 4) as u8, (k % 5) as u8);
-                    (0..n)
-                        .filter(|&i| may(i, e, hyb, h))
-                        .map(|i| i as u8)
-                        .collect()
-                })
-                .collect()
-        };
-        let class_index = key_index(classes.len(), &|i, e, hyb, h| {
-            classes[i].pattern.root_may_match(e, hyb, h)
-        });
-        let env_index = key_index(environments.len(), &|i, e, hyb, h| {
-            environments[i].pattern.root_may_match(e, hyb, h)
-        });
+        let class_index = RootIndex::build(
+            &classes.iter().map(|c| &c.pattern).collect::<Vec<_>>(),
+            true,
+        );
+        let env_index = RootIndex::build(
+            &environments.iter().map(|e| &e.pattern).collect::<Vec<_>>(),
+            false,
+        );
         Ok(Library {
             classes,
             class_index,
@@ -915,6 +905,23 @@ impl Library {
             settings,
             solvents,
         })
+    }
+
+    /// The substituent class of the group hanging from `parent` at `root`:
+    /// the first class, in priority order, whose pattern matches there.
+    #[inline]
+    pub fn class_at(&self, v: &View, root: usize, parent: usize) -> Option<ClassId> {
+        self.class_index
+            .first_match(v, root, Some(parent), |i| &self.classes[i].pattern)
+            .map(|i| i as ClassId)
+    }
+
+    /// The special environment of the H on `atom`: the first, in priority
+    /// order, whose pattern matches with its root there.
+    #[inline]
+    pub fn environment_at(&self, v: &View, atom: usize) -> Option<usize> {
+        self.env_index
+            .first_match(v, atom, None, |i| &self.environments[i].pattern)
     }
 
     pub fn j(&self, kind: CouplingKind) -> f64 {

@@ -39,6 +39,7 @@ mod coupling;
 mod groups;
 pub mod library;
 pub mod pattern;
+mod root_index;
 mod shift;
 pub mod signal;
 pub mod view;
@@ -338,8 +339,9 @@ pub(crate) struct Ctx<'a> {
     pub opts: &'a PredictOptions,
     /// Orbit id per atom (refined by the amide-rotation split).
     pub orb: [u8; view::MAX_ATOMS],
-    /// Substituent class memo per (atom, neighbour slot): 255 not computed,
-    /// 254 no class.
+    /// Substituent class memo per (parent atom, neighbour slot): the class
+    /// of the group at that neighbour seen from the parent; 255 not
+    /// computed, 254 no class.
     memo: [[u8; view::MAX_DEGREE]; view::MAX_ATOMS],
     /// Special environment per atom (index + 1; 0 none), filled by grouping.
     pub env: [u8; view::MAX_ATOMS],
@@ -470,28 +472,24 @@ impl<'a> Ctx<'a> {
     /// The substituent class of the group hanging from `parent` at `root`
     /// (memoised per bond).
     pub fn class_of(&mut self, root: usize, parent: usize) -> Option<library::ClassId> {
-        let k = (0..self.v.deg[root] as usize)
-            .find(|&k| self.v.nbr[root][k] as usize == parent)
-            .expect("parent is a neighbour");
-        let m = self.memo[root][k];
-        if m == MEMO_UNSET {
-            let key = library::root_key(self.v.elem_bit[root], self.v.hyb[root], self.v.h[root]);
-            let found = self.lib.class_index[key]
-                .iter()
-                .copied()
-                .find(|&i| {
-                    self.lib.classes[i as usize]
-                        .pattern
-                        .matches(self.v, root, Some(parent))
-                })
-                .map(|i| i as usize);
-            let code = found.map(|i| i as u8).unwrap_or(MEMO_NONE);
-            self.memo[root][k] = code;
-            found.map(|i| i as u8)
-        } else if m == MEMO_NONE {
-            None
-        } else {
-            Some(m)
+        let k = (0..self.v.deg[parent] as usize)
+            .find(|&k| self.v.nbr[parent][k] as usize == root)
+            .expect("root is a neighbour of parent");
+        self.class_via(parent, k)
+    }
+
+    /// [`Ctx::class_of`] for the group at `parent`'s neighbour slot `k`
+    /// (callers walking `parent`'s neighbours know the slot: no search).
+    pub fn class_via(&mut self, parent: usize, k: usize) -> Option<library::ClassId> {
+        match self.memo[parent][k] {
+            MEMO_UNSET => {
+                let root = self.v.nbr[parent][k] as usize;
+                let found = self.lib.class_at(self.v, root, parent);
+                self.memo[parent][k] = found.unwrap_or(MEMO_NONE);
+                found
+            }
+            MEMO_NONE => None,
+            m => Some(m),
         }
     }
 

@@ -86,6 +86,36 @@ struct Node {
 pub struct Pattern {
     nodes: Vec<Node>,
     text: String,
+    /// Per root child of the pattern (the first [`MAX_CHILD_NEEDS`]), the
+    /// [`child_feature`] bits of the root neighbours it could be matched to:
+    /// a quick necessary condition tested before backtracking.
+    child_needs: [u64; MAX_CHILD_NEEDS],
+    n_child_needs: u8,
+    /// The root is one conjunction with no ring primitive: an index key
+    /// (element, hybridisation, H count, degree) that passed
+    /// [`Pattern::root_degrees`] settles the root atom, and the matcher need
+    /// not test it again.
+    root_settled_by_key: bool,
+}
+
+/// Root children whose neighbour features a pattern remembers for the quick check.
+const MAX_CHILD_NEEDS: usize = 4;
+
+/// The feature bit of a neighbour reached by a bond of `kind` (SINGLE..ARO)
+/// with element feature `elem_bit`, for [`Pattern::children_may_match`]:
+/// one bit per (kind, element) pair, except that an aromatic bond shares
+/// the bit of the aromatic element with its non-aromatic namesake (the only
+/// atoms on aromatic bonds are aromatic), so that all fit in 63 bits. Only
+/// the union of bits is compared, so a shared bit can only let a pattern
+/// through, never turn one away.
+#[inline]
+pub fn child_feature(kind: u8, elem_bit: u8) -> u64 {
+    let bit = if kind == ARO {
+        3 * 18 + (elem_bit >> 1) as u32
+    } else {
+        (kind as u32 - 1) * 18 + elem_bit as u32
+    };
+    1u64 << bit
 }
 
 impl Pattern {
@@ -107,9 +137,24 @@ impl Pattern {
         if p.nodes.is_empty() {
             return Err(format!("empty pattern \"{text}\""));
         }
+        let nodes = p.nodes;
+        let mut child_needs = [0u64; MAX_CHILD_NEEDS];
+        let mut n_child_needs = 0;
+        for n in nodes[1..].iter().filter(|n| n.parent == 0) {
+            if n_child_needs == MAX_CHILD_NEEDS {
+                break;
+            }
+            child_needs[n_child_needs] = node_features(n);
+            n_child_needs += 1;
+        }
+        let r = &nodes[0];
+        let root_settled_by_key = r.nterms == 1 && r.terms[0].ring == 0b11;
         Ok(Pattern {
-            nodes: p.nodes,
+            nodes,
             text: text.to_string(),
+            child_needs,
+            n_child_needs: n_child_needs as u8,
+            root_settled_by_key,
         })
     }
 
@@ -117,27 +162,88 @@ impl Pattern {
         &self.text
     }
 
-    /// Could the root match an atom with this element feature bit and
-    /// hybridisation? (Used to index patterns by root, so that the matcher
-    /// only tries those that can start.)
-    pub fn root_may_match(&self, elem_bit: u8, hyb: u8, h: u8) -> bool {
+    /// Element feature bits (see [`elem_bit`]) the root may have.
+    pub fn root_elements(&self) -> u32 {
         let r = &self.nodes[0];
-        // Bond kinds the root must have (a child whose bond allows one kind).
-        let mut needs = 0u8;
-        for n in &self.nodes[1..] {
-            if n.parent == 0 && n.bond.count_ones() == 1 {
-                needs |= n.bond;
-            }
-        }
-        let possible = match hyb {
-            3 => 1 << SINGLE,
-            2 => 1 << SINGLE | 1 << DOUBLE | 1 << ARO,
-            _ => 1 << SINGLE | 1 << DOUBLE | 1 << TRIPLE,
-        };
-        needs & !possible == 0
-            && r.terms[..r.nterms as usize].iter().any(|t| {
+        r.terms[..r.nterms as usize]
+            .iter()
+            .fold(0, |a, t| a | t.elem)
+    }
+
+    /// Heavy degrees (bit n) the root may have on an atom with this element
+    /// feature bit, hybridisation and H count; 0 when the root cannot match
+    /// such an atom. Together with [`Pattern::children_may_fit`], the exact
+    /// root test the index keys on.
+    pub fn root_degrees(&self, elem_bit: u8, hyb: u8, h: u8) -> u8 {
+        let r = &self.nodes[0];
+        r.terms[..r.nterms as usize]
+            .iter()
+            .filter(|t| {
                 t.elem >> elem_bit & 1 == 1 && t.hyb >> hyb & 1 == 1 && t.h >> h.min(7) & 1 == 1
             })
+            .fold(0, |a, t| a | t.deg)
+    }
+
+    /// Could the pattern's root children find partners among `children`
+    /// usable neighbours of the root, whose bond kinds are the set `kinds`
+    /// (bit `1 << kind`)? A necessary condition, used to build the index.
+    pub fn children_may_fit(&self, children: u8, kinds: u8) -> bool {
+        // Each root child needs its own neighbour, reached by an allowed bond.
+        let mut bonds = [0u8; MAX_PATTERN_ATOMS];
+        let mut m = 0;
+        for n in self.nodes[1..].iter().filter(|n| n.parent == 0) {
+            if n.bond & kinds == 0 {
+                return false;
+            }
+            bonds[m] = n.bond & kinds;
+            m += 1;
+        }
+        if m > children as usize {
+            return false;
+        }
+        // Hall's condition, with each present kind on at most
+        // children - (kinds present) + 1 neighbours: any set of root children
+        // needs at least as many neighbours as its allowed kinds can offer.
+        let cap = (children + 1).saturating_sub(kinds.count_ones() as u8) as u32;
+        if m > 1 && m <= 8 {
+            for set in 1u32..1 << m {
+                let allowed = (0..m)
+                    .filter(|&j| set >> j & 1 == 1)
+                    .fold(0u8, |a, j| a | bonds[j]);
+                if set.count_ones() > allowed.count_ones() * cap {
+                    return false;
+                }
+            }
+        }
+        true
+    }
+
+    /// Quick necessary condition on the root's neighbours: `features` is the
+    /// union of [`child_feature`] over the neighbours the pattern may use.
+    #[inline]
+    pub fn children_may_match(&self, features: u64) -> bool {
+        self.child_needs[..self.n_child_needs as usize]
+            .iter()
+            .all(|&need| need & features != 0)
+    }
+
+    /// [`Pattern::matches`] for a pattern taken from an index list whose key
+    /// `root` passed [`Pattern::root_degrees`]: skips what the key settled.
+    #[inline]
+    pub fn matches_indexed(&self, v: &View, root: usize, parent: Option<usize>) -> bool {
+        if !self.root_settled_by_key && !node_holds(&self.nodes[0], v, root) {
+            return false;
+        }
+        if self.nodes.len() == 1 {
+            return true;
+        }
+        let mut used: u64 = 1u64 << root;
+        if let Some(p) = parent {
+            used |= 1u64 << p;
+        }
+        let mut assigned = [0u8; MAX_PATTERN_ATOMS];
+        assigned[0] = root as u8;
+        self.assign(v, 1, &mut assigned, used)
     }
 
     /// Does the pattern match with its root on `root`? `parent`, when given,
@@ -186,6 +292,25 @@ impl Pattern {
     }
 }
 
+/// The [`child_feature`] bits a neighbour matching node `n` could have.
+fn node_features(n: &Node) -> u64 {
+    let elems = n.terms[..n.nterms as usize]
+        .iter()
+        .fold(0u32, |a, t| a | t.elem);
+    let mut out = 0u64;
+    for kind in [SINGLE, DOUBLE, TRIPLE, ARO] {
+        if n.bond >> kind & 1 == 1 {
+            for e in 0..18u8 {
+                if elems >> e & 1 == 1 {
+                    out |= child_feature(kind, e);
+                }
+            }
+        }
+    }
+    out
+}
+
+#[inline]
 fn node_holds(n: &Node, v: &View, atom: usize) -> bool {
     n.terms[..n.nterms as usize]
         .iter()

@@ -323,7 +323,7 @@ impl Ctx<'_> {
                 }
                 nsub += 1;
                 match self
-                    .class_of(z, y)
+                    .class_via(y, k)
                     .and_then(|c| self.lib.benzene.z[c as usize])
                 {
                     Some(inc) => shift += inc[d - 1],
@@ -397,7 +397,7 @@ impl Ctx<'_> {
             let x = self.v.nbr[c][0] as usize;
             if !self.is_alkyl(x) {
                 if let Some(s) = self
-                    .class_of(x, c)
+                    .class_via(c, 0)
                     .and_then(|k| self.lib.sp3.methyl_direct[k as usize])
                 {
                     return (s, self.lib.sp3.sigma_methyl_direct, 0);
@@ -427,7 +427,7 @@ impl Ctx<'_> {
                                 continue;
                             }
                             match self
-                                .class_of(z, y)
+                                .class_via(y, k3)
                                 .and_then(|q| self.lib.sp3.abg[q as usize])
                             {
                                 Some(v) => shift += v[2],
@@ -436,7 +436,7 @@ impl Ctx<'_> {
                         }
                     } else {
                         match self
-                            .class_of(y, x)
+                            .class_via(x, k2)
                             .and_then(|q| self.lib.sp3.abg[q as usize])
                         {
                             Some(v) => shift += v[1],
@@ -446,7 +446,7 @@ impl Ctx<'_> {
                 }
             } else {
                 functional += 1;
-                let cls = self.class_of(x, c);
+                let cls = self.class_via(c, k);
                 match cls.and_then(|q| self.lib.sp3.abg[q as usize]) {
                     Some(v) => shift += v[0],
                     None => {

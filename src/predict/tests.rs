@@ -82,3 +82,93 @@ fn every_h_is_in_exactly_one_signal() {
         assert!(sig.iter().all(|x| x.sigma > 0.0), "{s}");
     }
 }
+
+/// The class of every bond (both directions) and the environment of every
+/// H-bearing atom, looked up through the root index, equal the first match
+/// of an exhaustive scan of the library in priority order: the index only
+/// saves work. Over every isomer the generator gives for formulas with C,
+/// H, N, O, S and halogens (S(IV)/S(VI) included for the sulfur formulas).
+#[test]
+fn root_index_agrees_with_a_full_scan() {
+    use super::library::Library;
+    use crate::chem::Formula;
+    use crate::enumerate::{self, Options};
+    use std::collections::BTreeSet;
+
+    // reference: exhaustive scan of the library in priority order
+    fn scan_class(lib: &Library, v: &View, root: usize, parent: usize) -> Option<u8> {
+        (0..lib.classes.len())
+            .find(|&i| lib.classes[i].pattern.matches(v, root, Some(parent)))
+            .map(|i| i as u8)
+    }
+    // reference: exhaustive scan of the library in priority order
+    fn scan_env(lib: &Library, v: &View, atom: usize) -> Option<usize> {
+        (0..lib.environments.len()).find(|&i| lib.environments[i].pattern.matches(v, atom, None))
+    }
+
+    let lib = Library::embedded().unwrap();
+    let mut classes_seen = BTreeSet::new();
+    let mut envs_seen = BTreeSet::new();
+    let mut checks = 0u64;
+    for (f, expanded) in [
+        ("C8H8O", false),
+        ("C6H8O2", false),
+        ("C5H7N", false),
+        ("C4H6S", false),
+        ("C4H7Cl", false),
+        ("C3H4BrF", false),
+        ("C4H7NO", false),
+        ("C3H6OS", true),
+        ("C2H6O2S", true),
+    ] {
+        let formula = Formula::parse(f).unwrap();
+        let opts = Options {
+            expanded_valence: expanded,
+            ..Options::default()
+        };
+        let mut n = 0;
+        enumerate::for_each_ordered(
+            &formula,
+            &opts,
+            |iso| Some(iso.molecule()),
+            |m| {
+                n += 1;
+                let v = View::new(&m).unwrap();
+                for a in 0..v.n {
+                    for (b, _) in v.neighbours(a) {
+                        let want = scan_class(&lib, &v, a, b);
+                        assert_eq!(lib.class_at(&v, a, b), want, "{f}: class at {a} from {b}");
+                        classes_seen.insert(want);
+                        checks += 1;
+                    }
+                    if v.h[a] > 0 {
+                        let want = scan_env(&lib, &v, a);
+                        assert_eq!(lib.environment_at(&v, a), want, "{f}: environment of {a}");
+                        envs_seen.insert(want);
+                        checks += 1;
+                    }
+                }
+                true
+            },
+            &mut |_| {},
+        )
+        .unwrap();
+        assert!(n > 0, "{f}: no isomers");
+    }
+    // The formulas reach most of the library (the comparison is not vacuous).
+    assert!(
+        classes_seen.len() > 30,
+        "{} classes seen",
+        classes_seen.len()
+    );
+    assert!(
+        envs_seen.len() > 15,
+        "{} environments seen",
+        envs_seen.len()
+    );
+    println!(
+        "{checks} lookups; {} classes, {} environments seen",
+        classes_seen.len(),
+        envs_seen.len()
+    );
+}
