@@ -424,13 +424,19 @@ impl<'a> Ctx<'a> {
             if v.element[c2] != Element::C || v.deg[c2] != 3 {
                 return false;
             }
+            // Only an alkene H on c1 with one heavy substituent is placed
+            // cis or trans to c2's reference (`shift::alkene_places`).
             v.neighbours(c2).any(|(c1, k)| {
-                k == view::DOUBLE && v.element[c1] == Element::C && {
-                    let mut others = v.neighbours(c2).map(|x| x.0).filter(|&x| x != c1);
-                    let (x, y) = (others.next(), others.next());
-                    matches!((x, y), (Some(x), Some(y)) if self.orb[x] != self.orb[y]
+                k == view::DOUBLE
+                    && v.element[c1] == Element::C
+                    && v.h[c1] >= 1
+                    && v.deg[c1] == 2
+                    && {
+                        let mut others = v.neighbours(c2).map(|x| x.0).filter(|&x| x != c1);
+                        let (x, y) = (others.next(), others.next());
+                        matches!((x, y), (Some(x), Some(y)) if self.orb[x] != self.orb[y]
                         && self.alkene_reference_key(c2, x) == self.alkene_reference_key(c2, y))
-                }
+                    }
             })
         })
     }

@@ -511,6 +511,10 @@ impl View {
                 arom_rings |= 1 << i;
             }
         }
+        if arom_rings == 0 {
+            // Nothing aromatic: bond kinds stay the Kekulé orders.
+            return;
+        }
         for (i, &r) in self.rings[..self.nrings].iter().enumerate() {
             if arom_rings >> i & 1 == 1 {
                 self.aromatic |= r;
