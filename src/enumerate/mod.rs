@@ -24,6 +24,23 @@ use rules::{Rule, RuleSet};
 const TARGET_TASKS: usize = 4096;
 /// Tasks run together before their results are emitted in order.
 const CHUNK: usize = 256;
+/// The first chunk's size; each next one doubles up to [`CHUNK`]. A caller
+/// that learns from the emitted results (a ranking's cutoff) learns early.
+const FIRST_CHUNK: usize = 8;
+
+/// The task ranges of the chunks: sizes 8, 16, 32, ... up to [`CHUNK`]; a
+/// fixed cut, so output stays independent of the thread count.
+fn chunk_ranges(total: usize) -> Vec<std::ops::Range<usize>> {
+    let mut out = Vec::new();
+    let (mut start, mut size) = (0, FIRST_CHUNK);
+    while start < total {
+        let end = (start + size).min(total);
+        out.push(start..end);
+        start = end;
+        size = (size * 2).min(CHUNK);
+    }
+    out
+}
 
 /// One shard of the search: the `index`-th (from 1) of `of`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -356,7 +373,9 @@ where
         ..Summary::default()
     };
     let total = mine.len();
-    for (ci, chunk) in mine.chunks(CHUNK).enumerate() {
+    for range in chunk_ranges(mine.len()) {
+        let first = range.start;
+        let chunk = &mine[range];
         let results: Vec<TaskResult<T>> = chunk
             .par_iter()
             .enumerate()
@@ -366,7 +385,7 @@ where
                     (gens, resonance::Workspace::default())
                 },
                 |(gens, ws), (i, task)| {
-                    let task_index = ci * CHUNK + i;
+                    let task_index = first + i;
                     let p = &problems[task.problem];
                     let gen = &mut gens[task.problem];
                     let mut node = task.node(p);
@@ -418,7 +437,7 @@ where
             }
         }
         progress(Progress {
-            tasks_done: (ci * CHUNK + chunk.len()).min(total),
+            tasks_done: first + chunk.len(),
             tasks_total: total,
             isomers: summary.isomers,
         });

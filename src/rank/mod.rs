@@ -212,12 +212,13 @@ pub fn rank_formula(
     let run = topk::new_run();
     let k = settings.top.max(1);
     let map = |iso: &enumerate::Isomer| -> Option<Outcome<Box<Payload>>> {
-        let limit = cutoff.get().min(topk::local_cutoff(
+        let limit = topk::task_cutoff(
             run,
             iso.task(),
             k,
             settings.model.ranking.skip_margin,
-        ));
+            &cutoff,
+        );
         Some(
             // Predicted from the generator's compact form: the molecule is
             // built only for a candidate that may rank.

@@ -38,12 +38,21 @@ pub enum Outcome<T> {
 
 /// The cutoffs shared with the scoring threads (f64 bits in atomics).
 #[derive(Clone)]
-pub struct Cutoff(Arc<[AtomicU64; 2]>);
+pub struct Cutoff(Arc<[AtomicU64; 3]>);
 
 impl Cutoff {
     fn new() -> Cutoff {
         let inf = f64::INFINITY.to_bits();
-        Cutoff(Arc::new([AtomicU64::new(inf), AtomicU64::new(inf)]))
+        Cutoff(Arc::new([
+            AtomicU64::new(inf),
+            AtomicU64::new(inf),
+            AtomicU64::new(inf),
+        ]))
+    }
+
+    /// The lowest cost collected so far.
+    pub fn best(&self) -> f64 {
+        f64::from_bits(self.0[2].load(AtomicOrdering::Relaxed))
     }
 
     /// The cost at or above which a candidate cannot matter any more
@@ -58,9 +67,10 @@ impl Cutoff {
         f64::from_bits(self.0[1].load(AtomicOrdering::Relaxed))
     }
 
-    fn set(&self, any: f64, top_k: f64) {
+    fn set(&self, any: f64, top_k: f64, best: f64) {
         self.0[0].store(any.to_bits(), AtomicOrdering::Relaxed);
         self.0[1].store(top_k.to_bits(), AtomicOrdering::Relaxed);
+        self.0[2].store(best.to_bits(), AtomicOrdering::Relaxed);
     }
 }
 
@@ -188,8 +198,11 @@ impl<T> Collector<T> {
             f64::INFINITY
         };
         // A tiny slack keeps exact ties scored, so that the key decides them.
-        self.cutoff
-            .set(kth.max(self.best + self.skip_margin) + 1e-9, kth + 1e-9);
+        self.cutoff.set(
+            kth.max(self.best + self.skip_margin) + 1e-9,
+            kth + 1e-9,
+            self.best,
+        );
     }
 
     fn count_cost(&mut self, cost: f64) {
@@ -288,24 +301,30 @@ pub fn local_admits(run: u64, task: usize, k: usize, cost: f64) -> bool {
     })
 }
 
-/// The cutoff of one generation task of `run`, from the costs this thread
-/// recorded for it through [`local_admits`]: above both the k-th lowest and
-/// the lowest + `margin` (infinite before k are recorded). A task has seen a
-/// subset of all candidates, so its k-th and lowest costs are at least the
-/// global ones and this cutoff is never below the one a complete view would
-/// give: skipping by it is safe. It matters before the first results are
-/// emitted in order, while the shared cutoff is still infinite. Per task,
-/// not per thread: one thread runs a task's isomers in order, so what is
-/// skipped does not depend on the thread count.
-pub fn local_cutoff(run: u64, task: usize, k: usize, margin: f64) -> f64 {
+/// The cutoff for a candidate of one generation task of `run`: the skip rule
+/// `max(k-th best, best + margin)` with the k-th best and the best each taken
+/// as the lower of the shared value (`shared`, what the collector has seen)
+/// and this task's own (the costs this thread recorded for it through
+/// [`local_admits`]). Both are bounds from subsets of all candidates, so the
+/// final k-th best and best are at most these, and this cutoff is never
+/// below the one a complete view would give: skipping by it is safe. The
+/// task's own values matter while the shared ones are still infinite (the
+/// first chunk) and sharpen them later. Per task, not per thread: one thread
+/// runs a task's isomers in order, so what is skipped does not depend on the
+/// thread count.
+pub fn task_cutoff(run: u64, task: usize, k: usize, margin: f64, shared: &Cutoff) -> f64 {
     LOCAL.with(|cell| {
         let l = cell.borrow();
-        if l.0 != (run, task) || l.1.len() < k {
-            return f64::INFINITY;
+        let (mut kth, mut best) = (f64::INFINITY, f64::INFINITY);
+        if l.0 == (run, task) {
+            if l.1.len() >= k {
+                kth = l.1.peek().map_or(f64::INFINITY, |c| c.0) + 1e-9;
+            }
+            best = l.1.iter().map(|c| c.0).fold(f64::INFINITY, f64::min);
         }
-        let kth = l.1.peek().map_or(f64::INFINITY, |c| c.0);
-        let best = l.1.iter().map(|c| c.0).fold(f64::INFINITY, f64::min);
-        kth.max(best + margin) + 1e-9
+        let kth = kth.min(shared.top_k());
+        let best = best.min(shared.best());
+        kth.max(best + margin + 1e-9)
     })
 }
 
@@ -351,22 +370,29 @@ mod tests {
     }
 
     #[test]
-    fn local_cutoff_follows_this_threads_costs() {
+    fn task_cutoff_combines_the_tasks_costs_with_the_shared_ones() {
         let run = new_run();
-        assert_eq!(local_cutoff(run, 0, 2, 30.0), f64::INFINITY);
+        let shared = Cutoff::new();
+        assert_eq!(task_cutoff(run, 0, 2, 30.0, &shared), f64::INFINITY);
         assert!(local_admits(run, 0, 2, 10.0));
-        assert_eq!(local_cutoff(run, 0, 2, 30.0), f64::INFINITY, "fewer than k");
+        assert_eq!(
+            task_cutoff(run, 0, 2, 30.0, &shared),
+            f64::INFINITY,
+            "fewer than k and nothing shared"
+        );
         assert!(local_admits(run, 0, 2, 50.0));
         // k-th (50) above best + margin (40).
-        assert!((local_cutoff(run, 0, 2, 30.0) - 50.0).abs() < 1e-6);
+        assert!((task_cutoff(run, 0, 2, 30.0, &shared) - 50.0).abs() < 1e-6);
         assert!(local_admits(run, 0, 2, 12.0));
         // Now 10 and 12 kept: best + margin = 40 wins.
-        assert!((local_cutoff(run, 0, 2, 30.0) - 40.0).abs() < 1e-6);
-        assert_eq!(
-            local_cutoff(new_run(), 0, 2, 30.0),
-            f64::INFINITY,
-            "another run"
-        );
+        assert!((task_cutoff(run, 0, 2, 30.0, &shared) - 40.0).abs() < 1e-6);
+        // A shared k-th best helps a task that has seen fewer than k.
+        shared.set(60.0, 20.0, 5.0);
+        let other = new_run();
+        assert!(local_admits(other, 3, 2, 8.0));
+        // max(min(20, inf), min(5, 8) + 30) = 35.
+        assert!((task_cutoff(other, 3, 2, 30.0, &shared) - 35.0).abs() < 1e-6);
+        assert!((task_cutoff(new_run(), 0, 2, 30.0, &shared) - 35.0).abs() < 1e-6);
     }
 
     #[test]
