@@ -370,26 +370,33 @@ impl View {
                 // Every shortest path w -> u, walked back by distance.
                 let mut path = [0u8; MAX_ATOMS];
                 path[0] = w as u8;
-                self.shortest_cycles(u, &dist, &mut path, 1);
+                let mut budget = 256;
+                self.shortest_cycles(u, &dist, &mut path, 1, &mut budget);
             }
         }
     }
 
     /// Extend `path` (from the bond's far end, distances from `u` falling by
     /// one per step) back to `u` in every way, recording each closed cycle.
+    /// `budget` caps the paths walked per bond: cage graphs can have very
+    /// many shortest paths, and past [`MAX_RINGS`] rings (or the cap) the
+    /// tables are incomplete anyway (then, and only then, which rings are
+    /// kept may depend on the atom order).
     fn shortest_cycles(
         &mut self,
         u: usize,
         dist: &[u8; MAX_ATOMS],
         path: &mut [u8; MAX_ATOMS],
         len: usize,
+        budget: &mut u32,
     ) {
         let last = path[len - 1] as usize;
         if last == u {
             self.record_ring(&path[..len]);
+            *budget = budget.saturating_sub(1);
             return;
         }
-        if self.nrings == MAX_RINGS {
+        if self.nrings == MAX_RINGS || *budget == 0 {
             return;
         }
         // Distances fall by one per step, so the removed edge w-u (which
@@ -398,7 +405,7 @@ impl View {
         for y in bits(self.adj[last]) {
             if dist[y] == want {
                 path[len] = y as u8;
-                self.shortest_cycles(u, dist, path, len + 1);
+                self.shortest_cycles(u, dist, path, len + 1, budget);
             }
         }
     }
