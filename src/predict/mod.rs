@@ -3,17 +3,24 @@
 //! increments, and first-order multiplicities (n+1 rule).
 //!
 //! ```text
-//! Molecule ──> View (neighbour tables, rings, aromaticity)      view.rs
-//!          ──> groups of equivalent H (orbits, splits, flags)    groups.rs
-//!          ──> shift + sigma per group (library tables)          shift.rs
-//!          ──> J and multiplicity per group                      coupling.rs
-//!          ──> Vec<PredictedSignal>, highest shift first
+//! HeavyAtoms ──> View (neighbour tables, rings, aromaticity)    view.rs
+//!            ──> groups of equivalent H (orbits, splits, flags)  groups.rs
+//!            ──> shift + sigma per group (library tables)        shift.rs
+//!            ──> [gate: predict_gated stops here on request]
+//!            ──> J and multiplicity per group                    coupling.rs
+//!            ──> Vec<PredictedSignal>, highest shift first
 //! ```
+//!
+//! The input is anything with [`HeavyAtoms`]: a [`Molecule`], or the
+//! generator's compact isomer. Orbits come from a canonical labelling, or
+//! from the generator's list of skeleton automorphisms when one is passed.
 //!
 //! A [`Predictor`] is built once from the fragment library (embedded, or a
 //! folder) and shared; [`Predictor::predict`] is cheap enough for the inner
 //! loop of ranking (no subgraph search per candidate: patterns are tiny
-//! rooted trees and every substituent class is memoised per bond).
+//! rooted trees found through an index by the root's neighbourhood
+//! (`root_index.rs`), and every substituent class is memoised per bond).
+//! A ranking calls [`Predictor::predict_gated`] instead.
 //!
 //! API for callers (the ranker):
 //!

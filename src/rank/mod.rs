@@ -5,7 +5,11 @@
 //!
 //! The structure-specific steps (prediction, SMILES, 13C symmetry classes)
 //! come in as functions in [`Steps`], so that this module depends only on
-//! the molecule type, the predicted signals and the scorer.
+//! the molecule types, the predicted signals and the scorer. The inner loop
+//! (DEVELOPERS.md, "The ranking's inner loop"): predict from the compact
+//! isomer with the generator's automorphisms, stop after the shifts when a
+//! bound shows the candidate cannot beat the cutoff, score the rest through
+//! [`score::Prepared`](crate::score::Prepared).
 
 pub mod carbon;
 pub mod evidence;

@@ -18,7 +18,7 @@
 //! terms are non-negative and the ones a bound keeps are small (each at most
 //! an unassigned or unexplained penalty plus a group's cheapest option), so
 //! rounding stays many orders below 1e-9, and a bound must clear the cutoff
-//! by [`SLACK`] (relative) before it rejects.
+//! by `SLACK` (relative) before it rejects.
 
 use super::assign::{self, CostsRef, Workspace, NONE};
 use super::model::{shift_term, ScoringModel};
@@ -283,7 +283,7 @@ impl<'a> Prepared<'a> {
     /// same search (integrals and overlaps included) against the cutoff
     /// raised by the rounding slack, stopping at the first assignment below
     /// it and answering true when it would take more than
-    /// [`MAY_BEAT_NODES`] nodes.
+    /// `MAY_BEAT_NODES` nodes.
     pub fn may_beat(&self, groups: &[GroupShift], cutoff: f64) -> bool {
         self.may_beat_with(groups, cutoff, true)
     }
