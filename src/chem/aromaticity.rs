@@ -93,26 +93,11 @@ fn outer_electrons(e: Element) -> i32 {
     }
 }
 
-fn atomic_number(e: Element) -> i32 {
-    match e {
-        Element::H => 1,
-        Element::C => 6,
-        Element::N => 7,
-        Element::O => 8,
-        Element::F => 9,
-        Element::P => 15,
-        Element::S => 16,
-        Element::Cl => 17,
-        Element::Br => 35,
-        Element::I => 53,
-    }
-}
-
 /// RDKit's coarse electronegativity order: more valence electrons wins, then
 /// the lighter element (so O, N, S, P all pull electrons from carbon).
 fn more_electronegative(a: Element, b: Element) -> bool {
     let (ea, eb) = (outer_electrons(a), outer_electrons(b));
-    ea > eb || (ea == eb && atomic_number(a) < atomic_number(b))
+    ea > eb || (ea == eb && a.atomic_number() < b.atomic_number())
 }
 
 /// Per-atom facts the rule needs.

@@ -387,6 +387,7 @@ where
                 |(gens, ws), (i, task)| {
                     let task_index = first + i;
                     let p = &problems[task.problem];
+                    let symmetry_usable = p.one_kind_per_element();
                     let gen = &mut gens[task.problem];
                     let mut node = task.node(p);
                     let mut res = TaskResult {
@@ -399,7 +400,7 @@ where
                         let iso = Isomer {
                             node: leaf,
                             problem: p,
-                            auts: auts.filter(|_| p.one_kind_per_element()),
+                            auts: auts.filter(|_| symmetry_usable),
                             task: task_index,
                         };
                         if !resonance::is_representative(leaf, || iso.molecule(), ws) {

@@ -155,18 +155,7 @@ impl Ctx<'_> {
                 continue;
             }
             // Branch reachable from r2 without passing through N.
-            let mut seen = 1u64 << nn | 1u64 << r2;
-            let mut front = 1u64 << r2;
-            while front != 0 {
-                let mut next = 0;
-                for x in bits(front) {
-                    next |= v.adj[x];
-                }
-                next &= !seen;
-                seen |= next;
-                front = next;
-            }
-            let branch = seen & !(1u64 << nn);
+            let branch = v.branch(r2, nn);
             if branch >> r1 & 1 == 1 {
                 continue; // the two substituents form a ring
             }
@@ -184,18 +173,7 @@ impl Ctx<'_> {
                 self.orb[x] = map[old] as u8;
             }
             // Both branches carry the note.
-            let mut seen1 = 1u64 << nn | 1u64 << r1;
-            let mut front = 1u64 << r1;
-            while front != 0 {
-                let mut next = 0;
-                for x in bits(front) {
-                    next |= self.v.adj[x];
-                }
-                next &= !seen1;
-                seen1 |= next;
-                front = next;
-            }
-            self.rotamer |= branch | (seen1 & !(1u64 << nn));
+            self.rotamer |= branch | self.v.branch(r1, nn);
         }
     }
 }

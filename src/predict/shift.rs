@@ -182,18 +182,7 @@ impl Ctx<'_> {
     /// depends on the input's atom numbering.
     pub(super) fn alkene_reference_key(&self, c2: usize, y: usize) -> (u32, u8, u8, u64) {
         let v = self.v;
-        let mut seen = 1u64 << c2 | 1u64 << y;
-        let mut front = 1u64 << y;
-        while front != 0 {
-            let mut next = 0;
-            for x in bits(front) {
-                next |= v.adj[x];
-            }
-            next &= !seen;
-            seen |= next;
-            front = next;
-        }
-        let size = (seen & !(1u64 << c2)).count_ones();
+        let size = v.branch(y, c2).count_ones();
         // Then the atoms one and two bonds out (a hash: unequal hashes order
         // the substituents the same way in any numbering; equal ones are a
         // tie, settled by canonical positions).

@@ -275,6 +275,23 @@ impl View {
         true
     }
 
+    /// The atoms reachable from `from` without passing through `cut` (the
+    /// branch hanging from `cut` at `from`, `from` included, `cut` not).
+    pub fn branch(&self, from: usize, cut: usize) -> u64 {
+        let mut seen = 1u64 << cut | 1u64 << from;
+        let mut front = 1u64 << from;
+        while front != 0 {
+            let mut next = 0;
+            for x in bits(front) {
+                next |= self.adj[x];
+            }
+            next &= !seen;
+            seen |= next;
+            front = next;
+        }
+        seen & !(1u64 << cut)
+    }
+
     /// Ring distance (bonds along the ring) between two atoms of ring `r`.
     pub fn ring_distance(&self, r: u64, a: usize, b: usize) -> usize {
         let size = r.count_ones() as usize;
