@@ -146,10 +146,11 @@ fn renumbered(mol: &isomerank::chem::Molecule, mut seed: u64) -> isomerank::chem
 
 /// The ranking predicts from the generator's compact isomer and its list of
 /// skeleton automorphisms (no molecule, no canonical labelling); `predict`
-/// on a molecule labels it canonically. Both must give the same multiplet list for every isomer,
-/// and the same as for the structure with its atoms renumbered (same bonds,
-/// same Kekulé form): a prediction may not depend on the atom order. Reference: the canonical-labelling path, itself
-/// checked against RDKit above. Formulas with N and S as well as C, H, O,
+/// on a molecule labels it canonically. Both must give the same multiplet
+/// list for every isomer, and the same as for the structure with its atoms
+/// renumbered (same bonds, same Kekulé form): a prediction may not depend on
+/// the atom order. Reference: the canonical-labelling path, itself checked
+/// against RDKit above. Formulas with N and S as well as C, H, O,
 /// and enough rings and double bonds for symmetric and aromatic skeletons.
 #[test]
 fn generator_symmetry_gives_the_same_prediction_as_a_canonical_labelling() {

@@ -378,6 +378,8 @@ mod tests {
         assert_eq!(here, there);
     }
 
+    // Reference: the plain `score::score` path (itself checked against an
+    // exhaustive search in assign.rs); internal consistency, no outside source.
     #[test]
     fn prepared_score_equals_plain_score_bit_for_bit() {
         let model = ScoringModel::embedded();
@@ -424,6 +426,8 @@ mod tests {
         );
     }
 
+    // Source: property of the bound (every dropped term is >= 0), checked
+    // against the exact score on random instances.
     #[test]
     fn may_beat_never_rejects_a_candidate_below_the_cutoff() {
         let model = ScoringModel::embedded();
