@@ -315,47 +315,110 @@ fn shortlist_ranks_the_expected_ester_first_with_names() {
     assert_eq!(v["candidates"][0]["name"], "ethyl acetate");
 }
 
+/// A C7H8O peak list (benzyl alcohol in CDCl3; shifts from memory). Any
+/// list would do: the test compares two paths of our own.
+const BENZYL_ALCOHOL: &str =
+    "1H NMR (400 MHz, CDCl3) δ 7.40-7.26 (m, 5H), 4.67 (s, 2H), 1.90 (br s, 1H)";
+
+fn json_of(out: &std::process::Output) -> serde_json::Value {
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    serde_json::from_slice(&out.stdout).unwrap()
+}
+
+// Reference: the same ranking straight from the generator (our own other
+// path). The shortlist reader parses chunks of 64, 128, ... lines, so the
+// 8333 plausible C7H8O isomers span eight chunks and the cutoff of earlier
+// chunks is applied to later ones.
 #[test]
 fn isomers_output_composes_with_shortlist_mode() {
-    let iso = isomerank(&["isomers", "C4H8O2", "--plausible"], None);
+    let iso = isomerank(&["isomers", "C7H8O", "--plausible"], None);
     assert_eq!(iso.status.code(), Some(0));
     let list = String::from_utf8(iso.stdout).unwrap();
-    let piped = isomerank(
-        &[
+    assert_eq!(list.lines().count(), 8333);
+    let rank = |stdin: Option<&str>| {
+        let mut args = vec![
             "rank",
-            "C4H8O2",
-            "--candidates",
-            "-",
+            "C7H8O",
             "--peaks",
-            ETHYL_ACETATE,
+            BENZYL_ALCOHOL,
             "--format",
             "json",
-        ],
-        Some(&list),
-    );
-    let direct = isomerank(
-        &[
-            "rank",
-            "C4H8O2",
-            "--peaks",
-            ETHYL_ACETATE,
-            "--format",
-            "json",
-        ],
-        None,
-    );
-    let a: serde_json::Value = serde_json::from_slice(&piped.stdout).unwrap();
-    let b: serde_json::Value = serde_json::from_slice(&direct.stdout).unwrap();
-    assert_eq!(a["isomers_considered"], b["isomers_considered"]);
-    let smiles = |v: &serde_json::Value| -> Vec<String> {
+            "--top",
+            "5",
+        ];
+        if stdin.is_some() {
+            args.extend(["--candidates", "-"]);
+        }
+        json_of(&isomerank(&args, stdin))
+    };
+    let piped = rank(Some(&list));
+    let direct = rank(None);
+    assert_eq!(piped["isomers_considered"], 8333);
+    assert_eq!(direct["isomers_considered"], 8333);
+    let rows = |v: &serde_json::Value| -> Vec<(String, f64, f64, u64)> {
         v["candidates"]
             .as_array()
             .unwrap()
             .iter()
-            .map(|c| c["smiles"].as_str().unwrap().to_string())
+            .map(|c| {
+                (
+                    c["smiles"].as_str().unwrap().to_string(),
+                    c["cost"].as_f64().unwrap(),
+                    c["probability"].as_f64().unwrap(),
+                    c["group"].as_u64().unwrap(),
+                )
+            })
             .collect()
     };
-    assert_eq!(smiles(&a), smiles(&b));
+    let (a, b) = (rows(&piped), rows(&direct));
+    assert_eq!(a.len(), 5);
+    for (x, y) in a.iter().zip(&b) {
+        assert_eq!((&x.0, x.1, x.3), (&y.0, y.1, y.3));
+        // The normaliser sums the same costs in another order.
+        assert!((x.2 - y.2).abs() <= 1e-9 * y.2.max(1e-300), "{x:?} {y:?}");
+    }
+    assert_eq!(a[0].0, canonical("OCc1ccccc1"));
+
+    // The list twice, with Windows line ends, comments and blank lines in
+    // between: every structure once, the same ranking.
+    let twice = format!(
+        "# first copy\r\n{}\r\n\n# second copy\n{list}",
+        list.replace('\n', "\r\n")
+    );
+    let again = rank(Some(&twice));
+    assert_eq!(again["isomers_considered"], 8333);
+    assert_eq!(rows(&again), a);
+}
+
+#[test]
+fn shortlist_error_late_in_a_long_list_names_its_line() {
+    let iso = isomerank(&["isomers", "C7H8O", "--plausible"], None);
+    let mut lines: Vec<String> = String::from_utf8(iso.stdout)
+        .unwrap()
+        .lines()
+        .map(String::from)
+        .collect();
+    // Line 5000 (in the seventh chunk) has the wrong formula, line 7000 is
+    // not SMILES: the first in line order is reported, nothing is printed.
+    lines[4999] = "CCO".into();
+    lines[6999] = "C1CC".into();
+    fails_with(
+        &[
+            "rank",
+            "C7H8O",
+            "--peaks",
+            BENZYL_ALCOHOL,
+            "--candidates",
+            "-",
+        ],
+        Some(&lines.join("\n")),
+        "standard input, line 5000: \"CCO\" is C2H6O, not C7H8O",
+    );
 }
 
 #[test]

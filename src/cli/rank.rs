@@ -13,6 +13,8 @@ use crate::report::{self, Context, Source};
 use crate::score::ScoringModel;
 use crate::spectrum::{file, integrals, journal, SolventTable, Spectrum};
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
+use rayon::prelude::*;
+use std::collections::HashSet;
 use std::io::{IsTerminal, Read, Write};
 use std::path::PathBuf;
 
@@ -118,7 +120,7 @@ pub fn run(args: Args) -> Result<()> {
         expanded_valence: args.expanded_valence,
     };
     let shortlist = match &args.candidates {
-        Some(src) => Some(read_shortlist(src, &job.formula)?),
+        Some(src) => Some(read_shortlist(src)?),
         None => None,
     };
     let text = execute(&job, shortlist)?;
@@ -126,7 +128,7 @@ pub fn run(args: Args) -> Result<()> {
 }
 
 /// Check the options, rank, and render the report (nothing is printed here).
-pub fn execute(job: &Job, shortlist: Option<Vec<ShortlistItem>>) -> Result<String> {
+pub fn execute(job: &Job, shortlist: Option<ShortlistText>) -> Result<String> {
     if job.top == 0 {
         return Err(Error::input("--top must be at least 1"));
     }
@@ -149,10 +151,16 @@ pub fn execute(job: &Job, shortlist: Option<Vec<ShortlistItem>>) -> Result<Strin
     let (ranking, source): (Ranking, Source) =
         rank::with_standard_steps(&predictor, &opts, |steps| -> Result<_> {
             Ok(match shortlist {
-                Some(items) => (
-                    rank::rank_shortlist(items, steps, &settings),
-                    Source::Shortlist,
-                ),
+                Some(list) => {
+                    let bar = progress_bar(&format!("{} shortlist", job.formula));
+                    let mut chunks = WithProgress {
+                        chunks: ShortlistChunks::new(&list.source, &list.text, &job.formula),
+                        bar: &bar,
+                    };
+                    let r = rank::rank_shortlist_chunks(&mut chunks, steps, &settings);
+                    bar.finish_and_clear();
+                    (r?, Source::Shortlist)
+                }
                 None => {
                     let mut options = enumerate::Options {
                         expanded_valence: job.expanded_valence,
@@ -227,11 +235,16 @@ fn predict_options(predictor: &Predictor, spectrum: &Spectrum) -> PredictOptions
     o
 }
 
-/// Read a shortlist: one SMILES a line, optional name after whitespace;
-/// blank lines and lines starting with `#` are skipped. Every structure must
-/// have `formula`. Duplicates (same canonical SMILES) are kept once.
-pub fn read_shortlist(src: &str, formula: &Formula) -> Result<Vec<ShortlistItem>> {
-    let (name, text) = if src == "-" {
+/// A shortlist as read, before parsing: where it came from (for messages)
+/// and its text.
+pub struct ShortlistText {
+    pub source: String,
+    pub text: String,
+}
+
+/// Read a shortlist file (`-`: standard input).
+pub fn read_shortlist(src: &str) -> Result<ShortlistText> {
+    let (source, text) = if src == "-" {
         let mut s = String::new();
         std::io::stdin().read_to_string(&mut s).map_err(|e| {
             Error::input(format!("cannot read candidates from standard input: {e}"))
@@ -242,45 +255,156 @@ pub fn read_shortlist(src: &str, formula: &Formula) -> Result<Vec<ShortlistItem>
             .map_err(|e| Error::input(format!("cannot read candidates file {src}: {e}")))?;
         (src.to_string(), t)
     };
-    parse_shortlist(&name, &text, formula)
+    Ok(ShortlistText { source, text })
 }
 
-pub fn parse_shortlist(source: &str, text: &str, formula: &Formula) -> Result<Vec<ShortlistItem>> {
-    let mut items: Vec<ShortlistItem> = Vec::new();
-    for (i, line) in text.lines().enumerate() {
-        let n = i + 1;
+/// Lines per parsed chunk: the first chunks are small so that the ranking's
+/// cutoff is known early, later ones large enough to keep both cores busy.
+const FIRST_CHUNK_LINES: usize = 64;
+const MAX_CHUNK_LINES: usize = 4096;
+
+/// A shortlist's candidates in input order, parsed a chunk of lines at a
+/// time (in parallel within a chunk). One SMILES a line with an optional
+/// name after whitespace; blank lines and lines starting with `#` are
+/// skipped. Every structure must have the formula; a structure seen before
+/// (same canonical SMILES) is kept once, with its first name. The first bad
+/// line (in line order) ends the stream with an error naming it; a list
+/// with no structure at all ends with an error too.
+pub struct ShortlistChunks<'a> {
+    source: &'a str,
+    text: &'a str,
+    formula: &'a Formula,
+    /// Byte offset of the next unread line and its 1-based number.
+    at: usize,
+    line: usize,
+    chunk_lines: usize,
+    seen: HashSet<String>,
+    finished: bool,
+}
+
+impl<'a> ShortlistChunks<'a> {
+    pub fn new(source: &'a str, text: &'a str, formula: &'a Formula) -> ShortlistChunks<'a> {
+        ShortlistChunks {
+            source,
+            text,
+            formula,
+            at: 0,
+            line: 1,
+            chunk_lines: FIRST_CHUNK_LINES,
+            seen: HashSet::new(),
+            finished: false,
+        }
+    }
+
+    /// Share of the text read so far (0 to 1), for a progress bar.
+    pub fn fraction_read(&self) -> f64 {
+        if self.text.is_empty() {
+            1.0
+        } else {
+            self.at as f64 / self.text.len() as f64
+        }
+    }
+
+    /// Structures kept so far.
+    pub fn kept(&self) -> usize {
+        self.seen.len()
+    }
+
+    /// One line: `Ok(None)` for a blank or comment line.
+    fn parse_line(&self, n: usize, line: &str) -> Result<Option<ShortlistItem>> {
         let line = line.trim();
         if line.is_empty() || line.starts_with('#') {
-            continue;
+            return Ok(None);
         }
         let (smi, rest) = match line.find(char::is_whitespace) {
             Some(k) => (&line[..k], line[k..].trim()),
             None => (line, ""),
         };
+        let source = self.source;
         let mol = parse_smiles(smi)
             .map_err(|e| Error::input(format!("{source}, line {n}: \"{smi}\": {e}")))?;
         let f = mol.formula();
-        if f != *formula {
+        if f != *self.formula {
             return Err(Error::input(format!(
-                "{source}, line {n}: \"{smi}\" is {f}, not {formula}"
+                "{source}, line {n}: \"{smi}\" is {f}, not {}",
+                self.formula
             )));
         }
-        let canon = canonical_smiles(&mol);
-        if items.iter().any(|it| it.smiles == canon) {
-            continue;
-        }
-        items.push(ShortlistItem {
+        Ok(Some(ShortlistItem {
+            smiles: canonical_smiles(&mol),
             molecule: mol,
-            smiles: canon,
             name: (!rest.is_empty()).then(|| rest.to_string()),
-        });
+        }))
     }
-    if items.is_empty() {
-        return Err(Error::input(format!(
-            "{source}: no candidate structures (one SMILES a line)"
-        )));
+}
+
+impl Iterator for ShortlistChunks<'_> {
+    type Item = Result<Vec<ShortlistItem>>;
+
+    fn next(&mut self) -> Option<Self::Item> {
+        if self.finished {
+            return None;
+        }
+        if self.at >= self.text.len() {
+            self.finished = true;
+            return self.seen.is_empty().then(|| {
+                Err(Error::input(format!(
+                    "{}: no candidate structures (one SMILES a line)",
+                    self.source
+                )))
+            });
+        }
+        // The next lines, numbered (a line ends at \n; a \r before it is
+        // trimmed with the other white space).
+        let mut lines = Vec::with_capacity(self.chunk_lines);
+        while lines.len() < self.chunk_lines && self.at < self.text.len() {
+            let rest = &self.text[self.at..];
+            let len = rest.find('\n').map_or(rest.len(), |k| k + 1);
+            lines.push((self.line, &rest[..len]));
+            self.at += len;
+            self.line += 1;
+        }
+        self.chunk_lines = (self.chunk_lines * 2).min(MAX_CHUNK_LINES);
+        let parsed: Vec<Result<Option<ShortlistItem>>> = lines
+            .par_iter()
+            .map(|&(n, line)| self.parse_line(n, line))
+            .collect();
+        let mut items = Vec::with_capacity(parsed.len());
+        for p in parsed {
+            match p {
+                Err(e) => {
+                    self.finished = true;
+                    return Some(Err(e));
+                }
+                Ok(Some(item)) => {
+                    if self.seen.insert(item.smiles.clone()) {
+                        items.push(item);
+                    }
+                }
+                Ok(None) => {}
+            }
+        }
+        Some(Ok(items))
     }
-    Ok(items)
+}
+
+/// A shortlist's chunks, moving a progress bar by the share of the text read.
+struct WithProgress<'a, 'b> {
+    chunks: ShortlistChunks<'a>,
+    bar: &'b ProgressBar,
+}
+
+impl Iterator for WithProgress<'_, '_> {
+    type Item = Result<Vec<ShortlistItem>>;
+
+    fn next(&mut self) -> Option<Self::Item> {
+        let chunk = self.chunks.next();
+        self.bar
+            .set_position((self.chunks.fraction_read() * 1000.0) as u64);
+        self.bar
+            .set_message(format!("{} structures read", self.chunks.kept()));
+        chunk
+    }
 }
 
 /// A progress bar on stderr, only when stderr is a terminal.

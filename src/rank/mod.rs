@@ -165,35 +165,63 @@ fn evaluate(
     Some((predicted, scored))
 }
 
-/// Rank a shortlist (every item must already have the formula).
+/// Rank a shortlist (every item must already have the formula): the
+/// items in their order, as one stream (see [`rank_shortlist_chunks`]).
 pub fn rank_shortlist(items: Vec<ShortlistItem>, steps: &Steps, settings: &Settings) -> Ranking {
+    let mut chunks = std::iter::once(Ok(items));
+    rank_shortlist_chunks(&mut chunks, steps, settings)
+        .expect("a shortlist given as items has no input errors")
+}
+
+/// Rank a shortlist that arrives in chunks, in input order (a reader that
+/// parses the next chunk only when asked, so a list of a million SMILES
+/// never has to be held as molecules at once). Each chunk is predicted and
+/// scored in parallel under the cutoff published after the chunks before
+/// it, then handed to the collector in order, so the result does not depend
+/// on the thread count. Only candidates that may still reach the table keep
+/// their payload (prediction, molecule), so memory holds one chunk and the
+/// top-k. The first error a chunk reports ends the ranking with that error.
+///
+/// A short list (fewer than `settings.top` candidates) is scored completely:
+/// the cutoff stays infinite until k candidates are known.
+pub fn rank_shortlist_chunks(
+    chunks: &mut dyn Iterator<Item = Result<Vec<ShortlistItem>>>,
+    steps: &Steps,
+    settings: &Settings,
+) -> Result<Ranking> {
     let mut collector = Collector::new(settings.top, settings.model.ranking.skip_margin);
     let prepared = Prepared::new(settings.spectrum, settings.model);
-    // A shortlist is small: score everything exactly (no cutoff), in parallel,
-    // then collect in input order.
-    let outcomes: Vec<Outcome<Box<Payload>>> = items
-        .into_par_iter()
-        .map(
-            |it| match evaluate(&it.molecule, None, steps, &prepared, f64::INFINITY) {
-                Some((predicted, scored)) => Outcome::Scored {
-                    cost: scored.cost,
-                    key: it.smiles.clone(),
-                    item: Box::new(Payload {
-                        molecule: it.molecule,
-                        smiles: it.smiles,
-                        name: it.name,
-                        predicted,
-                        scored,
-                    }),
+    let shared = collector.cutoff();
+    for chunk in chunks {
+        let chunk = chunk?;
+        let (cutoff, top_k) = (shared.get(), shared.top_k());
+        let outcomes: Vec<Outcome<Box<Payload>>> = chunk
+            .into_par_iter()
+            .map(
+                |it| match evaluate(&it.molecule, None, steps, &prepared, cutoff) {
+                    Some((_, scored)) if scored.cost > top_k => {
+                        Outcome::CostOnly { cost: scored.cost }
+                    }
+                    Some((predicted, scored)) => Outcome::Scored {
+                        cost: scored.cost,
+                        key: it.smiles.clone(),
+                        item: Box::new(Payload {
+                            molecule: it.molecule,
+                            smiles: it.smiles,
+                            name: it.name,
+                            predicted,
+                            scored,
+                        }),
+                    },
+                    None => Outcome::Skipped,
                 },
-                None => Outcome::Skipped,
-            },
-        )
-        .collect();
-    for o in outcomes {
-        collector.push(o);
+            )
+            .collect();
+        for o in outcomes {
+            collector.push(o);
+        }
     }
-    finish(collector, steps, settings, 0, Vec::new())
+    Ok(finish(collector, steps, settings, 0, Vec::new()))
 }
 
 /// Progress callback: (candidates scored so far, fraction of the search done).
