@@ -93,12 +93,17 @@ impl Ctx<'_> {
         if kind != DOUBLE || v.element[c2] != Element::C || v.deg[a] != 1 {
             return None;
         }
-        let others: Vec<usize> = v
-            .neighbours(c2)
-            .map(|(x, _)| x)
-            .filter(|&x| x != a)
-            .collect();
-        match (others.len(), v.h[c2]) {
+        let mut others = [0usize; 2];
+        let mut count = 0;
+        for (x, _) in v.neighbours(c2) {
+            if x != a {
+                if count < 2 {
+                    others[count] = x;
+                }
+                count += 1;
+            }
+        }
+        match (count, v.h[c2]) {
             (1, 1) => Some(c2),
             (2, 0) if self.orb[others[0]] != self.orb[others[1]] => Some(c2),
             _ => None,

@@ -355,6 +355,10 @@ pub(crate) struct Ctx<'a> {
     pub has_stereocentre: bool,
     /// Atoms of tertiary-amide N-substituents split by slow C-N rotation.
     pub rotamer: u64,
+    /// Per alkene carbon with two heavy substituents: how their reference
+    /// keys compare (0 not yet known; 1, 2, 3: less, equal, greater), see
+    /// `Ctx::alkene_reference_order`.
+    reference_order: [std::cell::Cell<u8>; view::MAX_ATOMS],
 }
 
 const MEMO_UNSET: u8 = 255;
@@ -371,6 +375,7 @@ impl<'a> Ctx<'a> {
             env: [0; view::MAX_ATOMS],
             has_stereocentre: false,
             rotamer: 0,
+            reference_order: [const { std::cell::Cell::new(0) }; view::MAX_ATOMS],
         }
     }
 
@@ -442,7 +447,7 @@ impl<'a> Ctx<'a> {
                         let mut others = v.neighbours(c2).map(|x| x.0).filter(|&x| x != c1);
                         let (x, y) = (others.next(), others.next());
                         matches!((x, y), (Some(x), Some(y)) if self.orb[x] != self.orb[y]
-                        && self.alkene_reference_key(c2, x) == self.alkene_reference_key(c2, y))
+                        && self.alkene_reference_order(c2, x, y).is_eq())
                     }
             })
         })

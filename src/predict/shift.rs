@@ -104,11 +104,8 @@ impl Ctx<'_> {
             0 => [Place::H, Place::H],
             1 => [Place::Atom(h2[0]), Place::H],
             _ => {
-                let (k0, k1) = (
-                    self.alkene_reference_key(c2, h2[0]),
-                    self.alkene_reference_key(c2, h2[1]),
-                );
-                let first = k0 > k1 || k0 == k1 && self.orb[h2[0]] <= self.orb[h2[1]];
+                let order = self.alkene_reference_order(c2, h2[0], h2[1]);
+                let first = order.is_gt() || order.is_eq() && self.orb[h2[0]] <= self.orb[h2[1]];
                 let (x, y) = if first {
                     (h2[0], h2[1])
                 } else {
@@ -180,7 +177,30 @@ impl Ctx<'_> {
     /// practice). Equal keys fall back to the orbit ids, which are then
     /// canonical positions (`Ctx::needs_canonical_ids`), so the choice never
     /// depends on the input's atom numbering.
-    pub(super) fn alkene_reference_key(&self, c2: usize, y: usize) -> (u32, u8, u8, u64) {
+    /// `alkene_reference_key(c2, x)` against `alkene_reference_key(c2, y)`,
+    /// where x and y are the two heavy substituents of `c2` other than its
+    /// alkene partner, in neighbour order: remembered per `c2`, because the
+    /// shifts, the couplings and the orbit check all ask (each key walks two
+    /// bonds out).
+    pub(super) fn alkene_reference_order(
+        &self,
+        c2: usize,
+        x: usize,
+        y: usize,
+    ) -> std::cmp::Ordering {
+        use std::cmp::Ordering;
+        let known = self.reference_order[c2].get();
+        if known != 0 {
+            return [Ordering::Less, Ordering::Equal, Ordering::Greater][known as usize - 1];
+        }
+        let order = self
+            .alkene_reference_key(c2, x)
+            .cmp(&self.alkene_reference_key(c2, y));
+        self.reference_order[c2].set((order as i8 + 2) as u8);
+        order
+    }
+
+    fn alkene_reference_key(&self, c2: usize, y: usize) -> (u32, u8, u8, u64) {
         let v = self.v;
         let size = v.branch(y, c2).count_ones();
         // Then the atoms one and two bonds out (a hash: unequal hashes order
