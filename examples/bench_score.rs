@@ -10,11 +10,12 @@
 //! ranking cutoff, for a profiler.)
 //! (C9H10O by default: about 0.7 million isomers, about 1 GB of predictions.)
 
-use isomerank::chem::Formula;
-use isomerank::enumerate::{self, rules::RuleSet};
-use isomerank::predict::{PredictedSignal, Predictor};
-use isomerank::score::{self, GroupShift, Prepared, Scored, ScoringModel};
-use isomerank::spectrum::{integrals, journal, SolventTable};
+mod common;
+
+use common::{thread_cpu_seconds, Setup, PROPIOPHENONE};
+use isomerank::enumerate;
+use isomerank::predict::PredictedSignal;
+use isomerank::score::{self, GroupShift, Prepared, Scored};
 use std::alloc::{GlobalAlloc, Layout, System};
 use std::sync::atomic::{AtomicU64, Ordering};
 use std::time::Instant;
@@ -36,22 +37,6 @@ unsafe impl GlobalAlloc for Counting {
 
 #[global_allocator]
 static GLOBAL: Counting = Counting;
-
-/// Propiophenone in CDCl3, as in bench_rank (shifts from memory; any C9H10O
-/// list would do).
-const PEAKS: &str = "1H NMR (400 MHz, CDCl3) δ 7.96 (m, 2H), 7.55 (m, 1H), 7.45 (m, 2H), \
-                     3.00 (q, J = 7.2 Hz, 2H), 1.22 (t, J = 7.2 Hz, 3H)";
-
-/// CPU time of the calling thread, seconds (Linux, /proc/thread-self/stat):
-/// the machine is shared, so wall time alone is noisy.
-fn thread_cpu_seconds() -> f64 {
-    let stat = std::fs::read_to_string("/proc/thread-self/stat").unwrap_or_default();
-    let rest = stat.rsplit(')').next().unwrap_or("");
-    let f: Vec<&str> = rest.split_whitespace().collect();
-    let ticks: f64 = f.get(11).and_then(|x| x.parse().ok()).unwrap_or(0.0)
-        + f.get(12).and_then(|x| x.parse().ok()).unwrap_or(0.0);
-    ticks / 100.0
-}
 
 /// Time `f` over all candidates: (wall µs, thread-CPU µs) per candidate,
 /// and how many returned true.
@@ -108,21 +93,10 @@ fn main() {
     let text = std::env::args()
         .nth(1)
         .unwrap_or_else(|| "C9H10O".to_string());
-    let formula = Formula::parse(&text).expect("formula");
-    let options = enumerate::Options {
-        rules: RuleSet::none(),
-        ..Default::default()
-    };
-    let spectrum = integrals::build(
-        journal::parse(PEAKS).expect("peaks"),
-        &formula,
-        &SolventTable::embedded(),
-    )
-    .expect("spectrum");
-    let predictor = Predictor::embedded().expect("predictor");
-    let mut opts = predictor.options("CDCl3", 400.0).expect("options");
-    opts.notes = false;
-    let model = ScoringModel::embedded();
+    // The propiophenone list of bench_rank, whatever the formula.
+    let setup = Setup::new(&text, PROPIOPHENONE);
+    let (formula, options, spectrum) = (&setup.formula, &setup.options, &setup.spectrum);
+    let (predictor, opts, model) = (&setup.predictor, &setup.opts, &setup.model);
 
     // Predict everything once, kept flat (one Vec of signals and offsets)
     // with the atom lists dropped, to keep the memory down.
@@ -130,10 +104,10 @@ fn main() {
     let mut signals: Vec<PredictedSignal> = Vec::new();
     let mut starts: Vec<usize> = vec![0];
     enumerate::for_each_ordered(
-        &formula,
-        &options,
+        formula,
+        options,
         |iso| {
-            let mut p = predictor.predict(&iso.molecule(), &opts);
+            let mut p = predictor.predict(&iso.molecule(), opts);
             for s in &mut p {
                 s.atoms = Vec::new();
                 s.notes = Vec::new();
@@ -167,7 +141,7 @@ fn main() {
         rayon::current_num_threads()
     );
 
-    let prepared = Prepared::new(&spectrum, &model);
+    let prepared = Prepared::new(spectrum, model);
     let best = (0..n)
         .filter_map(|i| prepared.score(cand(i), f64::INFINITY))
         .map(|s| s.cost)
@@ -217,7 +191,7 @@ fn main() {
         let bad = (0..n)
             .filter(|&i| {
                 !same(
-                    &score::score(cand(i), &spectrum, &model, cutoff),
+                    &score::score(cand(i), spectrum, model, cutoff),
                     &prepared.score(cand(i), cutoff),
                 )
             })
@@ -230,7 +204,7 @@ fn main() {
     );
     for cutoff in [f64::INFINITY, ranking_cutoff] {
         let a = time_hot(n, warm, |i| {
-            score::score(cand(i), &spectrum, &model, cutoff).is_some()
+            score::score(cand(i), spectrum, model, cutoff).is_some()
         });
         let b = time_hot(n, warm, |i| prepared.score(cand(i), cutoff).is_some());
         let c = time_hot(n, warm, |i| prepared.may_beat(groups(i), cutoff));
@@ -245,7 +219,7 @@ fn main() {
     println!("single thread, µs per candidate, streaming over all stored predictions (wall / thread CPU):");
     for cutoff in [f64::INFINITY, ranking_cutoff] {
         let (w, c, hits) = time(n, |i| {
-            score::score(cand(i), &spectrum, &model, cutoff).is_some()
+            score::score(cand(i), spectrum, model, cutoff).is_some()
         });
         println!(
             "  score::score          cutoff {cutoff:>7.3}: {w:6.3} / {c:6.3}  ({hits} scored)"

@@ -37,18 +37,16 @@
 //!
 //! Run: `cargo run --release --example study_cheap_bounds [FORMULA [PEAKS]]`
 
-use isomerank::chem::{Formula, Molecule};
-use isomerank::enumerate::{self, rules::RuleSet};
-use isomerank::predict::{PredictedSignal, Predictor};
+mod common;
+
+use common::Setup;
+use isomerank::chem::Molecule;
+use isomerank::enumerate;
+use isomerank::predict::PredictedSignal;
 use isomerank::rank::{self, Settings};
 use isomerank::score::{self, assign, ScoringModel};
-use isomerank::spectrum::{integrals, journal, SolventTable, Spectrum};
+use isomerank::spectrum::Spectrum;
 use std::collections::{HashMap, HashSet, VecDeque};
-
-/// Propiophenone in CDCl3 (shifts from memory), the list of
-/// `examples/bench_rank.rs`.
-const PEAKS: &str = "1H NMR (400 MHz, CDCl3) δ 7.96 (m, 2H), 7.55 (m, 1H), 7.45 (m, 2H), \
-                     3.00 (q, J = 7.2 Hz, 2H), 1.22 (t, J = 7.2 Hz, 3H)";
 
 const KEYS: usize = 4;
 const RADII: [usize; 4] = [1, 2, 3, 4];
@@ -224,34 +222,19 @@ fn may_beat(
 }
 
 fn main() {
-    let mut args = std::env::args().skip(1);
-    let text = args.next().unwrap_or_else(|| "C9H10O".to_string());
-    let peaks = args.next().unwrap_or_else(|| PEAKS.to_string());
-    let formula = Formula::parse(&text).expect("formula");
-    let options = enumerate::Options {
-        rules: RuleSet::none(),
-        ..Default::default()
-    };
-    let spectrum = integrals::build(
-        journal::parse(&peaks).expect("peaks"),
-        &formula,
-        &SolventTable::embedded(),
-    )
-    .expect("spectrum");
-    let predictor = Predictor::embedded().expect("predictor");
-    let mut opts = predictor.options("CDCl3", 400.0).expect("options");
-    opts.notes = false;
-    let model = ScoringModel::embedded();
+    let setup = Setup::from_args();
+    let (formula, options, spectrum) = (&setup.formula, &setup.options, &setup.spectrum);
+    let (predictor, opts, model) = (&setup.predictor, &setup.opts, &setup.model);
     let top = 10;
 
     // The final cutoff, from the ranking itself.
     let settings = Settings {
-        spectrum: &spectrum,
-        model: &model,
+        spectrum,
+        model,
         top,
     };
-    let ranking = rank::with_standard_steps(&predictor, &opts, |steps| {
-        rank::rank_formula(&formula, &options, steps, &settings, &mut |_, _| {})
+    let ranking = rank::with_standard_steps(predictor, opts, |steps| {
+        rank::rank_formula(formula, options, steps, &settings, &mut |_, _| {})
     })
     .expect("ranking");
     let costs: Vec<f64> = ranking.candidates.iter().map(|c| c.cost).collect();
@@ -262,7 +245,10 @@ fn main() {
         f64::INFINITY
     };
     let cutoff = kth.max(best + model.ranking.skip_margin);
-    println!("formula {formula}; peaks: {peaks}");
+    println!(
+        "formula {formula}; {} observed multiplets",
+        spectrum.multiplets.len()
+    );
     println!(
         "best cost {best:.2}, {top}th {kth:.2}: final cutoff {cutoff:.2}; first: {}",
         ranking.candidates[0].smiles
@@ -270,8 +256,8 @@ fn main() {
 
     let mut all: Vec<Candidate> = Vec::new();
     enumerate::for_each_ordered(
-        &formula,
-        &options,
+        formula,
+        options,
         |iso| {
             let m = iso.molecule();
             let skeleton = (0..m.atom_count())
@@ -281,7 +267,7 @@ fn main() {
                 })
                 .collect();
             Some(Candidate {
-                predicted: predictor.predict(&m, &opts),
+                predicted: predictor.predict(&m, opts),
                 keys: (0..m.atom_count()).map(|a| keys_of(&m, a)).collect(),
                 skeleton,
                 local: (0..m.atom_count()).map(|a| local_of(&m, a)).collect(),
@@ -298,22 +284,19 @@ fn main() {
     let share = |k: usize| format!("{k} ({:.1}%)", 100.0 * k as f64 / n as f64);
     println!("{n} isomers; candidates a bound lets through at the final cutoff:");
 
-    let exact = all
-        .iter()
-        .filter(|c| {
-            may_beat(
-                &c.predicted,
-                &spectrum,
-                &model,
-                cutoff,
-                |g| {
-                    let p = &c.predicted[g];
-                    (p.shift, p.shift, p.sigma)
-                },
-                false,
-            )
-        })
-        .count();
+    // How many candidates pass with these shift intervals per group.
+    let pass = |range: &dyn Fn(&Candidate, usize) -> (f64, f64, f64), mult: bool| {
+        all.iter()
+            .filter(|c| may_beat(&c.predicted, spectrum, model, cutoff, |g| range(c, g), mult))
+            .count()
+    };
+    let exact = pass(
+        &|c, g| {
+            let p = &c.predicted[g];
+            (p.shift, p.shift, p.sigma)
+        },
+        false,
+    );
     println!(
         "  exact group shifts (the ranking's gate):          {}",
         share(exact)
@@ -322,25 +305,11 @@ fn main() {
         let iv = intervals(&all, k);
         let width = iv.values().map(|x| x.1 - x.0).sum::<f64>() / iv.len() as f64;
         let range = |c: &Candidate, g: usize| iv[&c.keys[c.predicted[g].atoms[0]][k]];
-        let pass = |mult: bool| {
-            all.iter()
-                .filter(|c| {
-                    may_beat(
-                        &c.predicted,
-                        &spectrum,
-                        &model,
-                        cutoff,
-                        |g| range(c, g),
-                        mult,
-                    )
-                })
-                .count()
-        };
         println!(
             "  key K{k} ({} keys, mean interval {width:.2} ppm): shifts only {}; with exact multiplicity and J {}",
             iv.len(),
-            share(pass(false)),
-            share(pass(true))
+            share(pass(&range, false)),
+            share(pass(&range, true))
         );
     }
 
