@@ -12,6 +12,13 @@ const ETHYL_ACETATE: &str =
     "1H NMR (400 MHz, CDCl3) δ 4.12 (q, J = 7.1 Hz, 2H), 2.05 (s, 3H), 1.26 (t, J = 7.1 Hz, 3H)";
 
 /// Run and expect a bad-input failure whose stderr contains `needle`.
+/// `rank C4H8O2 --peaks ETHYL_ACETATE` followed by `extra`.
+fn ethyl_acetate<'a>(extra: &[&'a str]) -> Vec<&'a str> {
+    let mut args = vec!["rank", "C4H8O2", "--peaks", ETHYL_ACETATE];
+    args.extend_from_slice(extra);
+    args
+}
+
 fn fails_with(args: &[&str], stdin: Option<&str>, needle: &str) {
     let out = isomerank(args, stdin);
     let err = String::from_utf8_lossy(&out.stderr);
@@ -21,6 +28,17 @@ fn fails_with(args: &[&str], stdin: Option<&str>, needle: &str) {
         err.contains(needle),
         "args {args:?}: stderr {err:?} lacks {needle:?}"
     );
+}
+
+/// The standard output of a run that must succeed (exit 0).
+fn stdout_of(out: std::process::Output) -> String {
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8(out.stdout).unwrap()
 }
 
 fn temp_file(name: &str, text: &str) -> std::path::PathBuf {
@@ -34,73 +52,55 @@ fn temp_file(name: &str, text: &str) -> std::path::PathBuf {
     p
 }
 
+/// Each peak list fails for C4H8O2 with a message containing the text.
+fn peaks_fail(cases: &[(&str, &str)]) {
+    for (peaks, needle) in cases {
+        fails_with(&["rank", "C4H8O2", "--peaks", peaks], None, needle);
+    }
+}
+
 #[test]
 fn peak_text_errors_name_entry_and_character() {
-    fails_with(
-        &[
-            "rank",
-            "C4H8O2",
-            "--peaks",
+    peaks_fail(&[
+        (
             "4.12 (q, 2H), 1.26 (t, 3H), 2.05 (s 3H",
-        ],
-        None,
-        "entry 3 \"2.05 (s 3H\": missing \")\"",
-    );
-    fails_with(
-        &["rank", "C4H8O2", "--peaks", "4.12 (q, 2H), 2.05 (x, 3H)"],
-        None,
-        "entry 2 \"2.05 (x, 3H)\": \"x\" at character 21 is not a multiplicity",
-    );
-    fails_with(
-        &["rank", "C4H8O2", "--peaks", "4.12 q 2H"],
-        None,
-        "entry 1 \"4.12 q 2H\": unexpected \"q\" at character 6",
-    );
-    fails_with(&["rank", "C4H8O2", "--peaks", ""], None, "no multiplets");
-    fails_with(
-        &["rank", "C4H8O2", "--peaks", "72.1 (s, 3H)"],
-        None,
-        "shift 72.1 ppm is outside the 1H range",
-    );
-    fails_with(
-        &["rank", "C4H8O2", "--peaks", "4.12 (q, J = 70 Hz, 2H)"],
-        None,
-        "J = 70 Hz",
-    );
-    fails_with(
-        &["rank", "C4H8O2", "--peaks", "4.12 (q, 2H), (s, 3H)"],
-        None,
-        "entry 2 \"(s, 3H)\": expected a chemical shift",
-    );
-    fails_with(
-        &["rank", "C4H8O2", "--peaks", "4.12 (2H)"],
-        None,
-        "entry 1 \"4.12 (2H)\": no multiplicity",
-    );
+            "entry 3 \"2.05 (s 3H\": missing \")\"",
+        ),
+        (
+            "4.12 (q, 2H), 2.05 (x, 3H)",
+            "entry 2 \"2.05 (x, 3H)\": \"x\" at character 21 is not a multiplicity",
+        ),
+        (
+            "4.12 q 2H",
+            "entry 1 \"4.12 q 2H\": unexpected \"q\" at character 6",
+        ),
+        ("", "no multiplets"),
+        ("72.1 (s, 3H)", "shift 72.1 ppm is outside the 1H range"),
+        ("4.12 (q, J = 70 Hz, 2H)", "J = 70 Hz"),
+        (
+            "4.12 (q, 2H), (s, 3H)",
+            "entry 2 \"(s, 3H)\": expected a chemical shift",
+        ),
+        ("4.12 (2H)", "entry 1 \"4.12 (2H)\": no multiplicity"),
+    ]);
 }
 
 #[test]
 fn integral_errors_show_the_numbers() {
-    fails_with(
-        &[
-            "rank",
-            "C4H8O2",
-            "--peaks",
+    peaks_fail(&[
+        (
             "4.12 (q, 2H), 2.05 (s, 3H), 1.26 (t, 6H)",
-        ],
-        None,
-        "the integrals add up to 11 H but C4H8O2 has 8 H",
-    );
-    fails_with(
-        &["rank", "C4H8O2", "--peaks", "4.12 (q, 2H), 2.05 (s, 1.5)"],
-        None,
-        "entry 2 gives a relative number (1.50) but entry 1 gave an H count",
-    );
-    fails_with(
-        &["rank", "C4H8O2", "--peaks", "4.12 (q, 2), 2.05 (s)"],
-        None,
-        "entry 2 has no integral: relative integrals",
-    );
+            "the integrals add up to 11 H but C4H8O2 has 8 H",
+        ),
+        (
+            "4.12 (q, 2H), 2.05 (s, 1.5)",
+            "entry 2 gives a relative number (1.50) but entry 1 gave an H count",
+        ),
+        (
+            "4.12 (q, 2), 2.05 (s)",
+            "entry 2 has no integral: relative integrals",
+        ),
+    ]);
 }
 
 #[test]
@@ -110,13 +110,7 @@ fn too_few_integrals_are_reported_not_rejected() {
         &["rank", "C2H6O", "--peaks", "3.72 (q, 2H), 1.25 (t, 3H)"],
         None,
     );
-    assert_eq!(
-        out.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let text = String::from_utf8(out.stdout).unwrap();
+    let text = stdout_of(out);
     assert!(
         text.contains("add up to 5 H of the 6 H in C2H6O: 1 H not observed"),
         "{text}"
@@ -185,17 +179,7 @@ fn spectrum_file_ranks_like_the_text() {
         ],
         None,
     );
-    let b = isomerank(
-        &[
-            "rank",
-            "C4H8O2",
-            "--peaks",
-            ETHYL_ACETATE,
-            "--format",
-            "json",
-        ],
-        None,
-    );
+    let b = isomerank(&ethyl_acetate(&["--format", "json"]), None);
     assert_eq!(a.status.code(), Some(0));
     assert_eq!(a.stdout, b.stdout);
 }
@@ -203,21 +187,12 @@ fn spectrum_file_ranks_like_the_text() {
 #[test]
 fn option_errors() {
     fails_with(
-        &["rank", "C4H8O2", "--peaks", ETHYL_ACETATE, "--top", "0"],
+        &ethyl_acetate(&["--top", "0"]),
         None,
         "--top must be at least 1",
     );
     fails_with(
-        &[
-            "rank",
-            "C4H8O2",
-            "--peaks",
-            ETHYL_ACETATE,
-            "--top",
-            "5",
-            "--explain",
-            "6",
-        ],
+        &ethyl_acetate(&["--top", "5", "--explain", "6"]),
         None,
         "--explain 6: give a position from 1 to 5",
     );
@@ -237,51 +212,21 @@ fn option_errors() {
 
 #[test]
 fn shortlist_errors_name_the_line() {
+    for (list, needle) in [
+        (
+            "CCOC(C)=O ethyl acetate\nCC(C\n",
+            "standard input, line 2: \"CC(C\"",
+        ),
+        (
+            "# expected esters\nCCOC(C)=O\n\nCCO ethanol\n",
+            "standard input, line 4: \"CCO\" is C2H6O, not C4H8O2",
+        ),
+        ("\n# nothing\n", "no candidate structures"),
+    ] {
+        fails_with(&ethyl_acetate(&["--candidates", "-"]), Some(list), needle);
+    }
     fails_with(
-        &[
-            "rank",
-            "C4H8O2",
-            "--peaks",
-            ETHYL_ACETATE,
-            "--candidates",
-            "-",
-        ],
-        Some("CCOC(C)=O ethyl acetate\nCC(C\n"),
-        "standard input, line 2: \"CC(C\"",
-    );
-    fails_with(
-        &[
-            "rank",
-            "C4H8O2",
-            "--peaks",
-            ETHYL_ACETATE,
-            "--candidates",
-            "-",
-        ],
-        Some("# expected esters\nCCOC(C)=O\n\nCCO ethanol\n"),
-        "standard input, line 4: \"CCO\" is C2H6O, not C4H8O2",
-    );
-    fails_with(
-        &[
-            "rank",
-            "C4H8O2",
-            "--peaks",
-            ETHYL_ACETATE,
-            "--candidates",
-            "-",
-        ],
-        Some("\n# nothing\n"),
-        "no candidate structures",
-    );
-    fails_with(
-        &[
-            "rank",
-            "C4H8O2",
-            "--peaks",
-            ETHYL_ACETATE,
-            "--candidates",
-            "/nonexistent/list.smi",
-        ],
+        &ethyl_acetate(&["--candidates", "/nonexistent/list.smi"]),
         None,
         "cannot read candidates file /nonexistent/list.smi",
     );
@@ -291,25 +236,10 @@ fn shortlist_errors_name_the_line() {
 fn shortlist_ranks_the_expected_ester_first_with_names() {
     let list = "COC(=O)CC methyl propanoate\nCCOC(C)=O ethyl acetate\nCCCC(=O)O butanoic acid\n";
     let out = isomerank(
-        &[
-            "rank",
-            "C4H8O2",
-            "--peaks",
-            ETHYL_ACETATE,
-            "--candidates",
-            "-",
-            "--format",
-            "json",
-        ],
+        &ethyl_acetate(&["--candidates", "-", "--format", "json"]),
         Some(list),
     );
-    assert_eq!(
-        out.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let v = json_of(out);
     assert_eq!(v["isomers_considered"], 3);
     assert_eq!(v["candidates"][0]["smiles"], canonical("CC(=O)OCC"));
     assert_eq!(v["candidates"][0]["name"], "ethyl acetate");
@@ -320,14 +250,8 @@ fn shortlist_ranks_the_expected_ester_first_with_names() {
 const BENZYL_ALCOHOL: &str =
     "1H NMR (400 MHz, CDCl3) δ 7.40-7.26 (m, 5H), 4.67 (s, 2H), 1.90 (br s, 1H)";
 
-fn json_of(out: &std::process::Output) -> serde_json::Value {
-    assert_eq!(
-        out.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    serde_json::from_slice(&out.stdout).unwrap()
+fn json_of(out: std::process::Output) -> serde_json::Value {
+    serde_json::from_str(&stdout_of(out)).unwrap()
 }
 
 // Reference: the same ranking straight from the generator (our own other
@@ -354,7 +278,7 @@ fn isomers_output_composes_with_shortlist_mode() {
         if stdin.is_some() {
             args.extend(["--candidates", "-"]);
         }
-        json_of(&isomerank(&args, stdin))
+        json_of(isomerank(&args, stdin))
     };
     let piped = rank(Some(&list));
     let direct = rank(None);
@@ -423,19 +347,7 @@ fn shortlist_error_late_in_a_long_list_names_its_line() {
 
 #[test]
 fn json_follows_the_schema() {
-    let out = isomerank(
-        &[
-            "rank",
-            "C4H8O2",
-            "--peaks",
-            ETHYL_ACETATE,
-            "--format",
-            "json",
-            "--top",
-            "3",
-        ],
-        None,
-    );
+    let out = isomerank(&ethyl_acetate(&["--format", "json", "--top", "3"]), None);
     assert_eq!(out.status.code(), Some(0));
     let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     assert_eq!(v["formula"], "C4H8O2");
@@ -509,10 +421,7 @@ fn output_is_deterministic_across_thread_counts() {
 
 #[test]
 fn explain_prints_the_assignment_and_the_safety_wording_ends_the_report() {
-    let out = isomerank(
-        &["rank", "C4H8O2", "--peaks", ETHYL_ACETATE, "--explain", "1"],
-        None,
-    );
+    let out = isomerank(&ethyl_acetate(&["--explain", "1"]), None);
     let text = String::from_utf8(out.stdout).unwrap();
     assert!(
         text.contains(&format!("Assignment of #1 {}", canonical("CC(=O)OCC"))),
@@ -525,10 +434,7 @@ fn explain_prints_the_assignment_and_the_safety_wording_ends_the_report() {
             .ends_with("follow the laboratory's safety rules and local regulations."),
         "{text}"
     );
-    let all = isomerank(
-        &["rank", "C4H8O2", "--peaks", ETHYL_ACETATE, "--keep-all"],
-        None,
-    );
+    let all = isomerank(&ethyl_acetate(&["--keep-all"]), None);
     let t2 = String::from_utf8(all.stdout).unwrap();
     assert!(t2.contains("Plausibility rules: off (--keep-all)"), "{t2}");
 }
@@ -536,13 +442,7 @@ fn explain_prints_the_assignment_and_the_safety_wording_ends_the_report() {
 #[test]
 fn demo_says_it_is_invented_and_ends_with_the_safety_wording() {
     let out = isomerank(&["demo"], None);
-    assert_eq!(
-        out.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let text = String::from_utf8(out.stdout).unwrap();
+    let text = stdout_of(out);
     assert!(
         text.contains("invented scenario with invented data"),
         "{text}"
