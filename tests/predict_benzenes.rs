@@ -4,21 +4,12 @@
 //! 919). Every ring H must lie within the predicted sigma; the mean absolute
 //! error is printed.
 
+mod common;
+
+use common::{data_table, DataCompound, DataTable};
 use isomerank::chem::smiles::parse_smiles;
 use isomerank::predict::Predictor;
 use serde::Deserialize;
-
-#[derive(Deserialize)]
-struct Table {
-    compound: Vec<Compound>,
-}
-
-#[derive(Deserialize)]
-struct Compound {
-    name: String,
-    smiles: String,
-    signals: Vec<Ref>,
-}
 
 #[derive(Deserialize)]
 struct Ref {
@@ -29,12 +20,7 @@ struct Ref {
 
 #[test]
 fn substituted_benzenes_handbook_shifts() {
-    let text = std::fs::read_to_string(concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/tests/data/benzenes_handbook.toml"
-    ))
-    .unwrap();
-    let table: Table = toml::from_str(&text).unwrap();
+    let table: DataTable<DataCompound<Ref>> = data_table("benzenes_handbook.toml");
     let p = Predictor::embedded().unwrap();
     let opts = p.options("CDCl3", 400.0).unwrap();
     let mut errs = Vec::new();

@@ -5,22 +5,12 @@
 //! predicted sigma and have the listed multiplicity; the mean absolute error
 //! is printed and must stay at or below 0.15 ppm (the project's goal).
 
+mod common;
+
+use common::{data_table, DataCompound, DataTable};
 use isomerank::chem::smiles::parse_smiles;
 use isomerank::predict::Predictor;
 use serde::Deserialize;
-
-#[derive(Deserialize)]
-struct Table {
-    mhz: f64,
-    compound: Vec<Compound>,
-}
-
-#[derive(Deserialize)]
-struct Compound {
-    name: String,
-    smiles: String,
-    signals: Vec<Ref>,
-}
 
 #[derive(Deserialize)]
 struct Ref {
@@ -33,14 +23,11 @@ struct Ref {
 
 #[test]
 fn gottlieb_1997_cdcl3_table() {
-    let text = std::fs::read_to_string(concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/tests/data/gottlieb1997_cdcl3.toml"
-    ))
-    .unwrap();
-    let table: Table = toml::from_str(&text).unwrap();
+    let table: DataTable<DataCompound<Ref>> = data_table("gottlieb1997_cdcl3.toml");
     let p = Predictor::embedded().unwrap();
-    let opts = p.options("CDCl3", table.mhz).unwrap();
+    let opts = p
+        .options("CDCl3", table.mhz.expect("the table gives its frequency"))
+        .unwrap();
     let mut errors = Vec::new();
     let mut errors_ch = Vec::new();
     let mut failures = Vec::new();

@@ -3,21 +3,12 @@
 //! the reported patterns from memory). The share predicted right is printed
 //! and must reach the project's goal of 95%.
 
+mod common;
+
+use common::{data_table, DataCompound, DataTable};
 use isomerank::chem::smiles::parse_smiles;
 use isomerank::predict::Predictor;
 use serde::Deserialize;
-
-#[derive(Deserialize)]
-struct Table {
-    compound: Vec<Compound>,
-}
-
-#[derive(Deserialize)]
-struct Compound {
-    name: String,
-    smiles: String,
-    signals: Vec<Ref>,
-}
 
 #[derive(Deserialize)]
 struct Ref {
@@ -27,12 +18,7 @@ struct Ref {
 
 #[test]
 fn first_order_multiplicities() {
-    let text = std::fs::read_to_string(concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/tests/data/first_order_multiplicities.toml"
-    ))
-    .unwrap();
-    let table: Table = toml::from_str(&text).unwrap();
+    let table: DataTable<DataCompound<Ref>> = data_table("first_order_multiplicities.toml");
     let p = Predictor::embedded().unwrap();
     let opts = p.options("CDCl3", 400.0).unwrap();
     let (mut total, mut right) = (0, 0);

@@ -5,6 +5,9 @@
 //! Goal (issue "ranking"): first for at least 90 %, within the first three for
 //! at least 98 %.
 
+mod common;
+
+use common::{data_table, DataTable};
 use isomerank::chem::smiles::{canonical_smiles, parse_smiles};
 use isomerank::chem::Element;
 use isomerank::enumerate::{self, rules::RuleSet};
@@ -13,11 +16,6 @@ use isomerank::rank::{self, Settings};
 use isomerank::score::ScoringModel;
 use isomerank::spectrum::{integrals, journal, SolventTable};
 use serde::Deserialize;
-
-#[derive(Deserialize)]
-struct Table {
-    compound: Vec<Compound>,
-}
 
 #[derive(Deserialize)]
 struct Compound {
@@ -32,8 +30,7 @@ struct Compound {
 fn gottlieb_1997_cdcl3_compounds_rank_first() {
     // Source: Gottlieb, Kotlyar & Nudelman, J. Org. Chem. 1997, 62, 7512, Table 1
     // (CDCl3), as transcribed with origins in tests/data/gottlieb1997_rank.toml.
-    let text = include_str!("data/gottlieb1997_rank.toml");
-    let table: Table = toml::from_str(text).expect("valid test table");
+    let table: DataTable<Compound> = data_table("gottlieb1997_rank.toml");
     let predictor = Predictor::embedded().unwrap();
     let model = ScoringModel::embedded();
     let solvents = SolventTable::embedded();

@@ -7,6 +7,8 @@
 //! saying how to get it; it never skips silently.
 #![allow(dead_code)]
 
+use serde::de::DeserializeOwned;
+use serde::Deserialize;
 use std::io::Write;
 use std::path::PathBuf;
 use std::process::{Command, Output, Stdio};
@@ -187,4 +189,30 @@ pub fn canonical(smiles: &str) -> String {
     let mol = isomerank::chem::smiles::parse_smiles(smiles)
         .unwrap_or_else(|e| panic!("test SMILES {smiles}: {e}"));
     isomerank::chem::smiles::canonical_smiles(&mol)
+}
+
+/// A table of reference compounds in `tests/data/` (TOML, `[[compound]]`
+/// rows), with the spectrometer frequency where the file gives one.
+#[derive(Deserialize)]
+pub struct DataTable<C> {
+    pub mhz: Option<f64>,
+    pub compound: Vec<C>,
+}
+
+/// A reference compound with its per-signal reference values of type `R`.
+#[derive(Deserialize)]
+pub struct DataCompound<R> {
+    pub name: String,
+    pub smiles: String,
+    pub signals: Vec<R>,
+}
+
+/// Read `tests/data/<file>`; a malformed file fails the test.
+pub fn data_table<C: DeserializeOwned>(file: &str) -> DataTable<C> {
+    let path = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/data")
+        .join(file);
+    let text =
+        std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("read {}: {e}", path.display()));
+    toml::from_str(&text).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
 }
