@@ -142,12 +142,17 @@ impl Isomer<'_> {
         self.auts
     }
 
-    /// Canonical SMILES (aromatic lower-case form).
+    /// Canonical SMILES (aromatic lower-case form), read from the compact
+    /// form by this thread's [`crate::chem::smiles::SmilesWriter`]: the
+    /// string `canonical_smiles(&self.molecule())` gives, without building
+    /// the molecule.
     pub fn smiles(&self) -> String {
-        crate::chem::smiles::canonical_smiles(&self.molecule())
+        crate::chem::smiles::with_writer(|w| w.canonical_heavy_atoms(self).to_owned())
     }
 
-    /// The general molecule type for this isomer.
+    /// The general molecule type for this isomer. Bonds are added by their
+    /// lower atom, then by the other atom (the numbering
+    /// [`crate::chem::flat::FlatMolecule::set_heavy_atoms`] gives too).
     pub fn molecule(&self) -> Molecule {
         let mut m = Molecule::new();
         let idx: Vec<_> = (0..self.node.n)
