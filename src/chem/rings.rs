@@ -146,13 +146,39 @@ impl RingInfo {
         self.start.push(0);
         self.approximate = false;
 
+        // Cycle space dimension (cyclomatic number) E - V + components.
+        let mut components = 0;
+        w.seen.clear();
+        w.seen.resize(n, false);
+        for s in 0..n {
+            if w.seen[s] {
+                continue;
+            }
+            components += 1;
+            w.seen[s] = true;
+            w.queue.clear();
+            w.queue.push(s);
+            let mut head = 0;
+            while head < w.queue.len() {
+                let v = w.queue[head];
+                head += 1;
+                for &(u, _) in mol.neighbours(v) {
+                    if !w.seen[u] {
+                        w.seen[u] = true;
+                        w.queue.push(u);
+                    }
+                }
+            }
+        }
+        let dimension = m + components - n;
+
         // A bond is in a ring exactly when its ends stay connected without
         // it; the shortest such detour plus the bond is the smallest ring
-        // through it.
+        // through it. (No detour anywhere when there is no cycle.)
         w.dist.resize(n, usize::MAX);
         self.smallest_bond_ring.clear();
         self.smallest_bond_ring.resize(m, 0);
-        for e in 0..m {
+        for e in (0..m).filter(|_| dimension > 0) {
             let (a, b) = mol.ends(e);
             let d = bfs(
                 |v| mol.neighbours(v),
@@ -187,32 +213,6 @@ impl RingInfo {
         self.atom_in_ring.clear();
         self.atom_in_ring
             .extend(self.smallest_atom_ring.iter().map(|&s| s > 0));
-
-        // Cycle space dimension (cyclomatic number) E - V + components.
-        let mut components = 0;
-        w.seen.clear();
-        w.seen.resize(n, false);
-        for s in 0..n {
-            if w.seen[s] {
-                continue;
-            }
-            components += 1;
-            w.seen[s] = true;
-            w.queue.clear();
-            w.queue.push(s);
-            let mut head = 0;
-            while head < w.queue.len() {
-                let v = w.queue[head];
-                head += 1;
-                for &(u, _) in mol.neighbours(v) {
-                    if !w.seen[u] {
-                        w.seen[u] = true;
-                        w.queue.push(u);
-                    }
-                }
-            }
-        }
-        let dimension = m + components - n;
         if dimension == 0 {
             return;
         }

@@ -37,7 +37,7 @@ pub fn canon_graph(mol: &Molecule, arom: Option<&Aromaticity>) -> CanonGraph {
 
 /// [`canon_graph`] of a [`FlatMolecule`], into `g`.
 fn fill_canon_graph(mol: &FlatMolecule, arom: Option<&Aromaticity>, g: &mut CanonGraph) {
-    *g = CanonGraph::new(mol.atom_count());
+    g.clear(mol.atom_count());
     for i in 0..mol.atom_count() {
         let element = mol.element(i).heavy_index().unwrap_or(Element::HEAVY.len()) as u32;
         let aromatic = arom.is_some_and(|x| x.atom[i]) as u32;
@@ -188,6 +188,9 @@ struct Traversal {
     /// `nbrs[start[v]..start[v + 1]]`.
     nbrs: Vec<(usize, usize)>,
     start: Vec<usize>,
+    /// Atoms by rank, and the fill position in each atom's list.
+    by_rank: Vec<usize>,
+    cursor: Vec<usize>,
     visited: Vec<bool>,
     tree_edge: Vec<bool>,
     seen_back: Vec<bool>,
@@ -201,7 +204,6 @@ struct Traversal {
     backs: Vec<(usize, usize, usize)>,
     digit_of_edge: Vec<u32>,
     digits_used: Vec<bool>,
-    order: Vec<usize>,
     in_part: Vec<bool>,
     part: Vec<usize>,
     /// Depth-first stack of (atom, next neighbour position).
@@ -217,15 +219,24 @@ impl Traversal {
         let m = mol.bond_count();
         pi_atoms_into(mol, arom, &mut self.pi);
         // Neighbours of each atom in rank order (ties, which distinct ranks
-        // never have, in bond order).
-        self.nbrs.clear();
+        // never have, in bond order): a counting sort, walking the atoms in
+        // rank order and dealing each one out to its neighbours' lists.
+        self.by_rank.clear();
+        self.by_rank.extend(0..n);
+        self.by_rank.sort_unstable_by_key(|&v| (ranks[v], v));
         self.start.clear();
         self.start.push(0);
         for v in 0..n {
-            let first = self.nbrs.len();
-            self.nbrs.extend_from_slice(mol.neighbours(v));
-            self.nbrs[first..].sort_unstable_by_key(|&(u, e)| (ranks[u], e));
-            self.start.push(self.nbrs.len());
+            self.start.push(self.start[v] + mol.degree(v));
+        }
+        self.cursor.clear();
+        self.cursor.extend_from_slice(&self.start[..n]);
+        reset(&mut self.nbrs, self.start[n], (0, 0));
+        for &u in &self.by_rank {
+            for &(v, e) in mol.neighbours(u) {
+                self.nbrs[self.cursor[v]] = (u, e);
+                self.cursor[v] += 1;
+            }
         }
         reset(&mut self.visited, n, false);
         reset(&mut self.tree_edge, m, false);
@@ -235,19 +246,14 @@ impl Traversal {
         reset(&mut self.in_part, n, false);
         self.backs.clear();
         self.digits_used.clear();
-        self.order.clear();
-        self.order.extend(0..n);
-        let degree = |v: usize| mol.degree(v);
-        self.order
-            .sort_unstable_by_key(|&v| (degree(v), ranks[v], v));
+        let key = |v: usize| (mol.degree(v), ranks[v]);
         let mut first = true;
-        for i in 0..n {
-            let start = self.order[i];
-            if self.in_part[start] {
-                continue;
-            }
-            // The connected part holding `start`; its root is the
-            // lowest-ranked atom of least degree.
+        // Parts in the order of their lowest-ranked atom of least degree,
+        // which is also the root each is written from.
+        while let Some(start) = (0..n)
+            .filter(|&v| !self.in_part[v])
+            .min_by_key(|&v| (key(v), v))
+        {
             self.part.clear();
             self.part.push(start);
             self.in_part[start] = true;
@@ -265,7 +271,7 @@ impl Traversal {
             let root = *self
                 .part
                 .iter()
-                .min_by_key(|&&v| (degree(v), ranks[v]))
+                .min_by_key(|&&v| key(v))
                 .expect("part holds start");
             self.plan(root);
             if !first {
