@@ -458,6 +458,39 @@ struct TaskResult<T> {
     flagged: Vec<u64>,
 }
 
+/// Write every isomer's canonical SMILES to `out`, one per line, in the
+/// deterministic order of [`for_each_ordered`]: what `isomerank isomers`
+/// prints. Stops at the first write error and returns it (a closed pipe is
+/// the caller's to treat as a normal end).
+pub fn write_smiles(
+    formula: &Formula,
+    opts: &Options,
+    out: &mut dyn std::io::Write,
+    progress: &mut dyn FnMut(Progress),
+) -> Result<Summary> {
+    let mut write_error = None;
+    let summary = for_each_ordered(
+        formula,
+        opts,
+        |iso| Some(iso.smiles()),
+        |s: String| match out
+            .write_all(s.as_bytes())
+            .and_then(|()| out.write_all(b"\n"))
+        {
+            Ok(()) => true,
+            Err(e) => {
+                write_error = Some(e);
+                false
+            }
+        },
+        progress,
+    )?;
+    match write_error {
+        Some(e) => Err(e.into()),
+        None => Ok(summary),
+    }
+}
+
 /// Number of isomers (of the shard, if one is given).
 pub fn count(formula: &Formula, opts: &Options) -> Result<u64> {
     Ok(for_each_ordered(formula, opts, |_| Some(()), |_| true, &mut |_| {})?.isomers)
