@@ -176,6 +176,13 @@ impl FlatMolecule {
         &self.adj[self.start[v]..self.start[v + 1]]
     }
 
+    /// Where atom `v`'s neighbours lie in the list of every atom's
+    /// neighbours (two entries per bond, atom after atom), for callers that
+    /// keep a table aligned with it.
+    pub fn neighbour_range(&self, v: usize) -> std::ops::Range<usize> {
+        self.start[v]..self.start[v + 1]
+    }
+
     /// Number of neighbours of atom `v`.
     pub fn degree(&self, v: usize) -> usize {
         self.start[v + 1] - self.start[v]

@@ -64,8 +64,16 @@ pub fn canonical_smiles(mol: &Molecule) -> String {
 /// rank per atom). Aromatic atoms and bonds follow `arom`. Disconnected
 /// molecules are written as parts joined by `.`.
 pub fn write_smiles(mol: &Molecule, arom: &Aromaticity, ranks: &[usize]) -> String {
+    let mut by_rank: Vec<usize> = (0..mol.atom_count()).collect();
+    by_rank.sort_by_key(|&v| ranks[v]);
     let mut out = String::new();
-    Traversal::default().write(&FlatMolecule::from_molecule(mol), arom, ranks, &mut out);
+    Traversal::default().write(
+        &FlatMolecule::from_molecule(mol),
+        arom,
+        ranks,
+        &by_rank,
+        &mut out,
+    );
     out
 }
 
@@ -99,7 +107,9 @@ pub struct SmilesWriter {
     arom: Aromaticity,
     canon: Canonizer,
     graph: Box<CanonGraph>,
+    /// Canonical rank of each atom, and the atoms by rank.
     ranks: Vec<usize>,
+    by_rank: Vec<usize>,
     traversal: Traversal,
     out: String,
 }
@@ -123,6 +133,7 @@ impl SmilesWriter {
             canon: Canonizer::new(),
             graph: Box::new(CanonGraph::new(0)),
             ranks: Vec::new(),
+            by_rank: Vec::new(),
             traversal: Traversal::default(),
             out: String::new(),
         }
@@ -154,20 +165,23 @@ impl SmilesWriter {
             self.rings_valid = true;
         }
         self.perceiver.perceive(mol, &self.rings, &mut self.arom);
-        self.ranks.clear();
+        self.by_rank.clear();
         if n <= MAX_ATOMS {
             fill_canon_graph(mol, Some(&self.arom), &mut self.graph);
             self.canon.run(&self.graph);
-            self.ranks.resize(n, 0);
-            for (i, &v) in self.canon.order().iter().enumerate() {
-                self.ranks[v as usize] = i;
-            }
+            self.by_rank
+                .extend(self.canon.order().iter().map(|&v| v as usize));
         } else {
-            self.ranks.extend(0..n);
+            self.by_rank.extend(0..n);
+        }
+        self.ranks.clear();
+        self.ranks.resize(n, 0);
+        for (i, &v) in self.by_rank.iter().enumerate() {
+            self.ranks[v] = i;
         }
         self.out.clear();
         self.traversal
-            .write(mol, &self.arom, &self.ranks, &mut self.out);
+            .write(mol, &self.arom, &self.ranks, &self.by_rank, &mut self.out);
         &self.out
     }
 }
@@ -177,35 +191,46 @@ impl SmilesWriter {
 #[derive(Clone, Copy, Debug)]
 enum Task {
     Atom(usize, Option<usize>),
-    Text(&'static str),
+    Paren(char),
+}
+
+/// [`Traversal::parent_bond`] of an atom not reached yet, and of a root.
+const NOT_REACHED: usize = usize::MAX;
+const ROOT: usize = usize::MAX - 1;
+/// [`Traversal::bond_role`] values.
+const UNSEEN: u8 = 0;
+const TREE: u8 = 1;
+const CLOSURE: u8 = 2;
+
+/// A ring closure: opened at the ancestor with `digit`, closed at the
+/// descendant.
+#[derive(Clone, Copy, Debug)]
+struct Closure {
+    ancestor: usize,
+    descendant: usize,
+    bond: usize,
+    digit: u32,
 }
 
 /// Work space of the depth-first writing pass.
 #[derive(Clone, Debug, Default)]
 struct Traversal {
     pi: Vec<bool>,
-    /// Neighbours (atom, bond) of atom v in rank order:
-    /// `nbrs[start[v]..start[v + 1]]`.
+    /// Neighbours (atom, bond) of each atom in rank order, each atom's at
+    /// the positions of its list in the molecule
+    /// ([`FlatMolecule::neighbour_range`]).
     nbrs: Vec<(usize, usize)>,
-    start: Vec<usize>,
-    /// Atoms by rank, and the fill position in each atom's list.
-    by_rank: Vec<usize>,
+    /// Fill position in each atom's list.
     cursor: Vec<usize>,
-    visited: Vec<bool>,
-    tree_edge: Vec<bool>,
-    seen_back: Vec<bool>,
-    /// The tree bond by which each atom was reached (`usize::MAX` for a
-    /// root or an atom not reached yet); an atom's tree children are the
-    /// neighbours reached through their bond to it.
+    /// The tree bond by which each atom was reached, [`ROOT`], or
+    /// [`NOT_REACHED`]; an atom's tree children are the neighbours reached
+    /// through their bond to it.
     parent_bond: Vec<usize>,
-    /// Ring closures (ancestor, descendant, bond) in the order the
-    /// depth-first pass found them: opened at the ancestor, closed at the
-    /// descendant.
-    backs: Vec<(usize, usize, usize)>,
-    digit_of_edge: Vec<u32>,
+    /// Per bond: [`UNSEEN`], [`TREE`] or [`CLOSURE`].
+    bond_role: Vec<u8>,
+    /// Ring closures in the order the depth-first pass found them.
+    closures: Vec<Closure>,
     digits_used: Vec<bool>,
-    in_part: Vec<bool>,
-    part: Vec<usize>,
     /// Depth-first stack of (atom, next neighbour position).
     stack: Vec<(usize, usize)>,
     tasks: Vec<Task>,
@@ -213,67 +238,45 @@ struct Traversal {
 
 impl Traversal {
     /// Write `mol` as SMILES into `out`, traversing by `ranks` (see
-    /// [`write_smiles`]).
-    fn write(&mut self, mol: &FlatMolecule, arom: &Aromaticity, ranks: &[usize], out: &mut String) {
+    /// [`write_smiles`]); `by_rank` lists the atoms in rank order.
+    fn write(
+        &mut self,
+        mol: &FlatMolecule,
+        arom: &Aromaticity,
+        ranks: &[usize],
+        by_rank: &[usize],
+        out: &mut String,
+    ) {
         let n = mol.atom_count();
         let m = mol.bond_count();
         pi_atoms_into(mol, arom, &mut self.pi);
         // Neighbours of each atom in rank order (ties, which distinct ranks
         // never have, in bond order): a counting sort, walking the atoms in
         // rank order and dealing each one out to its neighbours' lists.
-        self.by_rank.clear();
-        self.by_rank.extend(0..n);
-        self.by_rank.sort_unstable_by_key(|&v| (ranks[v], v));
-        self.start.clear();
-        self.start.push(0);
-        for v in 0..n {
-            self.start.push(self.start[v] + mol.degree(v));
-        }
+        reset(&mut self.nbrs, 2 * m, (0, 0));
         self.cursor.clear();
-        self.cursor.extend_from_slice(&self.start[..n]);
-        reset(&mut self.nbrs, self.start[n], (0, 0));
-        for &u in &self.by_rank {
+        self.cursor
+            .extend((0..n).map(|v| mol.neighbour_range(v).start));
+        for &u in by_rank {
             for &(v, e) in mol.neighbours(u) {
                 self.nbrs[self.cursor[v]] = (u, e);
                 self.cursor[v] += 1;
             }
         }
-        reset(&mut self.visited, n, false);
-        reset(&mut self.tree_edge, m, false);
-        reset(&mut self.seen_back, m, false);
-        reset(&mut self.parent_bond, n, usize::MAX);
-        reset(&mut self.digit_of_edge, m, 0);
-        reset(&mut self.in_part, n, false);
-        self.backs.clear();
+        reset(&mut self.parent_bond, n, NOT_REACHED);
+        reset(&mut self.bond_role, m, UNSEEN);
+        self.closures.clear();
         self.digits_used.clear();
-        let key = |v: usize| (mol.degree(v), ranks[v]);
+        // Connected parts in the order of their lowest-ranked atom of least
+        // degree, each written from that atom: with distinct ranks, the
+        // least atom not yet written is the least of its own part, and
+        // planning a part reaches all of it.
         let mut first = true;
-        // Parts in the order of their lowest-ranked atom of least degree,
-        // which is also the root each is written from.
-        while let Some(start) = (0..n)
-            .filter(|&v| !self.in_part[v])
-            .min_by_key(|&v| (key(v), v))
+        while let Some(root) = (0..n)
+            .filter(|&v| self.parent_bond[v] == NOT_REACHED)
+            .min_by_key(|&v| (mol.degree(v), ranks[v], v))
         {
-            self.part.clear();
-            self.part.push(start);
-            self.in_part[start] = true;
-            let mut k = 0;
-            while k < self.part.len() {
-                let v = self.part[k];
-                for &(u, _) in &self.nbrs[self.start[v]..self.start[v + 1]] {
-                    if !self.in_part[u] {
-                        self.in_part[u] = true;
-                        self.part.push(u);
-                    }
-                }
-                k += 1;
-            }
-            let root = *self
-                .part
-                .iter()
-                .min_by_key(|&&v| key(v))
-                .expect("part holds start");
-            self.plan(root);
+            self.plan(mol, root);
             if !first {
                 out.push('.');
             }
@@ -282,32 +285,33 @@ impl Traversal {
         }
     }
 
-    fn nbrs_of(&self, v: usize) -> &[(usize, usize)] {
-        &self.nbrs[self.start[v]..self.start[v + 1]]
-    }
-
     /// Depth-first pass from `root` (iterative, so long chains cannot
     /// overflow the stack): tree bonds and ring closures.
-    fn plan(&mut self, root: usize) {
-        self.visited[root] = true;
+    fn plan(&mut self, mol: &FlatMolecule, root: usize) {
+        self.parent_bond[root] = ROOT;
         self.stack.clear();
-        self.stack.push((root, 0));
-        while let Some(&(v, pos)) = self.stack.last() {
-            if pos == self.start[v + 1] - self.start[v] {
+        self.stack.push((root, mol.neighbour_range(root).start));
+        while let Some(top) = self.stack.last_mut() {
+            let (v, pos) = *top;
+            if pos == mol.neighbour_range(v).end {
                 self.stack.pop();
                 continue;
             }
-            let (u, e) = self.nbrs_of(v)[pos];
-            self.stack.last_mut().expect("stack is not empty").1 += 1;
-            if !self.visited[u] {
-                self.visited[u] = true;
-                self.tree_edge[e] = true;
+            top.1 += 1;
+            let (u, e) = self.nbrs[pos];
+            if self.parent_bond[u] == NOT_REACHED {
                 self.parent_bond[u] = e;
-                self.stack.push((u, 0));
-            } else if !self.tree_edge[e] && !self.seen_back[e] {
+                self.bond_role[e] = TREE;
+                self.stack.push((u, mol.neighbour_range(u).start));
+            } else if self.bond_role[e] == UNSEEN {
                 // A back edge to an ancestor u, found from descendant v.
-                self.seen_back[e] = true;
-                self.backs.push((u, v, e));
+                self.bond_role[e] = CLOSURE;
+                self.closures.push(Closure {
+                    ancestor: u,
+                    descendant: v,
+                    bond: e,
+                    digit: 0,
+                });
             }
         }
     }
@@ -318,32 +322,31 @@ impl Traversal {
         self.tasks.push(Task::Atom(root, None));
         while let Some(t) = self.tasks.pop() {
             match t {
-                Task::Text(s) => out.push_str(s),
+                Task::Paren(c) => out.push(c),
                 Task::Atom(v, from) => {
                     if let Some(e) = from {
-                        out.push_str(bond_symbol(mol, arom, e));
+                        push_bond_symbol(out, mol, arom, e);
                     }
                     self.atom_symbol(mol, arom, v, out);
-                    self.ring_digits(mol, arom, v, out);
+                    if !self.closures.is_empty() {
+                        self.ring_digits(mol, arom, v, out);
+                    }
                     // Tree children in rank order: the last continues the
-                    // chain, the others are branches. Pushed in reverse so
-                    // the first branch is written first.
-                    let (lo, hi) = (self.start[v], self.start[v + 1]);
-                    let is_child = |&(u, e): &(usize, usize)| self.parent_bond[u] == e;
-                    let kids = self.nbrs[lo..hi].iter().filter(|x| is_child(x)).count();
-                    let mut k = kids;
-                    for i in (lo..hi).rev() {
+                    // chain, the others are branches. Pushed in reverse (the
+                    // last child first) so the first branch is written first.
+                    let mut last = true;
+                    for i in mol.neighbour_range(v).rev() {
                         let (u, e) = self.nbrs[i];
                         if self.parent_bond[u] != e {
                             continue;
                         }
-                        k -= 1;
-                        if k + 1 == kids {
+                        if last {
                             self.tasks.push(Task::Atom(u, Some(e)));
+                            last = false;
                         } else {
-                            self.tasks.push(Task::Text(")"));
+                            self.tasks.push(Task::Paren(')'));
                             self.tasks.push(Task::Atom(u, Some(e)));
-                            self.tasks.push(Task::Text("("));
+                            self.tasks.push(Task::Paren('('));
                         }
                     }
                 }
@@ -354,34 +357,30 @@ impl Traversal {
     /// Ring-closure digits at `v`: first those it closes, then those it
     /// opens (lowest free digit first), each in the order found.
     fn ring_digits(&mut self, mol: &FlatMolecule, arom: &Aromaticity, v: usize, out: &mut String) {
-        for i in 0..self.backs.len() {
-            let (_, descendant, e) = self.backs[i];
-            if descendant != v {
-                continue;
-            }
-            let d = self.digit_of_edge[e];
-            out.push_str(bond_symbol(mol, arom, e));
-            push_digit(out, d);
-            self.digits_used[d as usize] = false;
+        let Traversal {
+            closures,
+            digits_used,
+            ..
+        } = self;
+        for c in closures.iter().filter(|c| c.descendant == v) {
+            push_bond_symbol(out, mol, arom, c.bond);
+            push_digit(out, c.digit);
+            digits_used[c.digit as usize] = false;
         }
-        for i in 0..self.backs.len() {
-            let (ancestor, _, e) = self.backs[i];
-            if ancestor != v {
-                continue;
-            }
-            let d = match self.digits_used.iter().skip(1).position(|&u| !u) {
+        for c in closures.iter_mut().filter(|c| c.ancestor == v) {
+            let d = match digits_used.iter().skip(1).position(|&u| !u) {
                 Some(p) => p + 1,
                 None => {
-                    if self.digits_used.is_empty() {
-                        self.digits_used.push(true); // digit 0 is never used
+                    if digits_used.is_empty() {
+                        digits_used.push(true); // digit 0 is never used
                     }
-                    self.digits_used.push(false);
-                    self.digits_used.len() - 1
+                    digits_used.push(false);
+                    digits_used.len() - 1
                 }
             };
-            self.digits_used[d] = true;
-            self.digit_of_edge[e] = d as u32;
-            push_digit(out, d as u32);
+            digits_used[d] = true;
+            c.digit = d as u32;
+            push_digit(out, c.digit);
         }
     }
 
@@ -393,18 +392,15 @@ impl Traversal {
         let aromatic = arom.atom[v];
         let sym = element.symbol();
         let push_symbol = |out: &mut String| {
-            if aromatic {
-                out.extend(sym.chars().map(|c| c.to_ascii_lowercase()));
-            } else {
-                out.push_str(sym);
+            for c in sym.chars() {
+                out.push(if aromatic { c.to_ascii_lowercase() } else { c });
             }
         };
         // Bond count as a reader sees it: aromatic bonds once.
-        let written: u32 = mol
-            .neighbours(v)
-            .iter()
-            .map(|&(_, e)| if arom.bond[e] { 1 } else { mol.order(e) as u32 })
-            .sum();
+        let mut written = 0u32;
+        for &(_, e) in mol.neighbours(v) {
+            written += if arom.bond[e] { 1 } else { mol.order(e) as u32 };
+        }
         let allowed = element.valences(true);
         let implicit = allowed.iter().find(|&&x| x as u32 >= written).map(|&x| {
             let x = x as u32;
@@ -442,16 +438,17 @@ impl Traversal {
     }
 }
 
-fn bond_symbol(mol: &FlatMolecule, arom: &Aromaticity, e: usize) -> &'static str {
+/// The bond symbol of bond `e`, when it needs one.
+fn push_bond_symbol(out: &mut String, mol: &FlatMolecule, arom: &Aromaticity, e: usize) {
     if arom.bond[e] {
-        return "";
+        return;
     }
     let (a, b) = mol.ends(e);
     match mol.order(e) {
-        2 => "=",
-        3 => "#",
-        _ if arom.atom[a] && arom.atom[b] => "-",
-        _ => "",
+        2 => out.push('='),
+        3 => out.push('#'),
+        _ if arom.atom[a] && arom.atom[b] => out.push('-'),
+        _ => {}
     }
 }
 
