@@ -146,42 +146,24 @@ impl RingInfo {
         self.start.push(0);
         self.approximate = false;
 
-        // Cycle space dimension (cyclomatic number) E - V + components.
-        let mut components = 0;
-        w.seen.clear();
-        w.seen.resize(n, false);
-        for s in 0..n {
-            if w.seen[s] {
-                continue;
-            }
-            components += 1;
-            w.seen[s] = true;
-            w.queue.clear();
-            w.queue.push(s);
-            let mut head = 0;
-            while head < w.queue.len() {
-                let v = w.queue[head];
-                head += 1;
-                for &(u, _) in mol.neighbours(v) {
-                    if !w.seen[u] {
-                        w.seen[u] = true;
-                        w.queue.push(u);
-                    }
-                }
-            }
-        }
+        // Which bonds lie on a cycle, and the cycle space dimension
+        // (cyclomatic number) E - V + components.
+        let components = mark_ring_bonds(mol, &mut self.bond_in_ring, w);
         let dimension = m + components - n;
+        // Only ring bonds matter from here on.
+        w.ring_adj.fill(mol, &self.bond_in_ring);
 
-        // A bond is in a ring exactly when its ends stay connected without
-        // it; the shortest such detour plus the bond is the smallest ring
-        // through it. (No detour anywhere when there is no cycle.)
+        // The shortest detour between the ends of a ring bond, plus the
+        // bond, is the smallest ring through it; a detour lies on a cycle,
+        // so the ring bonds hold it.
         w.dist.resize(n, usize::MAX);
         self.smallest_bond_ring.clear();
         self.smallest_bond_ring.resize(m, 0);
-        for e in (0..m).filter(|_| dimension > 0) {
+        for e in (0..m).filter(|&e| self.bond_in_ring[e]) {
             let (a, b) = mol.ends(e);
+            let adj = &w.ring_adj;
             let d = bfs(
-                |v| mol.neighbours(v),
+                |v| adj.of(v),
                 a,
                 Some(b),
                 |_| true,
@@ -189,13 +171,9 @@ impl RingInfo {
                 &mut w.dist,
                 &mut w.queue,
             );
-            if d != usize::MAX {
-                self.smallest_bond_ring[e] = d + 1;
-            }
+            debug_assert!(d != usize::MAX, "a ring bond has a detour");
+            self.smallest_bond_ring[e] = d + 1;
         }
-        self.bond_in_ring.clear();
-        self.bond_in_ring
-            .extend(self.smallest_bond_ring.iter().map(|&s| s > 0));
         self.smallest_atom_ring.clear();
         self.smallest_atom_ring.resize(n, 0);
         for e in 0..m {
@@ -216,8 +194,6 @@ impl RingInfo {
         if dimension == 0 {
             return;
         }
-        // Only ring bonds matter from here on.
-        w.ring_adj.fill(mol, &self.bond_in_ring);
 
         w.found.clear();
         if !relevant_cycles(m, dimension, w) {
@@ -263,7 +239,10 @@ pub fn ring_info(mol: &Molecule) -> RingInfo {
 struct Work {
     dist: Vec<usize>,
     queue: Vec<usize>,
-    seen: Vec<bool>,
+    /// Depth-first discovery times and low points, and the pass's stack.
+    disc: Vec<usize>,
+    low: Vec<usize>,
+    frames: Vec<(usize, usize, usize)>,
     ring_adj: Adjacency,
     /// `dists[s * n + v]`: distance from s to v within atoms >= s.
     dists: Vec<usize>,
@@ -388,6 +367,63 @@ fn bfs<'a>(
     usize::MAX
 }
 
+/// Mark in `in_ring` (resized to the bonds) the bonds that lie on a cycle,
+/// that is, are not bridges, and return the number of connected
+/// components. One depth-first pass comparing each tree bond's lower end's
+/// low point with the upper end's discovery time (Tarjan, "Depth-first
+/// search and linear graph algorithms", SIAM J. Comput. 1 (1972) 146-160).
+fn mark_ring_bonds(mol: &FlatMolecule, in_ring: &mut Vec<bool>, w: &mut Work) -> usize {
+    let n = mol.atom_count();
+    in_ring.clear();
+    in_ring.resize(mol.bond_count(), false);
+    w.disc.clear();
+    w.disc.resize(n, usize::MAX);
+    w.low.clear();
+    w.low.resize(n, 0);
+    let mut time = 0;
+    let mut components = 0;
+    for root in 0..n {
+        if w.disc[root] != usize::MAX {
+            continue;
+        }
+        components += 1;
+        w.disc[root] = time;
+        w.low[root] = time;
+        time += 1;
+        // (atom, bond it was reached by, next neighbour index)
+        w.frames.clear();
+        w.frames.push((root, usize::MAX, 0));
+        while let Some(top) = w.frames.last_mut() {
+            let (v, via, i) = *top;
+            if let Some(&(u, e)) = mol.neighbours(v).get(i) {
+                top.2 += 1;
+                if e == via {
+                    continue;
+                }
+                if w.disc[u] == usize::MAX {
+                    w.disc[u] = time;
+                    w.low[u] = time;
+                    time += 1;
+                    w.frames.push((u, e, 0));
+                } else {
+                    // A bond closing a cycle.
+                    in_ring[e] = true;
+                    w.low[v] = w.low[v].min(w.disc[u]);
+                }
+            } else {
+                w.frames.pop();
+                if let Some(&(parent, _, _)) = w.frames.last() {
+                    w.low[parent] = w.low[parent].min(w.low[v]);
+                    // The tree bond to v is a bridge unless v's subtree
+                    // reaches back to `parent` or above.
+                    in_ring[via] = w.low[v] <= w.disc[parent];
+                }
+            }
+        }
+    }
+    components
+}
+
 /// Gaussian elimination basis over GF(2) of cycles as edge-incidence
 /// vectors (`words` u64 per row), kept in echelon form by pivot bit.
 #[derive(Clone, Debug, Default)]
@@ -493,16 +529,17 @@ fn relevant_cycles(m: usize, dimension: usize, w: &mut Work) -> bool {
             w.path.push(s);
             w.path_bonds.clear();
             w.on_path[s] = true;
-            let ok = list_cycles(
+            let ok = CycleSearch {
                 adj,
-                &w.dists[s * n..(s + 1) * n],
+                dist: &w.dists[s * n..(s + 1) * n],
                 k,
-                &mut w.path,
-                &mut w.path_bonds,
-                &mut w.on_path,
-                &mut w.of_length,
-                &mut steps,
-            );
+                path: &mut w.path,
+                path_bonds: &mut w.path_bonds,
+                on_path: &mut w.on_path,
+                out: &mut w.of_length,
+                steps: &mut steps,
+            }
+            .extend();
             w.on_path[s] = false;
             if !ok || w.of_length.len() + listed > MAX_LISTED_CYCLES {
                 return false;
@@ -532,53 +569,62 @@ fn relevant_cycles(m: usize, dimension: usize, w: &mut Work) -> bool {
     true
 }
 
-/// Depth-first listing of the simple cycles of exactly `k` atoms whose lowest
-/// atom is `path[0]`; each cycle is listed once (second atom < last atom).
-/// Returns false when the step budget is exhausted.
-#[allow(clippy::too_many_arguments)]
-fn list_cycles(
-    adj: &Adjacency,
-    dist: &[usize],
+/// Depth-first listing of the simple cycles of exactly `k` atoms whose
+/// lowest atom is `path[0]`; each cycle is listed once (second atom < last
+/// atom). Every node of the search counts one step against
+/// [`MAX_SEARCH_STEPS`].
+struct CycleSearch<'a> {
+    adj: &'a Adjacency,
+    /// Distances from `path[0]` within atoms above it.
+    dist: &'a [usize],
     k: usize,
-    path: &mut Vec<usize>,
-    path_bonds: &mut Vec<usize>,
-    on_path: &mut [bool],
-    out: &mut Cycles,
-    steps: &mut usize,
-) -> bool {
-    *steps += 1;
-    if *steps > MAX_SEARCH_STEPS {
-        return false;
-    }
-    let s = path[0];
-    let v = *path.last().expect("path starts at s");
-    if path.len() == k {
-        if path[1] < v {
-            if let Some(&(_, e)) = adj.of(v).iter().find(|&&(u, _)| u == s) {
-                path_bonds.push(e);
-                out.push(path, path_bonds);
-                path_bonds.pop();
-            }
-        }
-        return true;
-    }
-    let remaining = k - path.len(); // steps still to take after this one, plus the closing bond
-    for &(u, e) in adj.of(v) {
-        if u <= s || on_path[u] || dist[u] == usize::MAX || dist[u] > remaining {
-            continue;
-        }
-        path.push(u);
-        path_bonds.push(e);
-        on_path[u] = true;
-        let ok = list_cycles(adj, dist, k, path, path_bonds, on_path, out, steps);
-        on_path[u] = false;
-        path.pop();
-        path_bonds.pop();
-        if !ok {
+    path: &'a mut Vec<usize>,
+    path_bonds: &'a mut Vec<usize>,
+    on_path: &'a mut [bool],
+    out: &'a mut Cycles,
+    steps: &'a mut usize,
+}
+
+impl CycleSearch<'_> {
+    /// Extend the path; false when the step budget is exhausted.
+    fn extend(&mut self) -> bool {
+        *self.steps += 1;
+        if *self.steps > MAX_SEARCH_STEPS {
             return false;
         }
+        let adj = self.adj;
+        let s = self.path[0];
+        let v = *self.path.last().expect("path starts at s");
+        if self.path.len() == self.k {
+            if self.path[1] < v {
+                if let Some(&(_, e)) = adj.of(v).iter().find(|&&(u, _)| u == s) {
+                    self.path_bonds.push(e);
+                    self.out.push(self.path, self.path_bonds);
+                    self.path_bonds.pop();
+                }
+            }
+            return true;
+        }
+        // Steps still to take after this one, plus the closing bond (an
+        // unreachable atom's distance, usize::MAX, is above it too).
+        let remaining = self.k - self.path.len();
+        for &(u, e) in adj.of(v) {
+            if u <= s || self.on_path[u] || self.dist[u] > remaining {
+                continue;
+            }
+            self.path.push(u);
+            self.path_bonds.push(e);
+            self.on_path[u] = true;
+            let ok = self.extend();
+            self.on_path[u] = false;
+            self.path.pop();
+            self.path_bonds.pop();
+            if !ok {
+                return false;
+            }
+        }
+        true
     }
-    true
 }
 
 /// One minimum cycle basis from Horton's candidate cycles: for every vertex
@@ -829,5 +875,65 @@ mod tests {
             assert_eq!(reused.systems(), fresh.systems(), "{s}");
             assert_eq!(reused.approximate, fresh.approximate, "{s}");
         }
+    }
+
+    /// Smallest ring through each bond by its definition: the shortest path
+    /// between its ends over the whole molecule without it, plus the bond
+    /// (0 when there is none).
+    fn smallest_rings_by_definition(m: &Molecule) -> Vec<usize> {
+        let f = FlatMolecule::from_molecule(m);
+        let (mut dist, mut queue) = (vec![0; f.atom_count()], Vec::new());
+        (0..f.bond_count())
+            .map(|e| {
+                let (a, b) = f.ends(e);
+                let d = bfs(
+                    |v| f.neighbours(v),
+                    a,
+                    Some(b),
+                    |_| true,
+                    |x| x != e,
+                    &mut dist,
+                    &mut queue,
+                );
+                if d == usize::MAX {
+                    0
+                } else {
+                    d + 1
+                }
+            })
+            .collect()
+    }
+
+    #[test]
+    fn ring_bonds_and_smallest_rings_follow_their_definition() {
+        // Every isomer of formulas rich in fused, bridged and spiro cages
+        // (C8H8 holds cubane, C6H6 prismane), perceived with one reused
+        // RingInfo as the SMILES writer does.
+        let mut reused = RingInfo::default();
+        let mut checked = 0;
+        for text in ["C8H8", "C6H6", "C5H4O", "C4H4N2"] {
+            let formula = crate::chem::Formula::parse(text).unwrap();
+            let mols = std::sync::Mutex::new(Vec::new());
+            crate::enumerate::for_each_ordered(
+                &formula,
+                &Default::default(),
+                |iso| {
+                    mols.lock().unwrap().push(iso.molecule());
+                    Some(())
+                },
+                |_| true,
+                &mut |_| {},
+            )
+            .unwrap();
+            for m in mols.into_inner().unwrap() {
+                reused.perceive(&FlatMolecule::from_molecule(&m));
+                let want = smallest_rings_by_definition(&m);
+                assert_eq!(reused.smallest_bond_ring, want, "{text}");
+                let in_ring: Vec<bool> = want.iter().map(|&s| s > 0).collect();
+                assert_eq!(reused.bond_in_ring, in_ring, "{text}");
+                checked += 1;
+            }
+        }
+        assert!(checked > 5000, "{checked} isomers checked");
     }
 }
