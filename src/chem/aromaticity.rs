@@ -186,15 +186,16 @@ fn classify(mol: &FlatMolecule, i: usize, bond_in_ring: &[bool]) -> AtomState {
 pub fn perceive(mol: &Molecule) -> Aromaticity {
     let flat = FlatMolecule::from_molecule(mol);
     let mut rings = RingInfo::default();
-    rings.perceive(&flat);
+    rings.perceive_ring_bonds(&flat);
     let mut arom = Aromaticity::default();
-    Perceiver::default().perceive(&flat, &rings, &mut arom);
+    Perceiver::default().perceive(&flat, &mut rings, &mut arom);
     arom
 }
 
 /// Perceive aromaticity with rings already perceived by
-/// [`super::rings::ring_info`].
-pub fn perceive_with_rings(mol: &Molecule, rings: &RingInfo) -> Aromaticity {
+/// [`super::rings::ring_info`] (or only their ring bonds: the ring set is
+/// then listed here, when it is needed).
+pub fn perceive_with_rings(mol: &Molecule, rings: &mut RingInfo) -> Aromaticity {
     let mut arom = Aromaticity::default();
     Perceiver::default().perceive(&FlatMolecule::from_molecule(mol), rings, &mut arom);
     arom
@@ -217,32 +218,37 @@ pub struct Perceiver {
     ring_count_of_atom: Vec<usize>,
     ring_count_of_bond: Vec<usize>,
     subsets: Subsets,
+    /// Union-find parents over the atoms (the test for a candidate cycle).
+    parent: Vec<usize>,
 }
 
 impl Perceiver {
-    /// Perceive the aromatic atoms and bonds of `mol`, whose rings are
-    /// `rings`, into `arom` (resized to the molecule).
-    pub fn perceive(&mut self, mol: &FlatMolecule, rings: &RingInfo, arom: &mut Aromaticity) {
+    /// Perceive the aromatic atoms and bonds of `mol` into `arom` (resized
+    /// to the molecule). `rings` holds at least the ring bonds of `mol`
+    /// ([`RingInfo::perceive_ring_bonds`]); its ring set is listed here
+    /// when a ring could be aromatic, which needs a cycle of candidate
+    /// atoms over ring bonds (without one, no ring is a candidate).
+    pub fn perceive(&mut self, mol: &FlatMolecule, rings: &mut RingInfo, arom: &mut Aromaticity) {
         let n = mol.atom_count();
         let m = mol.bond_count();
         arom.atom.clear();
         arom.atom.resize(n, false);
         arom.bond.clear();
         arom.bond.resize(m, false);
-        if rings.ring_count() == 0 {
-            return;
-        }
+        // The atoms of the ring set are the atoms on a cycle: the ring set
+        // spans the cycle space, so each ring bond lies on one of its rings.
         let state = &mut self.state;
         state.clear();
         state.resize(n, None);
-        for ring in rings.rings() {
-            for &a in ring {
-                if state[a].is_none() {
-                    state[a] = Some(classify(mol, a, &rings.bond_in_ring));
-                }
-            }
+        for a in (0..n).filter(|&a| rings.atom_in_ring[a]) {
+            state[a] = Some(classify(mol, a, &rings.bond_in_ring));
         }
         let is_candidate = |a: usize| state[a].as_ref().is_some_and(|s| s.candidate);
+        if !candidate_cycle(mol, &rings.bond_in_ring, is_candidate, &mut self.parent) {
+            return;
+        }
+        rings.perceive_cycles();
+        let rings = &*rings;
         let electrons = |a: usize| state[a].as_ref().map_or(0, |s| s.donor.electrons());
 
         // Candidate rings: every atom can join an aromatic ring.
@@ -391,6 +397,36 @@ impl Perceiver {
             }
         }
     }
+}
+
+/// Whether the ring bonds between candidate atoms close a cycle: a ring all
+/// of whose atoms are candidates is such a cycle, so without one no ring is
+/// a candidate. Union-find over the atoms (`parent` is work space).
+fn candidate_cycle(
+    mol: &FlatMolecule,
+    bond_in_ring: &[bool],
+    is_candidate: impl Fn(usize) -> bool,
+    parent: &mut Vec<usize>,
+) -> bool {
+    parent.clear();
+    parent.extend(0..mol.atom_count());
+    let root = |parent: &mut Vec<usize>, mut x: usize| {
+        while parent[x] != x {
+            parent[x] = parent[parent[x]];
+            x = parent[x];
+        }
+        x
+    };
+    for (e, &(a, b)) in mol.all_ends().iter().enumerate() {
+        if bond_in_ring[e] && is_candidate(a) && is_candidate(b) {
+            let (ra, rb) = (root(parent, a), root(parent, b));
+            if ra == rb {
+                return true;
+            }
+            parent[ra] = rb;
+        }
+    }
+    false
 }
 
 /// The Hückel test on a pi electron count: 4n+2 with n >= 1, or 2 (RDKit
@@ -556,5 +592,51 @@ mod tests {
         let a = perceive(&m);
         assert!(start.elapsed().as_secs() < 5);
         assert_eq!(a.atom.iter().filter(|&&x| x).count(), m.atom_count());
+    }
+
+    #[test]
+    fn every_ring_of_candidates_closes_a_candidate_cycle() {
+        // The test that lets perception skip the ring set must never miss
+        // a ring whose atoms are all candidates: checked against the full
+        // ring set on every isomer of formulas with aromatic, antiaromatic
+        // and cross-conjugated rings.
+        let (mut with_ring, mut without_cycle) = (0, 0);
+        let mut parent = Vec::new();
+        for text in ["C6H6", "C5H5N", "C4H4O", "C8H8", "C7H6O", "C6H4O2"] {
+            let formula = crate::chem::Formula::parse(text).unwrap();
+            let mols = std::sync::Mutex::new(Vec::new());
+            crate::enumerate::for_each_ordered(
+                &formula,
+                &Default::default(),
+                |iso| {
+                    mols.lock().unwrap().push(iso.molecule());
+                    Some(())
+                },
+                |_| true,
+                &mut |_| {},
+            )
+            .unwrap();
+            for m in mols.into_inner().unwrap() {
+                let flat = FlatMolecule::from_molecule(&m);
+                let mut rings = RingInfo::default();
+                rings.perceive(&flat);
+                let candidate: Vec<bool> = (0..flat.atom_count())
+                    .map(|a| {
+                        rings.atom_in_ring[a] && classify(&flat, a, &rings.bond_in_ring).candidate
+                    })
+                    .collect();
+                let ring_of_candidates = rings.rings().any(|r| r.iter().all(|&a| candidate[a]));
+                let cycle =
+                    candidate_cycle(&flat, &rings.bond_in_ring, |a| candidate[a], &mut parent);
+                assert!(cycle || !ring_of_candidates, "{text}: {:?}", rings.ring(0));
+                with_ring += ring_of_candidates as usize;
+                without_cycle += !cycle as usize;
+            }
+        }
+        // Both outcomes occur, so the check above has cases to fail on.
+        assert!(
+            with_ring > 1000 && without_cycle > 1000,
+            "{with_ring} {without_cycle}"
+        );
     }
 }

@@ -59,11 +59,16 @@ pub struct RingInfo {
     /// True when the relevant-cycle search hit its limits and the rings are
     /// one minimum cycle basis instead of the full set of relevant cycles.
     pub approximate: bool,
+    /// Whether the ring set (`atoms`, `bonds`, `start`) is listed.
+    cycles_perceived: bool,
+    /// Cycle space dimension of the molecule perceived.
+    dimension: usize,
     work: Work,
 }
 
 impl RingInfo {
-    /// Number of rings in the ring set.
+    /// Number of rings in the ring set (0 until it is listed: see
+    /// [`RingInfo::perceive_ring_bonds`]).
     pub fn ring_count(&self) -> usize {
         self.start.len().saturating_sub(1)
     }
@@ -137,6 +142,16 @@ impl RingInfo {
     /// see the module documentation for the method. What comes out depends
     /// only on the atom count and [`FlatMolecule::all_ends`].
     pub fn perceive(&mut self, mol: &FlatMolecule) {
+        self.perceive_ring_bonds(mol);
+        self.perceive_cycles();
+    }
+
+    /// The first half of [`RingInfo::perceive`]: which atoms and bonds lie
+    /// in a ring and the smallest ring through each. The ring set stays
+    /// empty until [`RingInfo::perceive_cycles`] (for the same molecule)
+    /// lists it: a caller that often needs no ring set (aromaticity, when
+    /// no cycle of candidate atoms exists) saves its cost, the larger part.
+    pub fn perceive_ring_bonds(&mut self, mol: &FlatMolecule) {
         let n = mol.atom_count();
         let m = mol.bond_count();
         let w = &mut self.work;
@@ -145,11 +160,13 @@ impl RingInfo {
         self.start.clear();
         self.start.push(0);
         self.approximate = false;
+        self.cycles_perceived = false;
 
         // Which bonds lie on a cycle, and the cycle space dimension
         // (cyclomatic number) E - V + components.
         let components = mark_ring_bonds(mol, &mut self.bond_in_ring, w);
         let dimension = m + components - n;
+        self.dimension = dimension;
         // Only ring bonds matter from here on.
         w.ring_adj.fill(mol, &self.bond_in_ring);
 
@@ -191,10 +208,28 @@ impl RingInfo {
         self.atom_in_ring.clear();
         self.atom_in_ring
             .extend(self.smallest_atom_ring.iter().map(|&s| s > 0));
+    }
+
+    /// Whether the ring set is listed: after [`RingInfo::perceive`], or
+    /// [`RingInfo::perceive_cycles`] following
+    /// [`RingInfo::perceive_ring_bonds`].
+    pub fn cycles_perceived(&self) -> bool {
+        self.cycles_perceived
+    }
+
+    /// The second half of [`RingInfo::perceive`]: the ring set of the
+    /// molecule last given to [`RingInfo::perceive_ring_bonds`]. Does
+    /// nothing when it is already listed.
+    pub fn perceive_cycles(&mut self) {
+        if self.cycles_perceived {
+            return;
+        }
+        self.cycles_perceived = true;
+        let (m, dimension) = (self.bond_in_ring.len(), self.dimension);
         if dimension == 0 {
             return;
         }
-
+        let w = &mut self.work;
         w.found.clear();
         if !relevant_cycles(m, dimension, w) {
             self.approximate = true;

@@ -94,8 +94,10 @@ pub fn with_writer<R>(f: impl FnOnce(&mut SmilesWriter) -> R) -> R {
 /// perceives rings again only when the skeleton (atom count and bonds, in
 /// their numbering) differs from the last one's, as it does not between the
 /// bond-order assignments of one skeleton that the isomer generator emits
-/// one after another. Every entry point runs the same steps: rings,
-/// aromaticity, canonical labelling, traversal.
+/// one after another. Of the rings it perceives the ring bonds per
+/// skeleton, and lists the ring set (the costly part) only when aromaticity
+/// needs it, at most once per skeleton. Every entry point runs the same
+/// steps: rings, aromaticity, canonical labelling, traversal.
 pub struct SmilesWriter {
     mol: FlatMolecule,
     rings: RingInfo,
@@ -158,13 +160,14 @@ impl SmilesWriter {
         let mol = &self.mol;
         let n = mol.atom_count();
         if !(self.rings_valid && self.rings_atoms == n && self.rings_bonds == mol.all_ends()) {
-            self.rings.perceive(mol);
+            self.rings.perceive_ring_bonds(mol);
             self.rings_atoms = n;
             self.rings_bonds.clear();
             self.rings_bonds.extend_from_slice(mol.all_ends());
             self.rings_valid = true;
         }
-        self.perceiver.perceive(mol, &self.rings, &mut self.arom);
+        self.perceiver
+            .perceive(mol, &mut self.rings, &mut self.arom);
         self.by_rank.clear();
         if n <= MAX_ATOMS {
             fill_canon_graph(mol, Some(&self.arom), &mut self.graph);
