@@ -31,6 +31,9 @@ pub struct FlatMolecule {
     /// Neighbours of atom v: `adj[start[v]..start[v + 1]]`.
     start: Vec<usize>,
     adj: Vec<(usize, usize)>,
+    /// The skeleton the neighbour lists were built for (atom count and
+    /// bond ends), when they were built.
+    indexed: Option<(usize, Vec<(usize, usize)>)>,
 }
 
 impl FlatMolecule {
@@ -41,8 +44,10 @@ impl FlatMolecule {
         f
     }
 
-    /// Refill from `mol`, bonds numbered as its petgraph edges.
-    pub fn set_molecule(&mut self, mol: &Molecule) {
+    /// Refill from `mol`, bonds numbered as its petgraph edges. Returns
+    /// whether the skeleton (atom count and bond ends, in their numbering)
+    /// differs from the previous fill's.
+    pub fn set_molecule(&mut self, mol: &Molecule) -> bool {
         self.clear();
         for a in mol.graph.node_weights() {
             self.element.push(a.element);
@@ -52,12 +57,13 @@ impl FlatMolecule {
             self.ends.push((e.source().index(), e.target().index()));
             self.order.push(e.weight().order);
         }
-        self.index();
+        self.index()
     }
 
     /// Refill from any heavy-atom graph, bonds numbered by their lower atom,
-    /// then by the other atom.
-    pub fn set_heavy_atoms(&mut self, mol: &impl HeavyAtoms) {
+    /// then by the other atom. Returns whether the skeleton (atom count and
+    /// bond ends) differs from the previous fill's.
+    pub fn set_heavy_atoms(&mut self, mol: &impl HeavyAtoms) -> bool {
         self.clear();
         let n = mol.atom_count();
         for i in 0..n {
@@ -99,7 +105,7 @@ impl FlatMolecule {
                 }
             }
         }
-        self.index();
+        self.index()
     }
 
     fn clear(&mut self) {
@@ -107,13 +113,22 @@ impl FlatMolecule {
         self.hydrogens.clear();
         self.ends.clear();
         self.order.clear();
-        self.start.clear();
-        self.adj.clear();
     }
 
-    /// Build the neighbour lists from `ends` (each in bond order).
-    fn index(&mut self) {
+    /// Build the neighbour lists from `ends` (each in bond order), unless
+    /// they were built for this skeleton already; returns whether the
+    /// skeleton is new.
+    fn index(&mut self) -> bool {
         let n = self.element.len();
+        if let Some((atoms, ends)) = &self.indexed {
+            if *atoms == n && *ends == self.ends {
+                return false;
+            }
+        }
+        let (atoms, ends) = self.indexed.get_or_insert_with(Default::default);
+        *atoms = n;
+        ends.clear();
+        ends.extend_from_slice(&self.ends);
         self.start.resize(n + 1, 0);
         self.start.fill(0);
         for &(a, b) in &self.ends {
@@ -137,6 +152,7 @@ impl FlatMolecule {
         if n > 0 {
             self.start[0] = 0;
         }
+        true
     }
 
     pub fn atom_count(&self) -> usize {
@@ -234,6 +250,40 @@ mod tests {
         for v in 0..m.atom_count() {
             assert_eq!(f.element(v), m.atom(v).element);
             assert_eq!(f.hydrogens(v), m.atom(v).hydrogens);
+        }
+    }
+
+    #[test]
+    fn refills_say_when_the_skeleton_changes_and_keep_correct_lists() {
+        // Propane's chain beside a methane: propane's bonds, one more atom.
+        let mut apart = parse_smiles("CCC").unwrap();
+        apart.add_atom(crate::chem::Element::C, 4);
+        let mut f = FlatMolecule::default();
+        // (SMILES, whether the skeleton differs from the one before)
+        let steps = [
+            ("C=CC", true),
+            ("CC=C", false), // same bonds, other orders
+            ("CC(C)C", true),
+            ("CCC", true),
+            ("CCC.C", true),
+            ("CCC.C", false),
+            ("C1CC1", true),
+        ];
+        for (s, changed) in steps {
+            let m = match s {
+                "CCC.C" => apart.clone(),
+                _ => parse_smiles(s).unwrap(),
+            };
+            assert_eq!(f.set_molecule(&m), changed, "{s}");
+            let fresh = FlatMolecule::from_molecule(&m);
+            assert_eq!(f.all_ends(), fresh.all_ends(), "{s}");
+            for v in 0..m.atom_count() {
+                assert_eq!(f.neighbours(v), fresh.neighbours(v), "{s} atom {v}");
+                assert_eq!(f.neighbour_range(v), fresh.neighbour_range(v), "{s}");
+            }
+            for e in 0..m.graph.edge_count() {
+                assert_eq!(f.order(e), fresh.order(e), "{s}");
+            }
         }
     }
 }

@@ -100,11 +100,9 @@ pub fn with_writer<R>(f: impl FnOnce(&mut SmilesWriter) -> R) -> R {
 /// steps: rings, aromaticity, canonical labelling, traversal.
 pub struct SmilesWriter {
     mol: FlatMolecule,
+    /// Ring bonds (and, once aromaticity needed it, the ring set) of the
+    /// skeleton `mol` holds.
     rings: RingInfo,
-    /// The skeleton `rings` belongs to: atom count and bond ends.
-    rings_atoms: usize,
-    rings_bonds: Vec<(usize, usize)>,
-    rings_valid: bool,
     perceiver: Perceiver,
     arom: Aromaticity,
     canon: Canonizer,
@@ -127,9 +125,6 @@ impl SmilesWriter {
         SmilesWriter {
             mol: FlatMolecule::default(),
             rings: RingInfo::default(),
-            rings_atoms: 0,
-            rings_bonds: Vec::new(),
-            rings_valid: false,
             perceiver: Perceiver::default(),
             arom: Aromaticity::default(),
             canon: Canonizer::new(),
@@ -144,27 +139,23 @@ impl SmilesWriter {
     /// Canonical SMILES of `mol` (see [`canonical_smiles`]), valid until the
     /// next call.
     pub fn canonical(&mut self, mol: &Molecule) -> &str {
-        self.mol.set_molecule(mol);
-        self.write_current()
+        let new_skeleton = self.mol.set_molecule(mol);
+        self.write_current(new_skeleton)
     }
 
     /// Canonical SMILES of any heavy-atom graph, such as the generator's
     /// compact isomers (no [`Molecule`] is built); the same string
     /// [`canonical_smiles`] gives for the same structure.
     pub fn canonical_heavy_atoms(&mut self, mol: &impl HeavyAtoms) -> &str {
-        self.mol.set_heavy_atoms(mol);
-        self.write_current()
+        let new_skeleton = self.mol.set_heavy_atoms(mol);
+        self.write_current(new_skeleton)
     }
 
-    fn write_current(&mut self) -> &str {
+    fn write_current(&mut self, new_skeleton: bool) -> &str {
         let mol = &self.mol;
         let n = mol.atom_count();
-        if !(self.rings_valid && self.rings_atoms == n && self.rings_bonds == mol.all_ends()) {
+        if new_skeleton {
             self.rings.perceive_ring_bonds(mol);
-            self.rings_atoms = n;
-            self.rings_bonds.clear();
-            self.rings_bonds.extend_from_slice(mol.all_ends());
-            self.rings_valid = true;
         }
         self.perceiver
             .perceive(mol, &mut self.rings, &mut self.arom);
@@ -534,5 +525,45 @@ mod tests {
         let back = parse_smiles(&s).unwrap();
         assert_eq!(back.graph.edge_count(), 12);
         assert_eq!(canon(&s), s);
+    }
+
+    #[test]
+    fn a_reused_writer_gives_what_a_fresh_one_gives() {
+        // The writer keeps ring perception per skeleton and lists the ring
+        // set lazily; neither may leak from one molecule into the next.
+        // Isomers come out skeleton by skeleton (the compact path, through
+        // this thread's writer); the same molecules are then fed to one
+        // writer in an order that changes skeleton at every step.
+        for text in ["C7H8", "C5H5N", "C6H4O2"] {
+            let formula = crate::chem::Formula::parse(text).unwrap();
+            let found = std::sync::Mutex::new(Vec::new());
+            crate::enumerate::for_each_ordered(
+                &formula,
+                &Default::default(),
+                |iso| {
+                    found.lock().unwrap().push((iso.molecule(), iso.smiles()));
+                    Some(())
+                },
+                |_| true,
+                &mut |_| {},
+            )
+            .unwrap();
+            let found = found.into_inner().unwrap();
+            assert!(found.len() > 100, "{text}");
+            let fresh: Vec<String> = found
+                .iter()
+                .map(|(m, _)| SmilesWriter::new().canonical(m).to_string())
+                .collect();
+            for ((_, compact), want) in found.iter().zip(&fresh) {
+                assert_eq!(compact, want, "{text}");
+            }
+            let mut reused = SmilesWriter::new();
+            let k = found.len();
+            for i in 0..k {
+                // 0, k-1, 1, k-2, ...
+                let j = if i % 2 == 0 { i / 2 } else { k - 1 - i / 2 };
+                assert_eq!(reused.canonical(&found[j].0), fresh[j], "{text}");
+            }
+        }
     }
 }
