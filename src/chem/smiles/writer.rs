@@ -322,7 +322,11 @@ impl Traversal {
                         push_bond_symbol(out, mol, arom, e);
                     }
                     self.atom_symbol(mol, arom, v, out);
-                    if !self.closures.is_empty() {
+                    if self
+                        .closures
+                        .iter()
+                        .any(|c| c.ancestor == v || c.descendant == v)
+                    {
                         self.ring_digits(mol, arom, v, out);
                     }
                     // Tree children in rank order: the last continues the
@@ -384,10 +388,17 @@ impl Traversal {
         let element = mol.element(v);
         let hydrogens = mol.hydrogens(v);
         let aromatic = arom.atom[v];
-        let sym = element.symbol();
+        // ASCII; only the first letter changes case when aromatic.
+        let sym = element.symbol().as_bytes();
         let push_symbol = |out: &mut String| {
-            for c in sym.chars() {
-                out.push(if aromatic { c.to_ascii_lowercase() } else { c });
+            let first = if aromatic {
+                sym[0].to_ascii_lowercase()
+            } else {
+                sym[0]
+            };
+            out.push(first as char);
+            if let Some(&second) = sym.get(1) {
+                out.push(second as char);
             }
         };
         // Bond count as a reader sees it: aromatic bonds once.
