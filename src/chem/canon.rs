@@ -58,6 +58,22 @@ impl CanonGraph {
         }
     }
 
+    /// Make this the graph [`CanonGraph::new`] would give for `n` vertices
+    /// (colour 0, no edges), clearing only the rows the old and the new
+    /// graph use: cheaper than a new graph when one is refilled often.
+    pub fn clear(&mut self, n: usize) {
+        assert!(
+            n <= MAX_ATOMS,
+            "CanonGraph holds at most {MAX_ATOMS} vertices"
+        );
+        let used = self.n.max(n);
+        self.colour[..used].fill(0);
+        for layer in &mut self.adj {
+            layer[..used].fill(0);
+        }
+        self.n = n;
+    }
+
     /// Set the edge a-b to colour `label` (1..=LABELS), or remove it with 0.
     pub fn set_edge(&mut self, a: usize, b: usize, label: u8) {
         for l in 0..LABELS {
@@ -602,6 +618,23 @@ mod tests {
             g.set_edge(i - 1, i, 1);
         }
         g
+    }
+
+    #[test]
+    fn clear_gives_a_new_graph() {
+        let same =
+            |a: &CanonGraph, b: &CanonGraph| a.n == b.n && a.colour == b.colour && a.adj == b.adj;
+        let mut g = path(10);
+        g.colour[7] = 3;
+        g.set_edge(2, 9, 4);
+        for n in [4, 12, 0, 64] {
+            g.clear(n);
+            assert!(same(&g, &CanonGraph::new(n)), "{n} vertices");
+            if n > 1 {
+                g.set_edge(0, n - 1, 2);
+                g.colour[n - 1] = 5;
+            }
+        }
     }
 
     #[test]

@@ -16,6 +16,7 @@
 //!   tool enumerates.
 
 use super::aromaticity::Aromaticity;
+use super::flat::FlatMolecule;
 use super::molecule::Molecule;
 use petgraph::graph::EdgeIndex;
 use petgraph::visit::EdgeRef;
@@ -23,15 +24,23 @@ use petgraph::visit::EdgeRef;
 /// Atoms whose aromatic bonds carry one pi bond in `mol`'s Kekulé form: the
 /// sum of orders over their aromatic bonds exceeds the count of those bonds.
 pub fn pi_atoms(mol: &Molecule, arom: &Aromaticity) -> Vec<bool> {
-    let mut demand = vec![0i32; mol.atom_count()];
-    for e in mol.graph.edge_references() {
-        if arom.bond[e.id().index()] {
-            let extra = e.weight().order as i32 - 1;
-            demand[e.source().index()] += extra;
-            demand[e.target().index()] += extra;
+    let mut out = Vec::new();
+    pi_atoms_into(&FlatMolecule::from_molecule(mol), arom, &mut out);
+    out
+}
+
+/// [`pi_atoms`] of a [`FlatMolecule`], into `out` (resized to its atoms).
+pub fn pi_atoms_into(mol: &FlatMolecule, arom: &Aromaticity, out: &mut Vec<bool>) {
+    out.clear();
+    out.resize(mol.atom_count(), false);
+    // Every aromatic bond adds its order minus one (never negative), so the
+    // sum exceeds zero exactly when one of them is a double bond.
+    for (e, &(a, b)) in mol.all_ends().iter().enumerate() {
+        if arom.bond[e] && mol.order(e) > 1 {
+            out[a] = true;
+            out[b] = true;
         }
     }
-    demand.into_iter().map(|d| d > 0).collect()
 }
 
 /// Every bond-order assignment (indexed by edge) that differs from `mol`

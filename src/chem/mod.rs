@@ -1,10 +1,11 @@
-//! Chemistry core: elements, formulas, the molecule graph, canonical labelling,
-//! rings, aromaticity and SMILES.
+//! Chemistry core: elements, formulas, the molecule graph (and its flat form),
+//! canonical labelling, rings, aromaticity and SMILES.
 
 pub mod aromaticity;
 pub mod bitset;
 pub mod canon;
 pub mod element;
+pub mod flat;
 pub mod formula;
 pub mod kekule;
 pub mod molecule;

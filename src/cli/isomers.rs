@@ -48,30 +48,14 @@ pub fn run(args: Args) -> crate::Result<()> {
     enumerate::problems(&formula, &opts)?;
     let bar = output::task_bar(&format!("{formula}"));
     let mut out = output::stdout();
-    let mut write_error = None;
-    let summary = if args.count {
-        enumerate::for_each_ordered(&formula, &opts, |_| Some(()), |_| true, &mut |p| {
-            output::update(&bar, p, "isomers")
-        })?
+    let mut progress = |p| output::update(&bar, p, "isomers");
+    let result = if args.count {
+        enumerate::for_each_ordered(&formula, &opts, |_| Some(()), |_| true, &mut progress)
     } else {
-        enumerate::for_each_ordered(
-            &formula,
-            &opts,
-            |iso| Some(iso.smiles()),
-            |s: String| match writeln!(out, "{s}") {
-                Ok(()) => true,
-                Err(e) => {
-                    write_error = Some(e);
-                    false
-                }
-            },
-            &mut |p| output::update(&bar, p, "isomers"),
-        )?
+        enumerate::write_smiles(&formula, &opts, &mut out, &mut progress)
     };
     bar.finish_and_clear();
-    if let Some(e) = write_error {
-        return Err(e.into());
-    }
+    let summary = result?;
     if args.count {
         writeln!(out, "{}", summary.isomers)?;
     }

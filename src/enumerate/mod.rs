@@ -142,12 +142,17 @@ impl Isomer<'_> {
         self.auts
     }
 
-    /// Canonical SMILES (aromatic lower-case form).
+    /// Canonical SMILES (aromatic lower-case form), read from the compact
+    /// form by this thread's [`crate::chem::smiles::SmilesWriter`]: the
+    /// string `canonical_smiles(&self.molecule())` gives, without building
+    /// the molecule.
     pub fn smiles(&self) -> String {
-        crate::chem::smiles::canonical_smiles(&self.molecule())
+        crate::chem::smiles::with_writer(|w| w.canonical_heavy_atoms(self).to_owned())
     }
 
-    /// The general molecule type for this isomer.
+    /// The general molecule type for this isomer. Bonds are added by their
+    /// lower atom, then by the other atom (the numbering
+    /// [`crate::chem::flat::FlatMolecule::set_heavy_atoms`] gives too).
     pub fn molecule(&self) -> Molecule {
         let mut m = Molecule::new();
         let idx: Vec<_> = (0..self.node.n)
@@ -451,6 +456,39 @@ struct TaskResult<T> {
     generated: u64,
     excluded: u64,
     flagged: Vec<u64>,
+}
+
+/// Write every isomer's canonical SMILES to `out`, one per line, in the
+/// deterministic order of [`for_each_ordered`]: what `isomerank isomers`
+/// prints. Stops at the first write error and returns it (a closed pipe is
+/// the caller's to treat as a normal end).
+pub fn write_smiles(
+    formula: &Formula,
+    opts: &Options,
+    out: &mut dyn std::io::Write,
+    progress: &mut dyn FnMut(Progress),
+) -> Result<Summary> {
+    let mut write_error = None;
+    let summary = for_each_ordered(
+        formula,
+        opts,
+        |iso| Some(iso.smiles()),
+        |s: String| match out
+            .write_all(s.as_bytes())
+            .and_then(|()| out.write_all(b"\n"))
+        {
+            Ok(()) => true,
+            Err(e) => {
+                write_error = Some(e);
+                false
+            }
+        },
+        progress,
+    )?;
+    match write_error {
+        Some(e) => Err(e.into()),
+        None => Ok(summary),
+    }
 }
 
 /// Number of isomers (of the shard, if one is given).

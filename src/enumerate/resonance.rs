@@ -88,7 +88,7 @@ pub fn is_representative(
         ws.skeleton.extend_from_slice(&node.nb[..node.n]);
         ws.rings = Some(ring_info(&mol));
     }
-    let rings = ws.rings.as_ref().expect("rings computed above");
+    let rings = ws.rings.as_mut().expect("rings computed above");
     let arom = aromaticity::perceive_with_rings(&mol, rings);
     let canon = &mut ws.canon;
     if !arom.any() {

@@ -81,10 +81,9 @@ pub fn compare_with_rdkit(inputs: &[String]) -> Comparison {
         let can = canonical_smiles(&mol);
         lines.push_str(&format!("{i}\t{s}\t{can}\n"));
         let mut rings: Vec<String> = ring_info(&mol)
-            .rings
-            .iter()
+            .rings()
             .map(|r| {
-                let mut r = r.clone();
+                let mut r = r.to_vec();
                 r.sort_unstable();
                 r.iter()
                     .map(|a| a.to_string())

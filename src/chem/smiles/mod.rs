@@ -6,7 +6,10 @@
 //!   bond symbols; aromatic input is turned into Kekulé bond orders.
 //! * [`canonical_smiles`] writes one string per compound, the same whatever
 //!   the atom numbering or Kekulé form of the input: aromatic atoms in lower
-//!   case, as any outside toolkit reads them.
+//!   case, as any outside toolkit reads them. [`SmilesWriter`] is the same
+//!   writer with its work space kept between molecules (one per thread
+//!   behind [`canonical_smiles`] and [`with_writer`]); it also reads the
+//!   generator's compact isomers without building a molecule.
 //! * [`canon_graph`] is the coloured graph the canonical labelling runs on,
 //!   shared with the isomer generator so both agree on what "the same
 //!   compound" means.
@@ -15,4 +18,4 @@ mod reader;
 mod writer;
 
 pub use reader::{parse_smiles, MAX_SMILES_ATOMS};
-pub use writer::{canon_graph, canonical_smiles, write_smiles};
+pub use writer::{canon_graph, canonical_smiles, with_writer, write_smiles, SmilesWriter};

@@ -15,12 +15,14 @@
 //! would give another H count (`[nH]`, `[SH4]`); ring-closure digits reused
 //! lowest first, the bond symbol written at the closing digit.
 
-use crate::chem::aromaticity::{perceive, Aromaticity};
+use crate::chem::aromaticity::{Aromaticity, Perceiver};
 use crate::chem::canon::{CanonGraph, Canonizer, MAX_ATOMS};
-use crate::chem::kekule::pi_atoms;
-use crate::chem::molecule::Molecule;
-use petgraph::graph::NodeIndex;
-use petgraph::visit::EdgeRef;
+use crate::chem::element::Element;
+use crate::chem::flat::FlatMolecule;
+use crate::chem::kekule::pi_atoms_into;
+use crate::chem::molecule::{HeavyAtoms, Molecule};
+use crate::chem::rings::RingInfo;
+use std::cell::RefCell;
 
 /// The coloured graph for canonical labelling. Vertex colour packs the
 /// element ([`crate::chem::Element::HEAVY`] index), the H count and, with
@@ -29,180 +31,320 @@ use petgraph::visit::EdgeRef;
 /// Panics above [`MAX_ATOMS`] atoms, like [`CanonGraph::new`].
 pub fn canon_graph(mol: &Molecule, arom: Option<&Aromaticity>) -> CanonGraph {
     let mut g = CanonGraph::new(mol.atom_count());
-    for (i, a) in mol.graph.node_weights().enumerate() {
-        let element = a.element.heavy_index().unwrap_or(Element::HEAVY.len()) as u32;
-        let aromatic = arom.is_some_and(|x| x.atom[i]) as u32;
-        g.colour[i] = element << 16 | (a.hydrogens as u32) << 8 | aromatic;
-    }
-    for e in mol.graph.edge_references() {
-        let label = match arom {
-            Some(x) if x.bond[e.id().index()] => 4,
-            _ => e.weight().order,
-        };
-        g.set_edge(e.source().index(), e.target().index(), label);
-    }
+    fill_canon_graph(&FlatMolecule::from_molecule(mol), arom, &mut g);
     g
 }
 
-use crate::chem::element::Element;
+/// [`canon_graph`] of a [`FlatMolecule`], into `g`.
+fn fill_canon_graph(mol: &FlatMolecule, arom: Option<&Aromaticity>, g: &mut CanonGraph) {
+    g.clear(mol.atom_count());
+    for i in 0..mol.atom_count() {
+        let element = mol.element(i).heavy_index().unwrap_or(Element::HEAVY.len()) as u32;
+        let aromatic = arom.is_some_and(|x| x.atom[i]) as u32;
+        g.colour[i] = element << 16 | (mol.hydrogens(i) as u32) << 8 | aromatic;
+    }
+    for (e, &(a, b)) in mol.all_ends().iter().enumerate() {
+        let label = match arom {
+            Some(x) if x.bond[e] => 4,
+            _ => mol.order(e),
+        };
+        g.set_edge(a, b, label);
+    }
+}
 
 /// Canonical SMILES of `mol`: the same string for every numbering and Kekulé
 /// form of one compound. Molecules above [`MAX_ATOMS`] heavy atoms are
 /// written in input order instead (a valid SMILES, but not canonical).
+/// Uses this thread's [`SmilesWriter`].
 pub fn canonical_smiles(mol: &Molecule) -> String {
-    let arom = perceive(mol);
-    let n = mol.atom_count();
-    let ranks: Vec<usize> = if n <= MAX_ATOMS {
-        let mut c = Canonizer::new();
-        c.run(&canon_graph(mol, Some(&arom)));
-        c.ranks()
-    } else {
-        (0..n).collect()
-    };
-    write_smiles(mol, &arom, &ranks)
+    with_writer(|w| w.canonical(mol).to_owned())
 }
 
 /// Write `mol` as SMILES, traversing by `ranks` (lower first; one distinct
 /// rank per atom). Aromatic atoms and bonds follow `arom`. Disconnected
 /// molecules are written as parts joined by `.`.
 pub fn write_smiles(mol: &Molecule, arom: &Aromaticity, ranks: &[usize]) -> String {
-    let n = mol.atom_count();
-    let pi = pi_atoms(mol, arom);
-    // Neighbours of each atom (atom, edge) in rank order.
-    let mut nbrs: Vec<Vec<(usize, usize)>> = vec![Vec::new(); n];
-    for e in mol.graph.edge_references() {
-        let (a, b, id) = (e.source().index(), e.target().index(), e.id().index());
-        nbrs[a].push((b, id));
-        nbrs[b].push((a, id));
-    }
-    for l in &mut nbrs {
-        l.sort_by_key(|&(u, _)| ranks[u]);
-    }
-    let mut w = Writer {
-        mol,
+    let mut by_rank: Vec<usize> = (0..mol.atom_count()).collect();
+    by_rank.sort_by_key(|&v| ranks[v]);
+    let mut out = String::new();
+    Traversal::default().write(
+        &FlatMolecule::from_molecule(mol),
         arom,
-        pi: &pi,
-        nbrs: &nbrs,
-        visited: vec![false; n],
-        tree_edge: vec![false; mol.graph.edge_count()],
-        seen_back: vec![false; mol.graph.edge_count()],
-        children: vec![Vec::new(); n],
-        opens: vec![Vec::new(); n],
-        closes: vec![Vec::new(); n],
-        digit_of_edge: vec![0; mol.graph.edge_count()],
-        digits_used: Vec::new(),
-        out: String::new(),
-    };
-    let mut order: Vec<usize> = (0..n).collect();
-    order.sort_by_key(|&v| (nbrs[v].len(), ranks[v]));
-    let mut in_part = vec![false; n];
-    let mut first = true;
-    for &start in &order {
-        if in_part[start] {
-            continue;
-        }
-        // The connected part holding `start`; its root is the lowest-ranked
-        // atom of least degree.
-        let mut part = vec![start];
-        in_part[start] = true;
-        let mut k = 0;
-        while k < part.len() {
-            for &(u, _) in &nbrs[part[k]] {
-                if !in_part[u] {
-                    in_part[u] = true;
-                    part.push(u);
-                }
-            }
-            k += 1;
-        }
-        let root = *part
-            .iter()
-            .min_by_key(|&&v| (nbrs[v].len(), ranks[v]))
-            .expect("part holds start");
-        w.plan(root);
-        if !first {
-            w.out.push('.');
-        }
-        first = false;
-        w.write(root);
-    }
-    w.out
+        ranks,
+        &by_rank,
+        &mut out,
+    );
+    out
 }
 
-struct Writer<'a> {
-    mol: &'a Molecule,
-    arom: &'a Aromaticity,
-    pi: &'a [bool],
-    nbrs: &'a [Vec<(usize, usize)>],
-    visited: Vec<bool>,
-    tree_edge: Vec<bool>,
-    seen_back: Vec<bool>,
-    /// Depth-first tree children (atom, edge) in rank order.
-    children: Vec<Vec<(usize, usize)>>,
-    /// Ring closures opened at an atom: (partner, edge), in partner rank order.
-    opens: Vec<Vec<(usize, usize)>>,
-    /// Ring closures closed at an atom: (partner, edge).
-    closes: Vec<Vec<(usize, usize)>>,
-    digit_of_edge: Vec<u32>,
-    digits_used: Vec<bool>,
+thread_local! {
+    static WRITER: RefCell<SmilesWriter> = RefCell::new(SmilesWriter::new());
+}
+
+/// Run `f` on this thread's [`SmilesWriter`] (a fresh one if it is in use).
+pub fn with_writer<R>(f: impl FnOnce(&mut SmilesWriter) -> R) -> R {
+    WRITER.with(|w| match w.try_borrow_mut() {
+        Ok(mut w) => f(&mut w),
+        Err(_) => f(&mut SmilesWriter::new()),
+    })
+}
+
+/// Canonical SMILES writer that keeps its work space between molecules:
+/// once its buffers have grown it allocates nothing per molecule, and it
+/// perceives rings again only when the skeleton (atom count and bonds, in
+/// their numbering) differs from the last one's, as it does not between the
+/// bond-order assignments of one skeleton that the isomer generator emits
+/// one after another. Of the rings it perceives the ring bonds per
+/// skeleton, and lists the ring set (the costly part) only when aromaticity
+/// needs it, at most once per skeleton. Every entry point runs the same
+/// steps: rings, aromaticity, canonical labelling, traversal.
+pub struct SmilesWriter {
+    mol: FlatMolecule,
+    /// Ring bonds (and, once aromaticity needed it, the ring set) of the
+    /// skeleton `mol` holds.
+    rings: RingInfo,
+    perceiver: Perceiver,
+    arom: Aromaticity,
+    canon: Canonizer,
+    graph: Box<CanonGraph>,
+    /// Canonical rank of each atom, and the atoms by rank.
+    ranks: Vec<usize>,
+    by_rank: Vec<usize>,
+    traversal: Traversal,
     out: String,
 }
 
-impl Writer<'_> {
+impl Default for SmilesWriter {
+    fn default() -> Self {
+        SmilesWriter::new()
+    }
+}
+
+impl SmilesWriter {
+    pub fn new() -> SmilesWriter {
+        SmilesWriter {
+            mol: FlatMolecule::default(),
+            rings: RingInfo::default(),
+            perceiver: Perceiver::default(),
+            arom: Aromaticity::default(),
+            canon: Canonizer::new(),
+            graph: Box::new(CanonGraph::new(0)),
+            ranks: Vec::new(),
+            by_rank: Vec::new(),
+            traversal: Traversal::default(),
+            out: String::new(),
+        }
+    }
+
+    /// Canonical SMILES of `mol` (see [`canonical_smiles`]), valid until the
+    /// next call.
+    pub fn canonical(&mut self, mol: &Molecule) -> &str {
+        let new_skeleton = self.mol.set_molecule(mol);
+        self.write_current(new_skeleton)
+    }
+
+    /// Canonical SMILES of any heavy-atom graph, such as the generator's
+    /// compact isomers (no [`Molecule`] is built); the same string
+    /// [`canonical_smiles`] gives for the same structure.
+    pub fn canonical_heavy_atoms(&mut self, mol: &impl HeavyAtoms) -> &str {
+        let new_skeleton = self.mol.set_heavy_atoms(mol);
+        self.write_current(new_skeleton)
+    }
+
+    fn write_current(&mut self, new_skeleton: bool) -> &str {
+        let mol = &self.mol;
+        let n = mol.atom_count();
+        if new_skeleton {
+            self.rings.perceive_ring_bonds(mol);
+        }
+        self.perceiver
+            .perceive(mol, &mut self.rings, &mut self.arom);
+        self.by_rank.clear();
+        if n <= MAX_ATOMS {
+            fill_canon_graph(mol, Some(&self.arom), &mut self.graph);
+            self.canon.run(&self.graph);
+            self.by_rank
+                .extend(self.canon.order().iter().map(|&v| v as usize));
+        } else {
+            self.by_rank.extend(0..n);
+        }
+        self.ranks.clear();
+        self.ranks.resize(n, 0);
+        for (i, &v) in self.by_rank.iter().enumerate() {
+            self.ranks[v] = i;
+        }
+        self.out.clear();
+        self.traversal
+            .write(mol, &self.arom, &self.ranks, &self.by_rank, &mut self.out);
+        &self.out
+    }
+}
+
+/// A step of the writing pass: an atom (with the bond it is reached by) or
+/// a branch parenthesis.
+#[derive(Clone, Copy, Debug)]
+enum Task {
+    Atom(usize, Option<usize>),
+    Paren(char),
+}
+
+/// [`Traversal::parent_bond`] of an atom not reached yet, and of a root.
+const NOT_REACHED: usize = usize::MAX;
+const ROOT: usize = usize::MAX - 1;
+/// [`Traversal::bond_role`] values.
+const UNSEEN: u8 = 0;
+const TREE: u8 = 1;
+const CLOSURE: u8 = 2;
+
+/// A ring closure: opened at the ancestor with `digit`, closed at the
+/// descendant.
+#[derive(Clone, Copy, Debug)]
+struct Closure {
+    ancestor: usize,
+    descendant: usize,
+    bond: usize,
+    digit: u32,
+}
+
+/// Work space of the depth-first writing pass.
+#[derive(Clone, Debug, Default)]
+struct Traversal {
+    pi: Vec<bool>,
+    /// Neighbours (atom, bond) of each atom in rank order, each atom's at
+    /// the positions of its list in the molecule
+    /// ([`FlatMolecule::neighbour_range`]).
+    nbrs: Vec<(usize, usize)>,
+    /// Fill position in each atom's list.
+    cursor: Vec<usize>,
+    /// The tree bond by which each atom was reached, [`ROOT`], or
+    /// [`NOT_REACHED`]; an atom's tree children are the neighbours reached
+    /// through their bond to it.
+    parent_bond: Vec<usize>,
+    /// Per bond: [`UNSEEN`], [`TREE`] or [`CLOSURE`].
+    bond_role: Vec<u8>,
+    /// Ring closures in the order the depth-first pass found them.
+    closures: Vec<Closure>,
+    digits_used: Vec<bool>,
+    /// Depth-first stack of (atom, next neighbour position).
+    stack: Vec<(usize, usize)>,
+    tasks: Vec<Task>,
+}
+
+impl Traversal {
+    /// Write `mol` as SMILES into `out`, traversing by `ranks` (see
+    /// [`write_smiles`]); `by_rank` lists the atoms in rank order.
+    fn write(
+        &mut self,
+        mol: &FlatMolecule,
+        arom: &Aromaticity,
+        ranks: &[usize],
+        by_rank: &[usize],
+        out: &mut String,
+    ) {
+        let n = mol.atom_count();
+        let m = mol.bond_count();
+        pi_atoms_into(mol, arom, &mut self.pi);
+        // Neighbours of each atom in rank order (ties, which distinct ranks
+        // never have, in bond order): a counting sort, walking the atoms in
+        // rank order and dealing each one out to its neighbours' lists.
+        reset(&mut self.nbrs, 2 * m, (0, 0));
+        self.cursor.clear();
+        self.cursor
+            .extend((0..n).map(|v| mol.neighbour_range(v).start));
+        for &u in by_rank {
+            for &(v, e) in mol.neighbours(u) {
+                self.nbrs[self.cursor[v]] = (u, e);
+                self.cursor[v] += 1;
+            }
+        }
+        reset(&mut self.parent_bond, n, NOT_REACHED);
+        reset(&mut self.bond_role, m, UNSEEN);
+        self.closures.clear();
+        self.digits_used.clear();
+        // Connected parts in the order of their lowest-ranked atom of least
+        // degree, each written from that atom: with distinct ranks, the
+        // least atom not yet written is the least of its own part, and
+        // planning a part reaches all of it.
+        let mut first = true;
+        while let Some(root) = (0..n)
+            .filter(|&v| self.parent_bond[v] == NOT_REACHED)
+            .min_by_key(|&v| (mol.degree(v), ranks[v], v))
+        {
+            self.plan(mol, root);
+            if !first {
+                out.push('.');
+            }
+            first = false;
+            self.emit(mol, arom, root, out);
+        }
+    }
+
     /// Depth-first pass from `root` (iterative, so long chains cannot
-    /// overflow the stack): tree children and ring closures.
-    fn plan(&mut self, root: usize) {
-        self.visited[root] = true;
-        // Stack of (atom, next neighbour position).
-        let mut stack = vec![(root, 0usize)];
-        while let Some(&mut (v, ref mut pos)) = stack.last_mut() {
-            if *pos == self.nbrs[v].len() {
-                stack.pop();
+    /// overflow the stack): tree bonds and ring closures.
+    fn plan(&mut self, mol: &FlatMolecule, root: usize) {
+        self.parent_bond[root] = ROOT;
+        self.stack.clear();
+        self.stack.push((root, mol.neighbour_range(root).start));
+        while let Some(top) = self.stack.last_mut() {
+            let (v, pos) = *top;
+            if pos == mol.neighbour_range(v).end {
+                self.stack.pop();
                 continue;
             }
-            let (u, e) = self.nbrs[v][*pos];
-            *pos += 1;
-            if !self.visited[u] {
-                self.visited[u] = true;
-                self.tree_edge[e] = true;
-                self.children[v].push((u, e));
-                stack.push((u, 0));
-            } else if !self.tree_edge[e] && !self.seen_back[e] {
+            top.1 += 1;
+            let (u, e) = self.nbrs[pos];
+            if self.parent_bond[u] == NOT_REACHED {
+                self.parent_bond[u] = e;
+                self.bond_role[e] = TREE;
+                self.stack.push((u, mol.neighbour_range(u).start));
+            } else if self.bond_role[e] == UNSEEN {
                 // A back edge to an ancestor u, found from descendant v.
-                self.seen_back[e] = true;
-                self.opens[u].push((v, e));
-                self.closes[v].push((u, e));
+                self.bond_role[e] = CLOSURE;
+                self.closures.push(Closure {
+                    ancestor: u,
+                    descendant: v,
+                    bond: e,
+                    digit: 0,
+                });
             }
         }
     }
 
-    fn write(&mut self, root: usize) {
-        // Iterative writer: a stack of tasks.
-        enum Task {
-            Atom(usize, Option<usize>),
-            Text(&'static str),
-        }
-        let mut tasks = vec![Task::Atom(root, None)];
-        while let Some(t) = tasks.pop() {
+    /// Write the part rooted at `root` (iterative: a stack of tasks).
+    fn emit(&mut self, mol: &FlatMolecule, arom: &Aromaticity, root: usize, out: &mut String) {
+        self.tasks.clear();
+        self.tasks.push(Task::Atom(root, None));
+        while let Some(t) = self.tasks.pop() {
             match t {
-                Task::Text(s) => self.out.push_str(s),
+                Task::Paren(c) => out.push(c),
                 Task::Atom(v, from) => {
                     if let Some(e) = from {
-                        let s = self.bond_symbol(e);
-                        self.out.push_str(s);
+                        push_bond_symbol(out, mol, arom, e);
                     }
-                    self.atom_symbol(v);
-                    self.ring_digits(v);
-                    let kids = self.children[v].clone();
-                    // Last child continues the chain; others are branches.
-                    // Push in reverse so the first branch is written first.
-                    for (k, &(u, e)) in kids.iter().enumerate().rev() {
-                        if k + 1 == kids.len() {
-                            tasks.push(Task::Atom(u, Some(e)));
+                    self.atom_symbol(mol, arom, v, out);
+                    if self
+                        .closures
+                        .iter()
+                        .any(|c| c.ancestor == v || c.descendant == v)
+                    {
+                        self.ring_digits(mol, arom, v, out);
+                    }
+                    // Tree children in rank order: the last continues the
+                    // chain, the others are branches. Pushed in reverse (the
+                    // last child first) so the first branch is written first.
+                    let mut last = true;
+                    for i in mol.neighbour_range(v).rev() {
+                        let (u, e) = self.nbrs[i];
+                        if self.parent_bond[u] != e {
+                            continue;
+                        }
+                        if last {
+                            self.tasks.push(Task::Atom(u, Some(e)));
+                            last = false;
                         } else {
-                            tasks.push(Task::Text(")"));
-                            tasks.push(Task::Atom(u, Some(e)));
-                            tasks.push(Task::Text("("));
+                            self.tasks.push(Task::Paren(')'));
+                            self.tasks.push(Task::Atom(u, Some(e)));
+                            self.tasks.push(Task::Paren('('));
                         }
                     }
                 }
@@ -210,80 +352,68 @@ impl Writer<'_> {
         }
     }
 
-    fn ring_digits(&mut self, v: usize) {
-        let closes = self.closes[v].clone();
-        for (_, e) in closes {
-            let d = self.digit_of_edge[e];
-            let s = self.bond_symbol(e);
-            self.out.push_str(s);
-            push_digit(&mut self.out, d);
-            self.digits_used[d as usize] = false;
+    /// Ring-closure digits at `v`: first those it closes, then those it
+    /// opens (lowest free digit first), each in the order found.
+    fn ring_digits(&mut self, mol: &FlatMolecule, arom: &Aromaticity, v: usize, out: &mut String) {
+        let Traversal {
+            closures,
+            digits_used,
+            ..
+        } = self;
+        for c in closures.iter().filter(|c| c.descendant == v) {
+            push_bond_symbol(out, mol, arom, c.bond);
+            push_digit(out, c.digit);
+            digits_used[c.digit as usize] = false;
         }
-        let opens = self.opens[v].clone();
-        for (_, e) in opens {
-            let d = match self.digits_used.iter().skip(1).position(|&u| !u) {
+        for c in closures.iter_mut().filter(|c| c.ancestor == v) {
+            let d = match digits_used.iter().skip(1).position(|&u| !u) {
                 Some(p) => p + 1,
                 None => {
-                    if self.digits_used.is_empty() {
-                        self.digits_used.push(true); // digit 0 is never used
+                    if digits_used.is_empty() {
+                        digits_used.push(true); // digit 0 is never used
                     }
-                    self.digits_used.push(false);
-                    self.digits_used.len() - 1
+                    digits_used.push(false);
+                    digits_used.len() - 1
                 }
             };
-            self.digits_used[d] = true;
-            self.digit_of_edge[e] = d as u32;
-            push_digit(&mut self.out, d as u32);
-        }
-    }
-
-    fn bond_symbol(&self, e: usize) -> &'static str {
-        if self.arom.bond[e] {
-            return "";
-        }
-        let edge = petgraph::graph::EdgeIndex::new(e);
-        let (a, b) = self.mol.graph.edge_endpoints(edge).expect("edge exists");
-        match self.mol.graph[edge].order {
-            2 => "=",
-            3 => "#",
-            _ if self.arom.atom[a.index()] && self.arom.atom[b.index()] => "-",
-            _ => "",
+            digits_used[d] = true;
+            c.digit = d as u32;
+            push_digit(out, c.digit);
         }
     }
 
     /// Element symbol, in brackets when the reader's implicit-hydrogen rule
     /// would not give this atom's H count.
-    fn atom_symbol(&mut self, v: usize) {
-        let atom = self.mol.atom(v);
-        let aromatic = self.arom.atom[v];
-        let sym = atom.element.symbol();
-        let text = if aromatic {
-            sym.to_ascii_lowercase()
-        } else {
-            sym.to_string()
+    fn atom_symbol(&self, mol: &FlatMolecule, arom: &Aromaticity, v: usize, out: &mut String) {
+        let element = mol.element(v);
+        let hydrogens = mol.hydrogens(v);
+        let aromatic = arom.atom[v];
+        // ASCII; only the first letter changes case when aromatic.
+        let sym = element.symbol().as_bytes();
+        let push_symbol = |out: &mut String| {
+            let first = if aromatic {
+                sym[0].to_ascii_lowercase()
+            } else {
+                sym[0]
+            };
+            out.push(first as char);
+            if let Some(&second) = sym.get(1) {
+                out.push(second as char);
+            }
         };
         // Bond count as a reader sees it: aromatic bonds once.
-        let node = NodeIndex::new(v);
-        let written: u32 = self
-            .mol
-            .graph
-            .edges(node)
-            .map(|e| {
-                if self.arom.bond[e.id().index()] {
-                    1
-                } else {
-                    e.weight().order as u32
-                }
-            })
-            .sum();
-        let allowed = atom.element.valences(true);
+        let mut written = 0u32;
+        for &(_, e) in mol.neighbours(v) {
+            written += if arom.bond[e] { 1 } else { mol.order(e) as u32 };
+        }
+        let allowed = element.valences(true);
         let implicit = allowed.iter().find(|&&x| x as u32 >= written).map(|&x| {
             let x = x as u32;
             let pi = aromatic && x > written;
             (x - written - pi as u32, pi)
         });
         let organic = matches!(
-            atom.element,
+            element,
             Element::C
                 | Element::N
                 | Element::O
@@ -295,22 +425,56 @@ impl Writer<'_> {
                 | Element::I
         );
         let needs_pi = aromatic && self.pi[v];
-        if organic && implicit == Some((atom.hydrogens as u32, needs_pi)) {
-            self.out.push_str(&text);
+        if organic && implicit == Some((hydrogens as u32, needs_pi)) {
+            push_symbol(out);
             return;
         }
-        self.out.push('[');
-        self.out.push_str(&text);
-        match atom.hydrogens {
+        out.push('[');
+        push_symbol(out);
+        match hydrogens {
             0 => {}
-            1 => self.out.push('H'),
+            1 => out.push('H'),
             h => {
-                self.out.push('H');
-                self.out.push_str(&h.to_string());
+                out.push('H');
+                push_number(out, h as u32);
             }
         }
-        self.out.push(']');
+        out.push(']');
     }
+}
+
+/// The bond symbol of bond `e`, when it needs one.
+fn push_bond_symbol(out: &mut String, mol: &FlatMolecule, arom: &Aromaticity, e: usize) {
+    if arom.bond[e] {
+        return;
+    }
+    let (a, b) = mol.ends(e);
+    match mol.order(e) {
+        2 => out.push('='),
+        3 => out.push('#'),
+        _ if arom.atom[a] && arom.atom[b] => out.push('-'),
+        _ => {}
+    }
+}
+
+/// Resize `v` to `len` items, all `value`.
+fn reset<T: Copy>(v: &mut Vec<T>, len: usize, value: T) {
+    v.clear();
+    v.resize(len, value);
+}
+
+fn push_number(out: &mut String, mut x: u32) {
+    let mut buf = [0u8; 10];
+    let mut i = buf.len();
+    loop {
+        i -= 1;
+        buf[i] = b'0' + (x % 10) as u8;
+        x /= 10;
+        if x == 0 {
+            break;
+        }
+    }
+    out.push_str(std::str::from_utf8(&buf[i..]).expect("ASCII digits"));
 }
 
 fn push_digit(out: &mut String, d: u32) {
@@ -318,9 +482,11 @@ fn push_digit(out: &mut String, d: u32) {
         out.push(char::from_digit(d, 10).expect("digit"));
     } else if d < 100 {
         out.push('%');
-        out.push_str(&d.to_string());
+        push_number(out, d);
     } else {
-        out.push_str(&format!("%({d})"));
+        out.push_str("%(");
+        push_number(out, d);
+        out.push(')');
     }
 }
 
@@ -370,5 +536,45 @@ mod tests {
         let back = parse_smiles(&s).unwrap();
         assert_eq!(back.graph.edge_count(), 12);
         assert_eq!(canon(&s), s);
+    }
+
+    #[test]
+    fn a_reused_writer_gives_what_a_fresh_one_gives() {
+        // The writer keeps ring perception per skeleton and lists the ring
+        // set lazily; neither may leak from one molecule into the next.
+        // Isomers come out skeleton by skeleton (the compact path, through
+        // this thread's writer); the same molecules are then fed to one
+        // writer in an order that changes skeleton at every step.
+        for text in ["C7H8", "C5H5N", "C6H4O2"] {
+            let formula = crate::chem::Formula::parse(text).unwrap();
+            let found = std::sync::Mutex::new(Vec::new());
+            crate::enumerate::for_each_ordered(
+                &formula,
+                &Default::default(),
+                |iso| {
+                    found.lock().unwrap().push((iso.molecule(), iso.smiles()));
+                    Some(())
+                },
+                |_| true,
+                &mut |_| {},
+            )
+            .unwrap();
+            let found = found.into_inner().unwrap();
+            assert!(found.len() > 100, "{text}");
+            let fresh: Vec<String> = found
+                .iter()
+                .map(|(m, _)| SmilesWriter::new().canonical(m).to_string())
+                .collect();
+            for ((_, compact), want) in found.iter().zip(&fresh) {
+                assert_eq!(compact, want, "{text}");
+            }
+            let mut reused = SmilesWriter::new();
+            let k = found.len();
+            for i in 0..k {
+                // 0, k-1, 1, k-2, ...
+                let j = if i % 2 == 0 { i / 2 } else { k - 1 - i / 2 };
+                assert_eq!(reused.canonical(&found[j].0), fresh[j], "{text}");
+            }
+        }
     }
 }
