@@ -13,6 +13,8 @@
 //! Extra arguments replace the formula lists: `-- C10H12 C9H10O` times those
 //! (hydrocarbons get the nauty comparison, the rest only a rate).
 
+mod common;
+
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
@@ -84,16 +86,7 @@ fn build_release(root: &Path) -> PathBuf {
 
 fn print_machine() {
     let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
-    let cpu = std::fs::read_to_string("/proc/cpuinfo")
-        .ok()
-        .and_then(|s| {
-            s.lines()
-                .find(|l| l.starts_with("model name"))
-                .and_then(|l| l.split(':').nth(1))
-                .map(|m| m.trim().to_string())
-        })
-        .unwrap_or_else(|| "unknown CPU".into());
-    println!("machine: {cores} cores available, {cpu}");
+    println!("machine: {cores} cores available, {}", common::cpu_model());
 }
 
 /// `CnHm` with only C and H: (n, m).

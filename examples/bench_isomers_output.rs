@@ -16,34 +16,12 @@
 //! (`REPS=1 ONLY=smiles` for a profiler run; `RAYON_NUM_THREADS=1` for one
 //! thread).
 
+mod common;
+
+use common::{best, cpu_model};
 use isomerank::chem::Formula;
 use isomerank::enumerate::{self, rules::RuleSet};
 use std::io::{BufWriter, Write};
-use std::time::Instant;
-
-/// CPU time of this process (all threads), seconds, from /proc/self/stat
-/// (Linux): utime and stime are the 14th and 15th fields.
-fn cpu_seconds() -> f64 {
-    let stat = std::fs::read_to_string("/proc/self/stat").unwrap_or_default();
-    let rest = stat.rsplit(')').next().unwrap_or("");
-    let f: Vec<&str> = rest.split_whitespace().collect();
-    let ticks: f64 = f.get(11).and_then(|x| x.parse().ok()).unwrap_or(0.0)
-        + f.get(12).and_then(|x| x.parse().ok()).unwrap_or(0.0);
-    ticks / 100.0
-}
-
-/// Best (wall, CPU) seconds of `reps` runs of `f`, and its last result.
-fn best<T>(reps: usize, mut f: impl FnMut() -> T) -> (f64, f64, T) {
-    let (mut wall, mut cpu) = (f64::INFINITY, f64::INFINITY);
-    let mut out = None;
-    for _ in 0..reps {
-        let (t, c) = (Instant::now(), cpu_seconds());
-        out = Some(f());
-        wall = wall.min(t.elapsed().as_secs_f64());
-        cpu = cpu.min(cpu_seconds() - c);
-    }
-    (wall, cpu, out.expect("at least one run"))
-}
 
 /// A writer that keeps nothing and counts the bytes it is given.
 #[derive(Default)]
@@ -61,28 +39,11 @@ impl Write for CountingSink {
     }
 }
 
-fn cpu_model() -> String {
-    std::fs::read_to_string("/proc/cpuinfo")
-        .ok()
-        .and_then(|s| {
-            s.lines()
-                .find(|l| l.starts_with("model name"))
-                .and_then(|l| l.split(':').nth(1))
-                .map(|m| m.trim().to_string())
-        })
-        .unwrap_or_else(|| "unknown CPU".into())
-}
-
 fn main() {
     let text = std::env::args()
         .nth(1)
         .unwrap_or_else(|| "C9H10O".to_string());
-    let reps: usize = std::env::var("REPS")
-        .ok()
-        .and_then(|r| r.parse().ok())
-        .unwrap_or(3)
-        .max(1);
-    let only = std::env::var("ONLY").unwrap_or_default();
+    let (reps, only) = common::reps_and_only();
     let formula = Formula::parse(&text).expect("formula");
     let options = enumerate::Options {
         rules: RuleSet::none(),

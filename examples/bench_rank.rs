@@ -14,33 +14,14 @@
 
 mod common;
 
-use common::{process_cpu_seconds as cpu_seconds, Setup};
+use common::{best, Setup};
 use isomerank::enumerate;
 use isomerank::rank::{self, Settings};
-use std::time::Instant;
-
-/// Best (wall, CPU) seconds of `reps` runs of `f`, and its last result.
-fn best<T>(reps: usize, mut f: impl FnMut() -> T) -> (f64, f64, T) {
-    let (mut wall, mut cpu) = (f64::INFINITY, f64::INFINITY);
-    let mut out = None;
-    for _ in 0..reps {
-        let (t, c) = (Instant::now(), cpu_seconds());
-        out = Some(f());
-        wall = wall.min(t.elapsed().as_secs_f64());
-        cpu = cpu.min(cpu_seconds() - c);
-    }
-    (wall, cpu, out.expect("at least one run"))
-}
 
 fn main() {
     let setup = Setup::from_args();
     let (formula, options) = (&setup.formula, &setup.options);
-    let reps: usize = std::env::var("REPS")
-        .ok()
-        .and_then(|r| r.parse().ok())
-        .unwrap_or(3)
-        .max(1);
-    let only = std::env::var("ONLY").unwrap_or_default();
+    let (reps, only) = common::reps_and_only();
     let threads = rayon::current_num_threads();
     println!("formula {formula}, {threads} threads, best of {reps}");
 

@@ -10,6 +10,7 @@ use isomerank::enumerate::{self, rules::RuleSet};
 use isomerank::predict::{PredictOptions, Predictor};
 use isomerank::score::ScoringModel;
 use isomerank::spectrum::{integrals, journal, SolventTable, Spectrum};
+use std::time::Instant;
 
 /// Propiophenone in CDCl3 (shifts from memory; any C9H10O list would do).
 pub const PROPIOPHENONE: &str = "1H NMR (400 MHz, CDCl3) δ 7.96 (m, 2H), 7.55 (m, 1H), \
@@ -81,4 +82,42 @@ pub fn process_cpu_seconds() -> f64 {
 /// CPU time of the calling thread, seconds.
 pub fn thread_cpu_seconds() -> f64 {
     cpu_from("/proc/thread-self/stat")
+}
+
+/// Best (wall, process CPU) seconds of `reps` runs of `f`, and its last
+/// result.
+pub fn best<T>(reps: usize, mut f: impl FnMut() -> T) -> (f64, f64, T) {
+    let (mut wall, mut cpu) = (f64::INFINITY, f64::INFINITY);
+    let mut out = None;
+    for _ in 0..reps.max(1) {
+        let (t, c) = (Instant::now(), process_cpu_seconds());
+        out = Some(f());
+        wall = wall.min(t.elapsed().as_secs_f64());
+        cpu = cpu.min(process_cpu_seconds() - c);
+    }
+    (wall, cpu, out.expect("at least one run"))
+}
+
+/// The CPU's model name as /proc/cpuinfo gives it.
+pub fn cpu_model() -> String {
+    std::fs::read_to_string("/proc/cpuinfo")
+        .ok()
+        .and_then(|s| {
+            s.lines()
+                .find(|l| l.starts_with("model name"))
+                .and_then(|l| l.split(':').nth(1))
+                .map(|m| m.trim().to_string())
+        })
+        .unwrap_or_else(|| "unknown CPU".into())
+}
+
+/// Runs per measurement (`REPS`, default 3) and the part to run alone
+/// (`ONLY`, empty for all): the benchmarks' environment switches.
+pub fn reps_and_only() -> (usize, String) {
+    let reps = std::env::var("REPS")
+        .ok()
+        .and_then(|r| r.parse().ok())
+        .unwrap_or(3usize)
+        .max(1);
+    (reps, std::env::var("ONLY").unwrap_or_default())
 }

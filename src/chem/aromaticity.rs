@@ -603,20 +603,7 @@ mod tests {
         let (mut with_ring, mut without_cycle) = (0, 0);
         let mut parent = Vec::new();
         for text in ["C6H6", "C5H5N", "C4H4O", "C8H8", "C7H6O", "C6H4O2"] {
-            let formula = crate::chem::Formula::parse(text).unwrap();
-            let mols = std::sync::Mutex::new(Vec::new());
-            crate::enumerate::for_each_ordered(
-                &formula,
-                &Default::default(),
-                |iso| {
-                    mols.lock().unwrap().push(iso.molecule());
-                    Some(())
-                },
-                |_| true,
-                &mut |_| {},
-            )
-            .unwrap();
-            for m in mols.into_inner().unwrap() {
+            for m in crate::enumerate::molecules_of(text) {
                 let flat = FlatMolecule::from_molecule(&m);
                 let mut rings = RingInfo::default();
                 rings.perceive(&flat);

@@ -947,20 +947,7 @@ mod tests {
         let mut reused = RingInfo::default();
         let mut checked = 0;
         for text in ["C8H8", "C6H6", "C5H4O", "C4H4N2"] {
-            let formula = crate::chem::Formula::parse(text).unwrap();
-            let mols = std::sync::Mutex::new(Vec::new());
-            crate::enumerate::for_each_ordered(
-                &formula,
-                &Default::default(),
-                |iso| {
-                    mols.lock().unwrap().push(iso.molecule());
-                    Some(())
-                },
-                |_| true,
-                &mut |_| {},
-            )
-            .unwrap();
-            for m in mols.into_inner().unwrap() {
+            for m in crate::enumerate::molecules_of(text) {
                 reused.perceive(&FlatMolecule::from_molecule(&m));
                 let want = smallest_rings_by_definition(&m);
                 assert_eq!(reused.smallest_bond_ring, want, "{text}");

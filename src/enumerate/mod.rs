@@ -495,3 +495,24 @@ pub fn write_smiles(
 pub fn count(formula: &Formula, opts: &Options) -> Result<u64> {
     Ok(for_each_ordered(formula, opts, |_| Some(()), |_| true, &mut |_| {})?.isomers)
 }
+
+/// Every isomer of `formula` (standard valences, no rules) as a molecule,
+/// in output order: for tests that check a chemistry step on whole isomer
+/// sets.
+#[cfg(test)]
+pub(crate) fn molecules_of(formula: &str) -> Vec<crate::chem::Molecule> {
+    let formula = Formula::parse(formula).expect("test formula");
+    let mut out = Vec::new();
+    for_each_ordered(
+        &formula,
+        &Options::default(),
+        |iso| Some(iso.molecule()),
+        |m| {
+            out.push(m);
+            true
+        },
+        &mut |_| {},
+    )
+    .expect("test enumeration");
+    out
+}
