@@ -84,6 +84,21 @@ fn an_ethyl_group_is_a_quartet_and_a_triplet() {
 }
 
 #[test]
+fn a_para_disubstituted_phenol_is_found_with_the_default_rules() {
+    // Common practice: two 2H "doublets" (AA'BB') = a para-disubstituted
+    // ring; a broad 1H singlet = OH. p-Cresol in CDCl3 (7.03 d, 6.74 d,
+    // 2.27 s, OH near 4.6; from memory). The default plausibility rules
+    // keep phenols: the enol rule concerns OH on a non-aromatic C=C.
+    let r = rank_all(
+        "C7H8O",
+        "1H NMR (400 MHz, CDCl3) δ 7.03 (d, J = 8.4 Hz, 2H), 6.74 (d, J = 8.4 Hz, 2H), \
+         4.6 (br s, 1H), 2.27 (s, 3H)",
+    );
+    assert_eq!(r.candidates[0].smiles, canonical("Cc1ccc(O)cc1"));
+    assert!(r.candidates[0].probability > 0.9);
+}
+
+#[test]
 fn top_probability_falls_when_the_integrals_are_removed() {
     // Without integrals the data no longer say how many H each signal has,
     // so more candidates fit and the best one is less certain.

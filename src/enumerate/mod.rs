@@ -387,9 +387,13 @@ where
             .map_init(
                 || {
                     let gens: Vec<Generator> = problems.iter().map(Generator::new).collect();
-                    (gens, resonance::Workspace::default())
+                    (
+                        gens,
+                        resonance::Workspace::default(),
+                        rules::Checker::default(),
+                    )
                 },
-                |(gens, ws), (i, task)| {
+                |(gens, ws, checker), (i, task)| {
                     let task_index = first + i;
                     let p = &problems[task.problem];
                     let symmetry_usable = p.one_kind_per_element();
@@ -413,8 +417,8 @@ where
                         }
                         res.generated += 1;
                         let mut out = false;
-                        for (i, r) in rules.iter().enumerate() {
-                            if r.flags(&iso) {
+                        for (i, &r) in rules.iter().enumerate() {
+                            if checker.flags(r, &iso) {
                                 res.flagged[i] += 1;
                                 out = true;
                             }

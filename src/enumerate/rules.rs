@@ -8,6 +8,10 @@
 
 use super::generator::bits;
 use super::Isomer;
+use crate::chem::aromaticity::{Aromaticity, Perceiver};
+use crate::chem::canon::MAX_ATOMS;
+use crate::chem::flat::FlatMolecule;
+use crate::chem::rings::RingInfo;
 use crate::chem::Element;
 use crate::error::{Error, Result};
 
@@ -56,8 +60,9 @@ impl Rule {
                  fewer than 7 bridge atoms in all (Fawcett, Chem. Rev. 1950, 47, 219: S >= 7)"
             }
             Rule::Enol => {
-                "no enol or ynol (OH on a C=C or C#C carbon): these tautomerise to the carbonyl \
-                 compound, which is enumerated separately (common practice)"
+                "no enol or ynol (OH on a non-aromatic C=C or C#C carbon): these tautomerise to \
+                 the carbonyl compound, which is enumerated separately; phenols and other \
+                 hydroxy arenes are aromatic and kept (common practice)"
             }
             Rule::Peroxide => {
                 "no O-O bond: peroxides are rare, unstable and hazardous as unknowns (common practice)"
@@ -69,15 +74,16 @@ impl Rule {
         Rule::ALL.iter().copied().find(|r| r.name() == name)
     }
 
-    /// Whether the isomer breaks this rule.
+    /// Whether the isomer breaks this rule (with a checker of this thread;
+    /// a stream of isomers is checked faster through one [`Checker`]).
     pub fn flags(self, iso: &Isomer) -> bool {
-        match self {
-            Rule::SmallRingTriple => small_ring_triple(iso),
-            Rule::SmallRingCumulated => small_ring_cumulated(iso),
-            Rule::Bredt => bredt(iso),
-            Rule::Enol => enol(iso),
-            Rule::Peroxide => peroxide(iso),
+        thread_local! {
+            static CHECKER: std::cell::RefCell<Checker> = std::cell::RefCell::new(Checker::default());
         }
+        CHECKER.with(|c| match c.try_borrow_mut() {
+            Ok(mut c) => c.flags(self, iso),
+            Err(_) => Checker::default().flags(self, iso),
+        })
     }
 }
 
@@ -128,6 +134,214 @@ impl RuleSet {
     }
 }
 
+/// Largest ring that still counts as small for the ring rules: a triple
+/// bond or an allene-type atom needs a ring of at least 8 atoms (common
+/// practice, see [`Rule::reason`]).
+const SMALL_RING: usize = 8;
+/// Fawcett's limit: a bridgehead double bond needs S >= 7 bridge atoms.
+const BREDT_MIN_S: u32 = 7;
+
+/// Checks the rules on a stream of isomers. What depends on the skeleton
+/// alone (which bonds lie on a ring, on a small ring, which atoms are
+/// bridgeheads of a small bridged bicyclic) is worked out once per skeleton,
+/// when first needed: the generator hands over all bond-order assignments of
+/// one skeleton in a row, so consecutive isomers usually share it.
+pub struct Checker {
+    /// The skeleton the remembered facts belong to (`n == usize::MAX`: none).
+    n: usize,
+    nb: [u64; MAX_ATOMS],
+    /// Atoms whose ring masks are known.
+    ring_known: u64,
+    /// Per atom, the neighbours it shares a ring with / a ring of fewer than
+    /// `SMALL_RING` atoms with.
+    ring_nb: [u64; MAX_ATOMS],
+    small_nb: [u64; MAX_ATOMS],
+    /// Atoms whose bridgehead verdict is known, and those found bridgeheads.
+    bridgehead_known: u64,
+    bridgehead: u64,
+    /// Aromaticity perception for the enol rule (phenols are not enols).
+    flat: FlatMolecule,
+    rings: RingInfo,
+    perceiver: Perceiver,
+    aromatic: Aromaticity,
+}
+
+impl Default for Checker {
+    fn default() -> Checker {
+        Checker {
+            n: usize::MAX,
+            nb: [0; MAX_ATOMS],
+            ring_known: 0,
+            ring_nb: [0; MAX_ATOMS],
+            small_nb: [0; MAX_ATOMS],
+            bridgehead_known: 0,
+            bridgehead: 0,
+            flat: FlatMolecule::default(),
+            rings: RingInfo::default(),
+            perceiver: Perceiver::default(),
+            aromatic: Aromaticity::default(),
+        }
+    }
+}
+
+impl Checker {
+    /// Whether `iso` breaks `rule`.
+    pub fn flags(&mut self, rule: Rule, iso: &Isomer) -> bool {
+        self.skeleton(iso);
+        match rule {
+            Rule::SmallRingTriple => self.small_ring_triple(iso),
+            Rule::SmallRingCumulated => self.small_ring_cumulated(iso),
+            Rule::Bredt => self.bredt(iso),
+            Rule::Enol => self.enol(iso),
+            Rule::Peroxide => peroxide(iso),
+        }
+    }
+
+    /// Forget the remembered facts when `iso` has another skeleton.
+    fn skeleton(&mut self, iso: &Isomer) {
+        let n = iso.atoms();
+        if self.n == n && self.nb[..n] == iso.node.nb[..n] {
+            return;
+        }
+        self.n = n;
+        self.nb[..n].copy_from_slice(&iso.node.nb[..n]);
+        self.ring_known = 0;
+        self.bridgehead_known = 0;
+        self.bridgehead = 0;
+    }
+
+    /// The ring masks of atom `x` (bonds on a ring; bonds on a small ring).
+    fn rings_of(&mut self, iso: &Isomer, x: usize) -> (u64, u64) {
+        if self.ring_known >> x & 1 == 0 {
+            let (mut ring, mut small) = (0, 0);
+            for y in bits(iso.node.nb[x]) {
+                if let Some(size) = smallest_ring_with_bond(iso, x, y) {
+                    ring |= 1u64 << y;
+                    if size < SMALL_RING {
+                        small |= 1u64 << y;
+                    }
+                }
+            }
+            self.ring_nb[x] = ring;
+            self.small_nb[x] = small;
+            self.ring_known |= 1u64 << x;
+        }
+        (self.ring_nb[x], self.small_nb[x])
+    }
+
+    fn small_ring_triple(&mut self, iso: &Isomer) -> bool {
+        let triple = &iso.node.g.adj[2];
+        (0..iso.atoms()).any(|x| triple[x] != 0 && self.rings_of(iso, x).1 & triple[x] != 0)
+    }
+
+    /// An atom with two or more double bonds, one of them on a small ring.
+    fn small_ring_cumulated(&mut self, iso: &Isomer) -> bool {
+        let double = &iso.node.g.adj[1];
+        (0..iso.atoms())
+            .any(|x| double[x].count_ones() >= 2 && self.rings_of(iso, x).1 & double[x] != 0)
+    }
+
+    /// A double bond at a bridgehead of a small bridged bicyclic.
+    fn bredt(&mut self, iso: &Isomer) -> bool {
+        let double = &iso.node.g.adj[1];
+        (0..iso.atoms()).any(|x| double[x] != 0 && self.is_small_bridgehead(iso, x))
+    }
+
+    fn is_small_bridgehead(&mut self, iso: &Isomer, x: usize) -> bool {
+        if self.bridgehead_known >> x & 1 == 0 {
+            let verdict =
+                self.rings_of(iso, x).0.count_ones() >= 3 && small_bicyclic_at(&iso.node.nb, x);
+            self.bridgehead |= (verdict as u64) << x;
+            self.bridgehead_known |= 1u64 << x;
+        }
+        self.bridgehead >> x & 1 == 1
+    }
+
+    /// OH on a carbon with a double or triple bond to carbon, unless that
+    /// carbon is aromatic (a phenol or a hydroxy heteroarene is no enol).
+    fn enol(&mut self, iso: &Isomer) -> bool {
+        let adj = &iso.node.g.adj;
+        let mut enol_carbons = 0u64;
+        for o in 0..iso.atoms() {
+            if iso.element(o) != Element::O || iso.hydrogens(o) != 1 {
+                continue;
+            }
+            for c in bits(iso.node.nb[o]) {
+                let multiple = (adj[1][c] | adj[2][c]) & !(1u64 << o);
+                if iso.element(c) == Element::C
+                    && bits(multiple).any(|y| iso.element(y) == Element::C)
+                {
+                    enol_carbons |= 1u64 << c;
+                }
+            }
+        }
+        if enol_carbons == 0 {
+            return false;
+        }
+        // Only a ring atom can be aromatic: perceive aromaticity only then.
+        let mut on_ring = 0u64;
+        for c in bits(enol_carbons) {
+            if self.rings_of(iso, c).0 != 0 {
+                on_ring |= 1u64 << c;
+            }
+        }
+        if on_ring == 0 {
+            return true;
+        }
+        self.flat.set_heavy_atoms(iso);
+        self.rings.perceive_ring_bonds(&self.flat);
+        self.perceiver
+            .perceive(&self.flat, &mut self.rings, &mut self.aromatic);
+        bits(enol_carbons).any(|c| !self.aromatic.atom[c])
+    }
+}
+
+/// Whether atom `x` is a bridgehead of a bridged bicyclic system with fewer
+/// than `BREDT_MIN_S` bridge atoms: some atom z not bonded to x is joined to
+/// it by three internally disjoint paths whose inner atoms number S < 7 in
+/// all (Fawcett's S). Each bridge then has at most 4 atoms, so every simple
+/// path of at most 5 bonds from x is listed and the triples with a common
+/// end are tried: the smallest S is found, not only some S.
+fn small_bicyclic_at(nb: &[u64; MAX_ATOMS], x: usize) -> bool {
+    const MAX_BONDS: u32 = BREDT_MIN_S - 2;
+    // (end atom, inner atoms) of every path of 2..=MAX_BONDS bonds.
+    let mut paths: Vec<(usize, u64)> = Vec::new();
+    fn walk(
+        nb: &[u64; MAX_ATOMS],
+        x: usize,
+        v: usize,
+        inner: u64,
+        bonds: u32,
+        out: &mut Vec<(usize, u64)>,
+    ) {
+        if bonds == MAX_BONDS {
+            return;
+        }
+        for u in bits(nb[v] & !inner & !(1u64 << x)) {
+            if bonds >= 1 && nb[x] >> u & 1 == 0 {
+                out.push((u, inner | 1u64 << v));
+            }
+            walk(nb, x, u, inner | 1u64 << v, bonds + 1, out);
+        }
+    }
+    for v in bits(nb[x]) {
+        walk(nb, x, v, 0, 1, &mut paths);
+    }
+    paths.sort_unstable_by_key(|p| p.0);
+    paths.chunk_by(|a, b| a.0 == b.0).any(|same_end| {
+        same_end.iter().enumerate().any(|(i, p)| {
+            same_end[i + 1..].iter().enumerate().any(|(j, q)| {
+                p.1 & q.1 == 0
+                    && same_end[i + j + 2..].iter().any(|r| {
+                        p.1 & r.1 == 0
+                            && q.1 & r.1 == 0
+                            && (p.1 | q.1 | r.1).count_ones() < BREDT_MIN_S
+                    })
+            })
+        })
+    })
+}
+
 /// Size of the smallest ring through the bond a-b (None when it is in no ring).
 pub fn smallest_ring_with_bond(iso: &Isomer, a: usize, b: usize) -> Option<usize> {
     let nb = &iso.node.nb;
@@ -163,163 +377,6 @@ fn bonds<'a>(iso: &'a Isomer<'a>) -> impl Iterator<Item = (usize, usize, u8)> + 
     })
 }
 
-fn small_ring_triple(iso: &Isomer) -> bool {
-    bonds(iso).any(|(a, b, o)| o == 3 && smallest_ring_with_bond(iso, a, b).is_some_and(|s| s < 8))
-}
-
-fn small_ring_cumulated(iso: &Isomer) -> bool {
-    (0..iso.atoms()).any(|x| {
-        let doubles: Vec<usize> = bits(iso.node.nb[x])
-            .filter(|&y| iso.order(x, y) == 2)
-            .collect();
-        doubles.len() >= 2
-            && doubles
-                .iter()
-                .any(|&y| smallest_ring_with_bond(iso, x, y).is_some_and(|s| s < 8))
-    })
-}
-
-fn enol(iso: &Isomer) -> bool {
-    (0..iso.atoms()).any(|o| {
-        iso.element(o) == Element::O
-            && iso.hydrogens(o) == 1
-            && bits(iso.node.nb[o]).any(|c| {
-                iso.element(c) == Element::C
-                    && bits(iso.node.nb[c]).any(|y| {
-                        // C=C or C#C: an enol or ynol. C=O (an acid) and C=N are not.
-                        y != o && iso.element(y) == Element::C && iso.order(c, y) >= 2
-                    })
-            })
-    })
-}
-
 fn peroxide(iso: &Isomer) -> bool {
     bonds(iso).any(|(a, b, _)| iso.element(a) == Element::O && iso.element(b) == Element::O)
-}
-
-/// Bredt's rule with Fawcett's S number: a double bond at an atom x that is a
-/// bridgehead, i.e. there is an atom z not bonded to x joined to it by three
-/// internally disjoint paths of at least two bonds (the bridges of a bicyclic
-/// [p.q.r] system with p, q, r >= 1), flagged when the bridges found have
-/// S = p + q + r < 7 atoms. The bridges are found as shortest augmenting
-/// paths, so S is that of the smallest bicyclic the search meets.
-fn bredt(iso: &Isomer) -> bool {
-    let n = iso.atoms();
-    (0..n).any(|x| {
-        let ring_nb = bits(iso.node.nb[x])
-            .filter(|&y| smallest_ring_with_bond(iso, x, y).is_some())
-            .count();
-        if ring_nb < 3 || !bits(iso.node.nb[x]).any(|y| iso.order(x, y) == 2) {
-            return false;
-        }
-        (0..n).any(|z| {
-            z != x
-                && iso.node.nb[x] >> z & 1 == 0
-                && disjoint_paths(&iso.node.nb[..n], x, z, 3).is_some_and(|lens| {
-                    let s: usize = lens.iter().map(|l| l - 1).sum();
-                    s < 7
-                })
-        })
-    })
-}
-
-/// Find `want` internally vertex-disjoint paths from s to t (unit vertex
-/// capacities, augmenting paths found by breadth-first search in the split
-/// graph); returns their lengths in bonds, or None when fewer exist.
-fn disjoint_paths(nb: &[u64], s: usize, t: usize, want: usize) -> Option<Vec<usize>> {
-    let n = nb.len();
-    // Split each vertex v into v_in (2v) and v_out (2v+1); flow on arcs.
-    // flow[(u, v)] for arc u_out -> v_in, and inner[v] for v_in -> v_out.
-    let mut flow = vec![vec![false; n]; n];
-    let mut inner = vec![false; n];
-    for _ in 0..want {
-        // BFS over states (vertex, side): side 0 = in, 1 = out.
-        let mut prev: Vec<Option<(usize, usize)>> = vec![None; 2 * n];
-        let start = 2 * s + 1;
-        let goal = 2 * t;
-        let mut queue = std::collections::VecDeque::new();
-        let mut seen = vec![false; 2 * n];
-        seen[start] = true;
-        queue.push_back(start);
-        while let Some(state) = queue.pop_front() {
-            if state == goal {
-                break;
-            }
-            let v = state / 2;
-            let mut push = |next: usize, queue: &mut std::collections::VecDeque<usize>| {
-                if !seen[next] {
-                    seen[next] = true;
-                    prev[next] = Some((state, 0));
-                    queue.push_back(next);
-                }
-            };
-            if state % 2 == 1 {
-                // v_out -> u_in along unused arcs.
-                for u in bits(nb[v]) {
-                    if u != s && !flow[v][u] {
-                        push(2 * u, &mut queue);
-                    }
-                }
-                // Residual: v_out -> v_in when v's inner arc carries flow.
-                if v != s && inner[v] {
-                    push(2 * v, &mut queue);
-                }
-            } else {
-                // v_in -> v_out when v is free (t is the sink, never passed through).
-                if v != t && !inner[v] {
-                    push(2 * v + 1, &mut queue);
-                }
-                // Residual: v_in -> u_out where arc u -> v carries flow.
-                for u in bits(nb[v]) {
-                    if flow[u][v] {
-                        push(2 * u + 1, &mut queue);
-                    }
-                }
-            }
-        }
-        if !seen[goal] {
-            return None;
-        }
-        // Apply the augmenting path.
-        let mut cur = goal;
-        while cur != start {
-            let (p, _) = prev[cur].expect("path back to the start");
-            let (pv, cv) = (p / 2, cur / 2);
-            match (p % 2, cur % 2) {
-                // Residual of v's inner arc: cancel it.
-                (1, 0) if pv == cv => inner[pv] = false,
-                // Edge arc pv_out -> cv_in; cancel an opposite flow instead of
-                // sending flow both ways along one bond.
-                (1, 0) => {
-                    if flow[cv][pv] {
-                        flow[cv][pv] = false;
-                    } else {
-                        flow[pv][cv] = true;
-                    }
-                }
-                (0, 1) if pv == cv => inner[pv] = true,
-                // Residual of arc cv_out -> pv_in: cancel it.
-                (0, 1) => flow[cv][pv] = false,
-                _ => unreachable!("moves alternate between in and out states"),
-            }
-            cur = p;
-        }
-    }
-    // Read off the paths from the flow.
-    let mut lens = Vec::new();
-    for first in 0..n {
-        if !flow[s][first] {
-            continue;
-        }
-        let (mut v, mut len) = (first, 1);
-        while v != t && len <= n {
-            match (0..n).find(|&u| flow[v][u]) {
-                Some(next) => v = next,
-                None => break,
-            }
-            len += 1;
-        }
-        lens.push(len);
-    }
-    Some(lens)
 }

@@ -1,0 +1,119 @@
+//! The plausibility rules (`isomers --plausible=RULE`, and the ranking's
+//! default) on every isomer of a set of formulas, against an independent
+//! decision for each structure: tests/reference/check_rules.py, which reads
+//! our SMILES with RDKit (PyPI rdkit) and applies each rule as the README
+//! states it (RDKit's smallest ring per bond and its aromaticity; a
+//! brute-force search over all short paths for Bredt's rule in Fawcett's
+//! form, Chem. Rev. 1950, 47, 219). Plus hand cases of common practice:
+//! which well-known structures each rule keeps and removes.
+
+mod common;
+
+use common::{canonical, isomers_ok, run_reference_script};
+use std::collections::{BTreeMap, BTreeSet};
+
+const RULES: [&str; 5] = [
+    "small-ring-triple",
+    "small-ring-cumulated",
+    "bredt",
+    "enol",
+    "peroxide",
+];
+
+#[derive(serde::Deserialize)]
+struct Reference {
+    lines: usize,
+    flagged: BTreeMap<String, Vec<usize>>,
+}
+
+/// The isomers `--plausible=rule` removes, as indices into the full list.
+fn removed_by(formula: &str, full: &[&str], rule: &str) -> BTreeSet<usize> {
+    let kept_text = isomers_ok(&[formula, &format!("--plausible={rule}")]);
+    let kept: BTreeSet<&str> = kept_text.lines().collect();
+    (0..full.len())
+        .filter(|&i| !kept.contains(full[i]))
+        .collect()
+}
+
+#[test]
+fn each_rule_removes_exactly_what_an_independent_check_flags() {
+    // Formulas with small rings, bridged polycycles, triple bonds, allenes,
+    // enols, phenols, hydroxy heteroarenes and O-O bonds among their isomers.
+    let formulas = [
+        "C6H6O", "C7H8O", "C6H6O2", "C8H10", "C6H8O2", "C7H10", "C5H5NO",
+    ];
+    let mut failures = Vec::new();
+    let mut seen = BTreeMap::new();
+    for formula in formulas {
+        let text = isomers_ok(&[formula]);
+        let full: Vec<&str> = text.lines().collect();
+        // Source: RDKit (PyPI rdkit) and a brute-force path search, see the
+        // module doc and tests/reference/check_rules.py.
+        let json = run_reference_script("check_rules.py", &[], &text);
+        let reference: Reference = serde_json::from_str(&json).expect("check_rules.py JSON");
+        assert_eq!(reference.lines, full.len(), "{formula}: lines read");
+        for rule in RULES {
+            let ours = removed_by(formula, &full, rule);
+            let theirs: BTreeSet<usize> = reference.flagged[rule].iter().copied().collect();
+            *seen.entry(rule).or_insert(0) += theirs.len();
+            let only = |a: &BTreeSet<usize>, b: &BTreeSet<usize>| -> Vec<&str> {
+                a.difference(b).take(5).map(|&i| full[i]).collect()
+            };
+            if ours != theirs {
+                failures.push(format!(
+                    "{formula} {rule}: we remove {} the reference flags {}; only ours: {:?}; only the reference's: {:?}",
+                    ours.len(),
+                    theirs.len(),
+                    only(&ours, &theirs),
+                    only(&theirs, &ours)
+                ));
+            }
+        }
+    }
+    assert!(failures.is_empty(), "{}", failures.join("\n"));
+    // Every rule had structures to decide on (peroxides only in the O2 sets).
+    for rule in RULES {
+        assert!(seen[rule] > 0, "no structure of the set breaks {rule}");
+    }
+}
+
+/// Whether `--plausible=rule` keeps the structure (given as any SMILES of
+/// `formula`); the structure must be an isomer of the formula at all.
+fn keeps(formula: &str, rule: &str, smiles: &str) -> bool {
+    let s = canonical(smiles);
+    let all = isomers_ok(&[formula]);
+    assert!(
+        all.lines().any(|l| l == s),
+        "{smiles} is not among the isomers of {formula}"
+    );
+    isomers_ok(&[formula, &format!("--plausible={rule}")])
+        .lines()
+        .any(|l| l == s)
+}
+
+#[test]
+fn common_practice_cases() {
+    // Common practice (the README's rule table); each pair: removed, kept.
+    // Enols tautomerise; phenols and hydroxypyridines are aromatic and stay.
+    assert!(!keeps("C2H4O", "enol", "OC=C"));
+    assert!(keeps("C2H4O", "enol", "CC=O"));
+    assert!(keeps("C6H6O", "enol", "Oc1ccccc1"));
+    assert!(keeps("C7H8O", "enol", "Cc1ccc(O)cc1"));
+    assert!(keeps("C5H5NO", "enol", "Oc1ccncc1"));
+    // A carboxylic acid's OH is on a C=O, not a C=C.
+    assert!(keeps("C3H4O2", "enol", "C=CC(=O)O"));
+    // Cyclohexyne is not isolable; cyclooctyne is the smallest that is.
+    assert!(!keeps("C6H8", "small-ring-triple", "C1CCC#CC1"));
+    assert!(keeps("C8H12", "small-ring-triple", "C1CCCC#CCC1"));
+    // 1,2-Cyclohexadiene (a ring allene) against 1,2-cyclononadiene.
+    assert!(!keeps("C6H8", "small-ring-cumulated", "C1CC=C=CC1"));
+    assert!(keeps("C9H14", "small-ring-cumulated", "C1CCCC=C=CCC1"));
+    // Bredt: bicyclo[2.2.1]hept-1-ene (S = 5) against bicyclo[3.3.1]non-1-ene
+    // (S = 7, Fawcett's limit) and norbornene (double bond off the bridgehead).
+    assert!(!keeps("C7H10", "bredt", "C12=CCC(CC1)C2"));
+    assert!(keeps("C9H14", "bredt", "C12=CCCC(C1)CCC2"));
+    assert!(keeps("C7H10", "bredt", "C1=CC2CCC1C2"));
+    // Peroxides.
+    assert!(!keeps("C2H6O2", "peroxide", "COOC"));
+    assert!(keeps("C2H6O2", "peroxide", "OCCO"));
+}

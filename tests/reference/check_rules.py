@@ -1,0 +1,164 @@
+#!/usr/bin/env python3
+"""Which plausibility rules each structure breaks, decided independently of
+isomerank with RDKit (PyPI rdkit) and a brute-force path search.
+
+Usage: check_rules.py < smiles-one-per-line
+
+Prints one JSON object: {"lines": N, "flagged": {rule: [line index, ...]}}
+with 0-based indices of the input lines each rule flags. The rules, as the
+README states them:
+
+- small-ring-triple: a triple bond in a ring of fewer than 8 atoms
+  (RDKit's smallest ring through the bond, RingInfo.MinBondRingSize);
+- small-ring-cumulated: an atom with two double bonds, one of them in a ring
+  of fewer than 8 atoms;
+- bredt: a double bond at an atom x that is a bridgehead of a bridged
+  bicyclic system with S < 7 bridge atoms (Fawcett, Chem. Rev. 1950, 47,
+  219): some atom z not bonded to x is joined to x by three internally
+  disjoint paths whose inner atoms number S in all. Searched here by brute
+  force: every simple path of at most 5 bonds from x to z (a bridge of a
+  system with S < 7 has at most 4 atoms), every triple of them;
+- enol: OH on a carbon that has a double or triple bond to carbon and is
+  not aromatic (RDKit's aromaticity of the parsed SMILES): a phenol is not
+  an enol;
+- peroxide: an O-O bond.
+
+The input is read as Kekule structures (aromatic SMILES are kekulized by
+RDKit's parser), so double bonds are those of one Kekule form, as the
+isomer generator emits them.
+"""
+
+import json
+import sys
+from itertools import combinations
+
+from rdkit import Chem, RDLogger
+
+SMALL = 8
+MAX_S = 7
+
+
+def kekule(smiles):
+    """The molecule in a Kekule form, and the indices of its aromatic atoms."""
+    mol = Chem.MolFromSmiles(smiles)
+    if mol is None:
+        sys.exit(f"check_rules: RDKit cannot read {smiles!r}")
+    aromatic = {a.GetIdx() for a in mol.GetAtoms() if a.GetIsAromatic()}
+    Chem.Kekulize(mol, clearAromaticFlags=True)
+    return mol, aromatic
+
+
+def min_bond_ring(mol, bond):
+    size = mol.GetRingInfo().MinBondRingSize(bond.GetIdx())
+    return size if size > 0 else None
+
+
+def small_ring_triple(mol, aromatic):
+    return any(
+        b.GetBondType() == Chem.BondType.TRIPLE
+        and (min_bond_ring(mol, b) or SMALL) < SMALL
+        for b in mol.GetBonds()
+    )
+
+
+def small_ring_cumulated(mol, aromatic):
+    for atom in mol.GetAtoms():
+        doubles = [b for b in atom.GetBonds() if b.GetBondType() == Chem.BondType.DOUBLE]
+        if len(doubles) >= 2 and any((min_bond_ring(mol, b) or SMALL) < SMALL for b in doubles):
+            return True
+    return False
+
+
+def enol(mol, aromatic):
+    for o in mol.GetAtoms():
+        if o.GetSymbol() != "O" or o.GetTotalNumHs() != 1:
+            continue
+        for c in o.GetNeighbors():
+            if c.GetSymbol() != "C" or c.GetIdx() in aromatic:
+                continue
+            for b in c.GetBonds():
+                y = b.GetOtherAtom(c)
+                if (
+                    y.GetIdx() != o.GetIdx()
+                    and y.GetSymbol() == "C"
+                    and b.GetBondType() in (Chem.BondType.DOUBLE, Chem.BondType.TRIPLE)
+                ):
+                    return True
+    return False
+
+
+def peroxide(mol, aromatic):
+    return any(
+        b.GetBeginAtom().GetSymbol() == "O" and b.GetEndAtom().GetSymbol() == "O"
+        for b in mol.GetBonds()
+    )
+
+
+def paths(adj, x, z, max_bonds):
+    """Every simple path x..z of at most max_bonds bonds, as inner-atom sets."""
+    out = []
+
+    def walk(v, seen, inner):
+        if len(inner) + 1 > max_bonds:
+            return
+        for u in adj[v]:
+            if u == z:
+                if inner:
+                    out.append(frozenset(inner))
+            elif u not in seen:
+                seen.add(u)
+                inner.append(u)
+                walk(u, seen, inner)
+                inner.pop()
+                seen.remove(u)
+
+    walk(x, {x}, [])
+    return out
+
+
+def bredt(mol, aromatic):
+    adj = {a.GetIdx(): [n.GetIdx() for n in a.GetNeighbors()] for a in mol.GetAtoms()}
+    for atom in mol.GetAtoms():
+        x = atom.GetIdx()
+        if not any(b.GetBondType() == Chem.BondType.DOUBLE for b in atom.GetBonds()):
+            continue
+        if len(adj[x]) < 3:
+            continue
+        for z in adj:
+            if z == x or z in adj[x]:
+                continue
+            found = paths(adj, x, z, MAX_S - 2)
+            for p, q, r in combinations(found, 3):
+                if (
+                    len(p) + len(q) + len(r) < MAX_S
+                    and not (p & q)
+                    and not (p & r)
+                    and not (q & r)
+                ):
+                    return True
+    return False
+
+
+RULES = {
+    "small-ring-triple": small_ring_triple,
+    "small-ring-cumulated": small_ring_cumulated,
+    "bredt": bredt,
+    "enol": enol,
+    "peroxide": peroxide,
+}
+
+
+def main():
+    RDLogger.DisableLog("rdApp.*")
+    lines = [l.strip() for l in sys.stdin if l.strip()]
+    flagged = {name: [] for name in RULES}
+    for i, smiles in enumerate(lines):
+        mol, aromatic = kekule(smiles)
+        for name, rule in RULES.items():
+            if rule(mol, aromatic):
+                flagged[name].append(i)
+    print(json.dumps({"lines": len(lines), "flagged": flagged}))
+
+
+if __name__ == "__main__":
+    main()
