@@ -216,3 +216,70 @@ pub fn data_table<C: DeserializeOwned>(file: &str) -> DataTable<C> {
         std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("read {}: {e}", path.display()));
     toml::from_str(&text).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
 }
+
+/// A reference compound with its observed peak list (journal style).
+#[derive(Deserialize)]
+pub struct PeakListCompound {
+    pub name: String,
+    pub smiles: String,
+    pub peaks: String,
+}
+
+/// Where each compound of `table` lands when every isomer of its formula is
+/// ranked against its peak list (CDCl3, `mhz`; the plausibility rules
+/// `rules`; the expanded valences of S and P where the formula has them,
+/// since sulfoxides need S(IV)): per compound its 1-based position (None
+/// beyond the table of 10) and a report line.
+pub fn rank_positions(
+    table: &[PeakListCompound],
+    mhz: f64,
+    rules: isomerank::enumerate::rules::RuleSet,
+) -> Vec<(Option<usize>, String)> {
+    use isomerank::chem::Element;
+    use isomerank::rank::{self, Settings};
+    use isomerank::spectrum::{integrals, journal, SolventTable};
+    let predictor = isomerank::predict::Predictor::embedded().unwrap();
+    let model = isomerank::score::ScoringModel::embedded();
+    let solvents = SolventTable::embedded();
+    let mut opts = predictor.options("CDCl3", mhz).unwrap();
+    opts.notes = false;
+    table
+        .iter()
+        .map(|c| {
+            let answer = isomerank::chem::smiles::parse_smiles(&c.smiles).unwrap();
+            let formula = answer.formula();
+            let want = isomerank::chem::smiles::canonical_smiles(&answer);
+            let spectrum =
+                integrals::build(journal::parse(&c.peaks).unwrap(), &formula, &solvents).unwrap();
+            let settings = Settings {
+                spectrum: &spectrum,
+                model: &model,
+                top: 10,
+            };
+            let options = isomerank::enumerate::Options {
+                rules: rules.clone(),
+                expanded_valence: formula.count(Element::S) + formula.count(Element::P) > 0,
+                ..Default::default()
+            };
+            let r = rank::with_standard_steps(&predictor, &opts, |steps| {
+                rank::rank_formula(&formula, &options, steps, &settings, &mut |_, _| {}).unwrap()
+            });
+            let pos = r
+                .candidates
+                .iter()
+                .position(|x| x.smiles == want)
+                .map(|p| p + 1);
+            let line = format!(
+                "{:<28} {:<10} {:>7} isomers  position {:<6} first: {} ({:.2} vs {:.2})",
+                c.name,
+                formula.to_string(),
+                r.considered,
+                pos.map(|p| p.to_string()).unwrap_or_else(|| ">10".into()),
+                r.candidates[0].smiles,
+                r.candidates[0].cost,
+                pos.map(|p| r.candidates[p - 1].cost).unwrap_or(f64::NAN)
+            );
+            (pos, line)
+        })
+        .collect()
+}
