@@ -73,18 +73,6 @@ impl Rule {
     pub fn from_name(name: &str) -> Option<Rule> {
         Rule::ALL.iter().copied().find(|r| r.name() == name)
     }
-
-    /// Whether the isomer breaks this rule (with a checker of this thread;
-    /// a stream of isomers is checked faster through one [`Checker`]).
-    pub fn flags(self, iso: &Isomer) -> bool {
-        thread_local! {
-            static CHECKER: std::cell::RefCell<Checker> = std::cell::RefCell::new(Checker::default());
-        }
-        CHECKER.with(|c| match c.try_borrow_mut() {
-            Ok(mut c) => c.flags(self, iso),
-            Err(_) => Checker::default().flags(self, iso),
-        })
-    }
 }
 
 /// A set of rules to apply.
@@ -288,8 +276,10 @@ impl Checker {
         if on_ring == 0 {
             return true;
         }
-        self.flat.set_heavy_atoms(iso);
-        self.rings.perceive_ring_bonds(&self.flat);
+        // Ring bonds depend on the skeleton alone (as in the SMILES writer).
+        if self.flat.set_heavy_atoms(iso) {
+            self.rings.perceive_ring_bonds(&self.flat);
+        }
         self.perceiver
             .perceive(&self.flat, &mut self.rings, &mut self.aromatic);
         bits(enol_carbons).any(|c| !self.aromatic.atom[c])

@@ -234,26 +234,19 @@ impl Pattern {
         if !self.root_settled_by_key && !node_holds(&self.nodes[0], v, root) {
             return false;
         }
-        if self.nodes.len() == 1 {
-            return true;
-        }
-        let mut used: u64 = 1u64 << root;
-        if let Some(p) = parent {
-            used |= 1u64 << p;
-        }
-        let mut assigned = [0u8; MAX_PATTERN_ATOMS];
-        assigned[0] = root as u8;
-        self.assign(v, 1, &mut assigned, used)
+        self.nodes.len() == 1 || self.match_below_root(v, root, parent)
     }
 
     /// Does the pattern match with its root on `root`? `parent`, when given,
     /// is the atom the substituent hangs from: it is excluded from the match,
     /// so the pattern sees only the substituent side.
     pub fn matches(&self, v: &View, root: usize, parent: Option<usize>) -> bool {
-        let r = &self.nodes[0];
-        if !node_holds(r, v, root) {
-            return false;
-        }
+        node_holds(&self.nodes[0], v, root) && self.match_below_root(v, root, parent)
+    }
+
+    /// The rest of the pattern, its root already placed on `root`.
+    #[inline]
+    fn match_below_root(&self, v: &View, root: usize, parent: Option<usize>) -> bool {
         let mut used: u64 = 1u64 << root;
         if let Some(p) = parent {
             used |= 1u64 << p;

@@ -148,12 +148,7 @@ impl View {
                                 i + 1
                             ));
                         }
-                        let order = l as u8 + 1;
-                        v.nbr[i][d] = j as u8;
-                        v.order[i][d] = order;
-                        v.bond[i][d] = order;
-                        v.deg[i] += 1;
-                        v.adj[i] |= 1u64 << j;
+                        v.push_neighbour(i, j, l as u8 + 1);
                         edges += 1;
                     }
                 }
@@ -176,11 +171,7 @@ impl View {
                     bad = Some(format!("bond {}-{} has order {order}", i + 1, j + 1));
                     return;
                 }
-                v.nbr[i][d] = j as u8;
-                v.order[i][d] = order;
-                v.bond[i][d] = order;
-                v.deg[i] += 1;
-                v.adj[i] |= 1u64 << j;
+                v.push_neighbour(i, j, order);
                 edges += 1;
             });
             if let Some(e) = bad {
@@ -226,6 +217,17 @@ impl View {
             v.elem_bit[i] = super::pattern::elem_bit(v.element[i], aro);
         }
         Ok(())
+    }
+
+    /// Record `j` as the next neighbour of `i`, over a bond of `order`
+    /// (the caller has checked that `i` has room for it).
+    fn push_neighbour(&mut self, i: usize, j: usize, order: u8) {
+        let d = self.deg[i] as usize;
+        self.nbr[i][d] = j as u8;
+        self.order[i][d] = order;
+        self.bond[i][d] = order;
+        self.deg[i] += 1;
+        self.adj[i] |= 1u64 << j;
     }
 
     pub fn is_aromatic(&self, i: usize) -> bool {

@@ -148,6 +148,17 @@ struct Payload {
     scored: Scored,
 }
 
+impl Payload {
+    /// A candidate that may rank, keyed by its SMILES for ties.
+    fn outcome(self) -> Outcome<Box<Payload>> {
+        Outcome::Scored {
+            cost: self.scored.cost,
+            key: self.smiles.clone(),
+            item: Box::new(self),
+        }
+    }
+}
+
 /// Predict and score one structure; `None` when it cannot beat `cutoff`.
 /// The prediction stops after the shifts when even a score without its
 /// multiplicity and J terms (never negative) cannot beat `cutoff`
@@ -163,14 +174,6 @@ fn evaluate(
     let predicted = (steps.predict)(molecule, symmetry, &mut gate)?;
     let scored = prepared.score(&predicted, cutoff)?;
     Some((predicted, scored))
-}
-
-/// Rank a shortlist (every item must already have the formula): the
-/// items in their order, as one stream (see [`rank_shortlist_chunks`]).
-pub fn rank_shortlist(items: Vec<ShortlistItem>, steps: &Steps, settings: &Settings) -> Ranking {
-    let mut chunks = std::iter::once(Ok(items));
-    rank_shortlist_chunks(&mut chunks, steps, settings)
-        .expect("a shortlist given as items has no input errors")
 }
 
 /// Rank a shortlist that arrives in chunks, in input order (a reader that
@@ -202,17 +205,14 @@ pub fn rank_shortlist_chunks(
                     Some((_, scored)) if scored.cost > top_k => {
                         Outcome::CostOnly { cost: scored.cost }
                     }
-                    Some((predicted, scored)) => Outcome::Scored {
-                        cost: scored.cost,
-                        key: it.smiles.clone(),
-                        item: Box::new(Payload {
-                            molecule: it.molecule,
-                            smiles: it.smiles,
-                            name: it.name,
-                            predicted,
-                            scored,
-                        }),
-                    },
+                    Some((predicted, scored)) => Payload {
+                        molecule: it.molecule,
+                        smiles: it.smiles,
+                        name: it.name,
+                        predicted,
+                        scored,
+                    }
+                    .outcome(),
                     None => Outcome::Skipped,
                 },
             )
@@ -266,17 +266,14 @@ pub fn rank_formula(
                     // canonical labelling).
                     let molecule = iso.molecule();
                     let smiles = (steps.smiles)(&molecule);
-                    Outcome::Scored {
-                        cost: scored.cost,
-                        key: smiles.clone(),
-                        item: Box::new(Payload {
-                            molecule,
-                            smiles,
-                            name: None,
-                            predicted,
-                            scored,
-                        }),
+                    Payload {
+                        molecule,
+                        smiles,
+                        name: None,
+                        predicted,
+                        scored,
                     }
+                    .outcome()
                 }
                 None => return None,
             },

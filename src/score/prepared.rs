@@ -203,6 +203,19 @@ impl<'a> Prepared<'a> {
         }
     }
 
+    /// The search's root bound over the shift terms alone (filled by
+    /// `Work::bounds`): a lower bound of every assignment's cost.
+    fn shift_root_bound(&self, w: &mut Work) -> f64 {
+        let Work {
+            bound,
+            unassigned,
+            hydrogens,
+            min_choice,
+            ..
+        } = w;
+        assign::root_bound(&self.view(bound, unassigned, hydrogens), min_choice)
+    }
+
     /// Same result as `score::score(predicted, spectrum, model, cutoff)`:
     /// identical cost (bit for bit) and identical assignment. Allocates only
     /// the returned [`Scored`] (and, the first time a thread meets a
@@ -224,15 +237,7 @@ impl<'a> Prepared<'a> {
                     .iter()
                     .map(|p| (p.shift, p.sigma, p.hydrogens, p.exchangeable)),
             );
-            let Work {
-                bound,
-                unassigned,
-                hydrogens,
-                min_choice,
-                ..
-            } = w;
-            let lower = assign::root_bound(&self.view(bound, unassigned, hydrogens), min_choice);
-            if clears(lower, cutoff) {
+            if clears(self.shift_root_bound(w), cutoff) {
                 return None;
             }
         } else {
@@ -307,19 +312,16 @@ impl<'a> Prepared<'a> {
                     .iter()
                     .map(|x| (x.shift, x.sigma, x.hydrogens, x.exchangeable)),
             );
+            if !search_too {
+                return !clears(self.shift_root_bound(w), cutoff);
+            }
             let Work {
                 bound,
                 unassigned,
                 hydrogens,
-                min_choice,
                 search,
                 ..
             } = w;
-            if !search_too {
-                let lower =
-                    assign::root_bound(&self.view(bound, unassigned, hydrogens), min_choice);
-                return !clears(lower, cutoff);
-            }
             let raised = cutoff + SLACK * (1.0 + cutoff.abs());
             assign::may_reach_below(
                 &self.view(bound, unassigned, hydrogens),
