@@ -52,7 +52,7 @@ pub mod signal;
 pub mod view;
 
 pub use library::Library;
-pub use signal::{Multiplicity, PredictedSignal};
+pub use signal::{Multiplicity, PredictedCarbon, PredictedSignal};
 
 use crate::chem::canon::{CanonGraph, Canonizer};
 use crate::chem::{Element, HeavyAtoms, Molecule};

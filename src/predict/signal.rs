@@ -113,3 +113,20 @@ impl PredictedSignal {
         }
     }
 }
+
+/// One predicted 13C signal: a carbon symmetry class (automorphism orbit of
+/// the molecular graph restricted to carbon). Field names follow the
+/// `predict --format json` schema (`"carbon": [...]`).
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct PredictedCarbon {
+    /// Chemical shift estimate, ppm.
+    pub shift: f64,
+    /// Typical error of the method that gave `shift`, ppm.
+    pub sigma: f64,
+    /// Number of carbons in the class (the size of the orbit).
+    pub carbons: u32,
+    /// H attached to each carbon of the class (0 C, 1 CH, 2 CH2, 3 CH3, 4 CH4).
+    pub hydrogens: u8,
+    /// Heavy atoms (indices into the molecule) of the class.
+    pub atoms: Vec<usize>,
+}
