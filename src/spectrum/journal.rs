@@ -46,21 +46,21 @@ pub const SHIFT_LIMITS: (f64, f64) = (-5.0, 25.0);
 /// geminal sp3 up to -20; common practice).
 pub const MAX_J_HZ: f64 = 40.0;
 
-struct Cursor<'a> {
-    chars: &'a [char],
-    pos: usize,
+pub(super) struct Cursor<'a> {
+    pub(super) chars: &'a [char],
+    pub(super) pos: usize,
 }
 
 impl<'a> Cursor<'a> {
-    fn peek(&self) -> Option<char> {
+    pub(super) fn peek(&self) -> Option<char> {
         self.chars.get(self.pos).copied()
     }
-    fn skip_ws(&mut self) {
+    pub(super) fn skip_ws(&mut self) {
         while self.peek().is_some_and(char::is_whitespace) {
             self.pos += 1;
         }
     }
-    fn rest_starts_with_ci(&self, s: &str) -> bool {
+    pub(super) fn rest_starts_with_ci(&self, s: &str) -> bool {
         let n = s.chars().count();
         if self.pos + n > self.chars.len() {
             return false;
@@ -81,9 +81,42 @@ pub fn parse(text: &str) -> Result<RawSpectrum> {
     };
     let mut out = RawSpectrum::default();
     cur.skip_ws();
-    parse_header(&mut cur, &mut out)?;
-    // Body: split at top-level commas/semicolons.
-    let body_start = cur.pos;
+    if let Some(other) = OTHER_NUCLEUS.iter().find(|p| cur.rest_starts_with_ci(p)) {
+        return Err(Error::input(format!(
+            "this is a 13C list (it starts with \"{other}\"): give it with --carbon, and the 1H list with --peaks"
+        )));
+    }
+    parse_header(
+        &mut cur,
+        &mut out.frequency_mhz,
+        &mut out.solvent,
+        HEADER_1H,
+    )?;
+    let pieces = split_entries(
+        &chars,
+        cur.pos,
+        "no multiplets in the peak list: write entries such as 2.05 (s, 3H), separated by commas",
+    )?;
+    for (n, &(s, e)) in pieces.iter().enumerate() {
+        out.entries.push(parse_entry(n + 1, &chars, s, e)?);
+    }
+    Ok(out)
+}
+
+/// Header words that open a 1H list.
+pub(super) const HEADER_1H: &[&str] = &["1H NMR", "¹H NMR", "1H-NMR", "¹H-NMR", "H NMR", "NMR"];
+/// Header words that open a 13C list (refused by the 1H reader).
+pub(super) const OTHER_NUCLEUS: &[&str] = &["13C", "¹³C"];
+
+/// Split the body (from `body_start`) into entries at top-level commas and
+/// semicolons: (start, end) character ranges, each non-blank (an empty list
+/// is the error `when_empty`). A final full
+/// stop ends a sentence, not an entry. Errors name the entry and character.
+pub(super) fn split_entries(
+    chars: &[char],
+    body_start: usize,
+    when_empty: &str,
+) -> Result<Vec<(usize, usize)>> {
     let mut end = chars.len();
     // A final full stop ends a sentence, not an entry.
     while end > body_start && (chars[end - 1].is_whitespace() || chars[end - 1] == '.') {
@@ -141,28 +174,24 @@ pub fn parse(text: &str) -> Result<RawSpectrum> {
     pieces.push((start, end));
     for (n, &(s, e)) in pieces.iter().enumerate() {
         let entry = n + 1;
-        let piece = &chars[s..e];
-        if piece.iter().all(|c| c.is_whitespace()) {
+        if chars[s..e].iter().all(|c| c.is_whitespace()) {
             if pieces.len() == 1 {
-                return Err(Error::input(
-                    "no multiplets in the peak list: write entries such as 2.05 (s, 3H), separated by commas",
-                ));
+                return Err(Error::input(when_empty));
             }
             return Err(Error::input(format!(
                 "entry {entry} is empty (character {}): remove the extra comma",
                 s + 1
             )));
         }
-        out.entries.push(parse_entry(entry, &chars, s, e)?);
     }
-    Ok(out)
+    Ok(pieces)
 }
 
-fn entry_error(entry: usize, text: &[char], what: String) -> Error {
+pub(super) fn entry_error(entry: usize, text: &[char], what: String) -> Error {
     Error::input(format!("entry {entry} \"{}\": {what}", quote(text)))
 }
 
-fn quote(text: &[char]) -> String {
+pub(super) fn quote(text: &[char]) -> String {
     let s: String = text.iter().collect();
     let s = s.trim();
     if s.chars().count() > 48 {
@@ -174,9 +203,14 @@ fn quote(text: &[char]) -> String {
 }
 
 /// `1H NMR (400 MHz, CDCl3) δ` or `δ` or `1H NMR:` or nothing.
-fn parse_header(cur: &mut Cursor, out: &mut RawSpectrum) -> Result<()> {
+pub(super) fn parse_header(
+    cur: &mut Cursor,
+    frequency_mhz: &mut Option<f64>,
+    solvent: &mut Option<String>,
+    prefixes: &[&str],
+) -> Result<()> {
     let mut had_nmr = false;
-    for prefix in ["1H NMR", "¹H NMR", "1H-NMR", "¹H-NMR", "H NMR", "NMR"] {
+    for prefix in prefixes {
         if cur.rest_starts_with_ci(prefix) {
             cur.pos += prefix.chars().count();
             had_nmr = true;
@@ -207,11 +241,16 @@ fn parse_header(cur: &mut Cursor, out: &mut RawSpectrum) -> Result<()> {
                 open + 1
             )));
         };
-        parse_header_items(&cur.chars[open + 1..close], open + 1, out)?;
+        parse_header_items(
+            &cur.chars[open + 1..close],
+            open + 1,
+            frequency_mhz,
+            solvent,
+        )?;
         cur.pos = close + 1;
         cur.skip_ws();
     }
-    for d in ["δH", "δ", "delta"] {
+    for d in ["δH", "δC", "δ", "delta"] {
         if cur.rest_starts_with_ci(d) {
             cur.pos += d.chars().count();
             break;
@@ -230,7 +269,12 @@ fn parse_header(cur: &mut Cursor, out: &mut RawSpectrum) -> Result<()> {
 }
 
 /// Header items: frequency (`400 MHz`), solvent, temperature (ignored).
-fn parse_header_items(chars: &[char], offset: usize, out: &mut RawSpectrum) -> Result<()> {
+fn parse_header_items(
+    chars: &[char],
+    offset: usize,
+    frequency_mhz: &mut Option<f64>,
+    solvent: &mut Option<String>,
+) -> Result<()> {
     let text: String = chars.iter().collect();
     let mut depth = 0;
     let mut items = Vec::new();
@@ -269,7 +313,7 @@ fn parse_header_items(chars: &[char], offset: usize, out: &mut RawSpectrum) -> R
                     at + 1
                 )));
             }
-            out.frequency_mhz = Some(f);
+            *frequency_mhz = Some(f);
         } else if lower.ends_with(" k")
             || lower.ends_with("°c")
             || lower.ends_with(" c")
@@ -277,7 +321,7 @@ fn parse_header_items(chars: &[char], offset: usize, out: &mut RawSpectrum) -> R
         {
             // Temperature: not used by the scorer.
         } else {
-            out.solvent = Some(item.to_string());
+            *solvent = Some(item.to_string());
         }
     }
     Ok(())
@@ -505,7 +549,7 @@ fn classify(item: &str) -> Option<Item> {
     None
 }
 
-fn split_words(item: &str, at: usize) -> Vec<(String, usize)> {
+pub(super) fn split_words(item: &str, at: usize) -> Vec<(String, usize)> {
     let mut out = Vec::new();
     let mut offset = 0;
     for word in item.split_whitespace() {
@@ -517,7 +561,7 @@ fn split_words(item: &str, at: usize) -> Vec<(String, usize)> {
 }
 
 /// `J = 7.1 Hz`, `J=7.1`, `3J = 7.1 Hz`, `JHH 7.1`: the text after the J.
-fn strip_j(item: &str) -> Option<&str> {
+pub(super) fn strip_j(item: &str) -> Option<&str> {
     let t = item.trim_start_matches(|c: char| c.is_ascii_digit() || "²³⁴".contains(c));
     let t = t.strip_prefix('J')?;
     let t = t.strip_prefix("HH").unwrap_or(t);
@@ -550,7 +594,7 @@ fn parse_j_values(text: &str) -> Option<(Vec<f64>, bool)> {
 
 /// A decimal number (optionally signed) starting at `i`; returns the value
 /// and the index after it.
-fn read_number(chars: &[char], i: usize, e: usize) -> Option<(f64, usize)> {
+pub(super) fn read_number(chars: &[char], i: usize, e: usize) -> Option<(f64, usize)> {
     let mut j = i;
     if j < e && (chars[j] == '-' || chars[j] == '−') {
         j += 1;

@@ -6,12 +6,14 @@
 //! Everything downstream (the scorer) sees only [`Spectrum`]: validated,
 //! integrals in H units, every multiplet numbered by its entry in the input.
 
+pub mod carbon;
 pub mod file;
 pub mod integrals;
 pub mod journal;
 pub mod pattern;
 pub mod solvent;
 
+pub use carbon::{CarbonLine, CarbonSpectrum};
 pub use pattern::ObservedPattern;
 pub use solvent::{SolventPeak, SolventTable};
 
