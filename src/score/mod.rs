@@ -10,12 +10,14 @@
 //! cost) and, before multiplicities are predicted, [`Prepared::may_beat`].
 
 pub mod assign;
+pub mod carbon;
 pub mod model;
 mod pattern_rows;
 pub mod prepared;
 #[cfg(test)]
 mod testgen;
 
+pub use carbon::CarbonPrepared;
 pub use model::{PairCost, ScoringModel};
 pub use prepared::{GroupShift, Prepared};
 

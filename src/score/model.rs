@@ -59,6 +59,21 @@ pub struct RankingParams {
     pub skip_margin: f64,
 }
 
+/// The 13C part of the cost (fragment-library/scoring.toml, `[carbon]`;
+/// used by [`crate::score::carbon`]).
+#[derive(Clone, Debug, Deserialize)]
+pub struct CarbonParams {
+    pub min_sigma: f64,
+    pub shift_cap: f64,
+    pub hydrogens_mismatch: f64,
+    pub unassigned_quaternary: f64,
+    pub unassigned_protonated: f64,
+    pub unexplained: f64,
+    pub solvent_set_aside: f64,
+    pub overlap: f64,
+    pub count_sigma: f64,
+}
+
 #[derive(Clone, Debug, Deserialize)]
 struct CompatRow {
     predicted: String,
@@ -78,6 +93,7 @@ struct ModelFile {
     #[serde(default)]
     compatibility: Vec<CompatRow>,
     ranking: RankingParams,
+    carbon: CarbonParams,
 }
 
 /// The loaded cost model.
@@ -89,6 +105,7 @@ pub struct ScoringModel {
     pub coupling: CouplingParams,
     pub multiplicity: MultiplicityParams,
     pub ranking: RankingParams,
+    pub carbon: CarbonParams,
     /// (predicted code, observed code, apparent, probability): a few dozen
     /// rows, scanned linearly (faster than hashing at this size).
     table: Vec<(u64, u64, bool, f64)>,
@@ -147,6 +164,7 @@ impl ScoringModel {
             coupling: f.coupling,
             multiplicity: f.multiplicity,
             ranking: f.ranking,
+            carbon: f.carbon,
             table,
         })
     }
@@ -406,6 +424,20 @@ fn validate(f: &ModelFile) -> Result<()> {
         f.ranking.indistinguishable_margin,
     )?;
     check_non_negative("[ranking] skip_margin", f.ranking.skip_margin)?;
+    let c = &f.carbon;
+    check_positive("[carbon] min_sigma", c.min_sigma)?;
+    check_positive("[carbon] count_sigma", c.count_sigma)?;
+    for (name, v) in [
+        ("shift_cap", c.shift_cap),
+        ("hydrogens_mismatch", c.hydrogens_mismatch),
+        ("unassigned_quaternary", c.unassigned_quaternary),
+        ("unassigned_protonated", c.unassigned_protonated),
+        ("unexplained", c.unexplained),
+        ("solvent_set_aside", c.solvent_set_aside),
+        ("overlap", c.overlap),
+    ] {
+        check_non_negative(&format!("[carbon] {name}"), v)?;
+    }
     Ok(())
 }
 
