@@ -14,10 +14,20 @@
 //! integral = 2              # optional
 //! ```
 //!
-//! JSON: the same object, `multiplets` an array of objects. A file whose name
+//! A 13C list, optional, beside or instead of the multiplets:
+//!
+//! ```toml
+//! [[carbon]]
+//! shift = 128.6             # ppm; or range = [128.4, 128.9]
+//! hydrogens = 1             # optional: attached H (0-4) or "C", "CH", "CH2", "CH3"
+//! count = 2                 # optional: carbons this line stands for
+//! ```
+//!
+//! JSON: the same object, `multiplets` and `carbon` arrays of objects. A file whose name
 //! ends in `.json` (or whose first non-blank character is `{`) is read as
 //! JSON, anything else as TOML.
 
+use super::carbon::{self, CarbonLine, RawCarbon};
 use super::journal::{RawEntry, RawSpectrum, MAX_J_HZ, SHIFT_LIMITS};
 use super::pattern::ObservedPattern;
 use crate::error::{Error, Result};
@@ -30,7 +40,27 @@ struct FileSpectrum {
     solvent: Option<String>,
     frequency: Option<f64>,
     integrals: Option<String>,
+    #[serde(default)]
     multiplets: Vec<FileMultiplet>,
+    #[serde(default)]
+    carbon: Vec<FileCarbon>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct FileCarbon {
+    shift: Option<f64>,
+    range: Option<Vec<f64>>,
+    hydrogens: Option<CarbonHydrogens>,
+    count: Option<u32>,
+}
+
+/// `hydrogens = 2` or `hydrogens = "CH2"`.
+#[derive(Deserialize)]
+#[serde(untagged)]
+enum CarbonHydrogens {
+    Number(i64),
+    Word(String),
 }
 
 #[derive(Deserialize)]
@@ -54,6 +84,8 @@ enum OneOrMany {
 #[derive(Debug)]
 pub struct SpectrumFile {
     pub spectrum: RawSpectrum,
+    /// The `[[carbon]]` lines, when the file has any.
+    pub carbon: Option<RawCarbon>,
     pub formula: Option<String>,
 }
 
@@ -102,30 +134,7 @@ pub fn parse(name: &str, text: &str) -> Result<SpectrumFile> {
     for (i, m) in file.multiplets.into_iter().enumerate() {
         let entry = i + 1;
         let err = |what: String| Error::input(format!("{name}: entry {entry}: {what}"));
-        let (shift, range) = match (m.shift, m.range) {
-            (Some(s), None) => (s, None),
-            (None, Some(r)) if r.len() == 2 => {
-                let (lo, hi) = (r[0].min(r[1]), r[0].max(r[1]));
-                ((lo + hi) / 2.0, Some((lo, hi)))
-            }
-            (None, Some(r)) => {
-                return Err(err(format!(
-                    "range needs two shifts, e.g. range = [7.15, 7.32]; it has {}",
-                    r.len()
-                )))
-            }
-            (Some(_), Some(_)) => return Err(err("give shift or range, not both".into())),
-            (None, None) => return Err(err("missing shift (ppm) or range = [low, high]".into())),
-        };
-        let ends = [Some(shift), range.map(|r| r.0), range.map(|r| r.1)];
-        for v in ends.into_iter().flatten() {
-            if !(SHIFT_LIMITS.0..=SHIFT_LIMITS.1).contains(&v) {
-                return Err(err(format!(
-                    "shift {v} ppm is outside the 1H range ({} to {} ppm)",
-                    SHIFT_LIMITS.0, SHIFT_LIMITS.1
-                )));
-            }
-        }
+        let (shift, range) = shift_or_range(m.shift, m.range, SHIFT_LIMITS, "1H").map_err(err)?;
         let label = m
             .multiplicity
             .ok_or_else(|| err("missing multiplicity (s, d, t, q, m, ...)".into()))?;
@@ -163,14 +172,104 @@ pub fn parse(name: &str, text: &str) -> Result<SpectrumFile> {
             integral: m.integral.map(|v| (v, !relative)),
         });
     }
+    if entries.is_empty() && file.carbon.is_empty() {
+        return Err(Error::input(format!(
+            "{name}: no observed data: give [[multiplets]] (1H) or [[carbon]] (13C) entries"
+        )));
+    }
+    let mut lines = Vec::new();
+    for (i, c) in file.carbon.into_iter().enumerate() {
+        let entry = i + 1;
+        let err = |what: String| Error::input(format!("{name}: carbon entry {entry}: {what}"));
+        let (shift, range) =
+            shift_or_range(c.shift, c.range, carbon::SHIFT_LIMITS, "13C").map_err(err)?;
+        let hydrogens = match c.hydrogens {
+            None => None,
+            Some(CarbonHydrogens::Number(n)) if (0..=4).contains(&n) => Some(n as u8),
+            Some(CarbonHydrogens::Number(n)) => {
+                return Err(err(format!(
+                    "hydrogens = {n}: give 0 to 4 (attached H per carbon)"
+                )))
+            }
+            Some(CarbonHydrogens::Word(w)) => Some(
+                ["C", "CH", "CH2", "CH3", "CH4"]
+                    .iter()
+                    .position(|k| *k == w.trim())
+                    .ok_or_else(|| {
+                        err(format!(
+                            "hydrogens = \"{w}\": give C, CH, CH2, CH3 or a number 0-4"
+                        ))
+                    })? as u8,
+            ),
+        };
+        if let Some(n) = c.count {
+            if n == 0 || n > 64 {
+                return Err(err(format!("count = {n}: give 1 to 64 carbons")));
+            }
+        }
+        let mut text = fmt_shift(shift, range);
+        if let Some(h) = hydrogens {
+            text.push_str(&format!(" ({})", carbon::carbon_kind(h)));
+        }
+        lines.push(CarbonLine {
+            entry,
+            text,
+            shift,
+            range,
+            hydrogens,
+            count: c.count,
+            solvent: false,
+        });
+    }
+    let carbon = (!lines.is_empty()).then(|| RawCarbon {
+        frequency_mhz: None,
+        solvent: file.solvent.clone(),
+        lines,
+    });
     Ok(SpectrumFile {
         spectrum: RawSpectrum {
             frequency_mhz: file.frequency,
             solvent: file.solvent,
             entries,
         },
+        carbon,
         formula: file.formula,
     })
+}
+
+/// The shift (or the midpoint of a range) and the range of a file entry,
+/// checked against the nucleus' `limits`.
+fn shift_or_range(
+    shift: Option<f64>,
+    range: Option<Vec<f64>>,
+    limits: (f64, f64),
+    nucleus: &str,
+) -> std::result::Result<(f64, Option<(f64, f64)>), String> {
+    let (shift, range) = match (shift, range) {
+        (Some(s), None) => (s, None),
+        (None, Some(r)) if r.len() == 2 => {
+            let (lo, hi) = (r[0].min(r[1]), r[0].max(r[1]));
+            ((lo + hi) / 2.0, Some((lo, hi)))
+        }
+        (None, Some(r)) => {
+            return Err(format!(
+                "range needs two shifts, e.g. range = [7.15, 7.32]; it has {}",
+                r.len()
+            ))
+        }
+        (Some(_), Some(_)) => return Err("give shift or range, not both".into()),
+        (None, None) => return Err("missing shift (ppm) or range = [low, high]".into()),
+    };
+    let ends = [Some(shift), range.map(|r| r.0), range.map(|r| r.1)];
+    for v in ends.into_iter().flatten() {
+        if !(limits.0..=limits.1).contains(&v) {
+            return Err(format!(
+                "shift {v} ppm is outside the {nucleus} range ({} to {} ppm)",
+                limits.0, limits.1
+            ));
+        }
+    }
+    Ok((shift, range))
 }
 
 /// Whether |J| is a plausible 1H-1H coupling (false for NaN).
@@ -255,5 +354,52 @@ integral = 5
         .unwrap_err()
         .to_string();
         assert!(e.contains("unknown field") && e.contains("line 1"), "{e}");
+    }
+
+    #[test]
+    fn carbon_lines_in_toml_and_json() {
+        let t = r#"
+[[carbon]]
+shift = 171.1
+hydrogens = "C"
+[[carbon]]
+shift = 128.5
+hydrogens = 1
+count = 2
+[[carbon]]
+range = [14.0, 14.3]
+"#;
+        let j = r#"{"carbon": [{"shift": 171.1, "hydrogens": 0},
+            {"shift": 128.5, "hydrogens": "CH", "count": 2}, {"range": [14.3, 14.0]}]}"#;
+        let a = parse("c.toml", t).unwrap();
+        let b = parse("c.json", j).unwrap();
+        let (a, b) = (a.carbon.unwrap(), b.carbon.unwrap());
+        let key = |c: &RawCarbon| {
+            c.lines
+                .iter()
+                .map(|l| (l.shift, l.range, l.hydrogens, l.count))
+                .collect::<Vec<_>>()
+        };
+        assert_eq!(key(&a), key(&b));
+        assert_eq!(
+            key(&a),
+            vec![
+                (171.1, None, Some(0), None),
+                (128.5, None, Some(1), Some(2)),
+                ((14.0 + 14.3) / 2.0, Some((14.0, 14.3)), None, None),
+            ]
+        );
+        let e = parse("c.toml", "[[carbon]]\nshift = 20.0\nhydrogens = \"CH5\"\n")
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("carbon entry 1") && e.contains("CH5"), "{e}");
+        let e = parse("c.toml", "[[carbon]]\nshift = 420.0\n")
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("outside the 13C range"), "{e}");
+        let e = parse("c.toml", "solvent = \"CDCl3\"\n")
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("no observed data"), "{e}");
     }
 }
