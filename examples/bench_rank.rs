@@ -80,6 +80,7 @@ fn main() {
 fn rank_once(setup: &Setup, reps: usize) -> (f64, f64, rank::Ranking) {
     let settings = Settings {
         spectrum: &setup.spectrum,
+        carbon: None,
         model: &setup.model,
         top: 10,
     };

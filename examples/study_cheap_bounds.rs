@@ -230,6 +230,7 @@ fn main() {
     // The final cutoff, from the ranking itself.
     let settings = Settings {
         spectrum,
+        carbon: None,
         model,
         top,
     };

@@ -24,6 +24,7 @@ fn rank_all(formula: &str, peaks: &str) -> Ranking {
     let model = ScoringModel::embedded();
     let settings = Settings {
         spectrum: &spectrum,
+        carbon: None,
         model: &model,
         top: 10,
     };

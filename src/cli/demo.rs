@@ -40,6 +40,7 @@ pub fn run(args: Args) -> Result<()> {
     let job = Job {
         formula,
         spectrum,
+        carbon: None,
         top: 5,
         explain: Some(1),
         format: args.format,

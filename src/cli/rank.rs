@@ -11,7 +11,9 @@ use crate::predict::{PredictOptions, Predictor};
 use crate::rank::{self, Ranking, Settings, ShortlistItem};
 use crate::report::{self, Context, Source};
 use crate::score::ScoringModel;
-use crate::spectrum::{file, integrals, journal, SolventTable, Spectrum};
+use crate::spectrum::{
+    carbon, file, integrals, journal, CarbonSpectrum, IntegralKind, SolventTable, Spectrum,
+};
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use rayon::prelude::*;
 use std::collections::HashSet;
@@ -28,25 +30,29 @@ pub enum Format {
 #[command(after_help = "Examples:
   isomerank rank C4H8O2 --peaks '1H NMR (400 MHz, CDCl3) δ 4.12 (q, J = 7.1 Hz, 2H), 2.05 (s, 3H), 1.26 (t, J = 7.1 Hz, 3H)'
   isomerank rank C4H8O2 --spectrum batch.toml --top 5 --explain 1
+  isomerank rank C4H8O2 --peaks '...' --carbon '13C NMR (101 MHz, CDCl3) δ 171.1 (C), 60.4 (CH2), 21.0 (CH3), 14.2 (CH3)'
   isomerank rank C4H8O2 --peaks '...' --format json
   isomerank isomers C5H10O2 --plausible | isomerank rank C5H10O2 --candidates - --peaks '...'
 
 The peak list is journal style: optional header `1H NMR (MHz, solvent) δ`, then entries
 `shift (multiplicity, J = .. Hz, nH)` separated by commas; a shift may be a range (7.32-7.15).
-Integrals written as `2H` are H counts; bare numbers are relative and scaled to the formula.")]
+Integrals written as `2H` are H counts; bare numbers are relative and scaled to the formula.
+The 13C list (--carbon) is journal style too: shifts, each optionally followed by
+parentheses with the attached-H count (C, CH, CH2, CH3 from DEPT/APT/edited HSQC, or the
+off-resonance letters s, d, t, q) and a carbon count (2C).")]
 pub struct Args {
     /// Molecular formula, e.g. C4H8O2.
     pub formula: String,
     /// Observed multiplets in journal style (see below).
-    #[arg(
-        long,
-        value_name = "TEXT",
-        required_unless_present = "spectrum",
-        conflicts_with = "spectrum"
-    )]
+    #[arg(long, value_name = "TEXT", conflicts_with = "spectrum")]
     pub peaks: Option<String>,
-    /// Observed multiplets from a TOML or JSON file (keys: formula, solvent,
-    /// frequency, integrals, multiplets = [{shift or range, multiplicity, j, integral}]).
+    /// Observed 13C lines in journal style, e.g. '13C NMR (CDCl3) δ 171.1 (C),
+    /// 60.4 (CH2), 128.5 (CH, 2C)': scored beside the 1H list.
+    #[arg(long, value_name = "TEXT")]
+    pub carbon: Option<String>,
+    /// Observed data from a TOML or JSON file (keys: formula, solvent,
+    /// frequency, integrals, multiplets = [{shift or range, multiplicity, j,
+    /// integral}], carbon = [{shift or range, hydrogens, count}]).
     #[arg(long, value_name = "FILE")]
     pub spectrum: Option<PathBuf>,
     /// Rank only these structures: one SMILES a line, optional name after
@@ -74,7 +80,10 @@ pub struct Args {
 /// Everything a ranking run needs, validated.
 pub struct Job {
     pub formula: Formula,
+    /// The 1H multiplets (none when only 13C data were given).
     pub spectrum: Spectrum,
+    /// The 13C lines, when given.
+    pub carbon: Option<CarbonSpectrum>,
     pub top: usize,
     pub explain: Option<usize>,
     pub format: Format,
@@ -85,8 +94,9 @@ pub struct Job {
 pub fn run(args: Args) -> Result<()> {
     let formula = Formula::parse(&args.formula)?;
     formula.check_neutral()?;
-    let raw = match (&args.peaks, &args.spectrum) {
-        (Some(text), _) => journal::parse(text)?,
+    let solvents = SolventTable::embedded();
+    let (raw, file_carbon) = match (&args.peaks, &args.spectrum) {
+        (Some(text), _) => (Some(journal::parse(text)?), None),
         (None, Some(path)) => {
             let name = path.display().to_string();
             let text = std::fs::read_to_string(path)
@@ -101,18 +111,26 @@ pub fn run(args: Args) -> Result<()> {
                     )));
                 }
             }
-            f.spectrum
+            let raw = (!f.spectrum.entries.is_empty()).then_some(f.spectrum);
+            (raw, f.carbon.map(|c| (name, c)))
         }
-        (None, None) => {
-            return Err(Error::input(
-                "no observed data: give --peaks TEXT or --spectrum FILE",
-            ))
-        }
+        (None, None) => (None, None),
     };
-    let spectrum = integrals::build(raw, &formula, &SolventTable::embedded())?;
+    let carbon_raw = match (&args.carbon, file_carbon) {
+        (Some(_), Some((name, _))) => {
+            return Err(Error::input(format!(
+                "13C data given twice: in {name} ([[carbon]]) and with --carbon; give one"
+            )))
+        }
+        (Some(text), None) => Some(carbon::parse(text)?),
+        (None, Some((_, c))) => Some(c),
+        (None, None) => None,
+    };
+    let (spectrum, carbon) = observed(raw, carbon_raw, &formula, &solvents)?;
     let job = Job {
         formula,
         spectrum,
+        carbon,
         top: args.top,
         explain: args.explain,
         format: args.format,
@@ -125,6 +143,38 @@ pub fn run(args: Args) -> Result<()> {
     };
     let text = execute(&job, shortlist)?;
     print_all(&text)
+}
+
+/// The checked observed data: the 1H multiplets (an empty list when only 13C
+/// was given) and the 13C lines. At least one of the two is required.
+pub fn observed(
+    hydrogen: Option<journal::RawSpectrum>,
+    carbon_raw: Option<carbon::RawCarbon>,
+    formula: &Formula,
+    solvents: &SolventTable,
+) -> Result<(Spectrum, Option<CarbonSpectrum>)> {
+    let spectrum =
+        match hydrogen {
+            Some(raw) => integrals::build(raw, formula, solvents)?,
+            None if carbon_raw.is_some() => Spectrum {
+                frequency_mhz: None,
+                solvent: carbon_raw.as_ref().and_then(|c| c.solvent.clone()),
+                multiplets: Vec::new(),
+                integrals: IntegralKind::None,
+                notes: vec!["no 1H data: the ranking rests on the 13C list alone".to_string()],
+            },
+            None => return Err(Error::input(
+                "no observed data: give --peaks TEXT (1H), --carbon TEXT (13C) or --spectrum FILE",
+            )),
+        };
+    let default_solvent = spectrum
+        .solvent
+        .clone()
+        .unwrap_or_else(|| solvents.default_solvent().to_string());
+    let carbon = carbon_raw
+        .map(|c| carbon::build(c, formula, &default_solvent))
+        .transpose()?;
+    Ok((spectrum, carbon))
 }
 
 /// Check the options, rank, and render the report (nothing is printed here).
@@ -145,6 +195,7 @@ pub fn execute(job: &Job, shortlist: Option<ShortlistText>) -> Result<String> {
     let opts = predict_options(&predictor, &job.spectrum);
     let settings = Settings {
         spectrum: &job.spectrum,
+        carbon: job.carbon.as_ref(),
         model: &model,
         top: job.top,
     };
@@ -194,6 +245,7 @@ pub fn execute(job: &Job, shortlist: Option<ShortlistText>) -> Result<String> {
     let cx = Context {
         formula: &job.formula,
         spectrum: &job.spectrum,
+        carbon: job.carbon.as_ref(),
         ranking: &ranking,
         model: &model,
         source,

@@ -261,6 +261,14 @@ impl Predictor {
     }
 }
 
+/// A full prediction: the 1H multiplet list and the 13C list (empty
+/// unless [`PredictOptions::carbon`]), each highest shift first.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Prediction {
+    pub signals: Vec<PredictedSignal>,
+    pub carbons: Vec<PredictedCarbon>,
+}
+
 /// One group's shift as the gate of [`Predictor::predict_gated`] sees it.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct ShiftEstimate {

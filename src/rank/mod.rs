@@ -19,27 +19,28 @@ pub mod topk;
 use crate::chem::{Formula, HeavyAtoms, Molecule};
 use crate::enumerate;
 use crate::error::{Error, Result};
-use crate::predict::{PredictedSignal, ShiftEstimate};
-use crate::score::{Prepared, Scored, ScoringModel};
-use crate::spectrum::Spectrum;
+use crate::predict::{PredictedCarbon, PredictedSignal, Prediction, ShiftEstimate};
+use crate::score::{CarbonPrepared, Prepared, Scored, ScoringModel};
+use crate::spectrum::{CarbonSpectrum, Spectrum};
 use rayon::prelude::*;
 use topk::{Collector, Outcome};
 
-/// A structure's predicted 1H multiplet list, in the two steps of
-/// [`crate::predict::Predictor::predict_gated`]: the skeleton's
+/// A structure's predicted 1H multiplet list and 13C list, in the two
+/// steps of [`crate::predict::Predictor::predict_gated`]: the skeleton's
 /// automorphisms when the generator has them, and a gate that sees the
-/// groups' shifts first and may stop the prediction (`None` back).
+/// groups' shifts and the carbon classes first and may stop the prediction
+/// (`None` back).
 pub type PredictFn<'a> = dyn Fn(
         &dyn HeavyAtoms,
         Option<&[[u8; 64]]>,
-        &mut dyn FnMut(&[ShiftEstimate]) -> bool,
-    ) -> Option<Vec<PredictedSignal>>
+        &mut dyn FnMut(&[ShiftEstimate], &[PredictedCarbon]) -> bool,
+    ) -> Option<Prediction>
     + Sync
     + 'a;
 
 /// The structure-specific steps the ranker calls.
 pub struct Steps<'a> {
-    /// Predicted 1H multiplet list of a structure.
+    /// Predicted 1H multiplet list (and 13C list when asked) of a structure.
     pub predict: &'a PredictFn<'a>,
     /// Canonical SMILES of a structure.
     pub smiles: &'a (dyn Fn(&Molecule) -> String + Sync),
@@ -47,21 +48,32 @@ pub struct Steps<'a> {
     pub carbon_signals: &'a (dyn Fn(&Molecule) -> usize + Sync),
 }
 
-/// Run `f` with the standard steps: `predictor`'s 1H prediction under `opts`,
-/// our canonical SMILES, and 13C signal counts from carbon symmetry classes.
-/// (A callback, because `Steps` borrows the closures it is built from.)
+/// Run `f` with the standard steps: `predictor`'s prediction under `opts`
+/// (13C too when `opts.carbon`), our canonical SMILES, and 13C signal counts
+/// from carbon symmetry classes. (A callback, because `Steps` borrows the
+/// closures it is built from.)
 pub fn with_standard_steps<R>(
     predictor: &crate::predict::Predictor,
     opts: &crate::predict::PredictOptions,
     f: impl FnOnce(&Steps) -> R,
 ) -> R {
-    let predict = |m: &dyn HeavyAtoms,
-                   symmetry: Option<&[[u8; 64]]>,
-                   gate: &mut dyn FnMut(&[ShiftEstimate]) -> bool| {
-        predictor
-            .predict_gated_here(m, opts, symmetry, gate)
-            .unwrap_or(Some(Vec::new()))
-    };
+    let predict =
+        |m: &dyn HeavyAtoms,
+         symmetry: Option<&[[u8; 64]]>,
+         gate: &mut dyn FnMut(&[ShiftEstimate], &[PredictedCarbon]) -> bool| {
+            predictor
+                .predict_gated_here(m, opts, symmetry, &mut |e| gate(e, &[]))
+                .map(|p| {
+                    p.map(|signals| Prediction {
+                        signals,
+                        carbons: Vec::new(),
+                    })
+                })
+                .unwrap_or(Some(Prediction {
+                    signals: Vec::new(),
+                    carbons: Vec::new(),
+                }))
+        };
     let smiles = |m: &Molecule| crate::chem::smiles::canonical_smiles(m);
     let carbons = |m: &Molecule| carbon::carbon_signals(m);
     let steps = Steps {
@@ -74,7 +86,10 @@ pub fn with_standard_steps<R>(
 
 /// What to rank against and how many to keep.
 pub struct Settings<'a> {
+    /// The observed 1H multiplets (none: no 1H data, the 1H part costs 0).
     pub spectrum: &'a Spectrum,
+    /// The observed 13C lines, when given: their cost adds to the 1H part.
+    pub carbon: Option<&'a CarbonSpectrum>,
     pub model: &'a ScoringModel,
     /// Length of the table (`--top`).
     pub top: usize,
@@ -94,12 +109,18 @@ pub struct Ranked {
     pub position: usize,
     pub smiles: String,
     pub name: Option<String>,
+    /// The whole cost: the 1H part (`scored.cost`) plus the 13C part.
     pub cost: f64,
     pub probability: f64,
     /// 1-based group number: equal numbers cannot be told apart by the data.
     pub group: usize,
     pub predicted: Vec<PredictedSignal>,
+    /// The 1H part: cost and assignment of `predicted`.
     pub scored: Scored,
+    /// The predicted 13C list (empty when no 13C data were given).
+    pub carbons: Vec<PredictedCarbon>,
+    /// The 13C part: cost and assignment of `carbons`, when 13C data were given.
+    pub carbon_scored: Option<Scored>,
     pub carbon_signals: usize,
 }
 
@@ -144,36 +165,98 @@ struct Payload {
     molecule: Molecule,
     smiles: String,
     name: Option<String>,
-    predicted: Vec<PredictedSignal>,
-    scored: Scored,
+    evaluated: Evaluated,
 }
 
 impl Payload {
     /// A candidate that may rank, keyed by its SMILES for ties.
     fn outcome(self) -> Outcome<Box<Payload>> {
         Outcome::Scored {
-            cost: self.scored.cost,
+            cost: self.evaluated.cost,
             key: self.smiles.clone(),
             item: Box::new(self),
         }
     }
 }
 
+/// One candidate's predictions and scores.
+struct Evaluated {
+    /// The 1H part plus the 13C part.
+    cost: f64,
+    predicted: Vec<PredictedSignal>,
+    scored: Scored,
+    carbons: Vec<PredictedCarbon>,
+    carbon_scored: Option<Scored>,
+}
+
+/// The spectrum-constant scorers of a ranking: 1H always (with no
+/// multiplets it scores 0), 13C when 13C data were given.
+struct Scorers<'a> {
+    hydrogen: Prepared<'a>,
+    carbon: Option<CarbonPrepared<'a>>,
+}
+
+impl<'a> Scorers<'a> {
+    fn new(settings: &Settings<'a>) -> Scorers<'a> {
+        Scorers {
+            hydrogen: Prepared::new(settings.spectrum, settings.model),
+            carbon: settings
+                .carbon
+                .map(|c| CarbonPrepared::new(c, settings.model)),
+        }
+    }
+}
+
 /// Predict and score one structure; `None` when it cannot beat `cutoff`.
-/// The prediction stops after the shifts when even a score without its
-/// multiplicity and J terms (never negative) cannot beat `cutoff`
-/// ([`score::Prepared::may_beat`]).
+///
+/// The 13C part, when 13C data were given, is scored exactly as soon as the
+/// gate of [`crate::predict::Predictor::predict_gated`] shows the carbon
+/// classes; the 1H part must then beat what is left of the cutoff. The 1H
+/// prediction stops after the shifts when even a score without its
+/// multiplicity and J terms (never negative) cannot
+/// ([`score::Prepared::may_beat`]). Both tests are sound: the 13C cost is
+/// exact and the 1H bound is a lower bound, and the costs add.
 fn evaluate(
     molecule: &dyn HeavyAtoms,
     symmetry: Option<&[[u8; 64]]>,
     steps: &Steps,
-    prepared: &Prepared,
+    scorers: &Scorers,
     cutoff: f64,
-) -> Option<(Vec<PredictedSignal>, Scored)> {
-    let mut gate = |est: &[ShiftEstimate]| prepared.may_beat(est, cutoff);
-    let predicted = (steps.predict)(molecule, symmetry, &mut gate)?;
-    let scored = prepared.score(&predicted, cutoff)?;
-    Some((predicted, scored))
+) -> Option<Evaluated> {
+    let has_h = !scorers.hydrogen.spectrum().multiplets.is_empty();
+    let mut carbon_scored: Option<Scored> = None;
+    let mut gate = |est: &[ShiftEstimate], carbons: &[PredictedCarbon]| {
+        let mut rest = cutoff;
+        if let Some(cp) = &scorers.carbon {
+            match cp.score(carbons, cutoff) {
+                Some(s) => {
+                    rest = cutoff - s.cost;
+                    carbon_scored = Some(s);
+                }
+                None => return false,
+            }
+        }
+        !has_h || scorers.hydrogen.may_beat(est, rest)
+    };
+    let prediction = (steps.predict)(molecule, symmetry, &mut gate)?;
+    let carbon_cost = carbon_scored.as_ref().map_or(0.0, |s| s.cost);
+    let scored = if has_h {
+        scorers
+            .hydrogen
+            .score(&prediction.signals, cutoff - carbon_cost)?
+    } else {
+        Scored {
+            cost: 0.0,
+            assigned: vec![None; prediction.signals.len()],
+        }
+    };
+    Some(Evaluated {
+        cost: scored.cost + carbon_cost,
+        predicted: prediction.signals,
+        scored,
+        carbons: prediction.carbons,
+        carbon_scored,
+    })
 }
 
 /// Rank a shortlist that arrives in chunks, in input order (a reader that
@@ -193,7 +276,7 @@ pub fn rank_shortlist_chunks(
     settings: &Settings,
 ) -> Result<Ranking> {
     let mut collector = Collector::new(settings.top, settings.model.ranking.skip_margin);
-    let prepared = Prepared::new(settings.spectrum, settings.model);
+    let scorers = Scorers::new(settings);
     let shared = collector.cutoff();
     for chunk in chunks {
         let chunk = chunk?;
@@ -201,16 +284,13 @@ pub fn rank_shortlist_chunks(
         let outcomes: Vec<Outcome<Box<Payload>>> = chunk
             .into_par_iter()
             .map(
-                |it| match evaluate(&it.molecule, None, steps, &prepared, cutoff) {
-                    Some((_, scored)) if scored.cost > top_k => {
-                        Outcome::CostOnly { cost: scored.cost }
-                    }
-                    Some((predicted, scored)) => Payload {
+                |it| match evaluate(&it.molecule, None, steps, &scorers, cutoff) {
+                    Some(e) if e.cost > top_k => Outcome::CostOnly { cost: e.cost },
+                    Some(evaluated) => Payload {
                         molecule: it.molecule,
                         smiles: it.smiles,
                         name: it.name,
-                        predicted,
-                        scored,
+                        evaluated,
                     }
                     .outcome(),
                     None => Outcome::Skipped,
@@ -236,7 +316,7 @@ pub fn rank_formula(
     progress: &mut ProgressFn,
 ) -> Result<Ranking> {
     let mut collector = Collector::new(settings.top, settings.model.ranking.skip_margin);
-    let prepared = Prepared::new(settings.spectrum, settings.model);
+    let scorers = Scorers::new(settings);
     let cutoff = collector.cutoff();
     // Results wait in the generator's chunk buffer until emitted in order,
     // so they are kept small: a skipped candidate is no result at all, a
@@ -254,14 +334,14 @@ pub fn rank_formula(
         Some(
             // Predicted from the generator's compact form: the molecule is
             // built only for a candidate that may rank.
-            match evaluate(iso, iso.skeleton_automorphisms(), steps, &prepared, limit) {
-                Some((_, scored))
-                    if scored.cost > cutoff.top_k()
-                        || !topk::local_admits(run, iso.task(), k, scored.cost) =>
+            match evaluate(iso, iso.skeleton_automorphisms(), steps, &scorers, limit) {
+                Some(e)
+                    if e.cost > cutoff.top_k()
+                        || !topk::local_admits(run, iso.task(), k, e.cost) =>
                 {
-                    Outcome::CostOnly { cost: scored.cost }
+                    Outcome::CostOnly { cost: e.cost }
                 }
-                Some((predicted, scored)) => {
+                Some(evaluated) => {
                     // SMILES only for candidates that may rank (it costs a
                     // canonical labelling).
                     let molecule = iso.molecule();
@@ -270,8 +350,7 @@ pub fn rank_formula(
                         molecule,
                         smiles,
                         name: None,
-                        predicted,
-                        scored,
+                        evaluated,
                     }
                     .outcome()
                 }
@@ -336,8 +415,10 @@ fn finish(
             cost,
             probability,
             group,
-            predicted: p.predicted,
-            scored: p.scored,
+            predicted: p.evaluated.predicted,
+            scored: p.evaluated.scored,
+            carbons: p.evaluated.carbons,
+            carbon_scored: p.evaluated.carbon_scored,
         })
         .collect();
     // Groups with their members; the last group may continue past the table.

@@ -13,8 +13,22 @@
 //!                                  "observed_multiplicity": str or null}]}]}
 //! ```
 //!
-//! `observed` is the entry number (1-based) of the observed multiplet in the
-//! input. Keys added beside the schema (never removed or renamed): per
+//! With 13C data (`--carbon`), each candidate also has
+//!
+//! ```text
+//!  "carbon_assignment": [{"observed": int or null,
+//!                         "predicted_shift": f64,
+//!                         "observed_shift": f64 or null,
+//!                         "carbons": int, "hydrogens": int,
+//!                         "observed_hydrogens": int or null}],
+//!  "cost_1h": f64, "cost_13c": f64
+//! ```
+//!
+//! one entry per predicted carbon class (`carbons` its size, `hydrogens` the
+//! H per carbon); `cost` is then the sum of the two parts.
+//!
+//! `observed` is the entry number (1-based) of the observed multiplet (or
+//! 13C line) in the input. Keys added beside the schema (never removed or renamed): per
 //! candidate `name` (shortlists), `reason`, `carbon_signals`,
 //! `unexplained_observed` (entries no group explains); at the top level
 //! `source`, `plausibility_rules`, `skipped`, `notes`, `groups` (with
@@ -61,12 +75,33 @@ pub fn render(cx: &Context) -> String {
                 "probability": c.probability,
                 "group": c.group,
                 "assignment": assignment,
-                "reason": score::reason(&c.predicted, s, &e),
+                "reason": super::reason(cx, c),
                 "carbon_signals": c.carbon_signals,
                 "unexplained_observed": unexplained,
             });
             if let Some(n) = &c.name {
                 v["name"] = json!(n);
+            }
+            if let (Some(cs), Some(sc)) = (cx.carbon, &c.carbon_scored) {
+                let carbon: Vec<Value> = c
+                    .carbons
+                    .iter()
+                    .zip(&sc.assigned)
+                    .map(|(p, a)| {
+                        let l = a.map(|j| &cs.lines[j]);
+                        json!({
+                            "observed": l.map(|l| l.entry),
+                            "predicted_shift": round4(p.shift),
+                            "observed_shift": l.map(|l| l.shift),
+                            "carbons": p.carbons,
+                            "hydrogens": p.hydrogens,
+                            "observed_hydrogens": l.and_then(|l| l.hydrogens),
+                        })
+                    })
+                    .collect();
+                v["carbon_assignment"] = json!(carbon);
+                v["cost_1h"] = json!(round4(c.scored.cost));
+                v["cost_13c"] = json!(round4(sc.cost));
             }
             v
         })
@@ -100,7 +135,7 @@ pub fn render(cx: &Context) -> String {
         "source": source,
         "plausibility_rules": rules,
         "skipped": r.skipped,
-        "notes": s.notes,
+        "notes": s.notes.iter().chain(cx.carbon.iter().flat_map(|c| &c.notes)).collect::<Vec<_>>(),
         "groups": groups,
         "safety": SAFETY,
     });

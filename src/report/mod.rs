@@ -8,7 +8,7 @@ pub mod text;
 use crate::chem::Formula;
 use crate::rank::Ranking;
 use crate::score::ScoringModel;
-use crate::spectrum::Spectrum;
+use crate::spectrum::{CarbonSpectrum, Spectrum};
 
 /// The safety wording that ends every ranking (FIELD-GUIDE 1).
 pub const SAFETY: &str = "A ranking is a hypothesis, not an identification: confirm it with an \
@@ -20,12 +20,28 @@ local regulations.";
 pub struct Context<'a> {
     pub formula: &'a Formula,
     pub spectrum: &'a Spectrum,
+    /// The observed 13C lines, when given.
+    pub carbon: Option<&'a CarbonSpectrum>,
     pub ranking: &'a Ranking,
     pub model: &'a ScoringModel,
     /// How the candidates came: "all isomers" or "shortlist".
     pub source: Source,
     /// `--explain N`: the candidate (1-based position) to break down.
     pub explain: Option<usize>,
+}
+
+/// The one-line reason for a candidate's place: the costliest terms of its
+/// 1H and 13C parts together.
+pub fn reason(cx: &Context, c: &crate::rank::Ranked) -> String {
+    let e = crate::score::explain(&c.predicted, cx.spectrum, cx.model, &c.scored);
+    let extra = match (cx.carbon, &c.carbon_scored) {
+        (Some(cs), Some(sc)) => {
+            let ce = crate::score::carbon::explain(&c.carbons, cs, cx.model, sc);
+            crate::score::carbon::worst_terms(&c.carbons, cs, &ce)
+        }
+        _ => Vec::new(),
+    };
+    crate::score::reason_with(&c.predicted, cx.spectrum, &e, extra)
 }
 
 /// Where the candidates came from.

@@ -4,10 +4,11 @@
 //! assignment, and the safety wording.
 
 use super::{Context, Source, SAFETY};
-use crate::predict::PredictedSignal;
+use crate::predict::{PredictedCarbon, PredictedSignal};
 use crate::rank::Ranked;
 use crate::score::{self, Explanation};
-use crate::spectrum::{ObservedMultiplet, Spectrum};
+use crate::spectrum::carbon::carbon_kind;
+use crate::spectrum::{CarbonLine, CarbonSpectrum, ObservedMultiplet, Spectrum};
 use std::fmt::Write;
 
 /// Groups whose first member has less probability than this are listed
@@ -21,14 +22,33 @@ pub fn render(cx: &Context) -> String {
     let mut out = String::new();
     let r = cx.ranking;
     let s = cx.spectrum;
+    let mut against = Vec::new();
+    if !s.multiplets.is_empty() {
+        against.push(format!(
+            "{} observed multiplet{}{}",
+            s.multiplets.len(),
+            if s.multiplets.len() == 1 { "" } else { "s" },
+            header_of(s)
+        ));
+    }
+    if let Some(c) = cx.carbon {
+        against.push(format!(
+            "{} 13C line{}{}",
+            c.lines.len(),
+            if c.lines.len() == 1 { "" } else { "s" },
+            if c.lines.iter().any(|l| l.hydrogens.is_some()) {
+                " with H counts"
+            } else {
+                ""
+            }
+        ));
+    }
     let _ = writeln!(
         out,
-        "{}  (DBE {})  against {} observed multiplet{}{}",
+        "{}  (DBE {})  against {}",
         cx.formula,
         fmt_dbe(cx.formula.dbe()),
-        s.multiplets.len(),
-        if s.multiplets.len() == 1 { "" } else { "s" },
-        header_of(s)
+        against.join(" and ")
     );
     match &cx.source {
         Source::Enumeration { rules } => {
@@ -77,7 +97,11 @@ pub fn render(cx: &Context) -> String {
             cx.model.ranking.skip_margin
         );
     }
-    for n in &s.notes {
+    for n in s
+        .notes
+        .iter()
+        .chain(cx.carbon.iter().flat_map(|c| &c.notes))
+    {
         let _ = writeln!(out, "Note: {n}");
     }
     let _ = writeln!(out);
@@ -94,8 +118,7 @@ pub fn render(cx: &Context) -> String {
         "rank", "probability", "cost", "group", "SMILES"
     );
     for c in &r.candidates {
-        let e = score::explain(&c.predicted, s, cx.model, &c.scored);
-        let reason = score::reason(&c.predicted, s, &e);
+        let reason = super::reason(cx, c);
         let _ = writeln!(
             out,
             "{:>4}  {:>11}  {:>7.2}  {:>5}  {:<width$}  {}",
@@ -340,6 +363,117 @@ pub fn explanation(cx: &Context, c: &Ranked) -> String {
             );
         }
     }
-    let _ = writeln!(out, "  total {:.2}", e.total);
+    if let (Some(cs), Some(sc)) = (cx.carbon, &c.carbon_scored) {
+        out.push_str(&carbon_explanation(cx, cs, c, sc));
+        let _ = writeln!(
+            out,
+            "  total {:.2} (1H {:.2} + 13C {:.2})",
+            e.total + sc.cost,
+            e.total,
+            sc.cost
+        );
+    } else {
+        let _ = writeln!(out, "  total {:.2}", e.total);
+    }
+    out
+}
+
+fn fmt_line(l: &CarbonLine) -> String {
+    let mut s = format!("entry {}: {}", l.entry, l.shift_text());
+    if let Some(h) = l.hydrogens {
+        let _ = write!(s, " {}", carbon_kind(h));
+    }
+    if let Some(n) = l.count {
+        if n > 1 {
+            let _ = write!(s, " {n}C");
+        }
+    }
+    s
+}
+
+fn fmt_class(p: &PredictedCarbon) -> String {
+    let mut s = format!("{:.1} {}", p.shift, carbon_kind(p.hydrogens));
+    if p.carbons > 1 {
+        let _ = write!(s, " {}C", p.carbons);
+    }
+    s
+}
+
+/// The 13C part of `--explain`: each carbon class and its line.
+fn carbon_explanation(cx: &Context, cs: &CarbonSpectrum, c: &Ranked, sc: &score::Scored) -> String {
+    let e = score::carbon::explain(&c.carbons, cs, cx.model, sc);
+    let mut out = String::new();
+    let pw = c
+        .carbons
+        .iter()
+        .map(|p| fmt_class(p).len())
+        .max()
+        .unwrap_or(8)
+        .max(9);
+    let ow = cs
+        .lines
+        .iter()
+        .map(|l| fmt_line(l).len())
+        .max()
+        .unwrap_or(8)
+        .max(8);
+    let _ = writeln!(
+        out,
+        "  {:<pw$}     {:<ow$}  {:>6} {:>6}",
+        "13C class", "13C line", "shift", "H"
+    );
+    let mut lines: Vec<&score::carbon::ClassLine> = e.classes.iter().collect();
+    lines.sort_by_key(|l| (l.observed.unwrap_or(usize::MAX), l.class));
+    for l in lines {
+        let p = &c.carbons[l.class];
+        match (l.observed, l.terms) {
+            (Some(j), Some(t)) => {
+                let _ = writeln!(
+                    out,
+                    "  {:<pw$}  -> {:<ow$}  {:>6.2} {:>6.2}",
+                    fmt_class(p),
+                    fmt_line(&cs.lines[j]),
+                    t.shift,
+                    t.hydrogens
+                );
+            }
+            _ => {
+                let _ = writeln!(
+                    out,
+                    "  {:<pw$}  -> {:<ow$}  {:>6.2} (left unassigned{})",
+                    fmt_class(p),
+                    "not observed",
+                    l.unassigned.unwrap_or(0.0),
+                    if p.hydrogens == 0 {
+                        ", quaternary carbons are often weak"
+                    } else {
+                        ""
+                    }
+                );
+            }
+        }
+    }
+    for a in &e.lines {
+        let l = &cs.lines[a.observed];
+        if a.classes.is_empty() {
+            let why = if l.solvent {
+                "set aside as the solvent's own line"
+            } else {
+                "explained by no predicted class"
+            };
+            let _ = writeln!(out, "  {}: {} cost {:.2}", fmt_line(l), why, a.cost);
+        } else if a.classes.len() > 1 || a.cost > 0.0 {
+            let _ = writeln!(
+                out,
+                "  {}: {} carbon{} in {} class{}, cost {:.2}",
+                fmt_line(l),
+                a.carbons,
+                if a.carbons == 1 { "" } else { "s" },
+                a.classes.len(),
+                if a.classes.len() == 1 { "" } else { "es" },
+                a.cost
+            );
+        }
+    }
     out
 }

@@ -194,8 +194,19 @@ pub fn explain(
 
 /// A one-line reason for a candidate's place: what costs most.
 pub fn reason(predicted: &[PredictedSignal], spectrum: &Spectrum, e: &Explanation) -> String {
+    reason_with(predicted, spectrum, e, Vec::new())
+}
+
+/// [`reason`] with more costed phrases to weigh beside the 1H ones (the 13C
+/// part's, [`carbon::worst_terms`]).
+pub fn reason_with(
+    predicted: &[PredictedSignal],
+    spectrum: &Spectrum,
+    e: &Explanation,
+    extra: Vec<(f64, String)>,
+) -> String {
     // Candidate terms: (cost, text).
-    let mut worst: Vec<(f64, String)> = Vec::new();
+    let mut worst: Vec<(f64, String)> = extra;
     for line in &e.groups {
         let p = &predicted[line.group];
         match (line.observed, line.terms) {
@@ -285,6 +296,9 @@ pub fn reason(predicted: &[PredictedSignal], spectrum: &Spectrum, e: &Explanatio
         }
     }
     worst.sort_by(|a, b| b.0.total_cmp(&a.0).then_with(|| a.1.cmp(&b.1)));
+    if worst.is_empty() && spectrum.multiplets.is_empty() {
+        return "every 13C line fits".to_string();
+    }
     if worst.is_empty() {
         let max_dev = e
             .groups

@@ -253,6 +253,7 @@ pub fn rank_positions(
                 integrals::build(journal::parse(&c.peaks).unwrap(), &formula, &solvents).unwrap();
             let settings = Settings {
                 spectrum: &spectrum,
+                carbon: None,
                 model: &model,
                 top: 10,
             };
