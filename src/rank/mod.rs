@@ -59,7 +59,8 @@ pub fn with_standard_steps<R>(
                    symmetry: Option<&[[u8; 64]]>,
                    gate: &mut dyn FnMut(&[ShiftEstimate]) -> bool| {
         predictor
-            .predict_gated_here(m, opts, symmetry, gate)
+            .predict_gated_here(m, opts, symmetry, &mut |e, _| gate(e))
+            .map(|p| p.map(|p| p.signals))
             .unwrap_or(Some(Vec::new()))
     };
     let smiles = |m: &Molecule| crate::chem::smiles::canonical_smiles(m);
