@@ -168,9 +168,10 @@ fn generator_symmetry_gives_the_same_prediction_as_a_canonical_labelling() {
                 let mol = iso.molecule();
                 let auts = iso.skeleton_automorphisms();
                 let fast = predictor
-                    .predict_gated_here(iso, &opts, auts, &mut |_| true)
+                    .predict_gated_here(iso, &opts, auts, &mut |_, _| true)
                     .unwrap()
-                    .unwrap();
+                    .unwrap()
+                    .signals;
                 let plain = predictor.predict(&mol, &opts);
                 let reread = renumbered(&mol, checked_seed(&mol));
                 let again = predictor.predict(&reread, &opts);

@@ -1,9 +1,9 @@
-//! `isomerank predict SMILES`: the predicted 1H multiplet list of one
-//! structure, in journal style (highest shift first) or as JSON.
+//! `isomerank predict SMILES`: the predicted 1H multiplet list and 13C list
+//! of one structure, in journal style (highest shift first) or as JSON.
 
 use super::output;
 use crate::chem::smiles::{canonical_smiles, parse_smiles};
-use crate::predict::{PredictedSignal, Predictor};
+use crate::predict::{PredictedCarbon, PredictedSignal, Predictor};
 use crate::Result;
 use serde::Serialize;
 use std::fmt::Write;
@@ -46,6 +46,7 @@ struct JsonOut<'a> {
     smiles: String,
     formula: String,
     signals: Vec<JsonSignal<'a>>,
+    carbon: &'a [PredictedCarbon],
 }
 
 #[derive(Serialize)]
@@ -68,6 +69,7 @@ pub fn run(args: Args) -> Result<()> {
     let opts = predictor.options(&args.solvent, args.mhz)?;
     let mol = parse_smiles(&args.smiles)?;
     let signals = predictor.try_predict(&mol, &opts)?;
+    let carbons = predictor.try_predict_carbon(&mol, &opts)?;
     let solvent = &predictor.library().solvents[opts.solvent].name;
     let text = match args.format {
         Format::Json => {
@@ -87,6 +89,7 @@ pub fn run(args: Args) -> Result<()> {
                         notes: &s.notes,
                     })
                     .collect(),
+                carbon: &carbons,
             };
             let mut t = serde_json::to_string_pretty(&out)
                 .map_err(|e| crate::Error::Internal(format!("JSON output: {e}")))?;
@@ -99,18 +102,21 @@ pub fn run(args: Args) -> Result<()> {
             solvent,
             opts.mhz,
             &signals,
+            &carbons,
         ),
     };
     output::print_all(&text)
 }
 
-/// Journal style: `δ 4.12 (q, J = 7.1 Hz, 2H), 2.05 (s, 3H)` and notes.
+/// Journal style: `δ 4.12 (q, J = 7.1 Hz, 2H), 2.05 (s, 3H)`, the 13C
+/// line `13C NMR δ 170.9 (C), 60.5 (CH2), 21.1 (CH3), 14.2 (CH3)` and notes.
 pub fn journal_text(
     smiles: &str,
     formula: &str,
     solvent: &str,
     mhz: f64,
     signals: &[PredictedSignal],
+    carbons: &[PredictedCarbon],
 ) -> String {
     let mut t = String::new();
     let _ = writeln!(
@@ -119,6 +125,7 @@ pub fn journal_text(
     );
     if signals.is_empty() {
         t.push_str("no hydrogens: no 1H signals\n");
+        t.push_str(&carbon_line(carbons));
         return t;
     }
     let parts: Vec<String> = signals
@@ -134,6 +141,7 @@ pub fn journal_text(
         })
         .collect();
     let _ = writeln!(t, "δ {}", parts.join(", "));
+    t.push_str(&carbon_line(carbons));
     for s in signals {
         for n in &s.notes {
             let _ = writeln!(t, "note {:.2} ppm ({}H): {n}", s.shift, s.hydrogens);
@@ -147,4 +155,38 @@ pub fn journal_text(
         signals.iter().map(|s| s.sigma).fold(0.0, f64::max)
     );
     t
+}
+
+/// The 13C list in journal style: `13C NMR δ 128.6 (CH, 2C), 21.4 (CH3)`
+/// (attached H as C, CH, CH2, CH3, CH4; the count when a class holds more
+/// than one carbon), with its sigma range; a line saying so when there is
+/// no carbon.
+pub fn carbon_line(carbons: &[PredictedCarbon]) -> String {
+    if carbons.is_empty() {
+        return "no carbon: no 13C signals\n".into();
+    }
+    let parts: Vec<String> = carbons
+        .iter()
+        .map(|c| {
+            let h = match c.hydrogens {
+                0 => "C".to_string(),
+                1 => "CH".to_string(),
+                n => format!("CH{n}"),
+            };
+            if c.carbons > 1 {
+                format!("{:.1} ({h}, {}C)", c.shift, c.carbons)
+            } else {
+                format!("{:.1} ({h})", c.shift)
+            }
+        })
+        .collect();
+    let lo = carbons
+        .iter()
+        .map(|c| c.sigma)
+        .fold(f64::INFINITY, f64::min);
+    let hi = carbons.iter().map(|c| c.sigma).fold(0.0, f64::max);
+    format!(
+        "13C NMR δ {}\n13C shifts are increment estimates (sigma {lo:.1}-{hi:.1} ppm)\n",
+        parts.join(", ")
+    )
 }

@@ -192,7 +192,8 @@ pub fn execute(job: &Job, shortlist: Option<ShortlistText>) -> Result<String> {
     }
     let model = ScoringModel::embedded();
     let predictor = Predictor::embedded()?;
-    let opts = predict_options(&predictor, &job.spectrum);
+    let mut opts = predict_options(&predictor, &job.spectrum);
+    opts.carbon = job.carbon.is_some();
     let settings = Settings {
         spectrum: &job.spectrum,
         carbon: job.carbon.as_ref(),

@@ -19,7 +19,7 @@ use serde::Deserialize;
 use std::path::Path;
 
 /// The library files, by name, with their embedded text.
-pub const FILES: [(&str, &str); 9] = [
+pub const FILES: [(&str, &str); 14] = [
     (
         "substituents.toml",
         include_str!("../../fragment-library/substituents.toml"),
@@ -48,6 +48,26 @@ pub const FILES: [(&str, &str); 9] = [
     (
         "solvents.toml",
         include_str!("../../fragment-library/solvents.toml"),
+    ),
+    (
+        "carbon-sp3.toml",
+        include_str!("../../fragment-library/carbon-sp3.toml"),
+    ),
+    (
+        "carbon-alkene.toml",
+        include_str!("../../fragment-library/carbon-alkene.toml"),
+    ),
+    (
+        "carbon-benzene.toml",
+        include_str!("../../fragment-library/carbon-benzene.toml"),
+    ),
+    (
+        "carbon-heteroaromatic.toml",
+        include_str!("../../fragment-library/carbon-heteroaromatic.toml"),
+    ),
+    (
+        "carbon-special.toml",
+        include_str!("../../fragment-library/carbon-special.toml"),
     ),
     (
         "README.md",
@@ -202,6 +222,8 @@ pub struct Library {
     pub j: [f64; 16],
     pub settings: CouplingSettings,
     pub solvents: Vec<Solvent>,
+    /// 13C increment tables (`carbon-*.toml`).
+    pub carbon: super::carbon::CarbonTable,
 }
 
 // ---- file schemas ----
@@ -491,7 +513,7 @@ impl Reader<'_> {
     }
 }
 
-fn need_source(file: &str, entry: &str, s: &str) -> Result<()> {
+pub(crate) fn need_source(file: &str, entry: &str, s: &str) -> Result<()> {
     if s.trim().is_empty() {
         return Err(Error::input(format!(
             "fragment library {file}: entry {entry} has an empty source; every row needs a citation, \"common practice\" or \"from memory\""
@@ -883,6 +905,12 @@ impl Library {
             return Err(Error::input(format!("fragment library {file}: no solvent")));
         }
 
+        let carbon_texts = super::carbon::CARBON_FILES
+            .iter()
+            .map(|&name| Ok((name, r.text(name)?)))
+            .collect::<Result<Vec<_>>>()?;
+        let carbon = super::carbon::load(&carbon_texts)?;
+
         let class_index = RootIndex::build(
             &classes.iter().map(|c| &c.pattern).collect::<Vec<_>>(),
             true,
@@ -904,6 +932,7 @@ impl Library {
             j,
             settings,
             solvents,
+            carbon,
         })
     }
 

@@ -42,6 +42,7 @@
 //! `predict` keeps its working storage per thread; `predict_with` takes a
 //! caller-owned [`Scratch`]. Measured throughput: `examples/bench_predict.rs`.
 
+pub mod carbon;
 mod coupling;
 mod groups;
 pub mod library;
@@ -71,6 +72,9 @@ pub struct PredictOptions {
     /// Fill `notes` (diastereotopic, exchangeable, ...). The ranker may switch
     /// this off to save the string allocations.
     pub notes: bool,
+    /// Predict the 13C list as well in [`Predictor::predict_gated`] (the
+    /// gate sees it). Off by default: 1H-only ranking does no 13C work.
+    pub carbon: bool,
 }
 
 impl Default for PredictOptions {
@@ -80,6 +84,7 @@ impl Default for PredictOptions {
             solvent: 0,
             mhz: 400.0,
             notes: true,
+            carbon: false,
         }
     }
 }
@@ -98,6 +103,7 @@ pub struct Scratch {
     view: Box<View>,
     groups: Vec<Group>,
     estimates: Vec<ShiftEstimate>,
+    carbons: Vec<PredictedCarbon>,
 }
 
 impl Default for Scratch {
@@ -108,6 +114,7 @@ impl Default for Scratch {
             view: Box::new(View::empty()),
             groups: Vec::new(),
             estimates: Vec::new(),
+            carbons: Vec::new(),
         }
     }
 }
@@ -154,6 +161,7 @@ impl Predictor {
             solvent: s,
             mhz,
             notes: true,
+            carbon: false,
         })
     }
 
@@ -170,6 +178,32 @@ impl Predictor {
             let mut ctx = Ctx::new(&self.lib, &s.view, &opts);
             ctx.orbits(&mut s.canon, &mut s.graph, None);
             Ok(ctx.orb[..s.view.n].iter().map(|&o| o as usize).collect())
+        })
+    }
+
+    /// Predicted 13C list, one [`PredictedCarbon`] per carbon symmetry
+    /// class, highest shift first. A molecule the predictor cannot hold
+    /// gives an empty list; [`Predictor::try_predict_carbon`] says why.
+    pub fn predict_carbon(&self, mol: &Molecule, opts: &PredictOptions) -> Vec<PredictedCarbon> {
+        self.try_predict_carbon(mol, opts).unwrap_or_default()
+    }
+
+    /// Predicted 13C list, or an input error naming what cannot be predicted.
+    /// Only the symmetry classes and the carbon increments are computed (no
+    /// 1H groups).
+    pub fn try_predict_carbon(
+        &self,
+        mol: &Molecule,
+        opts: &PredictOptions,
+    ) -> Result<Vec<PredictedCarbon>> {
+        SCRATCH.with(|s| {
+            let s = &mut *s.borrow_mut();
+            s.view.fill(mol).map_err(Error::input)?;
+            let mut ctx = Ctx::new(&self.lib, &s.view, opts);
+            ctx.orbits(&mut s.canon, &mut s.graph, None);
+            let mut out = Vec::new();
+            carbon::CarbonCtx::new(&self.lib.carbon, &s.view).predict(&ctx.orb, &mut out);
+            Ok(out)
         })
     }
 
@@ -196,16 +230,24 @@ impl Predictor {
         opts: &PredictOptions,
         scratch: &mut Scratch,
     ) -> Result<Vec<PredictedSignal>> {
-        let all = self.predict_gated(mol, opts, None, scratch, &mut |_| true)?;
-        Ok(all.expect("an open gate always lets the prediction finish"))
+        let opts = &PredictOptions {
+            carbon: false,
+            ..opts.clone()
+        };
+        let all = self.predict_gated(mol, opts, None, scratch, &mut |_, _| true)?;
+        Ok(all
+            .expect("an open gate always lets the prediction finish")
+            .signals)
     }
 
     /// Prediction in two steps, for the inner loop of a ranking. After the
     /// groups and their shifts are known (before multiplicities and J, which
     /// cost about a third of the work), `gate` sees one [`ShiftEstimate`]
-    /// per group, rounded as the final signals are; when it returns false the
-    /// prediction stops and `Ok(None)` comes back. A ranking passes a lower
-    /// bound of the score there and skips the rest for hopeless candidates.
+    /// per group, rounded as the final signals are, and the 13C list when
+    /// `opts.carbon` (empty otherwise; shifts rounded to 0.1 ppm); when it
+    /// returns false the prediction stops and `Ok(None)` comes back. A
+    /// ranking passes a lower bound of the score there and skips the rest
+    /// for hopeless candidates.
     ///
     /// `symmetry`: every non-identity automorphism of the molecule's skeleton
     /// (the simple graph of its bonds with atoms coloured by element), in the
@@ -219,8 +261,8 @@ impl Predictor {
         opts: &PredictOptions,
         symmetry: Option<&[[u8; 64]]>,
         scratch: &mut Scratch,
-        gate: &mut dyn FnMut(&[ShiftEstimate]) -> bool,
-    ) -> Result<Option<Vec<PredictedSignal>>> {
+        gate: &mut dyn FnMut(&[ShiftEstimate], &[PredictedCarbon]) -> bool,
+    ) -> Result<Option<Prediction>> {
         if opts.solvent >= self.lib.solvents.len() {
             return Err(Error::input(format!(
                 "solvent index {} is not in the library",
@@ -230,6 +272,14 @@ impl Predictor {
         scratch.view.fill(mol).map_err(Error::input)?;
         let mut ctx = Ctx::new(&self.lib, &scratch.view, opts);
         ctx.orbits(&mut scratch.canon, &mut scratch.graph, symmetry);
+        // Carbon classes are the plain orbits: read them before the amide
+        // rotation split refines `orb` for the H groups.
+        if opts.carbon {
+            carbon::CarbonCtx::new(&self.lib.carbon, &scratch.view)
+                .predict(&ctx.orb, &mut scratch.carbons);
+        } else {
+            scratch.carbons.clear();
+        }
         let groups = &mut scratch.groups;
         ctx.build_groups(groups);
         ctx.shifts(groups);
@@ -242,11 +292,14 @@ impl Predictor {
                 hydrogens: g.hydrogens(),
                 exchangeable: g.exchangeable,
             }));
-        if !gate(&scratch.estimates) {
+        if !gate(&scratch.estimates, &scratch.carbons) {
             return Ok(None);
         }
         let mult = ctx.multiplicities(groups);
-        Ok(Some(ctx.signals(groups, mult)))
+        Ok(Some(Prediction {
+            signals: ctx.signals(groups, mult),
+            carbons: scratch.carbons.clone(),
+        }))
     }
 
     /// [`Predictor::predict_gated`] with this thread's working storage.
@@ -255,8 +308,8 @@ impl Predictor {
         mol: &(impl HeavyAtoms + ?Sized),
         opts: &PredictOptions,
         symmetry: Option<&[[u8; 64]]>,
-        gate: &mut dyn FnMut(&[ShiftEstimate]) -> bool,
-    ) -> Result<Option<Vec<PredictedSignal>>> {
+        gate: &mut dyn FnMut(&[ShiftEstimate], &[PredictedCarbon]) -> bool,
+    ) -> Result<Option<Prediction>> {
         SCRATCH.with(|s| self.predict_gated(mol, opts, symmetry, &mut s.borrow_mut(), gate))
     }
 }

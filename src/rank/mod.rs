@@ -62,13 +62,7 @@ pub fn with_standard_steps<R>(
          symmetry: Option<&[[u8; 64]]>,
          gate: &mut dyn FnMut(&[ShiftEstimate], &[PredictedCarbon]) -> bool| {
             predictor
-                .predict_gated_here(m, opts, symmetry, &mut |e| gate(e, &[]))
-                .map(|p| {
-                    p.map(|signals| Prediction {
-                        signals,
-                        carbons: Vec::new(),
-                    })
-                })
+                .predict_gated_here(m, opts, symmetry, gate)
                 .unwrap_or(Some(Prediction {
                     signals: Vec::new(),
                     carbons: Vec::new(),
