@@ -177,6 +177,8 @@ pub struct Solvent {
     pub couples: Vec<usize>,
     /// (environment index, shift, sigma)
     pub exchange_shift: Vec<(usize, f64, f64)>,
+    /// OH/NH/COOH H exchange with the solvent's deuterium (CD3OD, D2O).
+    pub exchanges: bool,
 }
 
 pub struct CouplingSettings {
@@ -447,6 +449,12 @@ struct SolventRow {
     name: String,
     aliases: Vec<String>,
     residual: f64,
+    /// Read by the spectrum side (stray-peak recognition) only.
+    #[serde(default)]
+    #[allow(dead_code)]
+    residual_multiplicity: Option<String>,
+    #[serde(default)]
+    exchanges: bool,
     water: f64,
     benzene: Option<f64>,
     couples: Vec<String>,
@@ -877,6 +885,7 @@ impl Library {
                 benzene: row.benzene,
                 couples,
                 exchange_shift,
+                exchanges: row.exchanges,
             });
         }
         if solvents.is_empty() {

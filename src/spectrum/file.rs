@@ -9,7 +9,7 @@
 //!
 //! [[multiplets]]
 //! shift = 4.12              # ppm; or range = [7.15, 7.32]
-//! multiplicity = "q"        # s, d, t, q, ..., m, with br/app
+//! multiplicity = "q"        # s, d, t, q, ..., m, with br/app; optional (not reported)
 //! j = [7.1]                 # Hz, optional (a single number is accepted)
 //! integral = 2              # optional
 //! ```
@@ -18,7 +18,7 @@
 //! ends in `.json` (or whose first non-blank character is `{`) is read as
 //! JSON, anything else as TOML.
 
-use super::journal::{RawEntry, RawSpectrum, MAX_J_HZ, SHIFT_LIMITS};
+use super::journal::{shift_out_of_range, RawEntry, RawSpectrum, MAX_J_HZ, SHIFT_LIMITS};
 use super::pattern::ObservedPattern;
 use crate::error::{Error, Result};
 use serde::Deserialize;
@@ -120,20 +120,19 @@ pub fn parse(name: &str, text: &str) -> Result<SpectrumFile> {
         let ends = [Some(shift), range.map(|r| r.0), range.map(|r| r.1)];
         for v in ends.into_iter().flatten() {
             if !(SHIFT_LIMITS.0..=SHIFT_LIMITS.1).contains(&v) {
-                return Err(err(format!(
-                    "shift {v} ppm is outside the 1H range ({} to {} ppm)",
-                    SHIFT_LIMITS.0, SHIFT_LIMITS.1
-                )));
+                return Err(err(shift_out_of_range(v)));
             }
         }
-        let label = m
-            .multiplicity
-            .ok_or_else(|| err("missing multiplicity (s, d, t, q, m, ...)".into()))?;
-        let pattern = ObservedPattern::parse(&label).ok_or_else(|| {
-            err(format!(
-                "multiplicity \"{label}\" is not one of s, d, t, q, quint, sext, sept, m, dd, dt, td, ... (br and app allowed)"
-            ))
-        })?;
+        // No multiplicity key: not reported, scored without a multiplicity term.
+        let pattern = match &m.multiplicity {
+            None => ObservedPattern::not_reported(),
+            Some(label) => ObservedPattern::parse(label).ok_or_else(|| {
+                err(format!(
+                    "multiplicity \"{label}\" is not one of s, d, t, q, quint, sext, sept, m, dd, dt, td, ... (br and app allowed)"
+                ))
+            })?,
+        };
+        let label = pattern.label();
         let mut j_hz = match m.j {
             None => Vec::new(),
             Some(OneOrMany::One(v)) => vec![v],
