@@ -133,8 +133,18 @@ fn library_folder_overrides_a_table() {
 fn oh_exchanges_in_cd3od() {
     // OH exchanges with the deuterium of CD3OD and joins the HOD peak
     // (common practice); the note says so.
-    let out = isomerank(&["predict", "CCO", "--solvent", "CD3OD", "--format", "json"], None);
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let out = isomerank(
+        &["predict", "CCO", "--solvent", "CD3OD", "--format", "json"],
+        None,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     let text = String::from_utf8_lossy(&out.stdout);
-    assert!(text.contains("exchanges with the deuterium of CD3OD"), "{text}");
+    assert!(
+        text.contains("exchanges with the deuterium of CD3OD"),
+        "{text}"
+    );
 }

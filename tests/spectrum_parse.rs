@@ -92,8 +92,12 @@ fn odd_file_values_are_rejected_with_a_message() {
 /// Parse and build against a formula with the embedded solvent table.
 fn spectrum(text: &str, formula: &str) -> isomerank::spectrum::Spectrum {
     let raw = journal::parse(text).unwrap_or_else(|e| panic!("{text}: {e}"));
-    integrals::build(raw, &Formula::parse(formula).unwrap(), &SolventTable::embedded())
-        .unwrap_or_else(|e| panic!("{text}: {e}"))
+    integrals::build(
+        raw,
+        &Formula::parse(formula).unwrap(),
+        &SolventTable::embedded(),
+    )
+    .unwrap_or_else(|e| panic!("{text}: {e}"))
 }
 
 #[test]
@@ -111,8 +115,10 @@ fn entries_without_a_multiplicity_are_not_reported() {
     assert_eq!(s.multiplets[1].hydrogens, Some(3.0));
     assert_eq!(s.multiplets[1].pattern.label(), "not reported");
     assert!(
-        s.notes.iter().any(|n| n.contains("entries 1, 2 give no multiplicity")
-            && n.contains("no multiplicity term")),
+        s.notes
+            .iter()
+            .any(|n| n.contains("entries 1, 2 give no multiplicity")
+                && n.contains("no multiplicity term")),
         "{:?}",
         s.notes
     );
@@ -151,14 +157,20 @@ fn shifts_outside_the_1h_range_are_refused() {
         ("1H NMR δ 7.2-18.3 (m, 5H)", "18.3"),
     ] {
         let e = journal::parse(text).unwrap_err().to_string();
-        assert!(e.contains(&format!("shift {v} ppm is outside the 1H range")), "{e}");
+        assert!(
+            e.contains(&format!("shift {v} ppm is outside the 1H range")),
+            "{e}"
+        );
         assert!(e.contains("entry 1"), "{e}");
     }
     // The enol H of a 1,3-diketone near 15.5 ppm is a real 1H shift.
     assert!(journal::parse("15.5 (br s, 1H)").is_ok());
-    let e = file::parse("x.toml", "[[multiplets]]\nshift = 20.0\nmultiplicity = \"s\"\n")
-        .unwrap_err()
-        .to_string();
+    let e = file::parse(
+        "x.toml",
+        "[[multiplets]]\nshift = 20.0\nmultiplicity = \"s\"\n",
+    )
+    .unwrap_err()
+    .to_string();
     assert!(e.contains("outside the 1H range"), "{e}");
 }
 
@@ -188,7 +200,10 @@ fn residual_peaks_of_more_solvents() {
     let s = spectrum("1H NMR (CDCl3) δ 7.26 (quint, 1H), 2.20 (s, 3H)", "C3H5NO");
     assert!(s.multiplets[0].solvent.is_none());
     // A water peak is a singlet: a quintet there is the compound's.
-    let s = spectrum("1H NMR (DMSO-d6) δ 3.33 (quint, 1H), 2.20 (s, 3H)", "C3H5NO");
+    let s = spectrum(
+        "1H NMR (DMSO-d6) δ 3.33 (quint, 1H), 2.20 (s, 3H)",
+        "C3H5NO",
+    );
     assert!(s.multiplets[0].solvent.is_none());
 }
 
@@ -196,10 +211,10 @@ fn residual_peaks_of_more_solvents() {
 fn an_unknown_solvent_is_named() {
     let s = spectrum("1H NMR (400 MHz, THF-d8) δ 2.05 (s, 3H)", "C3H6O");
     assert!(
-        s.notes
-            .iter()
-            .any(|n| n.contains("solvent \"THF-d8\" is not in the solvent table")
-                && n.contains("predicted as in CDCl3")),
+        s.notes.iter().any(
+            |n| n.contains("solvent \"THF-d8\" is not in the solvent table")
+                && n.contains("predicted as in CDCl3")
+        ),
         "{:?}",
         s.notes
     );
