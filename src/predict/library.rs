@@ -136,6 +136,9 @@ pub struct IncrementTable {
     pub z: Vec<Option<[f64; 3]>>,
     /// Alkene only: the endocyclic alkyl row.
     pub alkyl_ring: Option<[f64; 3]>,
+    /// Benzene only: the row for a ring-fusion atom whose other ring
+    /// continues through an aromatic carbon (naphthalene-like fusion).
+    pub fusion: Option<[f64; 3]>,
 }
 
 pub struct HeteroRing {
@@ -152,6 +155,10 @@ pub struct HeteroRing {
 
 pub struct HeteroTable {
     pub rings: Vec<HeteroRing>,
+    /// Rings with more than one heteroatom: per ring size, the increments
+    /// of each further pyridine-type N (two ring bonds, no H) by ring
+    /// distance 1, 2, 3 from the H's carbon, and the sigma added.
+    pub extra_nitrogen: Vec<(usize, [f64; 3], f64)>,
     pub generic_shift: f64,
     pub generic_sigma: f64,
     pub substituted_extra_sigma: f64,
@@ -339,6 +346,17 @@ struct HeteroFile {
     substituted_extra_sigma: Sourced<f64>,
     generic: HeteroGeneric,
     ring: Vec<HeteroRingRow>,
+    #[serde(default)]
+    extra_nitrogen: Vec<ExtraNitrogenRow>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct ExtraNitrogenRow {
+    size: usize,
+    increments: [f64; 3],
+    sigma: f64,
+    source: String,
 }
 
 #[derive(Deserialize)]
@@ -676,6 +694,7 @@ impl Library {
             sigma_per_extra: 0.0,
             z: resolve(&classes, &z),
             alkyl_ring,
+            fusion: None,
         };
 
         // benzene
@@ -694,10 +713,15 @@ impl Library {
             &f.unknown_substituent_sigma.source,
         )?;
         let mut z = vec![None; nc];
+        let mut fusion = None;
         for row in &f.substituent {
             need_source(file, &row.class, &row.source)?;
-            z[class_id(&classes, file, &row.class)? as usize] =
-                Some([row.ortho, row.meta, row.para]);
+            let v = [row.ortho, row.meta, row.para];
+            if row.class == "ring_fusion" {
+                fusion = Some(v);
+            } else {
+                z[class_id(&classes, file, &row.class)? as usize] = Some(v);
+            }
         }
         let benzene = IncrementTable {
             base: f.base.value,
@@ -706,6 +730,7 @@ impl Library {
             sigma_per_extra: f.per_extra_substituent.value,
             z: resolve(&classes, &z),
             alkyl_ring: None,
+            fusion,
         };
 
         // heteroaromatic
@@ -765,8 +790,14 @@ impl Library {
                 couplings,
             });
         }
+        let mut extra_nitrogen = Vec::new();
+        for row in &f.extra_nitrogen {
+            need_source(file, &format!("extra_nitrogen size {}", row.size), &row.source)?;
+            extra_nitrogen.push((row.size, row.increments, row.sigma));
+        }
         let hetero = HeteroTable {
             rings,
+            extra_nitrogen,
             generic_shift: f.generic.shift,
             generic_sigma: f.generic.sigma,
             substituted_extra_sigma: f.substituted_extra_sigma.value,
