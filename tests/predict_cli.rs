@@ -128,3 +128,23 @@ fn library_folder_overrides_a_table() {
     assert!(String::from_utf8_lossy(&out.stderr).contains("couplings.toml"));
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn oh_exchanges_in_cd3od() {
+    // OH exchanges with the deuterium of CD3OD and joins the HOD peak
+    // (common practice); the note says so.
+    let out = isomerank(
+        &["predict", "CCO", "--solvent", "CD3OD", "--format", "json"],
+        None,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        text.contains("exchanges with the deuterium of CD3OD"),
+        "{text}"
+    );
+}

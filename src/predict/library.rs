@@ -156,6 +156,9 @@ pub struct IncrementTable {
     pub z: Vec<Option<[f64; 3]>>,
     /// Alkene only: the endocyclic alkyl row.
     pub alkyl_ring: Option<[f64; 3]>,
+    /// Benzene only: the row for a ring-fusion atom whose other ring
+    /// continues through an aromatic carbon (naphthalene-like fusion).
+    pub fusion: Option<[f64; 3]>,
 }
 
 pub struct HeteroRing {
@@ -172,6 +175,10 @@ pub struct HeteroRing {
 
 pub struct HeteroTable {
     pub rings: Vec<HeteroRing>,
+    /// Rings with more than one heteroatom: per ring size, the increments
+    /// of each further pyridine-type N (two ring bonds, no H) by ring
+    /// distance 1, 2, 3 from the H's carbon, and the sigma added.
+    pub extra_nitrogen: Vec<(usize, [f64; 3], f64)>,
     pub generic_shift: f64,
     pub generic_sigma: f64,
     pub substituted_extra_sigma: f64,
@@ -197,6 +204,8 @@ pub struct Solvent {
     pub couples: Vec<usize>,
     /// (environment index, shift, sigma)
     pub exchange_shift: Vec<(usize, f64, f64)>,
+    /// OH/NH/COOH H exchange with the solvent's deuterium (CD3OD, D2O).
+    pub exchanges: bool,
 }
 
 pub struct CouplingSettings {
@@ -359,6 +368,17 @@ struct HeteroFile {
     substituted_extra_sigma: Sourced<f64>,
     generic: HeteroGeneric,
     ring: Vec<HeteroRingRow>,
+    #[serde(default)]
+    extra_nitrogen: Vec<ExtraNitrogenRow>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct ExtraNitrogenRow {
+    size: usize,
+    increments: [f64; 3],
+    sigma: f64,
+    source: String,
 }
 
 #[derive(Deserialize)]
@@ -469,6 +489,12 @@ struct SolventRow {
     name: String,
     aliases: Vec<String>,
     residual: f64,
+    /// Read by the spectrum side (stray-peak recognition) only.
+    #[serde(default)]
+    #[allow(dead_code)]
+    residual_multiplicity: Option<String>,
+    #[serde(default)]
+    exchanges: bool,
     water: f64,
     benzene: Option<f64>,
     couples: Vec<String>,
@@ -690,6 +716,7 @@ impl Library {
             sigma_per_extra: 0.0,
             z: resolve(&classes, &z),
             alkyl_ring,
+            fusion: None,
         };
 
         // benzene
@@ -708,10 +735,15 @@ impl Library {
             &f.unknown_substituent_sigma.source,
         )?;
         let mut z = vec![None; nc];
+        let mut fusion = None;
         for row in &f.substituent {
             need_source(file, &row.class, &row.source)?;
-            z[class_id(&classes, file, &row.class)? as usize] =
-                Some([row.ortho, row.meta, row.para]);
+            let v = [row.ortho, row.meta, row.para];
+            if row.class == "ring_fusion" {
+                fusion = Some(v);
+            } else {
+                z[class_id(&classes, file, &row.class)? as usize] = Some(v);
+            }
         }
         let benzene = IncrementTable {
             base: f.base.value,
@@ -720,6 +752,7 @@ impl Library {
             sigma_per_extra: f.per_extra_substituent.value,
             z: resolve(&classes, &z),
             alkyl_ring: None,
+            fusion,
         };
 
         // heteroaromatic
@@ -779,8 +812,18 @@ impl Library {
                 couplings,
             });
         }
+        let mut extra_nitrogen = Vec::new();
+        for row in &f.extra_nitrogen {
+            need_source(
+                file,
+                &format!("extra_nitrogen size {}", row.size),
+                &row.source,
+            )?;
+            extra_nitrogen.push((row.size, row.increments, row.sigma));
+        }
         let hetero = HeteroTable {
             rings,
+            extra_nitrogen,
             generic_shift: f.generic.shift,
             generic_sigma: f.generic.sigma,
             substituted_extra_sigma: f.substituted_extra_sigma.value,
@@ -899,6 +942,7 @@ impl Library {
                 benzene: row.benzene,
                 couples,
                 exchange_shift,
+                exchanges: row.exchanges,
             });
         }
         if solvents.is_empty() {

@@ -602,6 +602,7 @@ impl<'a> Ctx<'a> {
 
     fn note_words(&self, g: &Group, flags: u32) -> Vec<String> {
         let solvent = &self.lib.solvents[self.opts.solvent].name;
+        let exchanged = self.lib.solvents[self.opts.solvent].exchanges;
         let mut w = Vec::new();
         let mut add = |bit: u32, text: String| {
             if flags & bit != 0 {
@@ -610,7 +611,11 @@ impl<'a> Ctx<'a> {
         };
         add(
             note::EXCHANGEABLE,
-            format!("exchangeable H: broad, concentration-dependent, may be missing; does not couple in {solvent}"),
+            if exchanged {
+                format!("exchangeable H: exchanges with the deuterium of {solvent}, usually not observed (it joins the HOD peak)")
+            } else {
+                format!("exchangeable H: broad, concentration-dependent, may be missing; does not couple in {solvent}")
+            },
         );
         add(
             note::EXCHANGE_COUPLES,

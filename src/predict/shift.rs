@@ -331,10 +331,21 @@ impl Ctx<'_> {
                     continue;
                 }
                 nsub += 1;
-                match self
-                    .class_via(y, k)
-                    .and_then(|c| self.lib.benzene.z[c as usize])
-                {
+                // A fusion atom whose other ring goes on through an aromatic
+                // carbon (naphthalene-like) has its own row.
+                let fused = method == Method::Benzene
+                    && self.v.element[z] == Element::C
+                    && self.v.is_aromatic(z)
+                    && self.v.rings[..self.v.nrings]
+                        .iter()
+                        .any(|&q| q >> y & 1 == 1 && q >> z & 1 == 1);
+                let row = match self.lib.benzene.fusion {
+                    Some(f) if fused => Some(f),
+                    _ => self
+                        .class_via(y, k)
+                        .and_then(|c| self.lib.benzene.z[c as usize]),
+                };
+                match row {
                     Some(inc) => shift += inc[d - 1],
                     None => {
                         sigma += self.lib.benzene.sigma_unknown;
@@ -356,10 +367,44 @@ impl Ctx<'_> {
         (shift, sigma, notes, method)
     }
 
-    /// Base shift of `a` in a ring with one heteroatom from the library.
+    /// Base shift of `a` in a heteroaromatic ring: the library's ring with
+    /// one heteroatom; with several, the ring of the principal heteroatom
+    /// (O or S, then pyrrole-type N, then the nearest N) plus an increment
+    /// per further pyridine-type N by ring distance (`extra_nitrogen`).
     fn hetero_base(&self, r: u64, hetero: u64, a: usize) -> Option<(f64, f64)> {
-        let (t, pos) = self.hetero_template(r, hetero, a)?;
-        t.shift[pos].map(|s| (s, t.sigma))
+        if hetero.count_ones() == 1 {
+            let (t, pos) = self.hetero_template(r, hetero, a)?;
+            return t.shift[pos].map(|s| (s, t.sigma));
+        }
+        let v = self.v;
+        let size = r.count_ones() as usize;
+        let (_, incs, extra_sigma) = *self
+            .lib
+            .hetero
+            .extra_nitrogen
+            .iter()
+            .find(|x| x.0 == size)?;
+        let pyridine_type = |h: usize| v.element[h] == Element::N && v.deg[h] + v.h[h] == 2;
+        let principal = bits(hetero).min_by_key(|&h| {
+            let rank = if v.element[h] != Element::N {
+                0
+            } else if !pyridine_type(h) {
+                1
+            } else {
+                2
+            };
+            (rank, v.ring_distance(r, h, a), h)
+        })?;
+        let (t, pos) = self.hetero_template(r, 1u64 << principal, a)?;
+        let mut shift = t.shift[pos]?;
+        for h in bits(hetero & !(1u64 << principal)) {
+            if !pyridine_type(h) {
+                return None;
+            }
+            let d = v.ring_distance(r, h, a);
+            shift += incs[d.clamp(1, 3) - 1];
+        }
+        Some((shift, t.sigma + extra_sigma))
     }
 
     /// The library ring matching ring `r` and the position of `a` in it.

@@ -220,17 +220,20 @@ fn evaluate(
     let has_h = !scorers.hydrogen.spectrum().multiplets.is_empty();
     let mut carbon_scored: Option<Scored> = None;
     let mut gate = |est: &[ShiftEstimate], carbons: &[PredictedCarbon]| {
-        let mut rest = cutoff;
-        if let Some(cp) = &scorers.carbon {
-            match cp.score(carbons, cutoff) {
-                Some(s) => {
-                    rest = cutoff - s.cost;
-                    carbon_scored = Some(s);
-                }
-                None => return false,
-            }
+        // The 1H bound first, against the whole cutoff (the 13C part is
+        // never negative): it is the cheaper test and stops most candidates.
+        if has_h && !scorers.hydrogen.may_beat(est, cutoff) {
+            return false;
         }
-        !has_h || scorers.hydrogen.may_beat(est, rest)
+        let Some(cp) = &scorers.carbon else {
+            return true;
+        };
+        let Some(s) = cp.score(carbons, cutoff) else {
+            return false;
+        };
+        let rest = cutoff - s.cost;
+        carbon_scored = Some(s);
+        !has_h || rest == cutoff || scorers.hydrogen.may_beat(est, rest)
     };
     let prediction = (steps.predict)(molecule, symmetry, &mut gate)?;
     let carbon_cost = carbon_scored.as_ref().map_or(0.0, |s| s.cost);

@@ -244,12 +244,12 @@ fn fmt_signal(p: &PredictedSignal) -> String {
 }
 
 fn fmt_observed(o: &ObservedMultiplet) -> String {
-    let mut s = format!(
-        "entry {}: {} {}",
-        o.entry,
-        o.shift_text(),
+    let label = if o.pattern.reported {
         o.pattern.label()
-    );
+    } else {
+        "(multiplicity not reported)".to_string()
+    };
+    let mut s = format!("entry {}: {} {label}", o.entry, o.shift_text());
     if let Some(h) = o.hydrogens {
         if (h - h.round()).abs() < 0.05 {
             let _ = write!(s, " {}H", h.round());
@@ -362,6 +362,12 @@ pub fn explanation(cx: &Context, c: &Ranked) -> String {
                 m.cost
             );
         }
+    }
+    if s.multiplets.iter().any(|o| !o.pattern.reported) {
+        let _ = writeln!(
+            out,
+            "  entries without a reported multiplicity have no multiplicity term (mult 0.00)"
+        );
     }
     if let (Some(cs), Some(sc)) = (cx.carbon, &c.carbon_scored) {
         out.push_str(&carbon_explanation(cx, cs, c, sc));

@@ -358,8 +358,9 @@ pub fn worst_terms(
                 a.cost,
                 match l.count {
                     Some(n) if n != a.carbons => format!(
-                        "13C: {} carbons on the {n}C line at {}",
+                        "13C: {} carbon{} on the {n}C line at {}",
                         a.carbons,
+                        if a.carbons == 1 { "" } else { "s" },
                         l.shift_text()
                     ),
                     _ => format!(

@@ -207,6 +207,15 @@ pub fn reason_with(
 ) -> String {
     // Candidate terms: (cost, text).
     let mut worst: Vec<(f64, String)> = extra;
+    if spectrum.multiplets.is_empty() {
+        // No 1H data: the 1H part costs nothing and says nothing.
+        worst.sort_by(|a, b| b.0.total_cmp(&a.0).then_with(|| a.1.cmp(&b.1)));
+        if worst.is_empty() {
+            return "every 13C line fits".to_string();
+        }
+        let texts: Vec<&str> = worst.iter().take(2).map(|w| w.1.as_str()).collect();
+        return texts.join("; ");
+    }
     for line in &e.groups {
         let p = &predicted[line.group];
         match (line.observed, line.terms) {
@@ -296,9 +305,6 @@ pub fn reason_with(
         }
     }
     worst.sort_by(|a, b| b.0.total_cmp(&a.0).then_with(|| a.1.cmp(&b.1)));
-    if worst.is_empty() && spectrum.multiplets.is_empty() {
-        return "every 13C line fits".to_string();
-    }
     if worst.is_empty() {
         let max_dev = e
             .groups

@@ -171,6 +171,10 @@ impl ScoringModel {
 
     /// Probability that a group predicted as `signal` is reported as `obs`.
     pub fn compatibility(&self, signal: &PredictedSignal, obs: &ObservedPattern) -> f64 {
+        if !obs.reported {
+            // No multiplicity written: nothing to compare (cost 0).
+            return 1.0;
+        }
         let mp = &self.multiplicity;
         let pred = &signal.multiplicity;
         let (pc, oc) = (code(pred), code(&obs.multiplicity));
@@ -536,6 +540,13 @@ mod tests {
         // dd with two similar J merges into a t.
         let dd = sig(Multiplicity::Coupled(vec![1, 1]), vec![7.2, 6.8]);
         assert!(m.compatibility(&dd, &obs("t")) >= 0.4);
+    }
+
+    #[test]
+    fn unreported_multiplicity_costs_nothing() {
+        let m = ScoringModel::embedded();
+        let t = sig(Multiplicity::Coupled(vec![2]), vec![7.0]);
+        assert_eq!(m.compatibility(&t, &ObservedPattern::not_reported()), 1.0);
     }
 
     #[test]

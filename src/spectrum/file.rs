@@ -9,7 +9,7 @@
 //!
 //! [[multiplets]]
 //! shift = 4.12              # ppm; or range = [7.15, 7.32]
-//! multiplicity = "q"        # s, d, t, q, ..., m, with br/app
+//! multiplicity = "q"        # s, d, t, q, ..., m, with br/app; optional (not reported)
 //! j = [7.1]                 # Hz, optional (a single number is accepted)
 //! integral = 2              # optional
 //! ```
@@ -28,7 +28,7 @@
 //! JSON, anything else as TOML.
 
 use super::carbon::{self, CarbonLine, RawCarbon};
-use super::journal::{RawEntry, RawSpectrum, MAX_J_HZ, SHIFT_LIMITS};
+use super::journal::{shift_out_of_range, RawEntry, RawSpectrum, MAX_J_HZ, SHIFT_LIMITS};
 use super::pattern::ObservedPattern;
 use crate::error::{Error, Result};
 use serde::Deserialize;
@@ -134,15 +134,18 @@ pub fn parse(name: &str, text: &str) -> Result<SpectrumFile> {
     for (i, m) in file.multiplets.into_iter().enumerate() {
         let entry = i + 1;
         let err = |what: String| Error::input(format!("{name}: entry {entry}: {what}"));
-        let (shift, range) = shift_or_range(m.shift, m.range, SHIFT_LIMITS, "1H").map_err(err)?;
-        let label = m
-            .multiplicity
-            .ok_or_else(|| err("missing multiplicity (s, d, t, q, m, ...)".into()))?;
-        let pattern = ObservedPattern::parse(&label).ok_or_else(|| {
-            err(format!(
-                "multiplicity \"{label}\" is not one of s, d, t, q, quint, sext, sept, m, dd, dt, td, ... (br and app allowed)"
-            ))
-        })?;
+        let (shift, range) =
+            shift_or_range(m.shift, m.range, SHIFT_LIMITS, shift_out_of_range).map_err(err)?;
+        // No multiplicity key: not reported, scored without a multiplicity term.
+        let pattern = match &m.multiplicity {
+            None => ObservedPattern::not_reported(),
+            Some(label) => ObservedPattern::parse(label).ok_or_else(|| {
+                err(format!(
+                    "multiplicity \"{label}\" is not one of s, d, t, q, quint, sext, sept, m, dd, dt, td, ... (br and app allowed)"
+                ))
+            })?,
+        };
+        let label = pattern.label();
         let mut j_hz = match m.j {
             None => Vec::new(),
             Some(OneOrMany::One(v)) => vec![v],
@@ -181,8 +184,14 @@ pub fn parse(name: &str, text: &str) -> Result<SpectrumFile> {
     for (i, c) in file.carbon.into_iter().enumerate() {
         let entry = i + 1;
         let err = |what: String| Error::input(format!("{name}: carbon entry {entry}: {what}"));
-        let (shift, range) =
-            shift_or_range(c.shift, c.range, carbon::SHIFT_LIMITS, "13C").map_err(err)?;
+        let (shift, range) = shift_or_range(c.shift, c.range, carbon::SHIFT_LIMITS, |v| {
+            format!(
+                "shift {v} ppm is outside the 13C range ({} to {} ppm)",
+                carbon::SHIFT_LIMITS.0,
+                carbon::SHIFT_LIMITS.1
+            )
+        })
+        .map_err(err)?;
         let hydrogens = match c.hydrogens {
             None => None,
             Some(CarbonHydrogens::Number(n)) if (0..=4).contains(&n) => Some(n as u8),
@@ -243,7 +252,7 @@ fn shift_or_range(
     shift: Option<f64>,
     range: Option<Vec<f64>>,
     limits: (f64, f64),
-    nucleus: &str,
+    out_of_range: impl Fn(f64) -> String,
 ) -> std::result::Result<(f64, Option<(f64, f64)>), String> {
     let (shift, range) = match (shift, range) {
         (Some(s), None) => (s, None),
@@ -263,10 +272,7 @@ fn shift_or_range(
     let ends = [Some(shift), range.map(|r| r.0), range.map(|r| r.1)];
     for v in ends.into_iter().flatten() {
         if !(limits.0..=limits.1).contains(&v) {
-            return Err(format!(
-                "shift {v} ppm is outside the {nucleus} range ({} to {} ppm)",
-                limits.0, limits.1
-            ));
+            return Err(out_of_range(v));
         }
     }
     Ok((shift, range))

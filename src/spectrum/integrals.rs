@@ -48,6 +48,7 @@ pub fn build(raw: RawSpectrum, formula: &Formula, solvents: &SolventTable) -> Re
         notes: Vec::new(),
     };
     solvents.mark(&mut spectrum);
+    note_unreported(&mut spectrum);
     let formula_h = formula.hydrogens() as f64;
     let own = |m: &&ObservedMultiplet| m.solvent.is_none();
     match kind {
@@ -116,6 +117,29 @@ pub fn build(raw: RawSpectrum, formula: &Formula, solvents: &SolventTable) -> Re
         }
     }
     Ok(spectrum)
+}
+
+/// A note naming the entries written without a multiplicity.
+fn note_unreported(spectrum: &mut Spectrum) {
+    let entries: Vec<String> = spectrum
+        .multiplets
+        .iter()
+        .filter(|m| !m.pattern.reported)
+        .map(|m| m.entry.to_string())
+        .collect();
+    if entries.is_empty() {
+        return;
+    }
+    let which = if entries.len() == spectrum.multiplets.len() {
+        "no entry gives a multiplicity".to_string()
+    } else if entries.len() == 1 {
+        format!("entry {} gives no multiplicity", entries[0])
+    } else {
+        format!("entries {} give no multiplicity", entries.join(", "))
+    };
+    spectrum.notes.push(format!(
+        "{which}: multiplicity not reported, scored on shift and integral alone (no multiplicity term)"
+    ));
 }
 
 fn integral_kind(entries: &[RawEntry]) -> Result<IntegralKind> {

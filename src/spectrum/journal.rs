@@ -5,12 +5,17 @@
 //! 1H NMR (400 MHz, CDCl3) δ 7.32-7.15 (m, 5H), 4.12 (q, J = 7.1 Hz, 2H), 2.05 (s, 3H)
 //! ```
 //!
-//! The header (`1H NMR (frequency, solvent)`) and the `δ` are optional. Each
-//! entry is a shift or a range (hyphen or en dash) followed by parentheses
-//! holding, in any order, the multiplicity (with `br`/`app`), one or more J
-//! (`J = 17.3, 1.5 Hz`) and the integral (`2H`, or a bare number for a
-//! relative area). An assignment label such as `OCH3` inside the parentheses
-//! is allowed and ignored. Entries are separated by commas or semicolons.
+//! The header (`1H NMR (frequency, solvent)`, optionally followed by a
+//! colon) and the `δ` are optional; `d` stands for `δ` where the symbol was
+//! lost in a copy (`1H NMR (400 MHz, CDCl3): d 7.26 ...`). Each entry is a
+//! shift or a range (hyphen or en dash) followed by parentheses holding, in
+//! any order, the multiplicity (with `br`/`app`), one or more J (`J = 17.3,
+//! 1.5 Hz`) and the integral (`2H`, or a bare number for a relative area).
+//! The multiplicity may be missing (`3.67 (3H)`, `7.35-7.20 (5H)`): the
+//! entry is then kept as "multiplicity not reported" and scored without a
+//! multiplicity term. An assignment label such as `OCH3` inside the
+//! parentheses is allowed and ignored. Entries are separated by commas or
+//! semicolons.
 //!
 //! Errors name the entry, quote it, and give the character position (1-based,
 //! in the whole text): `entry 3 "2.05 (s 3H": missing ")" (character 58)`.
@@ -39,9 +44,19 @@ pub struct RawSpectrum {
     pub entries: Vec<RawEntry>,
 }
 
-/// Lowest and highest 1H shift accepted, ppm. Wider than any organic 1H
-/// signal (about -1 to 18 ppm, common practice) so that only typos fail.
-pub const SHIFT_LIMITS: (f64, f64) = (-5.0, 25.0);
+/// Lowest and highest 1H shift accepted, ppm: the 1H range of neutral
+/// organic compounds (TMS-like CH3 on Si or metals near 0, the strongly
+/// hydrogen-bonded enol H of 1,3-diketones near 15.5; common practice).
+/// Beyond it a value is a typing error or a 13C shift in a 1H list.
+pub const SHIFT_LIMITS: (f64, f64) = (-1.0, 16.0);
+
+/// The message for a shift outside [`SHIFT_LIMITS`].
+pub fn shift_out_of_range(v: f64) -> String {
+    format!(
+        "shift {v} ppm is outside the 1H range of organic compounds ({} to {} ppm): a typing error, or a 13C shift in a 1H list?",
+        SHIFT_LIMITS.0, SHIFT_LIMITS.1
+    )
+}
 /// Largest |J| accepted, Hz (1H-1H couplings stay below about 20 Hz,
 /// geminal sp3 up to -20; common practice).
 pub const MAX_J_HZ: f64 = 40.0;
@@ -218,6 +233,11 @@ pub(super) fn parse_header(
         }
     }
     cur.skip_ws();
+    if had_nmr && matches!(cur.peek(), Some(':')) {
+        // `1H NMR: (400 MHz, CDCl3) δ ...`
+        cur.pos += 1;
+        cur.skip_ws();
+    }
     if had_nmr && cur.peek() == Some('(') {
         let open = cur.pos;
         let mut depth = 0;
@@ -250,10 +270,34 @@ pub(super) fn parse_header(
         cur.pos = close + 1;
         cur.skip_ws();
     }
+    // `1H NMR (400 MHz, CDCl3): δ 7.26 ...`: a colon before the δ.
+    if matches!(cur.peek(), Some(':')) {
+        cur.pos += 1;
+        cur.skip_ws();
+    }
+    let mut had_delta = false;
     for d in ["δH", "δC", "δ", "delta"] {
         if cur.rest_starts_with_ci(d) {
             cur.pos += d.chars().count();
+            had_delta = true;
             break;
+        }
+    }
+    // `d 7.26 (s, 1H)`: a δ lost in a copy. No entry starts with a letter,
+    // so a lone d before a number, colon or = can mean nothing else.
+    if !had_delta && matches!(cur.peek(), Some('d') | Some('D')) {
+        let after = cur.chars.get(cur.pos + 1).copied();
+        let next_non_ws = cur.chars[cur.pos + 1..]
+            .iter()
+            .find(|c| !c.is_whitespace())
+            .copied();
+        let starts_number = |c: Option<char>| {
+            c.is_some_and(|c| c.is_ascii_digit() || matches!(c, '-' | '−' | '.' | ':' | '='))
+        };
+        if after.is_some_and(|c| c.is_whitespace() || matches!(c, ':' | '='))
+            && starts_number(next_non_ws)
+        {
+            cur.pos += 1;
         }
     }
     cur.skip_ws();
@@ -360,12 +404,12 @@ fn parse_entry(entry: usize, chars: &[char], s: usize, e: usize) -> Result<RawEn
         range = Some((first.min(second), first.max(second)));
         skip_ws(&mut i);
     }
-    for v in [Some(first), range.map(|r| r.1)].into_iter().flatten() {
+    for v in [Some(first), range.map(|r| r.0), range.map(|r| r.1)]
+        .into_iter()
+        .flatten()
+    {
         if v < SHIFT_LIMITS.0 || v > SHIFT_LIMITS.1 {
-            return Err(err(format!(
-                "shift {v} ppm is outside the 1H range ({} to {} ppm)",
-                SHIFT_LIMITS.0, SHIFT_LIMITS.1
-            )));
+            return Err(err(shift_out_of_range(v)));
         }
     }
     if chars[i..e.min(i + 3)]
@@ -501,12 +545,8 @@ fn parse_entry(entry: usize, chars: &[char], s: usize, e: usize) -> Result<RawEn
             }
         }
     }
-    let pattern = pattern.ok_or_else(|| {
-        err(
-            "no multiplicity: give s, d, t, q, quint, sext, sept, m, dd, ... (br and app allowed)"
-                .to_string(),
-        )
-    })?;
+    // No multiplicity written: kept as not reported (issue 9, item 4).
+    let pattern = pattern.unwrap_or_else(ObservedPattern::not_reported);
     let shift = match range {
         Some((lo, hi)) => (lo + hi) / 2.0,
         None => first,

@@ -6,6 +6,9 @@
 use crate::predict::Multiplicity;
 use serde::{Serialize, Serializer};
 
+/// What [`ObservedPattern::label`] shows for an entry without a multiplicity.
+pub const NOT_REPORTED: &str = "not reported";
+
 /// An observed pattern: a multiplicity plus the broad/apparent modifiers.
 #[derive(Clone, Debug, PartialEq, Eq, Hash)]
 pub struct ObservedPattern {
@@ -15,6 +18,10 @@ pub struct ObservedPattern {
     /// `app`: the lines look like the pattern but the couplings are not the
     /// ones the label implies (e.g. a dd with two similar J seen as a t).
     pub apparent: bool,
+    /// False for an entry written without a multiplicity (`3.67 (3H)`):
+    /// the scorer then leaves the multiplicity term out. `multiplicity` is
+    /// `Multiplet` there, so an overlap costs what it costs in an m.
+    pub reported: bool,
 }
 
 impl ObservedPattern {
@@ -23,6 +30,15 @@ impl ObservedPattern {
             multiplicity,
             broad: false,
             apparent: false,
+            reported: true,
+        }
+    }
+
+    /// An entry whose multiplicity was not reported (`7.20-7.35 (5H)`).
+    pub fn not_reported() -> ObservedPattern {
+        ObservedPattern {
+            reported: false,
+            ..ObservedPattern::plain(Multiplicity::Multiplet)
         }
     }
 
@@ -72,6 +88,7 @@ impl ObservedPattern {
                 multiplicity: Multiplicity::Singlet,
                 broad,
                 apparent,
+                reported: true,
             });
         }
         let multiplicity = base(rest)?;
@@ -79,11 +96,16 @@ impl ObservedPattern {
             multiplicity,
             broad,
             apparent,
+            reported: true,
         })
     }
 
-    /// The label as written in a journal: `br s`, `app t`, `dd`.
+    /// The label as written in a journal: `br s`, `app t`, `dd`; `not
+    /// reported` for an entry without one.
     pub fn label(&self) -> String {
+        if !self.reported {
+            return NOT_REPORTED.to_string();
+        }
         let mut s = String::new();
         if self.broad {
             s.push_str("br ");

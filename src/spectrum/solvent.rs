@@ -1,13 +1,16 @@
 //! Residual solvent and water peaks (fragment-library/solvents.toml, from
 //! Gottlieb, Kotlyar & Nudelman, J. Org. Chem. 1997, 62, 7512) and the test
-//! that marks an observed multiplet as a likely stray peak.
+//! that marks an observed multiplet as a likely stray peak: a singlet (or an
+//! entry without a multiplicity) on the residual or water peak, or on the
+//! residual a multiplet of the residual's own pattern (the CHD2 quintet of
+//! DMSO-d5 at 2.50, written quint or m).
 //!
 //! Why mark rather than delete: a compound may have a genuine singlet at
 //! 7.26 ppm. The scorer decides, by letting a marked multiplet stay
 //! unassigned at a small cost instead of the penalty for an unexplained
 //! signal; the note tells the user either way.
 
-use super::Spectrum;
+use super::{ObservedPattern, Spectrum};
 use crate::error::{Error, Result};
 use crate::predict::Multiplicity;
 use serde::{Deserialize, Serialize};
@@ -37,6 +40,8 @@ struct SolventRow {
     #[serde(default)]
     aliases: Vec<String>,
     residual: f64,
+    /// The residual's pattern when not a singlet (`quint` for CHD2 groups).
+    residual_multiplicity: Option<String>,
     water: Option<f64>,
     #[allow(dead_code)]
     source: String,
@@ -105,8 +110,11 @@ impl SolventTable {
             Some(s) => match self.canonical_name(s) {
                 Some(name) => (self.row(name), false),
                 None => {
+                    let known: Vec<&str> = self.rows.iter().map(|r| r.name.as_str()).collect();
                     spectrum.notes.push(format!(
-                        "solvent \"{s}\" is not in the solvent table: no stray-peak recognition"
+                        "solvent \"{s}\" is not in the solvent table (known: {}): no stray-peak recognition, shifts predicted as in {}",
+                        known.join(", "),
+                        self.default_solvent()
                     ));
                     return;
                 }
@@ -115,16 +123,25 @@ impl SolventTable {
         };
         let Some(row) = row else { return };
         let m = &self.matching;
+        // The residual's own pattern (DMSO-d5 2.50 quint, often written m).
+        let residual_pattern = row
+            .residual_multiplicity
+            .as_deref()
+            .and_then(ObservedPattern::parse)
+            .map(|p| p.multiplicity);
         let mut notes = Vec::new();
         for mult in &mut spectrum.multiplets {
-            if mult.pattern.multiplicity != Multiplicity::Singlet {
-                continue;
-            }
-            let hit = if mult.distance(row.residual) <= m.residual_tolerance {
+            let p = &mult.pattern;
+            let singlet = p.multiplicity == Multiplicity::Singlet || !p.reported;
+            let residual_like = singlet
+                || residual_pattern.as_ref().is_some_and(|r| {
+                    p.multiplicity == *r || p.multiplicity == Multiplicity::Multiplet
+                });
+            let hit = if residual_like && mult.distance(row.residual) <= m.residual_tolerance {
                 Some(("residual", row.residual, "the residual solvent".to_string()))
             } else {
                 row.water
-                    .filter(|&w| mult.distance(w) <= m.water_tolerance)
+                    .filter(|&w| singlet && mult.distance(w) <= m.water_tolerance)
                     .map(|w| ("water", w, "H2O".to_string()))
             };
             if let Some((kind, shift, species)) = hit {

@@ -1,0 +1,458 @@
+//! Residuals of the 1H predictor on the NMRShiftDB2 dev lists, per kind of H,
+//! on two halves of the compounds: the FIT half (even NMRShiftDB2 id) and the
+//! CHECK half (odd id). For each kind: n, mean residual (observed minus
+//! predicted), mean absolute error, the root mean square residual, and on
+//! the check half the mean absolute error after removing the fit half's
+//! mean residual (the cross-validated gain of a constant correction for that
+//! kind). The table corrections and sigmas of fragment-library/ that cite
+//! "refit on NMRShiftDB2 dev" were read off this output (see
+//! fragment-library/README.md, "Refit on measured spectra").
+//!
+//!     cargo run --profile test --example fit_1h_tables [MIN_N]
+//!
+//! Pairs come from the sorted per-H comparison of tests/common/nmrshiftdb.rs
+//! (the same as tests/predict_nmrshiftdb_1h.rs). Kinds with fewer than MIN_N
+//! (default 8) H in the fit half are not printed.
+
+#[path = "../tests/common/nmrshiftdb.rs"]
+mod nmrshiftdb;
+
+use isomerank::chem::aromaticity;
+use isomerank::chem::{Element, Molecule};
+use isomerank::predict::Predictor;
+use nmrshiftdb::{cases, compare_all};
+use std::collections::BTreeMap;
+
+/// A coarse kind for the H of `atom`: aromatic rings by size, ring
+/// heteroatoms and fusion; alkene; sp3 by H count and the heavy atoms on
+/// the carbon; other.
+fn kind(mol: &Molecule, aro: &[bool], atom: usize) -> String {
+    let a = mol.atom(atom);
+    let nb: Vec<(usize, u8)> = mol.neighbours(atom).collect();
+    if aro[atom] {
+        let ring = smallest_aromatic_ring(mol, aro, atom);
+        let mut het: Vec<String> = ring
+            .iter()
+            .filter(|&&x| mol.atom(x).element != Element::C)
+            .map(|&x| {
+                let e = mol.atom(x);
+                let deg = mol.neighbours(x).count() + e.hydrogens as usize;
+                format!("{}{}", e.element.symbol().to_lowercase(), deg)
+            })
+            .collect();
+        het.sort();
+        let fused = ring
+            .iter()
+            .any(|&x| mol.neighbours(x).filter(|&(y, _)| aro[y]).count() > 2);
+        let subs = ring
+            .iter()
+            .map(|&x| {
+                mol.neighbours(x)
+                    .filter(|&(y, _)| !ring.contains(&y))
+                    .count()
+            })
+            .sum::<usize>();
+        return format!(
+            "aro{}[{}]{}{}",
+            ring.len(),
+            het.join(","),
+            if fused { " fused" } else { "" },
+            if subs == 0 { " H-only" } else { "" }
+        );
+    }
+    let double = nb.iter().any(|&(_, o)| o == 2);
+    if a.element == Element::C && double {
+        let to_c = nb
+            .iter()
+            .any(|&(y, o)| o == 2 && mol.atom(y).element == Element::C);
+        return if to_c {
+            "alkene".into()
+        } else {
+            "C=X H".into()
+        };
+    }
+    if a.element == Element::C && nb.iter().any(|&(_, o)| o == 3) {
+        return "alkyne".into();
+    }
+    let mut around: Vec<String> = nb
+        .iter()
+        .map(|&(y, _)| {
+            let e = mol.atom(y);
+            let sp2 = mol.neighbours(y).any(|(_, o)| o >= 2) || aro[y];
+            format!(
+                "{}{}",
+                e.element.symbol(),
+                if e.element == Element::C && sp2 {
+                    "="
+                } else {
+                    ""
+                }
+            )
+        })
+        .collect();
+    around.sort();
+    // One shell further for a carbon with a single heteroatom (or sp2 C)
+    // neighbour: what that neighbour carries (`FINE=1`).
+    let mut far = String::new();
+    if std::env::var("FINE").is_ok() {
+        let mut v: Vec<String> = Vec::new();
+        for &(y, _) in &nb {
+            let ey = mol.atom(y).element;
+            if ey == Element::C && !aro[y] && !mol.neighbours(y).any(|(_, o)| o >= 2) {
+                continue;
+            }
+            for (z, o) in mol.neighbours(y) {
+                if z == atom {
+                    continue;
+                }
+                v.push(format!(
+                    "{}{}{}",
+                    mol.atom(z).element.symbol(),
+                    if aro[z] { "ar" } else { "" },
+                    ["", "", "=", "#"][o as usize]
+                ));
+            }
+        }
+        v.sort();
+        far = format!(" <{}>", v.join(","));
+    }
+    format!("CH{} [{}]{far}", a.hydrogens, around.join(","))
+}
+
+fn smallest_aromatic_ring(mol: &Molecule, aro: &[bool], atom: usize) -> Vec<usize> {
+    // Breadth-first search over aromatic atoms for the shortest cycle through atom.
+    let n = mol.atom_count();
+    let mut best: Option<Vec<usize>> = None;
+    for (first, _) in mol.neighbours(atom).filter(|&(y, _)| aro[y]) {
+        let mut prev = vec![usize::MAX; n];
+        prev[first] = atom;
+        let mut queue = std::collections::VecDeque::from([first]);
+        while let Some(x) = queue.pop_front() {
+            for (y, _) in mol.neighbours(x) {
+                if !aro[y] || y == prev[x] || (x == first && y == atom) {
+                    continue;
+                }
+                if y == atom {
+                    let mut path = vec![x];
+                    let mut z = x;
+                    while prev[z] != atom {
+                        z = prev[z];
+                        path.push(z);
+                    }
+                    path.push(atom);
+                    if best.as_ref().is_none_or(|b| path.len() < b.len()) {
+                        best = Some(path);
+                    }
+                    queue.clear();
+                    break;
+                }
+                if prev[y] == usize::MAX && y != atom {
+                    prev[y] = x;
+                    queue.push_back(y);
+                }
+            }
+        }
+    }
+    best.unwrap_or_else(|| vec![atom])
+}
+
+/// Ring-fusion counts of the H on `atom` in an all-carbon aromatic
+/// six-ring: how many fusion atoms (three aromatic neighbours, the outer one
+/// a carbon) lie ortho, meta and para to it. None when the ring is not such.
+fn fusion_counts(mol: &Molecule, aro: &[bool], atom: usize) -> Option<[f64; 3]> {
+    let ring = smallest_aromatic_ring(mol, aro, atom);
+    if ring.len() != 6 || ring.iter().any(|&x| mol.atom(x).element != Element::C) {
+        return None;
+    }
+    let at = ring.iter().position(|&x| x == atom)?;
+    let mut n = [0.0; 3];
+    let mut any = false;
+    for (i, &y) in ring.iter().enumerate() {
+        let outer: Vec<usize> = mol
+            .neighbours(y)
+            .map(|(z, _)| z)
+            .filter(|z| !ring.contains(z))
+            .collect();
+        let fused = outer.len() == 1
+            && aro[outer[0]]
+            && mol.atom(outer[0]).element == Element::C
+            && mol.neighbours(y).filter(|&(z, _)| aro[z]).count() == 3
+            // the bond y-outer is a ring bond: the outer atom reaches
+            // another atom of this ring within four aromatic bonds, not
+            // through y.
+            && reaches_ring(mol, aro, outer[0], y, &ring);
+        if fused {
+            let d = (i as isize - at as isize).unsigned_abs();
+            let d = d.min(6 - d);
+            if (1..=3).contains(&d) {
+                n[d - 1] += 1.0;
+                any = true;
+            }
+        }
+    }
+    any.then_some(n)
+}
+
+/// For the H on `atom` in an aromatic ring with several heteroatoms, the
+/// ring size and how many further pyridine-type N (beyond the principal
+/// heteroatom, chosen as shift.rs chooses it) lie at ring distance 1, 2, 3.
+fn extra_nitrogen_counts(mol: &Molecule, aro: &[bool], atom: usize) -> Option<(usize, [f64; 3])> {
+    let ring = smallest_aromatic_ring(mol, aro, atom);
+    let het: Vec<usize> = (0..ring.len())
+        .filter(|&i| mol.atom(ring[i]).element != Element::C)
+        .collect();
+    if het.len() < 2 {
+        return None;
+    }
+    let at = ring.iter().position(|&x| x == atom)?;
+    let dist = |i: usize| {
+        let d = (i as isize - at as isize).unsigned_abs();
+        d.min(ring.len() - d)
+    };
+    let pyridine_type = |x: usize| {
+        mol.atom(x).element == Element::N
+            && mol.neighbours(x).count() + mol.atom(x).hydrogens as usize == 2
+    };
+    let rank = |x: usize| {
+        if mol.atom(x).element != Element::N {
+            0
+        } else if !pyridine_type(x) {
+            1
+        } else {
+            2
+        }
+    };
+    let principal = *het
+        .iter()
+        .min_by_key(|&&i| (rank(ring[i]), dist(i)))
+        .unwrap();
+    let mut n = [0.0; 3];
+    for &i in &het {
+        if i == principal {
+            continue;
+        }
+        if !pyridine_type(ring[i]) {
+            return None;
+        }
+        n[dist(i).clamp(1, 3) - 1] += 1.0;
+    }
+    Some((ring.len(), n))
+}
+
+fn reaches_ring(mol: &Molecule, aro: &[bool], from: usize, avoid: usize, ring: &[usize]) -> bool {
+    let mut seen = vec![from, avoid];
+    let mut front = vec![from];
+    for _ in 0..4 {
+        let mut next = Vec::new();
+        for &x in &front {
+            for (w, _) in mol.neighbours(x) {
+                if ring.contains(&w) && w != avoid {
+                    return true;
+                }
+                if aro[w] && !seen.contains(&w) {
+                    seen.push(w);
+                    next.push(w);
+                }
+            }
+        }
+        front = next;
+    }
+    false
+}
+
+/// Least squares for y = x . b with three unknowns (normal equations).
+fn least_squares3(rows: &[([f64; 3], f64)]) -> [f64; 3] {
+    let mut a = [[0.0; 4]; 3];
+    for (x, y) in rows {
+        for i in 0..3 {
+            for j in 0..3 {
+                a[i][j] += x[i] * x[j];
+            }
+            a[i][3] += x[i] * y;
+        }
+    }
+    // Gaussian elimination with a small ridge for unused columns.
+    for (i, row) in a.iter_mut().enumerate() {
+        row[i] += 1e-9;
+    }
+    for c in 0..3 {
+        let p = (c..3)
+            .max_by(|&x, &y| a[x][c].abs().total_cmp(&a[y][c].abs()))
+            .unwrap();
+        a.swap(c, p);
+        for r in 0..3 {
+            if r != c {
+                let f = a[r][c] / a[c][c];
+                for k in c..4 {
+                    a[r][k] -= f * a[c][k];
+                }
+            }
+        }
+    }
+    [a[0][3] / a[0][0], a[1][3] / a[1][1], a[2][3] / a[2][2]]
+}
+
+#[derive(Default)]
+struct Acc {
+    fit: Vec<f64>,
+    check: Vec<f64>,
+}
+
+/// The increments the library now gives a ring-fusion atom (ortho, meta,
+/// para): its `fusion` row, read from benzene.toml.
+fn fusion_in_library(predictor: &Predictor) -> [f64; 3] {
+    predictor
+        .library()
+        .benzene
+        .fusion
+        .unwrap_or([0.37, 0.20, 0.10])
+}
+
+fn mean(v: &[f64]) -> f64 {
+    v.iter().sum::<f64>() / v.len().max(1) as f64
+}
+
+fn main() {
+    let min_n: usize = std::env::args()
+        .nth(1)
+        .and_then(|a| a.parse().ok())
+        .unwrap_or(8);
+    let predictor = Predictor::embedded().unwrap();
+    let (done, skipped) = compare_all(&predictor, &cases());
+    let mut by_kind: BTreeMap<String, Acc> = BTreeMap::new();
+    // Fusion fit: (counts, residual + current fusion increments) per half.
+    let fusion_now = fusion_in_library(&predictor);
+    let (mut fusion_fit, mut fusion_check) = (Vec::new(), Vec::new());
+    // Extra-N fit per ring size 5 and 6: (counts, residual + current increments).
+    let mut extra: BTreeMap<usize, (Vec<([f64; 3], f64)>, Vec<([f64; 3], f64)>)> = BTreeMap::new();
+    let extra_now = |size: usize| {
+        predictor
+            .library()
+            .hetero
+            .extra_nitrogen
+            .iter()
+            .find(|x| x.0 == size)
+            .map(|x| x.1)
+            .unwrap_or([0.0; 3])
+    };
+    let (mut fit_all, mut check_all) = (Vec::new(), Vec::new());
+    for c in &done {
+        let aro = aromaticity::perceive(&c.molecule).atom;
+        for p in &c.pairs {
+            let atom = c.signals[p.signal].atoms[0];
+            let mut k = kind(&c.molecule, &aro, atom);
+            if p.dmso {
+                k.push_str(" (DMSO-d6)");
+            }
+            let r = p.observed - p.predicted;
+            if let Some(n) = fusion_counts(&c.molecule, &aro, atom) {
+                let now: f64 = (0..3).map(|i| n[i] * fusion_now[i]).sum();
+                let row = (n, r + now);
+                if c.case.id % 2 == 0 {
+                    fusion_fit.push(row);
+                } else {
+                    fusion_check.push(row);
+                }
+            }
+            if let Some((size, n)) = extra_nitrogen_counts(&c.molecule, &aro, atom) {
+                let now = extra_now(size);
+                let row = (n, r + (0..3).map(|i| n[i] * now[i]).sum::<f64>());
+                let e = extra.entry(size).or_default();
+                if c.case.id % 2 == 0 {
+                    e.0.push(row);
+                } else {
+                    e.1.push(row);
+                }
+            }
+            let acc = by_kind.entry(k).or_default();
+            if c.case.id % 2 == 0 {
+                acc.fit.push(r);
+                fit_all.push(r);
+            } else {
+                acc.check.push(r);
+                check_all.push(r);
+            }
+        }
+    }
+    println!(
+        "{} compounds ({} skipped); fit half {} H, check half {} H",
+        done.len(),
+        skipped.len(),
+        fit_all.len(),
+        check_all.len()
+    );
+    let abs = |v: &[f64]| mean(&v.iter().map(|r| r.abs()).collect::<Vec<_>>());
+    println!("MAE fit {:.3}, check {:.3}", abs(&fit_all), abs(&check_all));
+    let b = least_squares3(&fusion_fit);
+    let err = |rows: &[([f64; 3], f64)], b: [f64; 3]| {
+        mean(
+            &rows
+                .iter()
+                .map(|(n, y)| (y - (0..3).map(|i| n[i] * b[i]).sum::<f64>()).abs())
+                .collect::<Vec<_>>(),
+        )
+    };
+    println!(
+        "ring fusion (H on all-carbon aromatic six-rings, {} fit H, {} check H): now ortho {:+.2} meta {:+.2} para {:+.2}, MAE fit {:.3} check {:.3}; fitted ortho {:+.2} meta {:+.2} para {:+.2}, MAE fit {:.3} check {:.3}",
+        fusion_fit.len(),
+        fusion_check.len(),
+        fusion_now[0],
+        fusion_now[1],
+        fusion_now[2],
+        err(&fusion_fit, fusion_now),
+        err(&fusion_check, fusion_now),
+        b[0],
+        b[1],
+        b[2],
+        err(&fusion_fit, b),
+        err(&fusion_check, b)
+    );
+    for (size, (fit, check)) in &extra {
+        let now = extra_now(*size);
+        let b = least_squares3(fit);
+        println!(
+            "further pyridine-type N in {size}-rings ({} fit H, {} check H): now {:+.2} {:+.2} {:+.2}, MAE fit {:.3} check {:.3}; fitted {:+.2} {:+.2} {:+.2}, MAE fit {:.3} check {:.3}",
+            fit.len(),
+            check.len(),
+            now[0],
+            now[1],
+            now[2],
+            err(fit, now),
+            err(check, now),
+            b[0],
+            b[1],
+            b[2],
+            err(fit, b),
+            err(check, b)
+        );
+    }
+    let mut rows: Vec<(&String, &Acc)> = by_kind
+        .iter()
+        .filter(|(_, a)| a.fit.len() >= min_n)
+        .collect();
+    rows.sort_by(|a, b| {
+        let wa = a.1.fit.iter().map(|r| r.abs()).sum::<f64>();
+        let wb = b.1.fit.iter().map(|r| r.abs()).sum::<f64>();
+        wb.total_cmp(&wa)
+    });
+    println!(
+        "{:<40} {:>5} {:>7} {:>6} {:>6} | {:>5} {:>6} {:>9}",
+        "kind", "n fit", "mean", "MAE", "RMS", "n chk", "MAE", "corrected"
+    );
+    for (k, a) in rows {
+        let m = mean(&a.fit);
+        let rms = (a.fit.iter().map(|r| r * r).sum::<f64>() / a.fit.len() as f64).sqrt();
+        let corrected: Vec<f64> = a.check.iter().map(|r| r - m).collect();
+        println!(
+            "{:<40} {:>5} {:>+7.3} {:>6.3} {:>6.3} | {:>5} {:>6.3} {:>9.3}",
+            k,
+            a.fit.len(),
+            m,
+            abs(&a.fit),
+            rms,
+            a.check.len(),
+            abs(&a.check),
+            abs(&corrected)
+        );
+    }
+}

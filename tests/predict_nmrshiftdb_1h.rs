@@ -1,0 +1,102 @@
+//! The 1H predictor against measured spectra: every compound of the
+//! NMRShiftDB2 dev splits with a 1H list (tests/data/nmrshiftdb2-dev.toml and
+//! nmrshiftdb2-v2-dev.toml; Steinbeck, Krause & Kuhn, J. Chem. Inf. Comput.
+//! Sci. 2003, 43, 1733; values as deposited). Per compound the observed
+//! C-bound H, sorted by shift, are compared pair by pair with the predicted
+//! non-exchangeable H, sorted by shift (exchangeable H are left out: the
+//! lists hold only C-bound H). Printed: the mean absolute error over all H,
+//! over aromatic H and over the DMSO-d6 spectra, the share within 0.3 ppm,
+//! and the agreement of multiplicity labels on the compounds whose
+//! depositors gave them (a reported m agrees only with a predicted m, i.e.
+//! a pattern we do not call first order). Each figure is asserted as a
+//! floor, the value measured when the floor was last raised: the issue's
+//! goals are all-H 0.12 ppm, aromatic 0.15, DMSO-d6 0.20, 92% within 0.3
+//! and 80% label agreement.
+//!
+//! `NMRSHIFTDB_WORST=N` prints the N compounds with the largest mean error.
+
+#[path = "common/nmrshiftdb.rs"]
+mod nmrshiftdb;
+
+use isomerank::predict::Predictor;
+use nmrshiftdb::{cases, compare_all, labels_agree, mae, Pair};
+
+#[test]
+fn nmrshiftdb2_dev_1h_lists() {
+    let predictor = Predictor::embedded().unwrap();
+    let all = cases();
+    let (done, skipped) = compare_all(&predictor, &all);
+    for s in &skipped {
+        println!("skipped {}: {}", s.id, s.why);
+    }
+    let pairs: Vec<&Pair> = done.iter().flat_map(|c| c.pairs.iter()).collect();
+    let (all_h, n_all) = mae(&pairs, |_| true);
+    let (aromatic, n_aro) = mae(&pairs, |p| p.aromatic);
+    let (dmso, n_dmso) = mae(&pairs, |p| p.dmso);
+    let within = pairs
+        .iter()
+        .filter(|p| (p.observed - p.predicted).abs() <= 0.3)
+        .count() as f64
+        / n_all as f64;
+    let labels: Vec<_> = done.iter().flat_map(|c| c.labels.iter()).collect();
+    let agree = labels.iter().filter(|l| labels_agree(l)).count();
+    let labelled = done.iter().filter(|c| !c.labels.is_empty()).count();
+    let label_share = agree as f64 / labels.len() as f64;
+    println!(
+        "NMRShiftDB2 dev 1H: {} of {} compounds compared, {} H",
+        done.len(),
+        all.len(),
+        n_all
+    );
+    println!("  all-H mean absolute error {all_h:.3} ppm");
+    println!("  aromatic H {aromatic:.3} ppm ({n_aro} H)");
+    println!("  DMSO-d6 spectra {dmso:.3} ppm ({n_dmso} H)");
+    println!("  within 0.3 ppm {:.1}%", 100.0 * within);
+    println!(
+        "  multiplicity labels {agree}/{} = {:.1}% ({labelled} compounds)",
+        labels.len(),
+        100.0 * label_share
+    );
+    if let Some(n) = std::env::var("NMRSHIFTDB_WORST")
+        .ok()
+        .and_then(|v| v.parse::<usize>().ok())
+    {
+        let mut worst: Vec<(f64, &nmrshiftdb::Compared)> = done
+            .iter()
+            .map(|c| {
+                let e = c
+                    .pairs
+                    .iter()
+                    .map(|p| (p.observed - p.predicted).abs())
+                    .sum::<f64>()
+                    / c.pairs.len().max(1) as f64;
+                (e, c)
+            })
+            .collect();
+        worst.sort_by(|a, b| b.0.total_cmp(&a.0));
+        for (e, c) in worst.iter().take(n) {
+            println!("  {e:.2} {} {} {}", c.case.id, c.case.smiles, c.case.peaks);
+        }
+        let mut bad: Vec<_> = labels.iter().filter(|l| !labels_agree(l)).collect();
+        bad.sort_by(|a, b| (&a.predicted, &a.observed).cmp(&(&b.predicted, &b.observed)));
+        let mut counts: Vec<((String, String), usize)> = Vec::new();
+        for l in bad {
+            let k = (l.predicted.clone(), l.observed.clone());
+            match counts.last_mut() {
+                Some((last, n)) if *last == k => *n += 1,
+                _ => counts.push((k, 1)),
+            }
+        }
+        counts.sort_by(|a, b| b.1.cmp(&a.1));
+        for ((p, o), n) in counts.iter().take(20) {
+            println!("  label: predicted {p}, reported {o}: {n}");
+        }
+    }
+    // Floors: the figures measured when they were last set (see the header).
+    assert!(skipped.is_empty(), "{} skipped", skipped.len());
+    assert!(all_h <= 0.171, "all-H {all_h:.3}");
+    assert!(aromatic <= 0.200, "aromatic {aromatic:.3}");
+    assert!(dmso <= 0.330, "DMSO-d6 {dmso:.3}");
+    assert!(within >= 0.851, "within 0.3 ppm {within:.3}");
+    assert!(label_share >= 0.565, "labels {label_share:.3}");
+}
