@@ -11,9 +11,7 @@ use crate::predict::{PredictOptions, Predictor};
 use crate::rank::{self, Ranking, Settings, ShortlistItem};
 use crate::report::{self, Context, Source};
 use crate::score::ScoringModel;
-use crate::spectrum::{
-    carbon, file, integrals, journal, CarbonSpectrum, IntegralKind, SolventTable, Spectrum,
-};
+use crate::spectrum::{self, carbon, file, journal, CarbonSpectrum, SolventTable, Spectrum};
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use rayon::prelude::*;
 use std::collections::HashSet;
@@ -126,7 +124,7 @@ pub fn run(args: Args) -> Result<()> {
         (None, Some((_, c))) => Some(c),
         (None, None) => None,
     };
-    let (spectrum, carbon) = observed(raw, carbon_raw, &formula, &solvents)?;
+    let (spectrum, carbon) = spectrum::observed(raw, carbon_raw, &formula, &solvents)?;
     let job = Job {
         formula,
         spectrum,
@@ -143,38 +141,6 @@ pub fn run(args: Args) -> Result<()> {
     };
     let text = execute(&job, shortlist)?;
     print_all(&text)
-}
-
-/// The checked observed data: the 1H multiplets (an empty list when only 13C
-/// was given) and the 13C lines. At least one of the two is required.
-pub fn observed(
-    hydrogen: Option<journal::RawSpectrum>,
-    carbon_raw: Option<carbon::RawCarbon>,
-    formula: &Formula,
-    solvents: &SolventTable,
-) -> Result<(Spectrum, Option<CarbonSpectrum>)> {
-    let spectrum =
-        match hydrogen {
-            Some(raw) => integrals::build(raw, formula, solvents)?,
-            None if carbon_raw.is_some() => Spectrum {
-                frequency_mhz: None,
-                solvent: carbon_raw.as_ref().and_then(|c| c.solvent.clone()),
-                multiplets: Vec::new(),
-                integrals: IntegralKind::None,
-                notes: vec!["no 1H data: the ranking rests on the 13C list alone".to_string()],
-            },
-            None => return Err(Error::input(
-                "no observed data: give --peaks TEXT (1H), --carbon TEXT (13C) or --spectrum FILE",
-            )),
-        };
-    let default_solvent = spectrum
-        .solvent
-        .clone()
-        .unwrap_or_else(|| solvents.default_solvent().to_string());
-    let carbon = carbon_raw
-        .map(|c| carbon::build(c, formula, &default_solvent))
-        .transpose()?;
-    Ok((spectrum, carbon))
 }
 
 /// Check the options, rank, and render the report (nothing is printed here).

@@ -17,6 +17,8 @@ pub use carbon::{CarbonLine, CarbonSpectrum};
 pub use pattern::ObservedPattern;
 pub use solvent::{SolventPeak, SolventTable};
 
+use crate::chem::Formula;
+use crate::error::{Error, Result};
 use serde::Serialize;
 
 /// One observed multiplet.
@@ -95,4 +97,36 @@ impl Spectrum {
             .filter_map(|m| m.hydrogens)
             .sum()
     }
+}
+
+/// The checked observed data: the 1H multiplets (an empty list when only 13C
+/// was given) and the 13C lines. At least one of the two is required.
+pub fn observed(
+    hydrogen: Option<journal::RawSpectrum>,
+    carbon_raw: Option<carbon::RawCarbon>,
+    formula: &Formula,
+    solvents: &SolventTable,
+) -> Result<(Spectrum, Option<CarbonSpectrum>)> {
+    let spectrum =
+        match hydrogen {
+            Some(raw) => integrals::build(raw, formula, solvents)?,
+            None if carbon_raw.is_some() => Spectrum {
+                frequency_mhz: None,
+                solvent: carbon_raw.as_ref().and_then(|c| c.solvent.clone()),
+                multiplets: Vec::new(),
+                integrals: IntegralKind::None,
+                notes: vec!["no 1H data: the ranking rests on the 13C list alone".to_string()],
+            },
+            None => return Err(Error::input(
+                "no observed data: give --peaks TEXT (1H), --carbon TEXT (13C) or --spectrum FILE",
+            )),
+        };
+    let default_solvent = spectrum
+        .solvent
+        .clone()
+        .unwrap_or_else(|| solvents.default_solvent().to_string());
+    let carbon = carbon_raw
+        .map(|c| carbon::build(c, formula, &default_solvent))
+        .transpose()?;
+    Ok((spectrum, carbon))
 }

@@ -1,0 +1,196 @@
+//! The NMRShiftDB2 dev split (tests/data/nmrshiftdb2-v2-dev.toml; source,
+//! citation and derivation in its header): reading its cases and ranking one
+//! case with its 1H and 13C lists as a user would (`isomerank rank FORMULA
+//! --peaks ... --carbon ...`: every isomer, the default plausibility rules).
+//! Shared by `examples/rank_nmrshiftdb.rs` (the full run) and
+//! `tests/rank_nmrshiftdb.rs` (a fixed sample), which include this file by
+//! path.
+#![allow(dead_code)]
+
+use isomerank::chem::smiles::{canonical_smiles, parse_smiles};
+use isomerank::chem::{Element, Formula};
+use isomerank::enumerate::{self, rules::RuleSet};
+use isomerank::predict::Predictor;
+use isomerank::rank::{self, Settings};
+use isomerank::score::ScoringModel;
+use isomerank::spectrum::observed;
+use isomerank::spectrum::{carbon, journal, SolventTable};
+use serde::Deserialize;
+use std::path::PathBuf;
+use std::time::Instant;
+
+/// One case of the dev split (the fields this harness reads).
+#[derive(Clone, Debug, Deserialize)]
+pub struct Case {
+    pub id: u64,
+    pub formula: String,
+    pub smiles: String,
+    pub heavy_atoms: u32,
+    pub solvent: String,
+    /// The 1H list in journal style ("" for a 13C-only case).
+    pub peaks: String,
+    /// The 13C list in journal style with H counts.
+    pub carbon: String,
+    #[serde(default)]
+    pub mhz: Option<f64>,
+}
+
+#[derive(Deserialize)]
+struct File {
+    case: Vec<Case>,
+}
+
+/// Every case of the dev split.
+pub fn cases() -> Vec<Case> {
+    let path = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/data/nmrshiftdb2-v2-dev.toml");
+    let text =
+        std::fs::read_to_string(&path).unwrap_or_else(|e| panic!("read {}: {e}", path.display()));
+    let f: File = toml::from_str(&text).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
+    f.case
+}
+
+/// Where a case's true structure landed.
+#[derive(Clone, Debug)]
+pub struct Outcome {
+    pub id: u64,
+    pub formula: String,
+    pub heavy_atoms: u32,
+    /// 1-based position of the true structure (None: beyond the table).
+    pub position: Option<usize>,
+    /// Candidates considered (after the plausibility rules).
+    pub considered: u64,
+    pub seconds: f64,
+    pub first: String,
+    pub first_cost: f64,
+    pub true_cost: Option<f64>,
+    /// Why the case could not be ranked (an input the tool refuses).
+    pub refused: Option<String>,
+}
+
+impl Outcome {
+    pub fn line(&self, smiles: &str) -> String {
+        match &self.refused {
+            Some(why) => format!("{:>9} {:<12} refused: {why}", self.id, self.formula),
+            None => format!(
+                "{:>9} {:<12} {:>8} candidates {:>6.2} s  position {:<4} {}{}",
+                self.id,
+                self.formula,
+                self.considered,
+                self.seconds,
+                self.position
+                    .map(|p| p.to_string())
+                    .unwrap_or_else(|| ">top".into()),
+                smiles,
+                if self.position == Some(1) {
+                    String::new()
+                } else {
+                    format!(
+                        "  (first {} {:.2}, truth {})",
+                        self.first,
+                        self.first_cost,
+                        self.true_cost
+                            .map(|c| format!("{c:.2}"))
+                            .unwrap_or_else(|| "-".into())
+                    )
+                },
+            ),
+        }
+    }
+}
+
+/// Rank every isomer of the case's formula against its 1H list (when it has
+/// one) and its 13C list, keeping `top` candidates.
+pub fn rank_case(case: &Case, predictor: &Predictor, model: &ScoringModel, top: usize) -> Outcome {
+    let start = Instant::now();
+    let formula = Formula::parse(&case.formula).expect("formula of the data file");
+    let answer = parse_smiles(&case.smiles).expect("SMILES of the data file");
+    let want = canonical_smiles(&answer);
+    let refused = |why: String| Outcome {
+        id: case.id,
+        formula: case.formula.clone(),
+        heavy_atoms: case.heavy_atoms,
+        position: None,
+        considered: 0,
+        seconds: 0.0,
+        first: String::new(),
+        first_cost: f64::NAN,
+        true_cost: None,
+        refused: Some(why),
+    };
+    let hydrogen = if case.peaks.is_empty() {
+        None
+    } else {
+        match journal::parse(&case.peaks) {
+            Ok(r) => Some(r),
+            Err(e) => return refused(format!("1H: {e}")),
+        }
+    };
+    let carbon_raw = match carbon::parse(&case.carbon) {
+        Ok(c) => c,
+        Err(e) => return refused(format!("13C: {e}")),
+    };
+    let (spectrum, carbon) = match observed(
+        hydrogen,
+        Some(carbon_raw),
+        &formula,
+        &SolventTable::embedded(),
+    ) {
+        Ok(x) => x,
+        Err(e) => return refused(e.to_string()),
+    };
+    let solvent = spectrum.solvent.clone().unwrap_or_else(|| "CDCl3".into());
+    let mhz = spectrum.frequency_mhz.unwrap_or(400.0);
+    let mut opts = predictor
+        .options(&solvent, mhz)
+        .or_else(|_| predictor.options("CDCl3", mhz))
+        .expect("CDCl3 is in the library");
+    opts.notes = false;
+    opts.carbon = true;
+    let settings = Settings {
+        spectrum: &spectrum,
+        carbon: carbon.as_ref(),
+        model,
+        top,
+    };
+    let options = enumerate::Options {
+        rules: RuleSet::all(),
+        expanded_valence: formula.count(Element::S) + formula.count(Element::P) > 0,
+        ..Default::default()
+    };
+    let r = rank::with_standard_steps(predictor, &opts, |steps| {
+        rank::rank_formula(&formula, &options, steps, &settings, &mut |_, _| {})
+    });
+    let r = match r {
+        Ok(r) => r,
+        Err(e) => return refused(e.to_string()),
+    };
+    let position = r
+        .candidates
+        .iter()
+        .position(|x| x.smiles == want)
+        .map(|p| p + 1);
+    Outcome {
+        id: case.id,
+        formula: case.formula.clone(),
+        heavy_atoms: case.heavy_atoms,
+        position,
+        considered: r.considered,
+        seconds: start.elapsed().as_secs_f64(),
+        first: r.candidates[0].smiles.clone(),
+        first_cost: r.candidates[0].cost,
+        true_cost: position.map(|p| r.candidates[p - 1].cost),
+        refused: None,
+    }
+}
+
+/// top-1, top-3 and top-10 counts over ranked (not refused) outcomes.
+pub fn summary(outcomes: &[Outcome]) -> (usize, usize, usize, usize) {
+    let ranked: Vec<&Outcome> = outcomes.iter().filter(|o| o.refused.is_none()).collect();
+    let within = |k: usize| {
+        ranked
+            .iter()
+            .filter(|o| o.position.is_some_and(|p| p <= k))
+            .count()
+    };
+    (ranked.len(), within(1), within(3), within(10))
+}
