@@ -318,6 +318,13 @@ fn classify(w: &str) -> Option<Word> {
         // `1.5`, `3J`: not a count; a J value is handled before this.
         return None;
     }
+    // `CH5`, `CH0`: meant as an H count but not one.
+    if w
+        .strip_prefix("CH")
+        .is_some_and(|r| !r.is_empty() && r.chars().all(|c| c.is_ascii_digit()))
+    {
+        return None;
+    }
     if w.chars().next().is_some_and(|c| c.is_alphabetic()) {
         return Some(Word::Label);
     }
