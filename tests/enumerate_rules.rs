@@ -12,12 +12,15 @@ mod common;
 use common::{canonical, isomers_ok, run_reference_script};
 use std::collections::{BTreeMap, BTreeSet};
 
-const RULES: [&str; 5] = [
+const RULES: [&str; 8] = [
     "small-ring-triple",
     "small-ring-cumulated",
     "bredt",
     "enol",
     "peroxide",
+    "hydrate",
+    "iminol",
+    "hypohalite",
 ];
 
 #[derive(serde::Deserialize)]
@@ -38,9 +41,11 @@ fn removed_by(formula: &str, full: &[&str], rule: &str) -> BTreeSet<usize> {
 #[test]
 fn each_rule_removes_exactly_what_an_independent_check_flags() {
     // Formulas with small rings, bridged polycycles, triple bonds, allenes,
-    // enols, phenols, hydroxy heteroarenes and O-O bonds among their isomers.
+    // enols, phenols, hydroxy heteroarenes, O-O bonds, carbonyl hydrates
+    // and adducts, imidic acids, thiols on C=C and C=N, hypohalites among
+    // their isomers.
     let formulas = [
-        "C6H6O", "C7H8O", "C6H6O2", "C8H10", "C6H8O2", "C7H10", "C5H5NO",
+        "C6H6O", "C7H8O", "C6H6O2", "C8H10", "C6H8O2", "C7H10", "C5H5NO", "C3H5ClO", "C3H5NOS",
     ];
     let mut failures = Vec::new();
     let mut seen = BTreeMap::new();
@@ -116,4 +121,22 @@ fn common_practice_cases() {
     // Peroxides.
     assert!(!keeps("C2H6O2", "peroxide", "COOC"));
     assert!(keeps("C2H6O2", "peroxide", "OCCO"));
+    // Carbonyl hydrates and adducts: propane-1,1-diol, 1-chloroethanol and
+    // 1-methoxyethanol give way to the carbonyl compound; a glycol, a
+    // cyclic hemiacetal (tetrahydropyran-2-ol, a lactol) and an ester stay.
+    assert!(!keeps("C3H8O2", "hydrate", "CCC(O)O"));
+    assert!(!keeps("C2H5ClO", "hydrate", "CC(O)Cl"));
+    assert!(!keeps("C3H8O2", "hydrate", "CC(O)OC"));
+    assert!(keeps("C3H8O2", "hydrate", "OCCCO"));
+    assert!(keeps("C5H10O2", "hydrate", "OC1CCCCO1"));
+    assert!(keeps("C3H6O2", "hydrate", "CC(=O)OC"));
+    // Imidic acid against acetamide; thioenol against thioacetaldehyde's
+    // enethiol partner; 2-hydroxypyridine is aromatic and stays.
+    assert!(!keeps("C2H5NO", "iminol", "CC(O)=N"));
+    assert!(keeps("C2H5NO", "iminol", "CC(N)=O"));
+    assert!(!keeps("C2H4S", "iminol", "C=CS"));
+    assert!(keeps("C5H5NO", "iminol", "Oc1ccccn1"));
+    // Hypohalites: ethyl hypochlorite goes, chloromethyl methyl ether stays.
+    assert!(!keeps("C2H5ClO", "hypohalite", "CCOCl"));
+    assert!(keeps("C2H5ClO", "hypohalite", "COCCl"));
 }

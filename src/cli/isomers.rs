@@ -15,7 +15,7 @@ use std::io::Write;
   isomerank isomers C6H10O --plausible=enol,peroxide
 
 Plausibility rules (the number each flags goes to stderr):
-  small-ring-triple, small-ring-cumulated, bredt, enol, peroxide")]
+  small-ring-triple, small-ring-cumulated, bredt, enol, peroxide, hydrate, iminol, hypohalite")]
 pub struct Args {
     /// Molecular formula, e.g. C8H10O or BrC3H7 (any element order).
     pub formula: String,

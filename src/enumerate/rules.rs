@@ -23,15 +23,21 @@ pub enum Rule {
     Bredt,
     Enol,
     Peroxide,
+    Hydrate,
+    Iminol,
+    Hypohalite,
 }
 
 impl Rule {
-    pub const ALL: [Rule; 5] = [
+    pub const ALL: [Rule; 8] = [
         Rule::SmallRingTriple,
         Rule::SmallRingCumulated,
         Rule::Bredt,
         Rule::Enol,
         Rule::Peroxide,
+        Rule::Hydrate,
+        Rule::Iminol,
+        Rule::Hypohalite,
     ];
 
     pub fn name(self) -> &'static str {
@@ -41,6 +47,9 @@ impl Rule {
             Rule::Bredt => "bredt",
             Rule::Enol => "enol",
             Rule::Peroxide => "peroxide",
+            Rule::Hydrate => "hydrate",
+            Rule::Iminol => "iminol",
+            Rule::Hypohalite => "hypohalite",
         }
     }
 
@@ -66,6 +75,22 @@ impl Rule {
             }
             Rule::Peroxide => {
                 "no O-O bond: peroxides are rare, unstable and hazardous as unknowns (common practice)"
+            }
+            Rule::Hydrate => {
+                "no carbonyl hydrate or adduct at an sp3 carbon: two OH, an OH and a halogen, or \
+                 (off any ring) an OH and an O, N or S on one carbon lose water, HX or an alcohol \
+                 to give the carbonyl compound, which is enumerated; cyclic hemiacetals (sugars, \
+                 lactols) are kept (common practice)"
+            }
+            Rule::Iminol => {
+                "no imidic acid or thiol tautomer: OH or SH on a non-aromatic C=N carbon, or SH on \
+                 a non-aromatic C=C or C#C carbon, tautomerises to the amide, thioamide or \
+                 thiocarbonyl compound, which is enumerated; hydroxy- and mercapto-azines and \
+                 azoles are aromatic and kept (common practice)"
+            }
+            Rule::Hypohalite => {
+                "no O-halogen bond: hypohalites and their esters are unstable oxidants, not \
+                 isolable unknowns (common practice)"
             }
         }
     }
@@ -182,6 +207,9 @@ impl Checker {
             Rule::Bredt => self.bredt(iso),
             Rule::Enol => self.enol(iso),
             Rule::Peroxide => peroxide(iso),
+            Rule::Hydrate => self.hydrate(iso),
+            Rule::Iminol => self.iminol(iso),
+            Rule::Hypohalite => hypohalite(iso),
         }
     }
 
@@ -249,31 +277,33 @@ impl Checker {
     /// carbon is aromatic (a phenol or a hydroxy heteroarene is no enol).
     fn enol(&mut self, iso: &Isomer) -> bool {
         let adj = &iso.node.g.adj;
-        let mut enol_carbons = 0u64;
-        for o in 0..iso.atoms() {
-            if iso.element(o) != Element::O || iso.hydrogens(o) != 1 {
-                continue;
-            }
-            for c in bits(iso.node.nb[o]) {
-                let multiple = (adj[1][c] | adj[2][c]) & !(1u64 << o);
-                if iso.element(c) == Element::C
-                    && bits(multiple).any(|y| iso.element(y) == Element::C)
-                {
-                    enol_carbons |= 1u64 << c;
-                }
-            }
-        }
-        if enol_carbons == 0 {
+        let carbons = tautomer_carbons(iso, Element::O, |y| (adj[1][y] | adj[2][y], Element::C));
+        self.any_not_aromatic(iso, carbons)
+    }
+
+    /// OH or SH on a carbon with a double bond to N, or SH on a carbon with
+    /// a double or triple bond to carbon, unless that carbon is aromatic.
+    fn iminol(&mut self, iso: &Isomer) -> bool {
+        let adj = &iso.node.g.adj;
+        let carbons = tautomer_carbons(iso, Element::O, |y| (adj[1][y], Element::N))
+            | tautomer_carbons(iso, Element::S, |y| (adj[1][y], Element::N))
+            | tautomer_carbons(iso, Element::S, |y| (adj[1][y] | adj[2][y], Element::C));
+        self.any_not_aromatic(iso, carbons)
+    }
+
+    /// Whether some atom of `carbons` is not aromatic. Only a ring atom can
+    /// be aromatic, so aromaticity is perceived only when one is on a ring.
+    fn any_not_aromatic(&mut self, iso: &Isomer, carbons: u64) -> bool {
+        if carbons == 0 {
             return false;
         }
-        // Only a ring atom can be aromatic: perceive aromaticity only then.
         let mut on_ring = 0u64;
-        for c in bits(enol_carbons) {
+        for c in bits(carbons) {
             if self.rings_of(iso, c).0 != 0 {
                 on_ring |= 1u64 << c;
             }
         }
-        if on_ring == 0 {
+        if on_ring != carbons {
             return true;
         }
         // Ring bonds depend on the skeleton alone (as in the SMILES writer).
@@ -282,8 +312,61 @@ impl Checker {
         }
         self.perceiver
             .perceive(&self.flat, &mut self.rings, &mut self.aromatic);
-        bits(enol_carbons).any(|c| !self.aromatic.atom[c])
+        bits(carbons).any(|c| !self.aromatic.atom[c])
     }
+
+    /// An sp3 carbon with two OH, an OH and a halogen, or, when the carbon
+    /// is on no ring, an OH and another O, N or S.
+    fn hydrate(&mut self, iso: &Isomer) -> bool {
+        let adj = &iso.node.g.adj;
+        for c in 0..iso.atoms() {
+            if iso.element(c) != Element::C || adj[1][c] | adj[2][c] != 0 {
+                continue;
+            }
+            let (mut oh, mut halogen, mut hetero) = (0, 0, 0);
+            for y in bits(iso.node.nb[c]) {
+                match iso.element(y) {
+                    Element::O if iso.hydrogens(y) == 1 => oh += 1,
+                    Element::F | Element::Cl | Element::Br | Element::I => halogen += 1,
+                    Element::O | Element::N | Element::S => hetero += 1,
+                    _ => {}
+                }
+            }
+            if oh >= 2
+                || oh >= 1 && halogen >= 1
+                || oh >= 1 && hetero >= 1 && self.rings_of(iso, c).0 == 0
+            {
+                return true;
+            }
+        }
+        false
+    }
+}
+
+/// The carbons that carry an X-H group (X = `hetero` with one H) and have a
+/// multiple bond to an atom of the element the closure names: `multiple(c)`
+/// gives c's neighbours over the bonds in question and that element.
+fn tautomer_carbons(
+    iso: &Isomer,
+    hetero: Element,
+    multiple: impl Fn(usize) -> (u64, Element),
+) -> u64 {
+    let mut out = 0u64;
+    for x in 0..iso.atoms() {
+        if iso.element(x) != hetero || iso.hydrogens(x) != 1 {
+            continue;
+        }
+        for c in bits(iso.node.nb[x]) {
+            if iso.element(c) != Element::C {
+                continue;
+            }
+            let (partners, element) = multiple(c);
+            if bits(partners & !(1u64 << x)).any(|y| iso.element(y) == element) {
+                out |= 1u64 << c;
+            }
+        }
+    }
+    out
 }
 
 /// Whether atom `x` is a bridgehead of a bridged bicyclic system with fewer
@@ -369,4 +452,12 @@ fn bonds<'a>(iso: &'a Isomer<'a>) -> impl Iterator<Item = (usize, usize, u8)> + 
 
 fn peroxide(iso: &Isomer) -> bool {
     bonds(iso).any(|(a, b, _)| iso.element(a) == Element::O && iso.element(b) == Element::O)
+}
+
+fn hypohalite(iso: &Isomer) -> bool {
+    let halogen = |e: Element| matches!(e, Element::F | Element::Cl | Element::Br | Element::I);
+    bonds(iso).any(|(a, b, _)| {
+        let (x, y) = (iso.element(a), iso.element(b));
+        x == Element::O && halogen(y) || y == Element::O && halogen(x)
+    })
 }

@@ -319,8 +319,7 @@ fn classify(w: &str) -> Option<Word> {
         return None;
     }
     // `CH5`, `CH0`: meant as an H count but not one.
-    if w
-        .strip_prefix("CH")
+    if w.strip_prefix("CH")
         .is_some_and(|r| !r.is_empty() && r.chars().all(|c| c.is_ascii_digit()))
     {
         return None;

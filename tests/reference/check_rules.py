@@ -21,7 +21,13 @@ README states them:
 - enol: OH on a carbon that has a double or triple bond to carbon and is
   not aromatic (RDKit's aromaticity of the parsed SMILES): a phenol is not
   an enol;
-- peroxide: an O-O bond.
+- peroxide: an O-O bond;
+- hydrate: a carbon with four single bonds carrying two OH, or an OH and a
+  halogen, or (when RDKit puts the carbon in no ring) an OH and another O,
+  N or S neighbour;
+- iminol: OH or SH on a non-aromatic carbon with a double bond to N, or SH
+  on a non-aromatic carbon with a double or triple bond to carbon;
+- hypohalite: a bond between O and F, Cl, Br or I.
 
 The input is read as Kekule structures (aromatic SMILES are kekulized by
 RDKit's parser), so double bonds are those of one Kekule form, as the
@@ -139,12 +145,68 @@ def bredt(mol, aromatic):
     return False
 
 
+HALOGENS = ("F", "Cl", "Br", "I")
+
+
+def hydrate(mol, aromatic):
+    for c in mol.GetAtoms():
+        if c.GetSymbol() != "C":
+            continue
+        if any(b.GetBondType() != Chem.BondType.SINGLE for b in c.GetBonds()):
+            continue
+        oh = halogen = hetero = 0
+        for y in c.GetNeighbors():
+            if y.GetSymbol() == "O" and y.GetTotalNumHs() == 1:
+                oh += 1
+            elif y.GetSymbol() in HALOGENS:
+                halogen += 1
+            elif y.GetSymbol() in ("O", "N", "S"):
+                hetero += 1
+        if oh >= 2 or (oh and halogen) or (oh and hetero and not c.IsInRing()):
+            return True
+    return False
+
+
+def iminol(mol, aromatic):
+    for x in mol.GetAtoms():
+        if x.GetSymbol() not in ("O", "S") or x.GetTotalNumHs() != 1:
+            continue
+        for c in x.GetNeighbors():
+            if c.GetSymbol() != "C" or c.GetIdx() in aromatic:
+                continue
+            for b in c.GetBonds():
+                y = b.GetOtherAtom(c)
+                if y.GetIdx() == x.GetIdx():
+                    continue
+                kind = b.GetBondType()
+                if kind == Chem.BondType.DOUBLE and y.GetSymbol() == "N":
+                    return True
+                if (
+                    x.GetSymbol() == "S"
+                    and y.GetSymbol() == "C"
+                    and kind in (Chem.BondType.DOUBLE, Chem.BondType.TRIPLE)
+                ):
+                    return True
+    return False
+
+
+def hypohalite(mol, aromatic):
+    for b in mol.GetBonds():
+        ends = {b.GetBeginAtom().GetSymbol(), b.GetEndAtom().GetSymbol()}
+        if "O" in ends and ends & set(HALOGENS):
+            return True
+    return False
+
+
 RULES = {
     "small-ring-triple": small_ring_triple,
     "small-ring-cumulated": small_ring_cumulated,
     "bredt": bredt,
     "enol": enol,
     "peroxide": peroxide,
+    "hydrate": hydrate,
+    "iminol": iminol,
+    "hypohalite": hypohalite,
 }
 
 
