@@ -128,6 +128,9 @@ pub struct CarbonTable {
     pub inc: Vec<[f64; DIST]>,
     /// Correction per centre class and smallest ring size (index 3-8).
     pub ring: [[f64; 9]; NC],
+    /// Increment per two-bond path centre-via-atom (beta atom seen through
+    /// its alpha atom and the bond to it), indexed by [`pair_index`].
+    pub pair: Vec<f64>,
     by_family_h: [[u8; 5]; FAMILIES.len()],
 }
 
@@ -135,6 +138,11 @@ impl CarbonTable {
     #[inline]
     fn inc(&self, centre: u8, ty: u8) -> &[f64; DIST] {
         &self.inc[centre as usize * NT + ty as usize]
+    }
+
+    #[inline]
+    fn pair(&self, centre: u8, via: u8, multiple: bool, ty: u8) -> f64 {
+        self.pair[pair_index(centre as usize, via as usize, multiple, ty as usize)]
     }
 }
 
@@ -374,23 +382,10 @@ impl<'a> CarbonCtx<'a> {
         let v = self.v;
         let centre = self.t.centre_class(v, c);
         let (mut s, sigma) = self.t.base[centre as usize];
-        let mut seen = 1u64 << c;
-        let mut front = seen;
-        for d in 0..DIST {
-            let mut next = 0u64;
-            for x in bits(front) {
-                next |= v.adj[x];
-            }
-            next &= !seen;
-            if next == 0 {
-                break;
-            }
-            seen |= next;
-            for y in bits(next) {
-                s += self.t.inc(centre, self.types[y])[d];
-            }
-            front = next;
-        }
+        walk(v, c, |d, y| s += self.t.inc(centre, self.types[y])[d]);
+        paths(v, c, |x, multiple, y| {
+            s += self.t.pair(centre, self.types[x], multiple, self.types[y]);
+        });
         let ring = v.ring_size[c] as usize;
         if ring < 9 {
             s += self.t.ring[centre as usize][ring];
@@ -446,9 +441,92 @@ impl<'a> CarbonCtx<'a> {
     }
 }
 
-/// 13C shifts are reported to 0.1 ppm.
+/// Call `f(d, atom)` for every atom at distance d + 1 (d = 0..DIST) from
+/// `c` along shortest paths, breadth first over neighbour bitsets.
+#[inline]
+fn walk(v: &View, c: usize, mut f: impl FnMut(usize, usize)) {
+    let mut seen = 1u64 << c;
+    let mut front = seen;
+    for d in 0..DIST {
+        let mut next = 0u64;
+        for x in bits(front) {
+            next |= v.adj[x];
+        }
+        next &= !seen;
+        if next == 0 {
+            break;
+        }
+        seen |= next;
+        for y in bits(next) {
+            f(d, y);
+        }
+        front = next;
+    }
+}
+
+/// Index of a path term in [`CarbonTable::pair`].
+#[inline]
+fn pair_index(centre: usize, via: usize, multiple: bool, ty: usize) -> usize {
+    ((centre * 2 + multiple as usize) * NT + via) * NT + ty
+}
+
+/// Call `f(x, multiple, y)` for every path c-x-y to an atom y two bonds
+/// from `c` (shortest distance 2): x an alpha atom, `multiple` whether the
+/// c-x bond is double, triple or aromatic. Every such path counts, so the
+/// sum does not depend on the atom order.
+#[inline]
+fn paths(v: &View, c: usize, mut f: impl FnMut(usize, bool, usize)) {
+    let alpha = v.adj[c];
+    let mut beta = 0u64;
+    for x in bits(alpha) {
+        beta |= v.adj[x];
+    }
+    beta &= !alpha & !(1u64 << c);
+    for k in 0..v.deg[c] as usize {
+        let x = v.nbr[c][k] as usize;
+        let multiple = v.bond[c][k] != super::view::SINGLE;
+        for y in bits(v.adj[x] & beta) {
+            f(x, multiple, y);
+        }
+    }
+}
+
+/// The terms [`CarbonCtx::shift`] sums for carbon `c`, by name: its centre
+/// class, its smallest ring (0 none), and (atom type, distance 1-4) for
+/// every atom within four bonds. For the fitting script
+/// (`examples/carbon_fit_data.rs`).
+pub fn environment(t: &CarbonTable, v: &View, c: usize) -> Environment {
+    let name = |a: usize| ATOM_TYPES[atom_type(v, a) as usize];
+    let mut terms = Vec::new();
+    walk(v, c, |d, y| terms.push((name(y), d as u8 + 1)));
+    let mut path_terms = Vec::new();
+    paths(v, c, |x, multiple, y| {
+        path_terms.push((name(x), multiple, name(y)))
+    });
+    Environment {
+        centre: CENTRES[t.centre_class(v, c) as usize].0,
+        ring: v.ring_size[c],
+        terms,
+        paths: path_terms,
+    }
+}
+
+/// What [`environment`] lists.
+pub struct Environment {
+    pub centre: &'static str,
+    pub ring: u8,
+    /// (atom type, distance 1-4)
+    pub terms: Vec<(&'static str, u8)>,
+    /// (alpha atom type, c-alpha bond multiple, beta atom type)
+    pub paths: Vec<(&'static str, bool, &'static str)>,
+}
+
+/// 13C shifts are reported to 0.1 ppm. The sum is first snapped to 1e-6
+/// ppm so that the order of the additions (which follows the atom and
+/// neighbour order) cannot move a value across a rounding boundary.
 fn round1(x: f64) -> f64 {
-    (x * 10.0).round() / 10.0
+    let snapped = (x * 1e6).round() / 1e6;
+    (snapped * 10.0).round() / 10.0
 }
 
 // ---- the tables' file schema (fragment-library/carbon-*.toml) ----
@@ -471,6 +549,22 @@ struct CarbonFile {
     increment: Vec<IncrementRow>,
     #[serde(default)]
     ring: Vec<RingRow>,
+    #[serde(default)]
+    pair: Vec<PairRow>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct PairRow {
+    centre: String,
+    /// The alpha atom's type and its bond to the centre ("single" or
+    /// "multiple": double, triple or aromatic).
+    via: String,
+    bond: String,
+    /// The beta atom's type.
+    neighbour: String,
+    increment: f64,
+    source: String,
 }
 
 #[derive(Deserialize)]
@@ -539,6 +633,7 @@ pub(crate) fn load(files: &[(&str, String)]) -> Result<CarbonTable> {
     let mut base: Vec<(Key, (f64, f64))> = Vec::new();
     let mut inc: Vec<Vec<(Key, [f64; DIST])>> = vec![Vec::new(); NT];
     let mut ring: Vec<Vec<(Key, f64)>> = vec![Vec::new(); 9];
+    let mut pair: Vec<(Key, usize, f64)> = Vec::new();
     for (file, text) in files {
         let f: CarbonFile = toml::from_str(text)
             .map_err(|e| Error::input(format!("fragment library {file}: {e}")))?;
@@ -591,13 +686,59 @@ pub(crate) fn load(files: &[(&str, String)]) -> Result<CarbonTable> {
             }
             ring[row.size].push((k, row.correction));
         }
+        for row in &f.pair {
+            let entry = format!(
+                "pair {} {} ({}) {}",
+                row.centre, row.via, row.bond, row.neighbour
+            );
+            need_source(file, &entry, &row.source)?;
+            let k = key(file, &row.centre)?;
+            let known = || {
+                Error::input(format!(
+                    "fragment library {file}: {entry}: unknown atom type (known: {})",
+                    ATOM_TYPES.join(", ")
+                ))
+            };
+            let via = type_index(&row.via).ok_or_else(known)?;
+            let ty = type_index(&row.neighbour).ok_or_else(known)?;
+            let multiple = match row.bond.as_str() {
+                "single" => false,
+                "multiple" => true,
+                other => {
+                    return Err(Error::input(format!(
+                        "fragment library {file}: {entry}: bond \"{other}\" (single or multiple)"
+                    )))
+                }
+            };
+            let slot = pair_index(0, via, multiple, ty);
+            if pair.iter().any(|&(x, i, _)| x == k && i == slot) {
+                return Err(twice(file, &entry));
+            }
+            pair.push((k, slot, row.increment));
+        }
     }
     let mut t = CarbonTable {
         base: [(0.0, 1.0); NC],
         inc: vec![[0.0; DIST]; NC * NT],
         ring: [[0.0; 9]; NC],
+        pair: vec![0.0; NC * 2 * NT * NT],
         by_family_h: centre_by_family_h(),
     };
+    // Path rows: the class's own, else its family's.
+    let stride = 2 * NT * NT;
+    for c in 0..NC {
+        let fam = family_index(CENTRES[c].1).expect("family listed");
+        for &(k, slot, x) in &pair {
+            if k == Key::Family(fam) {
+                t.pair[c * stride + slot] = x;
+            }
+        }
+        for &(k, slot, x) in &pair {
+            if k == Key::Class(c) {
+                t.pair[c * stride + slot] = x;
+            }
+        }
+    }
     for c in 0..NC {
         t.base[c] = resolve(&base, c).ok_or_else(|| {
             Error::input(format!(

@@ -1,0 +1,388 @@
+#!/usr/bin/env python3
+"""Refit the 13C increment tables (fragment-library/carbon-*.toml) on the
+NMRShiftDB2 v2 dev split.
+
+Input: the terms the predictor sums per carbon symmetry class, as written by
+
+    cargo run --release --example carbon_fit_data > /tmp/carbon-terms.jsonl
+
+Model (the predictor's, src/predict/carbon.rs): shift = base[centre class]
++ sum over atoms within four bonds of inc[family or class][atom type][distance]
++ sum over two-bond paths of pair[family][alpha type, bond][beta type]
++ ring[family][smallest ring size]. It is linear in the table values, so the
+fit is least squares with three refinements:
+
+* assignment: the data give no atom assignment, only shifts with H counts;
+  within each H count, predicted carbons and observed entries (both expanded
+  by their carbon counts) are paired in sorted order, starting from the
+  current tables' predictions, and the pairing is redone after each fit
+  (a fixed number of rounds);
+* ridge: a small penalty on family increments and ring corrections, a larger
+  one on class-specific deviations (a class row exists only where its data
+  ask for one), so that rare terms shrink towards zero / the family value;
+* path terms: an increment per two-bond path centre-alpha-beta (by the
+  alpha atom's type, whether its bond to the centre is multiple, and the
+  beta atom's type), so that a substituent on the neighbouring ring or
+  double-bond carbon differs from the second atom of a substituent;
+* Huber weights (IRLS, k = HUBER ppm) so that a few wrong deposits do not
+  drag the tables.
+
+Sigma per centre class: the root mean square residual of that class (the
+scorer reads sigma as the typical error).
+
+Usage:
+    python3 scripts/fit_carbon.py TERMS.jsonl --validate   # fit even ids, measure odd (and back)
+    python3 scripts/fit_carbon.py TERMS.jsonl --write      # fit all, write the TOML files
+
+Needs numpy. Deterministic (no random numbers).
+"""
+import json
+import sys
+import tomllib
+from collections import defaultdict
+
+import numpy as np
+
+ROUNDS = 6
+HUBER = 4.0
+RIDGE_FAMILY = 2.0
+RIDGE_CLASS = 40.0
+RIDGE_BASE = 1e-3
+RIDGE_PAIR = 10.0
+MIN_PAIR_ROWS = 10
+MIN_CLASS_ROWS = 30  # class-specific increment rows need this many carbons
+MIN_FAMILY_ROWS = 3
+
+LIB = "fragment-library"
+FILES = {
+    "sp3": "carbon-sp3.toml",
+    "alkene": "carbon-alkene.toml",
+    "cumulene": "carbon-special.toml",
+    "aro6": "carbon-benzene.toml",
+    "aro5": "carbon-heteroaromatic.toml",
+    "carbonyl": "carbon-special.toml",
+    "imine": "carbon-special.toml",
+    "thione": "carbon-special.toml",
+    "nitrile": "carbon-special.toml",
+    "alkyne": "carbon-special.toml",
+    "other": "carbon-special.toml",
+}
+HETERO_TYPES = {"N.ar", "N.ar3", "O.ar", "S.ar"}
+
+
+def family(centre):
+    return centre.split(".")[0]
+
+
+def load(path):
+    out = []
+    with open(path) as f:
+        for line in f:
+            out.append(json.loads(line))
+    return out
+
+
+class Model:
+    """Parameter index: ('base', class), ('fam', fam, type, d), ('cls', class, type, d),
+    ('ring', fam, size)."""
+
+    def __init__(self):
+        self.index = {}
+        self.names = []
+
+    def col(self, key):
+        i = self.index.get(key)
+        if i is None:
+            i = len(self.names)
+            self.index[key] = i
+            self.names.append(key)
+        return i
+
+    def row(self, cls, add=True):
+        """Columns of one class (list of (col, value))."""
+        cols = defaultdict(float)
+        get = self.col if add else self.index.get
+        fam = family(cls["centre"])
+        c = get(("base", cls["centre"]))
+        if c is not None:
+            cols[c] += 1.0
+        for t, d in cls["terms"]:
+            for key in (("fam", fam, t, d), ("cls", cls["centre"], t, d)):
+                c = get(key)
+                if c is not None:
+                    cols[c] += 1.0
+        for via, multiple, t in cls.get("paths", []):
+            c = get(("pair", fam, via, bool(multiple), t))
+            if c is not None:
+                cols[c] += 1.0
+        r = cls["ring"]
+        if 3 <= r <= 8:
+            c = get(("ring", fam, r))
+            if c is not None:
+                cols[c] += 1.0
+        return list(cols.items())
+
+
+def assign(compound, preds):
+    """Pair predicted classes with observed shifts within each H count
+    (sorted order); returns per class (index, mean observed shift, carbons)."""
+    by_h = defaultdict(list)
+    for i, cls in enumerate(compound["classes"]):
+        for _ in range(cls["n"]):
+            by_h[cls["h"]].append((preds[i], i))
+    obs_h = defaultdict(list)
+    for s, h, n in compound["obs"]:
+        obs_h[h].extend([s] * n)
+    got = defaultdict(list)
+    for h, plist in by_h.items():
+        o = sorted(obs_h.get(h, []))
+        if len(o) != len(plist):
+            continue
+        plist.sort()
+        for (_, i), x in zip(plist, o):
+            got[i].append(x)
+    return [(i, sum(v) / len(v), len(v)) for i, v in got.items()]
+
+
+def predict(model, theta, compound):
+    out = []
+    for cls in compound["classes"]:
+        out.append(sum(theta[c] * v for c, v in model.row(cls, add=False)))
+    return out
+
+
+def solve(model, rows, y, w):
+    """Weighted ridge least squares by Jacobi-preconditioned conjugate
+    gradients on the normal equations (the design matrix is sparse)."""
+    p = len(model.names)
+    ridge = np.zeros(p)
+    for i, k in enumerate(model.names):
+        ridge[i] = {"base": RIDGE_BASE, "fam": RIDGE_FAMILY, "cls": RIDGE_CLASS, "ring": RIDGE_FAMILY,
+                    "pair": RIDGE_PAIR}[k[0]]
+    ri, ci, vals = [], [], []
+    for r, cols in enumerate(rows):
+        for c, v in cols:
+            ri.append(r)
+            ci.append(c)
+            vals.append(v)
+    ri = np.array(ri)
+    ci = np.array(ci)
+    vals = np.array(vals)
+    n = len(rows)
+
+    def xv(theta):
+        return np.bincount(ri, weights=vals * theta[ci], minlength=n)
+
+    def xtv(r):
+        return np.bincount(ci, weights=vals * r[ri], minlength=p)
+
+    def a(theta):
+        return xtv(w * xv(theta)) + ridge * theta
+
+    b = xtv(w * y)
+    diag = np.bincount(ci, weights=vals * vals * w[ri], minlength=p) + ridge
+    theta = np.zeros(p)
+    r = b - a(theta)
+    z = r / diag
+    d = z.copy()
+    rz = r @ z
+    for _ in range(3000):
+        ad = a(d)
+        alpha = rz / (d @ ad)
+        theta += alpha * d
+        r -= alpha * ad
+        if np.sqrt(r @ r) < 1e-6 * np.sqrt(b @ b):
+            break
+        z = r / diag
+        rz_new = r @ z
+        d = z + (rz_new / rz) * d
+        rz = rz_new
+    return theta
+
+
+def fit(compounds):
+    model = Model()
+    class_rows = [[model.row(cls) for cls in c["classes"]] for c in compounds]
+    preds = [[cls["pred"] for cls in c["classes"]] for c in compounds]
+    theta = None
+    huber = None
+    for rnd in range(ROUNDS):
+        rows, y, w, keys = [], [], [], []
+        for ci, c in enumerate(compounds):
+            for i, target, n in assign(c, preds[ci]):
+                rows.append(class_rows[ci][i])
+                y.append(target)
+                w.append(n)
+                keys.append(c["classes"][i]["centre"])
+        y = np.array(y)
+        w = np.array(w, dtype=float)
+        if huber is not None and len(huber) == len(y):
+            w = w * huber
+        theta = solve(model, rows, y, w)
+        res = np.array([sum(theta[c] * v for c, v in r) for r in rows]) - y
+        a = np.abs(res)
+        huber = np.where(a <= HUBER, 1.0, HUBER / np.maximum(a, 1e-9))
+        preds = [predict(model, theta, c) for c in compounds]
+        print(f"round {rnd + 1}: {len(y)} classes, weighted MAE of assigned {np.average(a, weights=np.array([x for x in w])):.3f}",
+              file=sys.stderr)
+    # per-column data counts (carbons) and per-class residual RMS
+    counts = np.zeros(len(model.names))
+    rms = defaultdict(lambda: [0.0, 0.0])
+    for ci, c in enumerate(compounds):
+        for i, target, n in assign(c, preds[ci]):
+            for col, _ in class_rows[ci][i]:
+                counts[col] += n
+            e = preds[ci][i] - target
+            rms[c["classes"][i]["centre"]][0] += n * e * e
+            rms[c["classes"][i]["centre"]][1] += n
+    return model, theta, counts, {k: (np.sqrt(s / n), n) for k, (s, n) in rms.items()}
+
+
+def measure(model, theta, compounds):
+    """The test's measure: all carbons, sorted lists compared by position."""
+    by_kind = defaultdict(lambda: [0.0, 0])
+    tot = [0.0, 0]
+    for c in compounds:
+        pr = predict(model, theta, c)
+        p = sorted((round(pr[i], 1), cls["kind"]) for i, cls in enumerate(c["classes"]) for _ in range(cls["n"]))
+        o = sorted(s for s, h, n in c["obs"] for _ in range(n))
+        if len(p) != len(o):
+            continue
+        for (s, k), x in zip(p, o):
+            by_kind[k][0] += abs(s - x)
+            by_kind[k][1] += 1
+            tot[0] += abs(s - x)
+            tot[1] += 1
+    return tot[0] / tot[1], {k: v[0] / v[1] for k, v in sorted(by_kind.items())}, tot[1]
+
+
+def hand_rows():
+    """The hand-entered rows of the current files (kept for centres the data
+    do not reach)."""
+    base = {}
+    for f in sorted(set(FILES.values())):
+        with open(f"{LIB}/{f}", "rb") as fh:
+            t = tomllib.load(fh)
+        for r in t.get("base", []):
+            base[r["centre"]] = r
+    return base
+
+
+def write(model, theta, counts, rms, n_compounds, n_carbons):
+    hand = hand_rows()
+    src = lambda n: (f"refitted on NMRShiftDB2 dev (n = {int(n)} carbons; Huber-weighted ridge least squares, "
+                     f"scripts/fit_carbon.py)")
+    files = defaultdict(list)
+    val = {k: theta[i] for i, k in enumerate(model.names)}
+    cnt = {k: counts[i] for i, k in enumerate(model.names)}
+    # base rows: every class with data; hand rows for the rest (families)
+    centres = sorted({k[1] for k in model.names if k[0] == "base"})
+    for c in centres:
+        sigma, n = rms.get(c, (None, 0))
+        if n < 5:
+            continue
+        files[FILES[family(c)]].append(
+            f'[[base]]\ncentre = "{c}"\nshift = {val[("base", c)]:.2f}\nsigma = {max(sigma, 0.5):.2f}\n'
+            f'source = "{src(n)}; sigma = RMS residual of this class"\n')
+    for c, r in sorted(hand.items()):
+        if "." in c:
+            if rms.get(c, (None, 0))[1] >= 5:
+                continue
+        files[FILES[family(c)]].append(
+            f'[[base]]\ncentre = "{c}"\nshift = {r["shift"]}\nsigma = {r["sigma"]}\nsource = "{r["source"]}"\n')
+    # family increments
+    fam_terms = defaultdict(dict)
+    for k in model.names:
+        if k[0] == "fam":
+            fam_terms[(k[1], k[2])][k[3]] = k
+    for (fam, t), ks in sorted(fam_terms.items()):
+        n = max(cnt[k] for k in ks.values())
+        if n < MIN_FAMILY_ROWS:
+            continue
+        v = [val[ks[d]] if d in ks else 0.0 for d in (1, 2, 3, 4)]
+        fname = FILES[fam]
+        if fam == "aro6" and t in HETERO_TYPES:
+            fname = "carbon-heteroaromatic.toml"
+        files[fname].append(
+            f'[[increment]]\ncentre = "{fam}"\nneighbour = "{t}"\n'
+            f'by_distance = [{", ".join(f"{x:.2f}" for x in v)}]\nsource = "{src(n)}"\n')
+    # class increments (family value + class deviation) where the data ask
+    cls_terms = defaultdict(dict)
+    for k in model.names:
+        if k[0] == "cls":
+            cls_terms[(k[1], k[2])][k[3]] = k
+    for (c, t), ks in sorted(cls_terms.items()):
+        n = max(cnt[k] for k in ks.values())
+        if n < MIN_CLASS_ROWS:
+            continue
+        fam = family(c)
+        dev = [val[ks[d]] if d in ks else 0.0 for d in (1, 2, 3, 4)]
+        if max(abs(x) for x in dev) < 0.3:
+            continue
+        v = [val.get(("fam", fam, t, d), 0.0) + dev[d - 1] for d in (1, 2, 3, 4)]
+        fname = FILES[fam]
+        if fam == "aro6" and t in HETERO_TYPES:
+            fname = "carbon-heteroaromatic.toml"
+        files[fname].append(
+            f'[[increment]]\ncentre = "{c}"\nneighbour = "{t}"\n'
+            f'by_distance = [{", ".join(f"{x:.2f}" for x in v)}]\nsource = "{src(n)}"\n')
+    for k in model.names:
+        if k[0] == "pair" and cnt[k] >= MIN_PAIR_ROWS and abs(val[k]) >= 0.05:
+            _, fam, via, multiple, t = k
+            fname = FILES[fam]
+            if fam == "aro6" and (t in HETERO_TYPES or via in HETERO_TYPES):
+                fname = "carbon-heteroaromatic.toml"
+            files[fname].append(
+                f'[[pair]]\ncentre = "{fam}"\nvia = "{via}"\nbond = "{"multiple" if multiple else "single"}"\n'
+                f'neighbour = "{t}"\nincrement = {val[k]:.2f}\nsource = "{src(cnt[k])}"\n')
+    for k in model.names:
+        if k[0] == "ring" and cnt[k] >= MIN_FAMILY_ROWS:
+            files[FILES[k[1]]].append(
+                f'[[ring]]\ncentre = "{k[1]}"\nsize = {k[2]}\ncorrection = {val[k]:.2f}\nsource = "{src(cnt[k])}"\n')
+    heads = {
+        "carbon-sp3.toml": "13C shifts of sp3 carbon: Grant & Paul's additive rule (J. Am. Chem. Soc. 1964, 86, 2984),\n"
+                           "# base + alpha/beta/gamma/delta increments per atom type, branching as class rows.",
+        "carbon-alkene.toml": "13C shifts of alkene carbon: ethylene-based substituent increments by distance.",
+        "carbon-benzene.toml": "13C shifts of benzene-ring carbon: ipso/ortho/meta/para increments of each substituent's\n"
+                               "# first atom (1, 2, 3, 4 bonds from the ring carbon).",
+        "carbon-heteroaromatic.toml": "13C shifts of heteroaromatic ring carbon (pyridine, furan, thiophene, pyrrole, azoles):\n"
+                                      "# increments of ring heteroatoms by distance; five-ring base.",
+        "carbon-special.toml": "13C shifts of carbonyl, imine, thiocarbonyl, nitrile, alkyne and cumulated carbon:\n"
+                               "# a base per kind and H count plus increments of the atoms within four bonds.",
+    }
+    for fname in sorted(set(FILES.values())):
+        text = (f"# {heads[fname]}\n#\n# Values refitted on the NMRShiftDB2 v2 dev split ({n_compounds} compounds, "
+                f"{n_carbons} carbons)\n# by scripts/fit_carbon.py; fragment-library/README.md, \"Refit of the 13C tables\",\n"
+                f"# gives the method, the data and the residuals. Rows not reached by the data keep their\n"
+                f"# hand-entered value and source.\n\n")
+        text += "\n".join(files[fname])
+        with open(f"{LIB}/{fname}", "w") as f:
+            f.write(text)
+
+
+def main():
+    path = sys.argv[1]
+    compounds = load(path)
+    kinds = ["C=O/C=N/C=S", "aromatic/alkene sp2", "sp", "sp3-O/N/halogen", "plain sp3"]
+    if "--validate" in sys.argv:
+        even = [c for c in compounds if c["id"] % 2 == 0]
+        odd = [c for c in compounds if c["id"] % 2 == 1]
+        for name, a, b in (("even", even, odd), ("odd", odd, even)):
+            model, theta, _, _ = fit(a)
+            m_in, _, _ = measure(model, theta, a)
+            m_out, by, n = measure(model, theta, b)
+            print(f"fit on {name} ids ({len(a)} compounds): MAE {m_in:.2f} on the fit half, "
+                  f"{m_out:.2f} on the other half ({n} carbons)")
+            print("  held out by type: " + ", ".join(f"{kinds[k]} {v:.2f}" for k, v in by.items()))
+    if "--write" in sys.argv:
+        model, theta, counts, rms = fit(compounds)
+        m, by, n = measure(model, theta, compounds)
+        print(f"fit on all ({len(compounds)} compounds): MAE {m:.2f} ({n} carbons)")
+        print("  by type: " + ", ".join(f"{kinds[k]} {v:.2f}" for k, v in by.items()))
+        for c, (s, k) in sorted(rms.items()):
+            print(f"  sigma {c}: {s:.2f} (n = {int(k)})")
+        write(model, theta, counts, rms, len(compounds), n)
+
+
+if __name__ == "__main__":
+    main()
