@@ -10,6 +10,10 @@
 //!
 //!     cargo run --profile test --example fit_1h_tables [MIN_N]
 //!
+//! `LIBRARY=DIR` reads the tables found in DIR instead of the embedded ones
+//! (as `--library`), `FINE=1` splits the sp3 kinds by the atoms one bond
+//! further out.
+//!
 //! Pairs come from the sorted per-H comparison of tests/common/nmrshiftdb.rs
 //! (the same as tests/predict_nmrshiftdb_1h.rs). Kinds with fewer than MIN_N
 //! (default 8) H in the fit half are not printed.
@@ -46,7 +50,11 @@ fn kind(mol: &Molecule, aro: &[bool], atom: usize) -> String {
             .any(|&x| mol.neighbours(x).filter(|&(y, _)| aro[y]).count() > 2);
         let subs = ring
             .iter()
-            .map(|&x| mol.neighbours(x).filter(|&(y, _)| !ring.contains(&y)).count())
+            .map(|&x| {
+                mol.neighbours(x)
+                    .filter(|&(y, _)| !ring.contains(&y))
+                    .count()
+            })
             .sum::<usize>();
         return format!(
             "aro{}[{}]{}{}",
@@ -61,7 +69,11 @@ fn kind(mol: &Molecule, aro: &[bool], atom: usize) -> String {
         let to_c = nb
             .iter()
             .any(|&(y, o)| o == 2 && mol.atom(y).element == Element::C);
-        return if to_c { "alkene".into() } else { "C=X H".into() };
+        return if to_c {
+            "alkene".into()
+        } else {
+            "C=X H".into()
+        };
     }
     if a.element == Element::C && nb.iter().any(|&(_, o)| o == 3) {
         return "alkyne".into();
@@ -75,7 +87,7 @@ fn kind(mol: &Molecule, aro: &[bool], atom: usize) -> String {
                 "{}{}",
                 e.element.symbol(),
                 if e.element == Element::C && sp2 {
-                    "=" 
+                    "="
                 } else {
                     ""
                 }
@@ -268,7 +280,9 @@ fn least_squares3(rows: &[([f64; 3], f64)]) -> [f64; 3] {
         row[i] += 1e-9;
     }
     for c in 0..3 {
-        let p = (c..3).max_by(|&x, &y| a[x][c].abs().total_cmp(&a[y][c].abs())).unwrap();
+        let p = (c..3)
+            .max_by(|&x, &y| a[x][c].abs().total_cmp(&a[y][c].abs()))
+            .unwrap();
         a.swap(c, p);
         for r in 0..3 {
             if r != c {
@@ -282,6 +296,25 @@ fn least_squares3(rows: &[([f64; 3], f64)]) -> [f64; 3] {
     [a[0][3] / a[0][0], a[1][3] / a[1][1], a[2][3] / a[2][2]]
 }
 
+/// The method group a kind belongs to, as the sigmas of fragment-library/
+/// are set: benzene rings, other aromatic rings, alkene H, CH3 on a
+/// heteroatom or sp2 carbon (the CH3-X table), other sp3 H, the rest.
+fn method_group(kind: &str) -> &'static str {
+    if kind.starts_with("aro6[]") {
+        "benzene.toml sigma"
+    } else if kind.starts_with("aro") {
+        "heteroaromatic.toml ring sigma"
+    } else if kind.starts_with("alkene") {
+        "alkene.toml sigma"
+    } else if kind.starts_with("CH3 [") && !kind.starts_with("CH3 [C]") {
+        "sp3.toml sigma.methyl_direct"
+    } else if kind.starts_with("CH") {
+        "sp3.toml sigma.additive"
+    } else {
+        "other (special.toml, fallback)"
+    }
+}
+
 #[derive(Default)]
 struct Acc {
     fit: Vec<f64>,
@@ -291,7 +324,11 @@ struct Acc {
 /// The increments the library now gives a ring-fusion atom (ortho, meta,
 /// para): its `fusion` row, read from benzene.toml.
 fn fusion_in_library(predictor: &Predictor) -> [f64; 3] {
-    predictor.library().benzene.fusion.unwrap_or([0.37, 0.20, 0.10])
+    predictor
+        .library()
+        .benzene
+        .fusion
+        .unwrap_or([0.37, 0.20, 0.10])
 }
 
 fn mean(v: &[f64]) -> f64 {
@@ -303,7 +340,12 @@ fn main() {
         .nth(1)
         .and_then(|a| a.parse().ok())
         .unwrap_or(8);
-    let predictor = Predictor::embedded().unwrap();
+    // LIBRARY=DIR: tables from DIR replace the embedded ones (to try a
+    // change without rebuilding).
+    let predictor = match std::env::var("LIBRARY") {
+        Ok(dir) => Predictor::from_dir(std::path::Path::new(&dir)).unwrap(),
+        Err(_) => Predictor::embedded().unwrap(),
+    };
     let (done, skipped) = compare_all(&predictor, &cases());
     let mut by_kind: BTreeMap<String, Acc> = BTreeMap::new();
     // Fusion fit: (counts, residual + current fusion increments) per half.
@@ -322,6 +364,8 @@ fn main() {
             .unwrap_or([0.0; 3])
     };
     let (mut fit_all, mut check_all) = (Vec::new(), Vec::new());
+    // Per method group (fit half): residual and predicted sigma.
+    let mut groups: BTreeMap<&'static str, Vec<(f64, f64)>> = BTreeMap::new();
     for c in &done {
         let aro = aromaticity::perceive(&c.molecule).atom;
         for p in &c.pairs {
@@ -350,6 +394,12 @@ fn main() {
                     e.1.push(row);
                 }
             }
+            if c.case.id % 2 == 0 {
+                groups
+                    .entry(method_group(&k))
+                    .or_default()
+                    .push((r, p.sigma));
+            }
             let acc = by_kind.entry(k).or_default();
             if c.case.id % 2 == 0 {
                 acc.fit.push(r);
@@ -368,11 +418,7 @@ fn main() {
         check_all.len()
     );
     let abs = |v: &[f64]| mean(&v.iter().map(|r| r.abs()).collect::<Vec<_>>());
-    println!(
-        "MAE fit {:.3}, check {:.3}",
-        abs(&fit_all),
-        abs(&check_all)
-    );
+    println!("MAE fit {:.3}, check {:.3}", abs(&fit_all), abs(&check_all));
     let b = least_squares3(&fusion_fit);
     let err = |rows: &[([f64; 3], f64)], b: [f64; 3]| {
         mean(
@@ -397,6 +443,26 @@ fn main() {
         err(&fusion_fit, b),
         err(&fusion_check, b)
     );
+    // Sigmas: the robust standard deviation of the residuals (1.4826 x the
+    // median absolute residual, which long tails from mis-paired H or
+    // deposition errors do not inflate) against the sigmas predicted now.
+    println!("sigma per method group (fit half): n, robust SD of residuals, RMS, median predicted sigma, RMS of residual/sigma");
+    for (g, v) in &groups {
+        let mut a: Vec<f64> = v.iter().map(|x| x.0.abs()).collect();
+        a.sort_by(|x, y| x.total_cmp(y));
+        let mut sg: Vec<f64> = v.iter().map(|x| x.1).collect();
+        sg.sort_by(|x, y| x.total_cmp(y));
+        let rms = (v.iter().map(|x| x.0 * x.0).sum::<f64>() / v.len() as f64).sqrt();
+        let z = (v.iter().map(|x| (x.0 / x.1).powi(2)).sum::<f64>() / v.len() as f64).sqrt();
+        println!(
+            "  {g:<34} {:>5} {:>6.3} {:>6.3} {:>6.3} {:>6.2}",
+            v.len(),
+            1.4826 * a[a.len() / 2],
+            rms,
+            sg[sg.len() / 2],
+            z
+        );
+    }
     for (size, (fit, check)) in &extra {
         let now = extra_now(*size);
         let b = least_squares3(fit);
@@ -416,7 +482,44 @@ fn main() {
             err(check, b)
         );
     }
-    let mut rows: Vec<(&String, &Acc)> = by_kind.iter().filter(|(_, a)| a.fit.len() >= min_n).collect();
+    let labels: Vec<_> = done.iter().flat_map(|c| c.labels.iter()).collect();
+    let agree = |half: u64| {
+        let v: Vec<_> = labels.iter().filter(|l| l.id % 2 == half).collect();
+        let ok = v.iter().filter(|l| nmrshiftdb::labels_agree(l)).count();
+        format!(
+            "{ok}/{} = {:.1}%",
+            v.len(),
+            100.0 * ok as f64 / v.len().max(1) as f64
+        )
+    };
+    println!(
+        "multiplicity labels: fit half {}, check half {}",
+        agree(0),
+        agree(1)
+    );
+    if std::env::var("LABELS").is_ok() {
+        let mut count: BTreeMap<String, usize> = BTreeMap::new();
+        for l in labels.iter().filter(|l| !nmrshiftdb::labels_agree(l)) {
+            let why = l
+                .notes
+                .iter()
+                .find(|n| !n.starts_with("shifts are"))
+                .map(|n| n.chars().take(60).collect::<String>())
+                .unwrap_or_default();
+            *count
+                .entry(format!("{} -> {}: {why}", l.predicted, l.observed))
+                .or_default() += 1;
+        }
+        let mut v: Vec<_> = count.into_iter().collect();
+        v.sort_by(|a, b| b.1.cmp(&a.1));
+        for (k, n) in v.iter().take(25) {
+            println!("  {n:>4} {k}");
+        }
+    }
+    let mut rows: Vec<(&String, &Acc)> = by_kind
+        .iter()
+        .filter(|(_, a)| a.fit.len() >= min_n)
+        .collect();
     rows.sort_by(|a, b| {
         let wa = a.1.fit.iter().map(|r| r.abs()).sum::<f64>();
         let wb = b.1.fit.iter().map(|r| r.abs()).sum::<f64>();

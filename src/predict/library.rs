@@ -792,7 +792,11 @@ impl Library {
         }
         let mut extra_nitrogen = Vec::new();
         for row in &f.extra_nitrogen {
-            need_source(file, &format!("extra_nitrogen size {}", row.size), &row.source)?;
+            need_source(
+                file,
+                &format!("extra_nitrogen size {}", row.size),
+                &row.source,
+            )?;
             extra_nitrogen.push((row.size, row.increments, row.sigma));
         }
         let hetero = HeteroTable {
