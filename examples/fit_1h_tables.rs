@@ -83,11 +83,21 @@ fn kind(mol: &Molecule, aro: &[bool], atom: usize) -> String {
         .map(|&(y, _)| {
             let e = mol.atom(y);
             let sp2 = mol.neighbours(y).any(|(_, o)| o >= 2) || aro[y];
+            // An O whose other neighbour is a carbonyl C: ester O (acyloxy).
+            let acyl = e.element == Element::O
+                && mol.neighbours(y).any(|(z, _)| {
+                    z != atom
+                        && mol
+                            .neighbours(z)
+                            .any(|(w, o)| o == 2 && mol.atom(w).element == Element::O)
+                });
             format!(
                 "{}{}",
                 e.element.symbol(),
                 if e.element == Element::C && sp2 {
                     "="
+                } else if acyl {
+                    "ac"
                 } else {
                     ""
                 }

@@ -117,6 +117,9 @@ pub struct Sp3Table {
     pub shoolery: Vec<Option<f64>>,
     /// Direct CH3-X shift per class (no parent fallback: exact group only).
     pub methyl_direct: Vec<Option<f64>>,
+    /// Added to the alpha constant when the carbon is a CH (no parent
+    /// fallback: exact group only).
+    pub methine_alpha: Vec<Option<f64>>,
     pub shoolery_alkyl: f64,
     /// Ring correction by ring size (index = size).
     pub ring: [Option<f64>; 9],
@@ -245,8 +248,18 @@ struct Sp3File {
     substituent: Vec<AbgRow>,
     shoolery: Vec<ShooleryRow>,
     methyl: Vec<MethylRow>,
+    #[serde(default)]
+    methine: Vec<MethineRow>,
     ring: Vec<RingRow>,
     sigma: Sp3Sigma,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct MethineRow {
+    class: String,
+    alpha: f64,
+    source: String,
 }
 
 #[derive(Deserialize)]
@@ -635,6 +648,11 @@ impl Library {
             need_source(file, &row.class, &row.source)?;
             methyl_direct[class_id(&classes, file, &row.class)? as usize] = Some(row.shift);
         }
+        let mut methine_alpha = vec![None; nc];
+        for row in &f.methine {
+            need_source(file, &row.class, &row.source)?;
+            methine_alpha[class_id(&classes, file, &row.class)? as usize] = Some(row.alpha);
+        }
         let mut ring = [None; 9];
         for row in &f.ring {
             need_source(file, &format!("ring size {}", row.size), &row.source)?;
@@ -654,6 +672,7 @@ impl Library {
             abg: resolve(&classes, &abg),
             shoolery: resolve(&classes, &shoolery),
             methyl_direct,
+            methine_alpha,
             shoolery_alkyl: shoolery_alkyl.ok_or_else(|| {
                 Error::input(format!(
                     "fragment library {file}: needs a [[shoolery]] row for class alkyl"

@@ -502,7 +502,14 @@ impl Ctx<'_> {
                 functional += 1;
                 let cls = self.class_via(c, k);
                 match cls.and_then(|q| self.lib.sp3.abg[q as usize]) {
-                    Some(v) => shift += v[0],
+                    Some(v) => {
+                        shift += v[0];
+                        if h == 1 {
+                            shift += cls
+                                .and_then(|q| self.lib.sp3.methine_alpha[q as usize])
+                                .unwrap_or(0.0);
+                        }
+                    }
                     None => {
                         notes |= note::UNKNOWN_SUBSTITUENT;
                         sigma += self.lib.sp3.sigma_unknown;
