@@ -466,7 +466,13 @@ impl Ctx<'_> {
         let mut shoolery_ok = true;
         for k in 0..deg {
             let x = self.v.nbr[c][k] as usize;
-            if self.is_alkyl(x) {
+            // An sp3 carbon whose class has its own row (CF3) counts as that
+            // group, not as alkyl with its F walked as beta substituents.
+            let own_row = self.is_alkyl(x)
+                && self
+                    .class_via(c, k)
+                    .is_some_and(|q| self.lib.sp3.abg[q as usize].is_some());
+            if self.is_alkyl(x) && !own_row {
                 shoolery += self.lib.sp3.shoolery_alkyl;
                 // beta and gamma substituents through this alkyl carbon
                 for k2 in 0..self.v.deg[x] as usize {
