@@ -205,3 +205,24 @@ fn fluorine_splits_like_hydrogen() {
     assert_eq!(ch2.label(), "q", "{ch2:?}");
     assert_eq!(ch2.j_hz, vec![9.0]);
 }
+
+#[test]
+fn chelated_phenol_oh_is_far_downfield() {
+    // A phenol OH hydrogen-bonded to an ortho C=O sits near 10.8-12.3 ppm
+    // (methyl salicylate 10.8, from memory); a free phenol OH near 4-8.
+    let p = Predictor::embedded().unwrap();
+    let opts = Default::default();
+    let oh = |smiles: &str| {
+        let m = parse_smiles(smiles).unwrap();
+        p.predict(&m, &opts)
+            .into_iter()
+            .find(|s| s.exchangeable)
+            .unwrap()
+            .shift
+    };
+    let chelated = oh("COC(=O)c1ccccc1O");
+    assert!((10.4..=12.5).contains(&chelated), "{chelated}");
+    // The C=O para to the OH cannot chelate.
+    let free = oh("COC(=O)c1ccc(O)cc1");
+    assert!((4.0..=8.0).contains(&free), "{free}");
+}
