@@ -274,6 +274,9 @@ fn reaches_ring(mol: &Molecule, aro: &[bool], from: usize, avoid: usize, ring: &
     false
 }
 
+/// One observation of a three-increment fit: counts and target.
+type Row3 = ([f64; 3], f64);
+
 /// Least squares for y = x . b with three unknowns (normal equations).
 fn least_squares3(rows: &[([f64; 3], f64)]) -> [f64; 3] {
     let mut a = [[0.0; 4]; 3];
@@ -294,11 +297,12 @@ fn least_squares3(rows: &[([f64; 3], f64)]) -> [f64; 3] {
             .max_by(|&x, &y| a[x][c].abs().total_cmp(&a[y][c].abs()))
             .unwrap();
         a.swap(c, p);
-        for r in 0..3 {
+        let pivot = a[c];
+        for (r, row) in a.iter_mut().enumerate() {
             if r != c {
-                let f = a[r][c] / a[c][c];
-                for k in c..4 {
-                    a[r][k] -= f * a[c][k];
+                let f = row[c] / pivot[c];
+                for (x, p) in row.iter_mut().zip(pivot.iter()).skip(c) {
+                    *x -= f * p;
                 }
             }
         }
@@ -362,7 +366,7 @@ fn main() {
     let fusion_now = fusion_in_library(&predictor);
     let (mut fusion_fit, mut fusion_check) = (Vec::new(), Vec::new());
     // Extra-N fit per ring size 5 and 6: (counts, residual + current increments).
-    let mut extra: BTreeMap<usize, (Vec<([f64; 3], f64)>, Vec<([f64; 3], f64)>)> = BTreeMap::new();
+    let mut extra: BTreeMap<usize, (Vec<Row3>, Vec<Row3>)> = BTreeMap::new();
     let extra_now = |size: usize| {
         predictor
             .library()
@@ -521,7 +525,7 @@ fn main() {
                 .or_default() += 1;
         }
         let mut v: Vec<_> = count.into_iter().collect();
-        v.sort_by(|a, b| b.1.cmp(&a.1));
+        v.sort_by_key(|x| std::cmp::Reverse(x.1));
         for (k, n) in v.iter().take(25) {
             println!("  {n:>4} {k}");
         }

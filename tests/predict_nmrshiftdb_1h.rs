@@ -87,7 +87,7 @@ fn nmrshiftdb2_dev_1h_lists() {
                 _ => counts.push((k, 1)),
             }
         }
-        counts.sort_by(|a, b| b.1.cmp(&a.1));
+        counts.sort_by_key(|c| std::cmp::Reverse(c.1));
         for ((p, o), n) in counts.iter().take(20) {
             println!("  label: predicted {p}, reported {o}: {n}");
         }
