@@ -138,8 +138,8 @@ pub struct Sp3Table {
     /// Direct CH3-X shift per class (no parent fallback: exact group only).
     pub methyl_direct: Vec<Option<f64>>,
     /// Added to the alpha constant when the carbon is a CH (no parent
-    /// fallback: exact group only).
-    pub methine_alpha: Vec<Option<f64>>,
+    /// fallback: exact group only); the flag: only on a ring carbon.
+    pub methine_alpha: Vec<Option<(f64, bool)>>,
     pub shoolery_alkyl: f64,
     /// Ring correction by ring size (index = size).
     pub ring: [Option<f64>; 9],
@@ -279,6 +279,8 @@ struct Sp3File {
 struct MethineRow {
     class: String,
     alpha: f64,
+    #[serde(default)]
+    ring_only: bool,
     source: String,
 }
 
@@ -671,7 +673,8 @@ impl Library {
         let mut methine_alpha = vec![None; nc];
         for row in &f.methine {
             need_source(file, &row.class, &row.source)?;
-            methine_alpha[class_id(&classes, file, &row.class)? as usize] = Some(row.alpha);
+            methine_alpha[class_id(&classes, file, &row.class)? as usize] =
+                Some((row.alpha, row.ring_only));
         }
         let mut ring = [None; 9];
         for row in &f.ring {

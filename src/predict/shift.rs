@@ -511,9 +511,11 @@ impl Ctx<'_> {
                     Some(v) => {
                         shift += v[0];
                         if h == 1 {
+                            let in_ring = self.v.ring_size[c] > 0;
                             shift += cls
                                 .and_then(|q| self.lib.sp3.methine_alpha[q as usize])
-                                .unwrap_or(0.0);
+                                .filter(|&(_, ring_only)| in_ring || !ring_only)
+                                .map_or(0.0, |(a, _)| a);
                         }
                     }
                     None => {
