@@ -10,6 +10,10 @@
 //!
 //!     cargo run --profile test --example fit_1h_tables [MIN_N]
 //!
+//! `LIBRARY=DIR` reads the tables found in DIR instead of the embedded ones
+//! (as `--library`), `FINE=1` splits the sp3 kinds by the atoms one bond
+//! further out.
+//!
 //! Pairs come from the sorted per-H comparison of tests/common/nmrshiftdb.rs
 //! (the same as tests/predict_nmrshiftdb_1h.rs). Kinds with fewer than MIN_N
 //! (default 8) H in the fit half are not printed.
@@ -79,11 +83,21 @@ fn kind(mol: &Molecule, aro: &[bool], atom: usize) -> String {
         .map(|&(y, _)| {
             let e = mol.atom(y);
             let sp2 = mol.neighbours(y).any(|(_, o)| o >= 2) || aro[y];
+            // An O whose other neighbour is a carbonyl C: ester O (acyloxy).
+            let acyl = e.element == Element::O
+                && mol.neighbours(y).any(|(z, _)| {
+                    z != atom
+                        && mol
+                            .neighbours(z)
+                            .any(|(w, o)| o == 2 && mol.atom(w).element == Element::O)
+                });
             format!(
                 "{}{}",
                 e.element.symbol(),
                 if e.element == Element::C && sp2 {
                     "="
+                } else if acyl {
+                    "ac"
                 } else {
                     ""
                 }
@@ -260,6 +274,9 @@ fn reaches_ring(mol: &Molecule, aro: &[bool], from: usize, avoid: usize, ring: &
     false
 }
 
+/// One observation of a three-increment fit: counts and target.
+type Row3 = ([f64; 3], f64);
+
 /// Least squares for y = x . b with three unknowns (normal equations).
 fn least_squares3(rows: &[([f64; 3], f64)]) -> [f64; 3] {
     let mut a = [[0.0; 4]; 3];
@@ -280,16 +297,36 @@ fn least_squares3(rows: &[([f64; 3], f64)]) -> [f64; 3] {
             .max_by(|&x, &y| a[x][c].abs().total_cmp(&a[y][c].abs()))
             .unwrap();
         a.swap(c, p);
-        for r in 0..3 {
+        let pivot = a[c];
+        for (r, row) in a.iter_mut().enumerate() {
             if r != c {
-                let f = a[r][c] / a[c][c];
-                for k in c..4 {
-                    a[r][k] -= f * a[c][k];
+                let f = row[c] / pivot[c];
+                for (x, p) in row.iter_mut().zip(pivot.iter()).skip(c) {
+                    *x -= f * p;
                 }
             }
         }
     }
     [a[0][3] / a[0][0], a[1][3] / a[1][1], a[2][3] / a[2][2]]
+}
+
+/// The method group a kind belongs to, as the sigmas of fragment-library/
+/// are set: benzene rings, other aromatic rings, alkene H, CH3 on a
+/// heteroatom or sp2 carbon (the CH3-X table), other sp3 H, the rest.
+fn method_group(kind: &str) -> &'static str {
+    if kind.starts_with("aro6[]") {
+        "benzene.toml sigma"
+    } else if kind.starts_with("aro") {
+        "heteroaromatic.toml ring sigma"
+    } else if kind.starts_with("alkene") {
+        "alkene.toml sigma"
+    } else if kind.starts_with("CH3 [") && !kind.starts_with("CH3 [C]") {
+        "sp3.toml sigma.methyl_direct"
+    } else if kind.starts_with("CH") {
+        "sp3.toml sigma.additive"
+    } else {
+        "other (special.toml, fallback)"
+    }
 }
 
 #[derive(Default)]
@@ -317,14 +354,19 @@ fn main() {
         .nth(1)
         .and_then(|a| a.parse().ok())
         .unwrap_or(8);
-    let predictor = Predictor::embedded().unwrap();
+    // LIBRARY=DIR: tables from DIR replace the embedded ones (to try a
+    // change without rebuilding).
+    let predictor = match std::env::var("LIBRARY") {
+        Ok(dir) => Predictor::from_dir(std::path::Path::new(&dir)).unwrap(),
+        Err(_) => Predictor::embedded().unwrap(),
+    };
     let (done, skipped) = compare_all(&predictor, &cases());
     let mut by_kind: BTreeMap<String, Acc> = BTreeMap::new();
     // Fusion fit: (counts, residual + current fusion increments) per half.
     let fusion_now = fusion_in_library(&predictor);
     let (mut fusion_fit, mut fusion_check) = (Vec::new(), Vec::new());
     // Extra-N fit per ring size 5 and 6: (counts, residual + current increments).
-    let mut extra: BTreeMap<usize, (Vec<([f64; 3], f64)>, Vec<([f64; 3], f64)>)> = BTreeMap::new();
+    let mut extra: BTreeMap<usize, (Vec<Row3>, Vec<Row3>)> = BTreeMap::new();
     let extra_now = |size: usize| {
         predictor
             .library()
@@ -336,6 +378,8 @@ fn main() {
             .unwrap_or([0.0; 3])
     };
     let (mut fit_all, mut check_all) = (Vec::new(), Vec::new());
+    // Per method group (fit half): residual and predicted sigma.
+    let mut groups: BTreeMap<&'static str, Vec<(f64, f64)>> = BTreeMap::new();
     for c in &done {
         let aro = aromaticity::perceive(&c.molecule).atom;
         for p in &c.pairs {
@@ -363,6 +407,12 @@ fn main() {
                 } else {
                     e.1.push(row);
                 }
+            }
+            if c.case.id % 2 == 0 {
+                groups
+                    .entry(method_group(&k))
+                    .or_default()
+                    .push((r, p.sigma));
             }
             let acc = by_kind.entry(k).or_default();
             if c.case.id % 2 == 0 {
@@ -407,6 +457,26 @@ fn main() {
         err(&fusion_fit, b),
         err(&fusion_check, b)
     );
+    // Sigmas: the robust standard deviation of the residuals (1.4826 x the
+    // median absolute residual, which long tails from mis-paired H or
+    // deposition errors do not inflate) against the sigmas predicted now.
+    println!("sigma per method group (fit half): n, robust SD of residuals, RMS, median predicted sigma, RMS of residual/sigma");
+    for (g, v) in &groups {
+        let mut a: Vec<f64> = v.iter().map(|x| x.0.abs()).collect();
+        a.sort_by(|x, y| x.total_cmp(y));
+        let mut sg: Vec<f64> = v.iter().map(|x| x.1).collect();
+        sg.sort_by(|x, y| x.total_cmp(y));
+        let rms = (v.iter().map(|x| x.0 * x.0).sum::<f64>() / v.len() as f64).sqrt();
+        let z = (v.iter().map(|x| (x.0 / x.1).powi(2)).sum::<f64>() / v.len() as f64).sqrt();
+        println!(
+            "  {g:<34} {:>5} {:>6.3} {:>6.3} {:>6.3} {:>6.2}",
+            v.len(),
+            1.4826 * a[a.len() / 2],
+            rms,
+            sg[sg.len() / 2],
+            z
+        );
+    }
     for (size, (fit, check)) in &extra {
         let now = extra_now(*size);
         let b = least_squares3(fit);
@@ -425,6 +495,40 @@ fn main() {
             err(fit, b),
             err(check, b)
         );
+    }
+    let labels: Vec<_> = done.iter().flat_map(|c| c.labels.iter()).collect();
+    let agree = |half: u64| {
+        let v: Vec<_> = labels.iter().filter(|l| l.id % 2 == half).collect();
+        let ok = v.iter().filter(|l| nmrshiftdb::labels_agree(l)).count();
+        format!(
+            "{ok}/{} = {:.1}%",
+            v.len(),
+            100.0 * ok as f64 / v.len().max(1) as f64
+        )
+    };
+    println!(
+        "multiplicity labels: fit half {}, check half {}",
+        agree(0),
+        agree(1)
+    );
+    if std::env::var("LABELS").is_ok() {
+        let mut count: BTreeMap<String, usize> = BTreeMap::new();
+        for l in labels.iter().filter(|l| !nmrshiftdb::labels_agree(l)) {
+            let why = l
+                .notes
+                .iter()
+                .find(|n| !n.starts_with("shifts are"))
+                .map(|n| n.chars().take(60).collect::<String>())
+                .unwrap_or_default();
+            *count
+                .entry(format!("{} -> {}: {why}", l.predicted, l.observed))
+                .or_default() += 1;
+        }
+        let mut v: Vec<_> = count.into_iter().collect();
+        v.sort_by_key(|x| std::cmp::Reverse(x.1));
+        for (k, n) in v.iter().take(25) {
+            println!("  {n:>4} {k}");
+        }
     }
     let mut rows: Vec<(&String, &Acc)> = by_kind
         .iter()

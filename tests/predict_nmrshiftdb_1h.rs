@@ -87,16 +87,16 @@ fn nmrshiftdb2_dev_1h_lists() {
                 _ => counts.push((k, 1)),
             }
         }
-        counts.sort_by(|a, b| b.1.cmp(&a.1));
+        counts.sort_by_key(|c| std::cmp::Reverse(c.1));
         for ((p, o), n) in counts.iter().take(20) {
             println!("  label: predicted {p}, reported {o}: {n}");
         }
     }
     // Floors: the figures measured when they were last set (see the header).
     assert!(skipped.is_empty(), "{} skipped", skipped.len());
-    assert!(all_h <= 0.171, "all-H {all_h:.3}");
-    assert!(aromatic <= 0.200, "aromatic {aromatic:.3}");
-    assert!(dmso <= 0.330, "DMSO-d6 {dmso:.3}");
-    assert!(within >= 0.851, "within 0.3 ppm {within:.3}");
-    assert!(label_share >= 0.565, "labels {label_share:.3}");
+    assert!(all_h <= 0.157, "all-H {all_h:.3}");
+    assert!(aromatic <= 0.184, "aromatic {aromatic:.3}");
+    assert!(dmso <= 0.237, "DMSO-d6 {dmso:.3}");
+    assert!(within >= 0.865, "within 0.3 ppm {within:.3}");
+    assert!(label_share >= 0.569, "labels {label_share:.3}");
 }

@@ -81,7 +81,39 @@ fn peak_text_errors_name_entry_and_character() {
             "4.12 (q, 2H), (s, 3H)",
             "entry 2 \"(s, 3H)\": expected a chemical shift",
         ),
+        (
+            "4.12 (2H), 2.05 (s, 3H), 1.26 (t, 3H), 20.7 (1H)",
+            "entry 4 \"20.7 (1H)\": shift 20.7 ppm",
+        ),
     ]);
+}
+
+#[test]
+fn entries_without_multiplicity_rank_and_say_so() {
+    // Issue 9 item 4: `4.12 (2H)` is a multiplet whose multiplicity was not
+    // reported; ethyl acetate (Gottlieb, Kotlyar & Nudelman, J. Org. Chem.
+    // 1997, 62, 7512: 4.12, 2.05, 1.26) still ranks first on shifts and
+    // integrals alone, and the explanation says which entries had no term.
+    let out = isomerank(
+        &[
+            "rank",
+            "C4H8O2",
+            "--peaks",
+            "1H NMR (400 MHz, CDCl3): δ 4.12 (2H), 2.05 (3H), 1.26 (3H)",
+            "--explain",
+            "1",
+        ],
+        None,
+    );
+    let text = stdout_of(out);
+    assert!(text.contains("Assignment of #1 CCOC(C)=O"), "{text}");
+    assert!(text.contains("(multiplicity not reported)"), "{text}");
+    assert!(!text.contains("-0.00"), "{text}");
+    assert!(
+        text.contains("entries without a reported multiplicity have no multiplicity term"),
+        "{text}"
+    );
+    assert!(text.contains("no entry gives a multiplicity"), "{text}");
 }
 
 #[test]

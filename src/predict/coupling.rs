@@ -7,7 +7,10 @@
 //! set (an alkyl CH2 between CH3 and CH2 is a sextet). Couplings counted:
 //! vicinal H-C-C-H (three bonds), vinyl cis/trans, geminal =CH2, aromatic
 //! ortho/meta/para, aldehyde H to alpha-H, and HO-C-H / HN-C-H only in a
-//! solvent where the exchangeable H couples (DMSO-d6). Allylic and other
+//! solvent where the exchangeable H couples (DMSO-d6). Couplings to 19F
+//! (spin 1/2, 100%: n equivalent F split like n H): geminal H-C-F,
+//! vicinal H-C-C(sp3)-F by the number of F there, ring H to ring F ortho
+//! and meta; always first order (heteronuclear). Allylic and other
 //! long-range couplings are below the usual resolution and left out.
 //!
 //! Not first order, reported as m (common practice):
@@ -35,6 +38,9 @@ struct Cpl {
 
 const MAX_CPL: usize = 32;
 const NONE: u8 = u8::MAX;
+/// The partner "group" of a coupling to 19F: F are no H group, and a
+/// heteronuclear coupling is first order at any shift difference.
+const FLUORINE: u8 = u8::MAX - 1;
 
 impl Ctx<'_> {
     pub(super) fn multiplicities(&mut self, groups: &[Group]) -> Vec<Mult> {
@@ -76,6 +82,11 @@ impl Ctx<'_> {
             let mut nk = 0;
             for c in &cpl[..nc] {
                 if c.group == gi as u8 || c.group == NONE || c.j < resolved {
+                    continue;
+                }
+                if c.group == FLUORINE {
+                    kept[nk] = *c;
+                    nk += 1;
                     continue;
                 }
                 let p = &groups[c.group as usize];
@@ -258,6 +269,18 @@ impl Ctx<'_> {
                 *n += 1;
             }
         };
+        // F on atom x, as (first F, count).
+        let fluorines = |x: usize| {
+            let mut first = usize::MAX;
+            let mut count = 0u8;
+            for (f, _) in self.v.neighbours(x) {
+                if self.v.element[f] == Element::F {
+                    first = first.min(f);
+                    count += 1;
+                }
+            }
+            (first, count)
+        };
         if self.v.is_aromatic(a) {
             if let Some(r) = self.v.aromatic_ring_of(a) {
                 for y in bits(r & !(1u64 << a)) {
@@ -265,9 +288,45 @@ impl Ctx<'_> {
                         let j = self.aromatic_j(r, a, y);
                         push(y, gid[y][0], self.v.h[y], j, n);
                     }
+                    // Ring F ortho and meta to the H.
+                    let (f, count) = fluorines(y);
+                    let kind = match self.v.ring_distance(r, a, y) {
+                        1 => Some(CouplingKind::HfAromaticOrtho),
+                        2 => Some(CouplingKind::HfAromaticMeta),
+                        _ => None,
+                    };
+                    if let (Some(kind), true) = (kind, count > 0) {
+                        push(f, FLUORINE, count, self.lib.j(kind), n);
+                    }
                 }
             }
             return;
+        }
+        if self.v.element[a] == Element::C {
+            // Geminal F (CH2F, CHF2) and F on a neighbouring sp3 carbon.
+            let (f, count) = fluorines(a);
+            let kind = match count {
+                1 => Some(CouplingKind::HfGeminalOne),
+                2 => Some(CouplingKind::HfGeminalTwo),
+                _ => None,
+            };
+            if let Some(kind) = kind {
+                push(f, FLUORINE, count, self.lib.j(kind), n);
+            }
+            for k in 0..self.v.deg[a] as usize {
+                let b = self.v.nbr[a][k] as usize;
+                if self.v.element[b] != Element::C || self.v.hyb[b] != 3 {
+                    continue;
+                }
+                let (f, count) = fluorines(b);
+                let kind = match count {
+                    1 => CouplingKind::HfVicinalOne,
+                    2 => CouplingKind::HfVicinalTwo,
+                    3 => CouplingKind::HfVicinalThree,
+                    _ => continue,
+                };
+                push(f, FLUORINE, count, self.lib.j(kind), n);
+            }
         }
         for k in 0..self.v.deg[a] as usize {
             let b = self.v.nbr[a][k] as usize;

@@ -94,10 +94,23 @@ pub enum CouplingKind {
     Allylic,
     HydroxylCh,
     AmideNhCh,
+    /// H-C-F: one F on the H's carbon (CH2F), two (CHF2).
+    HfGeminalOne,
+    HfGeminalTwo,
+    /// H-C-C-F by the number of F on the far carbon (1, 2, 3).
+    HfVicinalOne,
+    HfVicinalTwo,
+    HfVicinalThree,
+    /// Ring H to ring F: ortho (three bonds) and meta (four bonds).
+    HfAromaticOrtho,
+    HfAromaticMeta,
 }
 
+/// Number of coupling kinds (the rows couplings.toml must have).
+pub const COUPLING_KINDS: usize = 23;
+
 impl CouplingKind {
-    pub const ALL: [(CouplingKind, &'static str); 16] = [
+    pub const ALL: [(CouplingKind, &'static str); COUPLING_KINDS] = [
         (CouplingKind::VicinalSp3, "vicinal_sp3"),
         (CouplingKind::VicinalSp3Sp2, "vicinal_sp3_sp2"),
         (CouplingKind::VicinalSp2Sp2, "vicinal_sp2_sp2"),
@@ -114,6 +127,13 @@ impl CouplingKind {
         (CouplingKind::Allylic, "allylic"),
         (CouplingKind::HydroxylCh, "hydroxyl_ch"),
         (CouplingKind::AmideNhCh, "amide_nh_ch"),
+        (CouplingKind::HfGeminalOne, "hf_geminal_one"),
+        (CouplingKind::HfGeminalTwo, "hf_geminal_two"),
+        (CouplingKind::HfVicinalOne, "hf_vicinal_one"),
+        (CouplingKind::HfVicinalTwo, "hf_vicinal_two"),
+        (CouplingKind::HfVicinalThree, "hf_vicinal_three"),
+        (CouplingKind::HfAromaticOrtho, "hf_aromatic_ortho"),
+        (CouplingKind::HfAromaticMeta, "hf_aromatic_meta"),
     ];
 }
 
@@ -137,6 +157,9 @@ pub struct Sp3Table {
     pub shoolery: Vec<Option<f64>>,
     /// Direct CH3-X shift per class (no parent fallback: exact group only).
     pub methyl_direct: Vec<Option<f64>>,
+    /// Added to the alpha constant when the carbon is a CH (no parent
+    /// fallback: exact group only); the flag: only on a ring carbon.
+    pub methine_alpha: Vec<Option<(f64, bool)>>,
     pub shoolery_alkyl: f64,
     /// Ring correction by ring size (index = size).
     pub ring: [Option<f64>; 9],
@@ -228,7 +251,7 @@ pub struct Library {
     pub hetero: HeteroTable,
     pub environments: Vec<Environment>,
     pub fallback: [(f64, f64); 4],
-    pub j: [f64; 16],
+    pub j: [f64; COUPLING_KINDS],
     pub settings: CouplingSettings,
     pub solvents: Vec<Solvent>,
     /// 13C increment tables (`carbon-*.toml`).
@@ -267,8 +290,20 @@ struct Sp3File {
     substituent: Vec<AbgRow>,
     shoolery: Vec<ShooleryRow>,
     methyl: Vec<MethylRow>,
+    #[serde(default)]
+    methine: Vec<MethineRow>,
     ring: Vec<RingRow>,
     sigma: Sp3Sigma,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct MethineRow {
+    class: String,
+    alpha: f64,
+    #[serde(default)]
+    ring_only: bool,
+    source: String,
 }
 
 #[derive(Deserialize)]
@@ -657,6 +692,12 @@ impl Library {
             need_source(file, &row.class, &row.source)?;
             methyl_direct[class_id(&classes, file, &row.class)? as usize] = Some(row.shift);
         }
+        let mut methine_alpha = vec![None; nc];
+        for row in &f.methine {
+            need_source(file, &row.class, &row.source)?;
+            methine_alpha[class_id(&classes, file, &row.class)? as usize] =
+                Some((row.alpha, row.ring_only));
+        }
         let mut ring = [None; 9];
         for row in &f.ring {
             need_source(file, &format!("ring size {}", row.size), &row.source)?;
@@ -676,6 +717,7 @@ impl Library {
             abg: resolve(&classes, &abg),
             shoolery: resolve(&classes, &shoolery),
             methyl_direct,
+            methine_alpha,
             shoolery_alkyl: shoolery_alkyl.ok_or_else(|| {
                 Error::input(format!(
                     "fragment library {file}: needs a [[shoolery]] row for class alkyl"
@@ -872,7 +914,7 @@ impl Library {
         // couplings
         let f: CouplingFile = r.parse("couplings.toml")?;
         let file = "couplings.toml";
-        let mut j = [f64::NAN; 16];
+        let mut j = [f64::NAN; COUPLING_KINDS];
         for row in &f.coupling {
             need_source(file, &row.kind, &row.source)?;
             let Some(pos) = CouplingKind::ALL.iter().position(|(_, n)| *n == row.kind) else {
@@ -1053,9 +1095,10 @@ mod tests {
     fn embedded_library_loads() {
         let lib = Library::embedded().unwrap();
         assert!(lib.classes.len() > 30);
-        let acyloxy = lib.class_named("acyloxy").unwrap() as usize;
-        // Beauchamp & Marquez 1997 (Colby table): RCO2- alpha 2.8.
-        assert_eq!(lib.sp3.abg[acyloxy], Some([2.8, 0.5, 0.1]));
+        let hydroxyl = lib.class_named("hydroxyl").unwrap() as usize;
+        // Beauchamp & Marquez 1997 (Colby table): HO- alpha 2.3, beta 0.3,
+        // gamma 0.1 (the ester row was refit on measured spectra since).
+        assert_eq!(lib.sp3.abg[hydroxyl], Some([2.3, 0.3, 0.1]));
         // Parent fallback: vinyloxy has its own Beauchamp-Marquez row...
         let ethyl = lib.class_named("ethyl").unwrap() as usize;
         // ...and ethyl falls back to alkyl in the alkene table.

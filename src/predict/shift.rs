@@ -466,7 +466,13 @@ impl Ctx<'_> {
         let mut shoolery_ok = true;
         for k in 0..deg {
             let x = self.v.nbr[c][k] as usize;
-            if self.is_alkyl(x) {
+            // An sp3 carbon whose class has its own row (CF3) counts as that
+            // group, not as alkyl with its F walked as beta substituents.
+            let own_row = self.is_alkyl(x)
+                && self
+                    .class_via(c, k)
+                    .is_some_and(|q| self.lib.sp3.abg[q as usize].is_some());
+            if self.is_alkyl(x) && !own_row {
                 shoolery += self.lib.sp3.shoolery_alkyl;
                 // beta and gamma substituents through this alkyl carbon
                 for k2 in 0..self.v.deg[x] as usize {
@@ -502,7 +508,16 @@ impl Ctx<'_> {
                 functional += 1;
                 let cls = self.class_via(c, k);
                 match cls.and_then(|q| self.lib.sp3.abg[q as usize]) {
-                    Some(v) => shift += v[0],
+                    Some(v) => {
+                        shift += v[0];
+                        if h == 1 {
+                            let in_ring = self.v.ring_size[c] > 0;
+                            shift += cls
+                                .and_then(|q| self.lib.sp3.methine_alpha[q as usize])
+                                .filter(|&(_, ring_only)| in_ring || !ring_only)
+                                .map_or(0.0, |(a, _)| a);
+                        }
+                    }
                     None => {
                         notes |= note::UNKNOWN_SUBSTITUENT;
                         sigma += self.lib.sp3.sigma_unknown;

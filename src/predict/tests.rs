@@ -172,3 +172,57 @@ fn root_index_agrees_with_a_full_scan() {
         envs_seen.len()
     );
 }
+
+#[test]
+fn fluorine_splits_like_hydrogen() {
+    // 19F has spin 1/2 and 100% abundance: n equivalent F split an H
+    // signal into n+1 lines (common practice). J from couplings.toml (from
+    // memory): CHF2 t about 56 Hz, CH2F d about 47 Hz, H-C-CF3 q about 9 Hz.
+    let p = Predictor::embedded().unwrap();
+    let opts = Default::default();
+    let signal = |smiles: &str, shift_above: f64| {
+        let m = parse_smiles(smiles).unwrap();
+        // The lowest non-exchangeable signal above `shift_above`.
+        p.predict(&m, &opts)
+            .into_iter()
+            .filter(|s| s.shift > shift_above && !s.exchangeable)
+            .min_by(|a, b| a.shift.total_cmp(&b.shift))
+            .unwrap_or_else(|| panic!("{smiles}: no signal above {shift_above}"))
+    };
+    // 1,1-difluoroethane: CHF2 a triplet (2 F) of quartets (CH3).
+    let chf2 = signal("CC(F)F", 5.0);
+    assert_eq!(chf2.label(), "tq", "{chf2:?}");
+    assert_eq!(chf2.j_hz, vec![56.0, 7.0]);
+    // The CHF2 H sits near 5.8 ppm (special.toml), not at the 8.7 of
+    // Shoolery's sum over two geminal F.
+    assert!((chf2.shift - 5.85).abs() < 0.01, "{chf2:?}");
+    // Fluoromethylbenzene: CH2F a doublet.
+    let ch2f = signal("FCc1ccccc1", 5.0);
+    assert_eq!(ch2f.label(), "d", "{ch2f:?}");
+    assert_eq!(ch2f.j_hz, vec![47.0]);
+    // 2,2,2-trifluoroethanol: CH2 a quartet from the three F.
+    let ch2 = signal("OCC(F)(F)F", 3.0);
+    assert_eq!(ch2.label(), "q", "{ch2:?}");
+    assert_eq!(ch2.j_hz, vec![9.0]);
+}
+
+#[test]
+fn chelated_phenol_oh_is_far_downfield() {
+    // A phenol OH hydrogen-bonded to an ortho C=O sits near 10.8-12.3 ppm
+    // (methyl salicylate 10.8, from memory); a free phenol OH near 4-8.
+    let p = Predictor::embedded().unwrap();
+    let opts = Default::default();
+    let oh = |smiles: &str| {
+        let m = parse_smiles(smiles).unwrap();
+        p.predict(&m, &opts)
+            .into_iter()
+            .find(|s| s.exchangeable)
+            .unwrap()
+            .shift
+    };
+    let chelated = oh("COC(=O)c1ccccc1O");
+    assert!((10.4..=12.5).contains(&chelated), "{chelated}");
+    // The C=O para to the OH cannot chelate.
+    let free = oh("COC(=O)c1ccc(O)cc1");
+    assert!((4.0..=8.0).contains(&free), "{free}");
+}

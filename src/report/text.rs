@@ -308,7 +308,8 @@ pub fn explanation(cx: &Context, c: &Ranked) -> String {
                     fmt_signal(p),
                     fmt_observed(&s.multiplets[j]),
                     t.shift,
-                    t.multiplicity,
+                    // + 0.0: a zero term (-ln 1) prints as 0.00, not -0.00.
+                    t.multiplicity + 0.0,
                     t.coupling
                 );
             }

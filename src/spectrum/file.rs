@@ -153,7 +153,7 @@ pub fn parse(name: &str, text: &str) -> Result<SpectrumFile> {
         };
         if let Some(v) = j_hz.iter().find(|v| !j_in_range(**v)) {
             return Err(err(format!(
-                "J = {v} Hz is out of range (1H-1H couplings are below {MAX_J_HZ} Hz)"
+                "J = {v} Hz is out of range (couplings in a 1H spectrum, to 19F included, are below {MAX_J_HZ} Hz)"
             )));
         }
         for v in &mut j_hz {

@@ -57,9 +57,11 @@ pub fn shift_out_of_range(v: f64) -> String {
         SHIFT_LIMITS.0, SHIFT_LIMITS.1
     )
 }
-/// Largest |J| accepted, Hz (1H-1H couplings stay below about 20 Hz,
-/// geminal sp3 up to -20; common practice).
-pub const MAX_J_HZ: f64 = 40.0;
+/// Largest |J| accepted, Hz: couplings seen in a 1H spectrum stay below
+/// about 60 Hz (1H-1H below about 20, geminal sp3 up to -20; 2J(H,F) of a
+/// CHF2 group 50-57; common practice). A 1J(P,H) of several hundred Hz is
+/// not a multiplet splitting one would list with the others.
+pub const MAX_J_HZ: f64 = 65.0;
 
 pub(super) struct Cursor<'a> {
     pub(super) chars: &'a [char],
@@ -496,7 +498,7 @@ fn parse_entry(entry: usize, chars: &[char], s: usize, e: usize) -> Result<RawEn
                 let in_range = v.abs() <= MAX_J_HZ;
                 if !in_range {
                     return Err(err(format!(
-                        "J = {v} Hz at character {} is out of range (1H-1H couplings are below {MAX_J_HZ} Hz)",
+                        "J = {v} Hz at character {} is out of range (couplings in a 1H spectrum, to 19F included, are below {MAX_J_HZ} Hz)",
                         at + 1
                     )));
                 }

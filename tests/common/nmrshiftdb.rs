@@ -75,6 +75,8 @@ pub struct Label {
     pub id: u64,
     pub observed: String,
     pub predicted: String,
+    /// The predicted group's notes (why it is m, ...).
+    pub notes: Vec<String>,
 }
 
 /// One compound compared.
@@ -181,6 +183,7 @@ pub fn compare(predictor: &Predictor, c: &Case) -> Result<Compared, String> {
                 id: c.id,
                 observed: bare_label(&e.pattern.label()),
                 predicted: bare_label(&signals[i].label()),
+                notes: signals[i].notes.clone(),
             });
         }
     }
