@@ -45,6 +45,7 @@ pub fn run(args: Args) -> Result<()> {
         format: args.format,
         keep_all: false,
         expanded_valence: false,
+        constraints: Default::default(),
     };
     let report = execute(&job, None)?;
     let text = match args.format {

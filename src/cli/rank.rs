@@ -69,6 +69,8 @@ pub struct Args {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
+    #[command(flatten)]
+    pub constraints: super::isomers::ConstraintArgs,
 }
 
 /// Everything a ranking run needs, validated.
@@ -80,6 +82,9 @@ pub struct Job {
     pub format: Format,
     pub keep_all: bool,
     pub expanded_valence: bool,
+    /// Constraints on the enumerated candidates (`--require`, `--forbid`,
+    /// `--attached-h`).
+    pub constraints: enumerate::constraints::Constraints,
 }
 
 pub fn run(args: Args) -> Result<()> {
@@ -118,6 +123,7 @@ pub fn run(args: Args) -> Result<()> {
         format: args.format,
         keep_all: args.keep_all,
         expanded_valence: args.expanded_valence,
+        constraints: args.constraints.constraints()?,
     };
     let shortlist = match &args.candidates {
         Some(src) => Some(read_shortlist(src)?),
@@ -164,6 +170,7 @@ pub fn execute(job: &Job, shortlist: Option<ShortlistText>) -> Result<String> {
                 None => {
                     let mut options = enumerate::Options {
                         expanded_valence: job.expanded_valence,
+                        constraints: job.constraints.clone(),
                         ..Default::default()
                     };
                     let rules = plausibility(&mut options, job.keep_all);
