@@ -640,15 +640,25 @@ impl<'p> Generator<'p> {
         node.add_vertex(p, k, attach);
         // Constraints: free valences only fall as atoms are added, so a
         // bound broken here is broken in every descendant.
+        // Rings only grow too: a required fragment's pi bonds need
+        // DBE - rings >= their number.
         if let Some(w) = &mut self.cons {
-            if w.bounds.skeleton_test
-                && !w.bounds.skeleton_ok(
+            let b = &w.bounds;
+            let cut = if node.cycles > p.dbe - b.pi_needed {
+                Some(b.pi_owner)
+            } else if b.skeleton_test
+                && !b.skeleton_ok(
                     &w.skeleton_slots,
                     &node.kind[..node.n],
                     &node.free[..node.n],
                 )
             {
-                w.cuts[w.bounds.skeleton_owner()][0] += 1;
+                Some(b.skeleton_owner())
+            } else {
+                None
+            };
+            if let Some(owner) = cut {
+                w.cuts[owner][0] += 1;
                 node.remove_last(p, k, attach);
                 return;
             }

@@ -52,6 +52,16 @@ impl Fragment {
             parse_smiles(text).map_err(|e| Error::input(format!("{flag} \"{text}\": {e}")))?;
         let arom = aromaticity::perceive(&mol);
         let n = mol.atom_count();
+        // An atom written aromatic (lower case) must be perceived aromatic:
+        // otherwise the fragment would silently mean its Kekulé form (`cn`
+        // read as C=N), where RDKit refuses it.
+        let written = text.chars().filter(|c| "cnosp".contains(*c)).count();
+        let perceived = arom.atom.iter().filter(|&&a| a).count();
+        if written != perceived {
+            return Err(Error::input(format!(
+                "{flag} \"{text}\": {written} atoms are written aromatic (lower case) but {perceived} lie on an aromatic ring; write aromatic atoms only in rings, e.g. c1ccccc1"
+            )));
+        }
         let elements: Vec<Element> = (0..n).map(|i| mol.atom(i).element).collect();
         let mut bonds = Vec::new();
         for e in mol.graph.edge_indices() {
@@ -154,9 +164,22 @@ impl Fragment {
                 )));
             }
         }
-        let rings = self.bonds.len() as i64 - self.atoms() as i64 + 1;
+        let least = self.bonds.len() as i64 - self.atoms() as i64 + 1 + self.least_pi();
+        if least > dbe {
+            return Err(Error::input(format!(
+                "--require {}: the fragment needs at least {least} rings and double bonds, the formula {formula} allows DBE = {dbe}",
+                self.text
+            )));
+        }
+        Ok(())
+    }
+
+    /// The fewest pi bonds a structure containing the fragment has: one per
+    /// extra order of a non-aromatic bond, and one per two aromatic carbons
+    /// that no such bond serves (each has a double bond of its own, which
+    /// can serve at most two of them).
+    pub fn least_pi(&self) -> i64 {
         let mut pi = 0i64;
-        let mut lone_aromatic_c = 0i64;
         let mut has_aromatic = vec![false; self.atoms()];
         let mut nonarom_extra = vec![0u8; self.atoms()];
         for &(a, b, k) in &self.bonds {
@@ -169,19 +192,10 @@ impl Fragment {
                 nonarom_extra[b] += k - 1;
             }
         }
-        for i in 0..self.atoms() {
-            if has_aromatic[i] && self.elements[i] == Element::C && nonarom_extra[i] == 0 {
-                lone_aromatic_c += 1;
-            }
-        }
-        let least = rings + pi + (lone_aromatic_c + 1) / 2;
-        if least > dbe {
-            return Err(Error::input(format!(
-                "--require {}: the fragment needs at least {least} rings and double bonds, the formula {formula} allows DBE = {dbe}",
-                self.text
-            )));
-        }
-        Ok(())
+        let lone = (0..self.atoms())
+            .filter(|&i| has_aromatic[i] && self.elements[i] == Element::C && nonarom_extra[i] == 0)
+            .count() as i64;
+        pi + (lone + 1) / 2
     }
 
     /// Per element slot present in the fragment, the extra order each of
@@ -260,6 +274,7 @@ mod tests {
         assert!(k.bonds.iter().all(|b| b.2 == AROMATIC));
         let acid = Fragment::parse("C(=O)O", "--require").unwrap();
         assert_eq!(acid.need, vec![1, 1, 0]);
+        assert!(Fragment::parse("cn", "--require").is_err());
         let pyrrole = Fragment::parse("c1cc[nH]c1", "--require").unwrap();
         let n = pyrrole
             .elements

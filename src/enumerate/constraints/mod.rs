@@ -339,9 +339,30 @@ impl Constraints {
                     cc.describe()
                 )));
             }
+            // A carbon with skeleton free valence 0 keeps single bonds only
+            // (an sp3 class); carbonyl, triple, cumulated and sp2 carbons
+            // need a free valence of at least 1, triple and cumulated ones
+            // at least 2.
+            let at = |c: CarbonClass| cc.lo[c.index()];
+            let single = cc.hi[CarbonClass::Sp3.index()] as u64
+                + cc.hi[CarbonClass::Sp3Hetero.index()] as u64;
+            let need1 = at(CarbonClass::Carbonyl)
+                + at(CarbonClass::Triple)
+                + at(CarbonClass::Cumulated)
+                + at(CarbonClass::Sp2);
+            let need2 = at(CarbonClass::Triple) + at(CarbonClass::Cumulated);
+            let c = &mut max_below[0];
+            c[1] = c[1].min(single.min((carbons - need1.min(carbons)) as u64).min(255) as u8);
+            c[2] = c[2].min((carbons - need2.min(carbons)).min(255) as u8);
         }
-        for f in &self.require {
+        let mut pi_needed = 0i64;
+        let mut pi_owner = 0usize;
+        for (i, f) in self.require.iter().enumerate() {
             f.fits(formula, dbe)?;
+            if f.least_pi() > pi_needed {
+                pi_needed = f.least_pi();
+                pi_owner = i;
+            }
             // A fragment atom that needs k extra bond orders can only sit on
             // an atom whose skeleton free valence ends at k or more: at most
             // total - (fragment atoms of that element needing >= t) atoms of
@@ -395,6 +416,8 @@ impl Constraints {
             max_below,
             h_below,
             skeleton_test: max_below.iter().any(|r| r.iter().any(|&x| x < u8::MAX)),
+            pi_needed: pi_needed as i32,
+            pi_owner: require_at + pi_owner,
             exact,
             classes: self.classes.clone(),
             require: self.require.clone(),
@@ -409,11 +432,7 @@ impl Constraints {
 }
 
 /// Stages at which a constraint can cut the search.
-pub const STAGES: [&str; 3] = [
-    "skeleton extensions",
-    "bond-order steps",
-    "complete structures",
-];
+pub const STAGES: [&str; 3] = ["skeletons", "bond-order steps", "complete structures"];
 
 /// What the generator reads: compiled, compact bounds (shared by every
 /// thread and every valence problem of one formula).
@@ -428,6 +447,11 @@ pub struct Bounds {
     pub h_below: [[u8; SLOTS]; 9],
     /// Whether `max_below` bounds anything.
     pub skeleton_test: bool,
+    /// The most pi bonds one required fragment needs: a skeleton may have
+    /// at most DBE - this many rings (rings only grow along a branch).
+    pub pi_needed: i32,
+    /// The constraint a ring-count cut is charged to.
+    pub pi_owner: usize,
     /// Exact H-count intervals (slot, lo, hi), checked on complete structures.
     pub exact: Vec<(usize, [u32; MAX_H + 1], [u32; MAX_H + 1])>,
     pub classes: Option<ClassCounts>,
@@ -460,9 +484,13 @@ impl Bounds {
 
     /// The index in `names` of the first constraint that bounds skeleton
     /// free valences (what a skeleton cut is charged to: the H counts when
-    /// given, else the first required fragment).
+    /// given, else the carbon types, else the first required fragment).
     pub fn skeleton_owner(&self) -> usize {
-        self.hydrogens_at().unwrap_or(self.require_at)
+        self.hydrogens_at().unwrap_or(if self.classes.is_some() {
+            self.classes_at
+        } else {
+            self.require_at
+        })
     }
 
     /// Add a thread's counts.
