@@ -55,11 +55,23 @@ impl Fragment {
         // An atom written aromatic (lower case) must be perceived aromatic:
         // otherwise the fragment would silently mean its Kekulé form (`cn`
         // read as C=N), where RDKit refuses it.
-        let written = text.chars().filter(|c| "cnosp".contains(*c)).count();
-        let perceived = arom.atom.iter().filter(|&&a| a).count();
-        if written != perceived {
+        let written = written_aromatic(text);
+        let lost = if written.len() == n {
+            written
+                .iter()
+                .zip(&arom.atom)
+                .filter(|(w, a)| **w && !**a)
+                .count()
+        } else {
+            written
+                .iter()
+                .filter(|&&w| w)
+                .count()
+                .saturating_sub(arom.atom.iter().filter(|&&a| a).count())
+        };
+        if lost > 0 {
             return Err(Error::input(format!(
-                "{flag} \"{text}\": {written} atoms are written aromatic (lower case) but {perceived} lie on an aromatic ring; write aromatic atoms only in rings, e.g. c1ccccc1"
+                "{flag} \"{text}\": {lost} atoms written aromatic (lower case) lie on no aromatic ring; write aromatic atoms only in aromatic rings, e.g. c1ccccc1"
             )));
         }
         let elements: Vec<Element> = (0..n).map(|i| mol.atom(i).element).collect();
@@ -259,6 +271,43 @@ impl Fragment {
     }
 }
 
+/// Per atom of a SMILES in the order written, whether it is written
+/// aromatic (lower case, in brackets or not). Atoms are the bracket atoms
+/// and the organic-subset symbols; everything else is skipped.
+fn written_aromatic(text: &str) -> Vec<bool> {
+    let b = text.trim().as_bytes();
+    let mut out = Vec::new();
+    let mut i = 0;
+    while i < b.len() {
+        match b[i] {
+            b'[' => {
+                let inner = b[i + 1..]
+                    .iter()
+                    .position(|&c| c == b']')
+                    .map_or(b.len(), |p| i + 1 + p);
+                let sym = b[i + 1..inner].iter().find(|c| c.is_ascii_alphabetic());
+                out.push(sym.is_some_and(|c| c.is_ascii_lowercase()));
+                i = inner + 1;
+            }
+            b'C' | b'B' if b.get(i + 1).is_some_and(|&c| c == b'l' || c == b'r') => {
+                out.push(false);
+                i += 2;
+            }
+            b'%' => i += 3,
+            c if c.is_ascii_uppercase() => {
+                out.push(false);
+                i += 1;
+            }
+            b'c' | b'n' | b'o' | b's' | b'p' => {
+                out.push(true);
+                i += 1;
+            }
+            _ => i += 1,
+        }
+    }
+    out
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -275,6 +324,11 @@ mod tests {
         let acid = Fragment::parse("C(=O)O", "--require").unwrap();
         assert_eq!(acid.need, vec![1, 1, 0]);
         assert!(Fragment::parse("cn", "--require").is_err());
+        assert!(Fragment::parse("C1=CC=CC=C1cn", "--require").is_err());
+        assert_eq!(
+            written_aromatic("Clc1cc[nH]c1Br"),
+            [false, true, true, true, true, true, false]
+        );
         let pyrrole = Fragment::parse("c1cc[nH]c1", "--require").unwrap();
         let n = pyrrole
             .elements
