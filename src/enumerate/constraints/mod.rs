@@ -267,6 +267,7 @@ impl Constraints {
             return Ok(None);
         }
         let mut max_below = [[u8::MAX; SLOTS]; 9];
+        let mut h_below = [[u8::MAX; SLOTS]; 9];
         let mut exact = Vec::new();
         let mut h_listed = 0u32;
         let mut all_bearers_listed = true;
@@ -307,12 +308,12 @@ impl Constraints {
             // H <= free valence, so an atom ending with free valence below t
             // has fewer than t H: at most sum_{h<t} hi[h] of them, and at
             // most total - sum_{h>=t} lo[h].
-            for t in 1..SLOTS {
+            for (t, cap) in h_below[slot].iter_mut().enumerate().skip(1) {
                 let below_hi: u64 = (0..t.min(MAX_H + 1)).map(|h| c.hi[h] as u64).sum();
                 let at_least: u32 = (t.min(MAX_H + 1)..=MAX_H).map(|h| c.lo[h]).sum();
-                let cap = below_hi.min((total - at_least) as u64).min(255) as u8;
-                max_below[slot][t] = max_below[slot][t].min(cap);
+                *cap = below_hi.min((total - at_least) as u64).min(255) as u8;
             }
+            max_below[slot] = h_below[slot];
             exact.push((slot, c.lo, c.hi));
             h_listed += (0..=MAX_H).map(|h| h as u32 * c.lo[h]).sum::<u32>();
             h_min += (0..=MAX_H).map(|h| h as u32 * c.lo[h]).sum::<u32>();
@@ -369,10 +370,9 @@ impl Constraints {
             // the element may end below t.
             for (slot, need) in f.needs() {
                 let total = formula.count(Element::HEAVY[slot]);
-                for t in 1..SLOTS {
+                for (t, below) in max_below[slot].iter_mut().enumerate().skip(1) {
                     let needing = need.iter().filter(|&&k| k as usize >= t).count() as u32;
-                    let cap = (total - needing.min(total)).min(255) as u8;
-                    max_below[slot][t] = max_below[slot][t].min(cap);
+                    *below = (*below).min((total - needing.min(total)).min(255) as u8);
                 }
             }
         }
@@ -398,16 +398,6 @@ impl Constraints {
         let forbid_at = names.len();
         for f in &self.forbid {
             names.push(format!("--forbid {}", f.text));
-        }
-        let mut h_below = [[u8::MAX; SLOTS]; 9];
-        for c in &self.hydrogens {
-            let slot = c.element.heavy_index().expect("heavy element");
-            let total = formula.count(c.element);
-            for t in 1..SLOTS {
-                let below_hi: u64 = (0..t.min(MAX_H + 1)).map(|h| c.hi[h] as u64).sum();
-                let at_least: u32 = (t.min(MAX_H + 1)..=MAX_H).map(|h| c.lo[h]).sum();
-                h_below[slot][t] = below_hi.min((total - at_least) as u64).min(255) as u8;
-            }
         }
         let stats = (0..names.len())
             .map(|_| [AtomicU64::new(0), AtomicU64::new(0), AtomicU64::new(0)])
