@@ -98,8 +98,10 @@ impl Outcome {
     }
 }
 
-/// Rank every isomer of the case's formula against its 1H list (when it has
-/// one) and its 13C list, keeping `top` candidates.
+/// Rank every isomer of the case's formula that fits its 13C list (H counts
+/// and carbon types bound the search, as `rank --carbon` does by default)
+/// against its 1H list (when it has one) and its 13C list, keeping `top`
+/// candidates.
 pub fn rank_case(case: &Case, predictor: &Predictor, model: &ScoringModel, top: usize) -> Outcome {
     let start = Instant::now();
     let formula = Formula::parse(&case.formula).expect("formula of the data file");
@@ -152,7 +154,15 @@ pub fn rank_case(case: &Case, predictor: &Predictor, model: &ScoringModel, top: 
         model,
         top,
     };
+    // As the command does by default: the 13C list bounds the search.
+    let mut constraints = enumerate::constraints::Constraints::default();
+    if let Some(c) = &carbon {
+        if let Err(e) = c.constrain_search(&formula, &mut constraints) {
+            return refused(e.to_string());
+        }
+    }
     let options = enumerate::Options {
+        constraints,
         rules: RuleSet::all(),
         expanded_valence: formula.count(Element::S) + formula.count(Element::P) > 0,
         ..Default::default()

@@ -73,6 +73,7 @@ pub fn run(args: Args) -> Result<()> {
             format: args.format,
             keep_all: false,
             expanded_valence: false,
+            constraints: Default::default(),
         })
     };
     let ester = execute(&job(FORMULA, PEAKS, None, 5, Some(1))?, None)?;

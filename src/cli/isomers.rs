@@ -3,8 +3,88 @@
 
 use super::output;
 use crate::chem::Formula;
+use crate::enumerate::constraints::{fragment::Fragment, Constraints, Cut, STAGES};
 use crate::enumerate::{self, rules::RuleSet, Options, Part};
+use crate::error::{Error, Result};
 use std::io::Write;
+
+/// The constraint options `isomers` and `rank` share.
+#[derive(clap::Args, Clone, Debug, Default)]
+pub struct ConstraintArgs {
+    /// Only structures containing this fragment (SMILES; repeatable). Atoms
+    /// match by element, bonds by kind (single, double, triple, aromatic);
+    /// H on fragment atoms are not compared.
+    #[arg(long = "require", value_name = "SMILES")]
+    pub require: Vec<String>,
+    /// Only structures without this fragment (SMILES; repeatable), in the
+    /// same sense as --require.
+    #[arg(long = "forbid", value_name = "SMILES")]
+    pub forbid: Vec<String>,
+    /// Exact attached-H counts, e.g. 'CH3=2,CH2=1,CH=5,C=2' (also OH=, NH2=,
+    /// NH=, N=, SH=, ...); the counts of an element must add up to its
+    /// number in the formula.
+    #[arg(long = "attached-h", value_name = "LIST")]
+    pub attached_h: Option<String>,
+}
+
+impl ConstraintArgs {
+    /// The constraints these options give (parsed; checked against the
+    /// formula when the search starts).
+    pub fn constraints(&self) -> Result<Constraints> {
+        let mut c = Constraints::default();
+        if let Some(list) = &self.attached_h {
+            for h in Constraints::parse_attached_h(list)? {
+                c.add_hydrogens(h);
+            }
+        }
+        for s in &self.require {
+            c.require.push(Fragment::parse(s, "--require")?);
+        }
+        for s in &self.forbid {
+            c.forbid.push(Fragment::parse(s, "--forbid")?);
+        }
+        Ok(c)
+    }
+}
+
+/// Print what each constraint cut to stderr.
+pub fn report_cuts(cuts: &[Cut]) {
+    if cuts.is_empty() {
+        return;
+    }
+    eprintln!("constraints applied inside the search (cuts per stage):");
+    for c in cuts {
+        let parts: Vec<String> = STAGES
+            .iter()
+            .zip(c.cut)
+            .map(|(s, n)| format!("{n} {s}"))
+            .collect();
+        eprintln!("  {}: cut {}", c.name, parts.join(", "));
+    }
+}
+
+/// The error for a constraint set that leaves no structure: which
+/// constraints cut anything (the one, when only one did).
+pub fn emptied(formula: &Formula, cuts: &[Cut]) -> Error {
+    let cutting: Vec<&Cut> = cuts
+        .iter()
+        .filter(|c| c.cut.iter().any(|&n| n > 0))
+        .collect();
+    let what = match cutting.as_slice() {
+        [] => "the formula's search found nothing to cut".to_string(),
+        [one] => format!("{} removed every candidate", one.name),
+        many => format!(
+            "together, these removed every candidate: {}",
+            many.iter()
+                .map(|c| c.name.as_str())
+                .collect::<Vec<_>>()
+                .join("; ")
+        ),
+    };
+    Error::input(format!(
+        "no structure of {formula} fits the constraints: {what}"
+    ))
+}
 
 #[derive(clap::Args)]
 #[command(after_help = "Examples:
@@ -13,6 +93,8 @@ use std::io::Write;
   isomerank isomers C9H10O --part 3/16   the 3rd of 16 disjoint shards
   isomerank isomers C6H10O --plausible   apply every plausibility rule
   isomerank isomers C6H10O --plausible=enol,peroxide
+  isomerank isomers C12H16O2 --require 'c1ccccc1' --count
+  isomerank isomers C8H8O --attached-h 'CH3=1,CH=5,C=2' --forbid 'C=C'
 
 Plausibility rules (the number each flags goes to stderr):
   small-ring-triple, small-ring-cumulated, bredt, enol, peroxide, hydrate, iminol, hypohalite")]
@@ -32,6 +114,8 @@ pub struct Args {
     /// Allow the expanded valences S(IV), S(VI) and P(V).
     #[arg(long)]
     pub expanded_valence: bool,
+    #[command(flatten)]
+    pub constraints: ConstraintArgs,
 }
 
 pub fn run(args: Args) -> crate::Result<()> {
@@ -43,6 +127,7 @@ pub fn run(args: Args) -> crate::Result<()> {
             Some(list) => RuleSet::parse(list)?,
             None => RuleSet::none(),
         },
+        constraints: args.constraints.constraints()?,
     };
     // Check the formula before anything is written.
     enumerate::problems(&formula, &opts)?;
@@ -56,6 +141,13 @@ pub fn run(args: Args) -> crate::Result<()> {
     };
     bar.finish_and_clear();
     let summary = result?;
+    report_cuts(&summary.constraints);
+    if !opts.constraints.is_empty() && summary.isomers == 0 && summary.excluded == 0 {
+        if opts.part.is_none() {
+            return Err(emptied(&formula, &summary.constraints));
+        }
+        eprintln!("this shard holds no structure that fits the constraints");
+    }
     if args.count {
         writeln!(out, "{}", summary.isomers)?;
     }

@@ -70,9 +70,17 @@ pub struct Args {
     /// Print candidate N's signal-by-signal assignment.
     #[arg(long, value_name = "N")]
     pub explain: Option<usize>,
+    /// Use the 13C list only in the score, not to bound the search (by
+    /// default its H counts and shift regions constrain the enumeration,
+    /// which assumes every line belongs to the compound and its H count is
+    /// right).
+    #[arg(long)]
+    pub carbon_score_only: bool,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
+    #[command(flatten)]
+    pub constraints: super::isomers::ConstraintArgs,
 }
 
 /// Everything a ranking run needs, validated.
@@ -87,6 +95,9 @@ pub struct Job {
     pub format: Format,
     pub keep_all: bool,
     pub expanded_valence: bool,
+    /// Constraints on the enumerated candidates (`--require`, `--forbid`,
+    /// `--attached-h`).
+    pub constraints: enumerate::constraints::Constraints,
 }
 
 pub fn run(args: Args) -> Result<()> {
@@ -124,7 +135,13 @@ pub fn run(args: Args) -> Result<()> {
         (None, Some((_, c))) => Some(c),
         (None, None) => None,
     };
-    let (spectrum, carbon) = spectrum::observed(raw, carbon_raw, &formula, &solvents)?;
+    let (mut spectrum, carbon) = spectrum::observed(raw, carbon_raw, &formula, &solvents)?;
+    let mut constraints = args.constraints.constraints()?;
+    if let (Some(c), false) = (&carbon, args.carbon_score_only) {
+        if let Some(note) = c.constrain_search(&formula, &mut constraints)? {
+            spectrum.notes.push(note);
+        }
+    }
     let job = Job {
         formula,
         spectrum,
@@ -134,6 +151,7 @@ pub fn run(args: Args) -> Result<()> {
         format: args.format,
         keep_all: args.keep_all,
         expanded_valence: args.expanded_valence,
+        constraints,
     };
     let shortlist = match &args.candidates {
         Some(src) => Some(read_shortlist(src)?),
@@ -182,6 +200,7 @@ pub fn execute(job: &Job, shortlist: Option<ShortlistText>) -> Result<String> {
                 None => {
                     let mut options = enumerate::Options {
                         expanded_valence: job.expanded_valence,
+                        constraints: job.constraints.clone(),
                         ..Default::default()
                     };
                     let rules = plausibility(&mut options, job.keep_all);

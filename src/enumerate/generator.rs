@@ -61,8 +61,10 @@
 //! The hot path works on [`Node`], a compact bitset graph; the general
 //! molecule type is built only for the isomers that come out.
 
+use super::constraints::{check::Work, Bounds};
 use crate::chem::canon::{CanonGraph, Canonizer, MAX_ATOMS};
 use crate::chem::Element;
+use std::sync::Arc;
 
 /// Most distinct atom kinds (element with a valence) one formula can use.
 pub const MAX_KINDS: usize = 16;
@@ -113,6 +115,8 @@ pub struct Problem {
     pub atoms: usize,
     /// Rings plus pi bonds the complete molecule must have.
     pub dbe: i32,
+    /// Constraints the search must respect (see [`super::constraints`]).
+    pub bounds: Option<Arc<Bounds>>,
 }
 
 impl Problem {
@@ -449,6 +453,8 @@ pub struct Generator<'p> {
     /// Non-identity automorphisms of the parent at each depth.
     auts: Vec<Vec<[u8; MAX_ATOMS]>>,
     orders: Orders,
+    /// Constraint tests and their work space, when the problem has any.
+    cons: Option<Work>,
 }
 
 /// What a search step hands to its sink: a node at the depth limit and, for
@@ -468,6 +474,7 @@ impl<'p> Generator<'p> {
                 check_min: p.kinds.iter().any(|k| k.min_bond_sum > 0),
                 ..Orders::default()
             },
+            cons: p.bounds.as_ref().map(|b| Work::new(Arc::clone(b), p)),
         }
     }
 
@@ -631,6 +638,31 @@ impl<'p> Generator<'p> {
         }
         let key_v = key_of(p.kinds[k].priority, d);
         node.add_vertex(p, k, attach);
+        // Constraints: free valences only fall as atoms are added, so a
+        // bound broken here is broken in every descendant.
+        // Rings only grow too: a required fragment's pi bonds need
+        // DBE - rings >= their number.
+        if let Some(w) = &mut self.cons {
+            let b = &w.bounds;
+            let cut = if node.cycles > p.dbe - b.pi_needed {
+                Some(b.pi_owner)
+            } else if b.skeleton_test
+                && !b.skeleton_ok(
+                    &w.skeleton_slots,
+                    &node.kind[..node.n],
+                    &node.free[..node.n],
+                )
+            {
+                Some(b.skeleton_owner())
+            } else {
+                None
+            };
+            if let Some(owner) = cut {
+                w.cuts[owner][0] += 1;
+                node.remove_last(p, k, attach);
+                return;
+            }
+        }
         if let Some(fresh) = self.accept(node, key_v, attach, ctx.noncut_mask) {
             self.dfs(node, ctx.limit, ctx.isomers, fresh, sink);
         }
@@ -719,9 +751,16 @@ impl<'p> Generator<'p> {
         let p = self.p;
         let extra = p.dbe - node.cycles;
         debug_assert!(extra >= 0, "skeletons never have more rings than the DBE");
+        if let Some(w) = &mut self.cons {
+            if !w.skeleton_fits(node) {
+                return;
+            }
+        }
         let o = &mut self.orders;
         if extra == 0 {
-            if !o.check_min || o.min_sums_hold(p, node) {
+            if (!o.check_min || o.min_sums_hold(p, node))
+                && self.cons.as_mut().is_none_or(|w| w.accepts(node, p))
+            {
                 sink(node, None);
             }
             return;
@@ -757,7 +796,7 @@ impl<'p> Generator<'p> {
         };
         o.chosen.clear();
         let canon = &mut self.canon[node.n];
-        o.assign(p, node, canon, 0, extra, sink);
+        o.assign(p, node, canon, &mut self.cons, 0, extra, sink);
     }
 }
 
@@ -830,12 +869,13 @@ impl Orders {
         p: &Problem,
         node: &mut Node,
         canon: &mut Canonizer,
+        cons: &mut Option<Work>,
         i: usize,
         left: i32,
         sink: &mut Sink<'_>,
     ) {
         if left == 0 {
-            self.leaf(p, node, canon, sink);
+            self.leaf(p, node, canon, cons, sink);
             return;
         }
         let mut j = i;
@@ -846,9 +886,27 @@ impl Orders {
             for x in (1..=top).rev() {
                 node.free[a] -= x;
                 node.free[b] -= x;
-                self.chosen.push((j as u8, x));
-                self.assign(p, node, canon, j + 1, left - x as i32, sink);
-                self.chosen.pop();
+                // Constraints: free valences only fall as orders are
+                // raised, and end as the H counts.
+                let pruned = match cons {
+                    Some(w) if w.orders_test => {
+                        let ok = w.bounds.orders_ok(
+                            &w.order_slots,
+                            &node.kind[..node.n],
+                            &node.free[..node.n],
+                        );
+                        if !ok {
+                            w.cuts[0][1] += 1;
+                        }
+                        !ok
+                    }
+                    _ => false,
+                };
+                if !pruned {
+                    self.chosen.push((j as u8, x));
+                    self.assign(p, node, canon, cons, j + 1, left - x as i32, sink);
+                    self.chosen.pop();
+                }
                 node.free[a] += x;
                 node.free[b] += x;
             }
@@ -856,9 +914,21 @@ impl Orders {
         }
     }
 
-    fn leaf(&mut self, p: &Problem, node: &mut Node, canon: &mut Canonizer, sink: &mut Sink<'_>) {
+    fn leaf(
+        &mut self,
+        p: &Problem,
+        node: &mut Node,
+        canon: &mut Canonizer,
+        cons: &mut Option<Work>,
+        sink: &mut Sink<'_>,
+    ) {
         if self.check_min && !self.min_sums_hold(p, node) {
             return;
+        }
+        if let Some(w) = cons {
+            if !w.hydrogens_ok(node) {
+                return;
+            }
         }
         if self.group != GroupState::Done {
             self.make_group(node, canon);
@@ -876,7 +946,9 @@ impl Orders {
             node.g.adj[l][a] |= 1u64 << b;
             node.g.adj[l][b] |= 1u64 << a;
         }
-        sink(node, Some(&self.auts));
+        if cons.as_mut().is_none_or(|w| w.structure_ok(node, p)) {
+            sink(node, Some(&self.auts));
+        }
         for &(i, x) in &self.chosen {
             let (a, b) = self.edges[i as usize];
             let (a, b) = (a as usize, b as usize);
@@ -981,6 +1053,7 @@ mod tests {
             counts: vec![c],
             atoms: c as usize,
             dbe: (4 * c as i32 - h) / 2 - (c as i32 - 1),
+            bounds: None,
         }
     }
 
@@ -1045,6 +1118,7 @@ mod tests {
             counts: vec![40, 40],
             atoms: 80,
             dbe: 80,
+            bounds: None,
         };
         let mut state = 0x2545_f491_4f6c_dd1du64;
         let mut canon = Canonizer::new();

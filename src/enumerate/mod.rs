@@ -8,6 +8,7 @@
 //! (one chunk of results at a time), and `--part K/N` simply takes every N-th
 //! task, giving disjoint shards whose union is the whole set.
 
+pub mod constraints;
 pub mod generator;
 pub mod resonance;
 pub mod rules;
@@ -76,6 +77,8 @@ pub struct Options {
     pub part: Option<Part>,
     /// Plausibility rules to apply (none: every isomer).
     pub rules: RuleSet,
+    /// Facts the structures must fit, applied inside the search.
+    pub constraints: constraints::Constraints,
 }
 
 /// Counts from one enumeration.
@@ -90,6 +93,9 @@ pub struct Summary {
     /// For each rule applied, how many isomers it flagged (an isomer flagged
     /// by several rules counts for each).
     pub flagged: Vec<(Rule, u64)>,
+    /// For each constraint, how much of the search it cut (empty without
+    /// constraints).
+    pub constraints: Vec<constraints::Cut>,
 }
 
 /// A complete isomer as the generator found it (compact form); convert with
@@ -252,6 +258,7 @@ pub fn problems(formula: &Formula, opts: &Options) -> Result<Vec<Problem>> {
             counts: pairs.iter().map(|p| p.1).collect(),
             atoms: heavy,
             dbe: dbe as i32,
+            bounds: None,
         });
     }
     if out.is_empty() {
@@ -259,6 +266,11 @@ pub fn problems(formula: &Formula, opts: &Options) -> Result<Vec<Problem>> {
         return Err(Error::input(format!(
             "no neutral structure has formula {formula}, whatever valences S and P take"
         )));
+    }
+    let most_dbe = out.iter().map(|p| p.dbe as i64).max().unwrap_or(0);
+    let bounds = opts.constraints.compile(formula, most_dbe)?;
+    for p in &mut out {
+        p.bounds = bounds.clone();
     }
     Ok(out)
 }
@@ -442,6 +454,7 @@ where
             for t in r.items {
                 summary.isomers += 1;
                 if !emit(t) {
+                    summary.constraints = constraint_cuts(&problems);
                     return Ok(summary);
                 }
             }
@@ -452,7 +465,19 @@ where
             isomers: summary.isomers,
         });
     }
+    summary.constraints = constraint_cuts(&problems);
     Ok(summary)
+}
+
+/// The constraints' cut counts of a run (all problems share one table).
+/// Generators add their counts when dropped, which happens before a chunk's
+/// results are collected.
+fn constraint_cuts(problems: &[Problem]) -> Vec<constraints::Cut> {
+    problems
+        .first()
+        .and_then(|p| p.bounds.as_ref())
+        .map(|b| b.cuts())
+        .unwrap_or_default()
 }
 
 struct TaskResult<T> {

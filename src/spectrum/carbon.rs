@@ -29,6 +29,8 @@
 
 use super::journal::{self, Cursor};
 use crate::chem::{Element, Formula};
+use crate::enumerate::constraints::carbon13::carbon_facts;
+use crate::enumerate::constraints::Constraints;
 use crate::error::{Error, Result};
 use serde::Serialize;
 
@@ -131,6 +133,40 @@ pub struct CarbonSpectrum {
 }
 
 impl CarbonSpectrum {
+    /// Add what the 13C list fixes for sure (the H count of each line's carbons,
+    /// the carbon types whose shift regions do not overlap; see
+    /// `enumerate::constraints::carbon13`) to `constraints`, so that the
+    /// generator builds only structures that fit them. Lines taken for the
+    /// solvent are left out; a line without a carbon count stands for at least
+    /// one carbon. Returns the note that names what was applied.
+    pub fn constrain_search(
+        &self,
+        formula: &Formula,
+        constraints: &mut Constraints,
+    ) -> Result<Option<String>> {
+        let lines: Vec<(f64, Option<u8>, u32)> = self
+            .lines
+            .iter()
+            .filter(|l| !l.solvent)
+            .map(|l| (l.shift, l.hydrogens, l.count.unwrap_or(1)))
+            .collect();
+        let facts = carbon_facts(&lines, formula)?;
+        let mut parts = Vec::new();
+        if let Some(h) = &facts.hydrogens {
+            parts.push(format!("attached H {}", h.describe()));
+        }
+        if let Some(k) = &facts.classes {
+            parts.push(format!("carbon types {}", k.describe()));
+        }
+        constraints.add_carbon_lines(&lines, formula)?;
+        Ok((!parts.is_empty()).then(|| {
+        format!(
+            "the 13C list constrains the search: {} (--carbon-score-only uses it in the score alone)",
+            parts.join("; ")
+        )
+    }))
+    }
+
     /// Carbons the lines account for (counted lists), else the line count.
     pub fn observed_carbons(&self) -> u32 {
         self.lines

@@ -1,0 +1,276 @@
+//! From a 13C line list to sound constraints: attached-H counts and carbon
+//! type counts ([`CarbonClass`]).
+//!
+//! Each line is (shift in ppm, attached H when known from DEPT, APT, an
+//! edited HSQC or off-resonance multiplicity, number of carbons it stands
+//! for). What is inferred, and why it is sound:
+//!
+//! * **H counts.** A line with a known H count and count k says at least k
+//!   carbons carry that many H. The carbons not covered by such lines (lines
+//!   without an H count, and carbons no line counts: accidental overlap,
+//!   symmetry not annotated) may carry any number, so each H count's upper
+//!   bound is its lower bound plus all of those. Requires that a line's
+//!   stated carbon count is not above the truth (an unannotated line counts
+//!   one carbon, which never is).
+//! * **Carbon types.** Each class has deliberately wide shift regions and
+//!   the H counts it can carry (`fragment-library/carbon-regions.toml`,
+//!   common practice, values from memory). A line counts towards a class's
+//!   lower bound only when that class alone fits its shift and H count; it
+//!   counts towards the upper bound of every class that fits. Where regions
+//!   overlap (a quaternary carbon at 120 ppm could be aromatic, nitrile,
+//!   isocyanate or CF3; 50-90 ppm could be sp3 C-O or an alkyne) the line
+//!   constrains nothing beyond those upper bounds. The uncounted carbons
+//!   raise every upper bound.
+//!
+//! A line no region holds, or more carbons than the formula has, is an
+//! input error naming the line.
+
+use super::{CarbonClass, ClassCounts, Constraints, HydrogenCounts, MAX_H};
+use crate::chem::{Element, Formula};
+use crate::error::{Error, Result};
+use serde::Deserialize;
+use std::sync::OnceLock;
+
+const REGIONS_TOML: &str = include_str!("../../../fragment-library/carbon-regions.toml");
+
+/// One class's shift regions and possible H counts.
+#[derive(Clone, Debug, Deserialize)]
+pub struct Region {
+    pub class: String,
+    pub ranges: Vec<[f64; 2]>,
+    pub hydrogens: Vec<u8>,
+    pub source: String,
+}
+
+#[derive(Deserialize)]
+struct RegionFile {
+    region: Vec<Region>,
+}
+
+/// The embedded region table, one entry per [`CarbonClass`] in its order.
+pub fn regions() -> &'static [(CarbonClass, Region)] {
+    static TABLE: OnceLock<Vec<(CarbonClass, Region)>> = OnceLock::new();
+    TABLE.get_or_init(|| {
+        let file: RegionFile =
+            toml::from_str(REGIONS_TOML).expect("the embedded carbon-regions.toml parses");
+        let mut out: Vec<(CarbonClass, Region)> = file
+            .region
+            .into_iter()
+            .map(|r| {
+                let c = CarbonClass::from_name(&r.class).expect("a known carbon class");
+                (c, r)
+            })
+            .collect();
+        out.sort_by_key(|(c, _)| *c);
+        out
+    })
+}
+
+/// The classes a line at `shift` with `hydrogens` (when known) may belong
+/// to, as a bit set over [`CarbonClass::index`].
+pub fn possible_classes(shift: f64, hydrogens: Option<u8>) -> u8 {
+    let mut set = 0u8;
+    for (c, r) in regions() {
+        let in_range = r.ranges.iter().any(|&[lo, hi]| shift >= lo && shift <= hi);
+        let h_fits = hydrogens.is_none_or(|h| r.hydrogens.contains(&h));
+        if in_range && h_fits {
+            set |= 1 << c.index();
+        }
+    }
+    set
+}
+
+/// What a 13C line list fixes.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct CarbonFacts {
+    /// Attached-H counts of the carbons, when any line gives one.
+    pub hydrogens: Option<HydrogenCounts>,
+    /// Carbon type counts, when any line narrows them.
+    pub classes: Option<ClassCounts>,
+    /// One line per input line: what it was charged to, or why not.
+    pub notes: Vec<String>,
+}
+
+/// Derive the sound constraints of a 13C line list: `lines` holds (shift in
+/// ppm, attached H when known, number of carbons), `formula` the molecular
+/// formula. See the module documentation for what is inferred.
+pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Result<CarbonFacts> {
+    let carbons = formula.count(Element::C);
+    let counted: u64 = lines.iter().map(|l| l.2 as u64).sum();
+    if counted > carbons as u64 {
+        return Err(Error::input(format!(
+            "the 13C lines stand for {counted} carbons, the formula {formula} has {carbons}"
+        )));
+    }
+    let unknown = carbons - counted as u32;
+    let mut h_lo = [0u32; MAX_H + 1];
+    let mut h_unknown = unknown;
+    let mut class_lo = [0u32; 6];
+    let mut class_hi = [unknown; 6];
+    let mut notes = Vec::new();
+    for (i, &(shift, h, count)) in lines.iter().enumerate() {
+        let label = match h {
+            Some(h) => format!("line {} (δ {shift:.1}, {h} H)", i + 1),
+            None => format!("line {} (δ {shift:.1})", i + 1),
+        };
+        if !shift.is_finite() {
+            return Err(Error::input(format!(
+                "13C {label}: the shift is not a number"
+            )));
+        }
+        match h {
+            Some(h) if h as usize > MAX_H => {
+                return Err(Error::input(format!(
+                    "13C {label}: a carbon carries at most {MAX_H} H"
+                )))
+            }
+            Some(h) => h_lo[h as usize] += count,
+            None => h_unknown += count,
+        }
+        let set = possible_classes(shift, h);
+        if set == 0 {
+            return Err(Error::input(format!(
+                "13C {label}: no carbon type has a shift there{}",
+                if h.is_some() {
+                    " with that H count"
+                } else {
+                    ""
+                }
+            )));
+        }
+        let names: Vec<&str> = CarbonClass::ALL
+            .iter()
+            .filter(|c| set >> c.index() & 1 == 1)
+            .map(|c| c.name())
+            .collect();
+        for c in CarbonClass::ALL {
+            if set >> c.index() & 1 == 1 {
+                class_hi[c.index()] += count;
+            }
+        }
+        if set.count_ones() == 1 {
+            class_lo[set.trailing_zeros() as usize] += count;
+            notes.push(format!("{label}: {}", names[0]));
+        } else {
+            notes.push(format!(
+                "{label}: {} (regions overlap; not charged to one type)",
+                names.join(" or ")
+            ));
+        }
+    }
+    let hydrogens = (h_lo.iter().sum::<u32>() > 0).then(|| {
+        let mut hi = h_lo;
+        for x in &mut hi {
+            *x += h_unknown;
+        }
+        HydrogenCounts {
+            element: Element::C,
+            lo: h_lo,
+            hi,
+        }
+    });
+    let narrows = class_lo.iter().any(|&x| x > 0) || class_hi.iter().any(|&x| x < carbons);
+    let classes = narrows.then_some(ClassCounts {
+        lo: class_lo,
+        hi: class_hi.map(|x| x.min(carbons)),
+    });
+    Ok(CarbonFacts {
+        hydrogens,
+        classes,
+        notes,
+    })
+}
+
+impl Constraints {
+    /// Add what a 13C line list fixes (see [`carbon_facts`]); returns the
+    /// per-line notes.
+    pub fn add_carbon_lines(
+        &mut self,
+        lines: &[(f64, Option<u8>, u32)],
+        formula: &Formula,
+    ) -> Result<Vec<String>> {
+        let facts = carbon_facts(lines, formula)?;
+        if let Some(h) = facts.hydrogens {
+            self.add_hydrogens(h);
+        }
+        if let Some(c) = facts.classes {
+            self.classes = Some(match self.classes.take() {
+                Some(have) => ClassCounts {
+                    lo: std::array::from_fn(|i| have.lo[i].max(c.lo[i])),
+                    hi: std::array::from_fn(|i| have.hi[i].min(c.hi[i])),
+                },
+                None => c,
+            });
+        }
+        Ok(facts.notes)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn classes(set: u8) -> Vec<&'static str> {
+        CarbonClass::ALL
+            .iter()
+            .filter(|c| set >> c.index() & 1 == 1)
+            .map(|c| c.name())
+            .collect()
+    }
+
+    #[test]
+    fn overlapping_regions_are_declined() {
+        // Common practice (FIELD-GUIDE section 7, from memory): 100-125 ppm
+        // could be a nitrile or an aromatic carbon; 50-90 an sp3 C-O or an
+        // alkyne.
+        assert!(possible_classes(118.0, Some(0)).count_ones() > 1);
+        assert!(classes(possible_classes(118.0, Some(0))).contains(&"triple"));
+        assert!(classes(possible_classes(118.0, Some(0))).contains(&"sp2"));
+        let at_70 = classes(possible_classes(70.0, Some(0)));
+        assert!(
+            at_70.contains(&"triple") && at_70.contains(&"sp3-hetero"),
+            "{at_70:?}"
+        );
+        // An aldehyde CH at 200 ppm: only a carbonyl carbon has a shift
+        // there with one H (an allene centre carries none).
+        assert_eq!(classes(possible_classes(200.0, Some(1))), ["carbonyl"]);
+        // A methyl group at 20 ppm may be plain sp3 or C-S/C-I: declined.
+        assert_eq!(
+            classes(possible_classes(20.0, Some(3))),
+            ["sp3-hetero", "sp3"]
+        );
+        // CH4-type carbon (4 H): only plain sp3.
+        assert_eq!(classes(possible_classes(-2.0, Some(4))), ["sp3"]);
+    }
+
+    #[test]
+    fn facts_from_a_line_list() {
+        // A line list of our own (invented for the test) for C5H10O2 with a
+        // carbonyl at 173 (no H), an OCH2 at 64 (2 H), a CH3 at 21 (3 H),
+        // and one line of 2 carbons at 14 ppm without an H count.
+        let f = Formula::parse("C5H10O2").unwrap();
+        let lines = [
+            (173.0, Some(0), 1),
+            (64.0, Some(2), 1),
+            (21.0, Some(3), 1),
+            (14.0, None, 2),
+        ];
+        let facts = carbon_facts(&lines, &f).unwrap();
+        let h = facts.hydrogens.unwrap();
+        assert_eq!(h.lo, [1, 0, 1, 1, 0]);
+        assert_eq!(h.hi, [3, 2, 3, 3, 2]);
+        let c = facts.classes.unwrap();
+        // No line is decisive; the upper bounds: the 173 line may be
+        // carbonyl, cumulated or sp2; nothing else reaches 110 ppm.
+        assert_eq!(c.lo, [0; 6]);
+        assert_eq!(c.hi[CarbonClass::Carbonyl.index()], 1);
+        assert_eq!(c.hi[CarbonClass::Sp3.index()], 4);
+        assert_eq!(facts.notes.len(), 4);
+        let too_many = [(20.0, None, 6)];
+        let e = carbon_facts(&too_many, &f).unwrap_err().to_string();
+        assert!(e.contains("6 carbons") && e.contains("has 5"), "{e}");
+        let nowhere = [(400.0, None, 1)];
+        let e = carbon_facts(&nowhere, &f).unwrap_err().to_string();
+        assert!(e.contains("line 1") && e.contains("no carbon type"), "{e}");
+    }
+}

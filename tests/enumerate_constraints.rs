@@ -1,0 +1,347 @@
+//! Constraints applied inside the search (`--require`, `--forbid`,
+//! `--attached-h`, carbon types) give exactly the full enumeration filtered
+//! by an independent check: tests/reference/check_constraints.py, which
+//! reads every isomer with RDKit (PyPI rdkit) and decides each constraint as
+//! the README states it (RDKit's HasSubstructMatch with the fragment's
+//! SMILES as query, RDKit's H counts and bond types). Plus shards of a
+//! constrained search, and bad input.
+
+mod common;
+
+use common::{isomerank, isomers_ok, run_reference_script};
+use isomerank::chem::Formula;
+use isomerank::enumerate::constraints::{carbon13, CarbonClass, ClassCounts, Constraints};
+use isomerank::enumerate::{self, Options};
+use std::collections::BTreeSet;
+
+#[derive(serde::Deserialize)]
+struct Reference {
+    lines: usize,
+    fits: Vec<usize>,
+}
+
+/// The test's own reading of an `--attached-h` list into the reference
+/// script's spec (exact counts; unlisted H counts of a listed element 0).
+fn hydrogen_spec(list: &str) -> serde_json::Value {
+    let mut per: std::collections::BTreeMap<String, [u32; 5]> = Default::default();
+    for item in list.split(',') {
+        let (group, n) = item.split_once('=').unwrap();
+        let n: u32 = n.parse().unwrap();
+        let (el, h) = match group.find('H') {
+            Some(i) => (
+                &group[..i],
+                if i + 1 == group.len() {
+                    1
+                } else {
+                    group[i + 1..].parse().unwrap()
+                },
+            ),
+            None => (group, 0usize),
+        };
+        per.entry(el.to_string()).or_default()[h] = n;
+    }
+    serde_json::Value::Object(
+        per.into_iter()
+            .map(|(e, c)| (e, serde_json::json!(c.map(|n| [n, n]))))
+            .collect(),
+    )
+}
+
+/// The structures of `formula` (with `base` flags, e.g. `--plausible`) that
+/// the reference says fit `spec`.
+fn reference_fits(full: &[&str], spec: &serde_json::Value) -> BTreeSet<String> {
+    let text = full.join("\n");
+    let json = run_reference_script("check_constraints.py", &[&spec.to_string()], &text);
+    let r: Reference = serde_json::from_str(&json).expect("check_constraints.py JSON");
+    assert_eq!(r.lines, full.len());
+    r.fits.iter().map(|&i| full[i].to_string()).collect()
+}
+
+struct Case {
+    formula: &'static str,
+    require: &'static [&'static str],
+    forbid: &'static [&'static str],
+    attached_h: Option<&'static str>,
+    base: &'static [&'static str],
+}
+
+const fn case(
+    formula: &'static str,
+    require: &'static [&'static str],
+    forbid: &'static [&'static str],
+    attached_h: Option<&'static str>,
+) -> Case {
+    Case {
+        formula,
+        require,
+        forbid,
+        attached_h,
+        base: &[],
+    }
+}
+
+#[test]
+fn constrained_search_equals_full_enumeration_filtered_by_rdkit() {
+    // Aromatic compounds (Kekulé forms), symmetric skeletons (xylenes,
+    // 2,3-dimethylbutane, cyclohexane), heteroarenes, esters, amides.
+    let cases = [
+        case("C6H6", &["c1ccccc1"], &[], None),
+        case("C6H6", &[], &[], Some("CH=6")),
+        case("C7H8", &["c1ccccc1"], &[], Some("CH3=1,CH=5,C=1")),
+        case("C8H10", &["c1ccccc1"], &[], Some("CH3=2,CH=4,C=2")),
+        case("C8H10", &[], &["c1ccccc1", "C#C"], Some("CH3=2,CH=4,C=2")),
+        case("C7H8O", &["c1ccccc1"], &["C=C"], None),
+        case("C6H6O", &[], &[], Some("CH=5,C=1,OH=1")),
+        case("C5H10O2", &["C(=O)O"], &[], Some("CH3=2,CH2=2,C=1,O=2")),
+        case("C4H9NO", &["C(=O)N"], &[], Some("CH3=2,CH2=1,C=1,NH=1")),
+        case("C6H12", &[], &["C=C"], Some("CH2=6")),
+        case("C6H14", &[], &[], Some("CH3=4,CH=2")),
+        case("C5H5N", &["c1ccncc1"], &["C#C"], None),
+        case("C5H7N", &["c1cc[nH]c1"], &[], None),
+        case("C6H4O2", &["C=O"], &["OO"], Some("CH=4,C=2")),
+        case("C7H6O2", &["c1ccccc1"], &[], Some("CH=5,C=2,OH=1,O=1")),
+        case("C5H8O2", &["C=O"], &["OO", "C=C=C"], None),
+        case("C3H7Cl", &[], &[], Some("CH3=2,CH=1")),
+        case("C4H6", &["C#C"], &[], None),
+        Case {
+            base: &["--plausible"],
+            ..case("C6H10O", &["C=O"], &["C1CC1"], Some("CH3=1,CH2=3,CH=1,C=1"))
+        },
+    ];
+    let mut failures = Vec::new();
+    let mut formulas = BTreeSet::new();
+    for c in &cases {
+        formulas.insert(c.formula);
+        let mut base = vec![c.formula];
+        base.extend_from_slice(c.base);
+        let full_text = isomers_ok(&base);
+        let full: Vec<&str> = full_text.lines().collect();
+        let mut spec = serde_json::json!({"require": c.require, "forbid": c.forbid});
+        let mut args = base.clone();
+        for r in c.require {
+            args.extend(["--require", r]);
+        }
+        for f in c.forbid {
+            args.extend(["--forbid", f]);
+        }
+        if let Some(h) = c.attached_h {
+            spec["hydrogens"] = hydrogen_spec(h);
+            args.extend(["--attached-h", h]);
+        }
+        // Source: RDKit (PyPI rdkit), tests/reference/check_constraints.py.
+        let theirs = reference_fits(&full, &spec);
+        let ours_text = isomers_ok(&args);
+        let ours: BTreeSet<String> = ours_text.lines().map(str::to_string).collect();
+        assert_eq!(
+            ours.len(),
+            ours_text.lines().count(),
+            "{args:?}: a line twice"
+        );
+        if ours != theirs {
+            failures.push(format!(
+                "{}: ours {} reference {}; only ours {:?}; only the reference's {:?}",
+                args.join(" "),
+                ours.len(),
+                theirs.len(),
+                ours.difference(&theirs).take(5).collect::<Vec<_>>(),
+                theirs.difference(&ours).take(5).collect::<Vec<_>>()
+            ));
+        }
+        // Every case keeps something and cuts something: the comparison
+        // decides on both sides.
+        assert!(
+            !theirs.is_empty() && theirs.len() < full.len(),
+            "{args:?}: {} of {}",
+            theirs.len(),
+            full.len()
+        );
+    }
+    assert!(failures.is_empty(), "{}", failures.join("\n"));
+    assert!(formulas.len() >= 12);
+}
+
+/// Every isomer of `formula` under `constraints`, as canonical SMILES.
+fn smiles_of(formula: &str, constraints: Constraints) -> Vec<String> {
+    let f = Formula::parse(formula).unwrap();
+    let opts = Options {
+        constraints,
+        ..Options::default()
+    };
+    let mut out = Vec::new();
+    enumerate::write_smiles(&f, &opts, &mut out, &mut |_| {}).unwrap();
+    String::from_utf8(out)
+        .unwrap()
+        .lines()
+        .map(str::to_string)
+        .collect()
+}
+
+#[test]
+fn carbon_types_equal_the_filtered_enumeration() {
+    let any = ClassCounts {
+        lo: [0; 6],
+        hi: [u32::MAX; 6],
+    };
+    let with = |pairs: &[(CarbonClass, u32, u32)]| {
+        let mut c = any.clone();
+        for &(k, lo, hi) in pairs {
+            c.lo[k.index()] = lo;
+            c.hi[k.index()] = hi;
+        }
+        c
+    };
+    let cases = [
+        (
+            "C8H8O",
+            with(&[
+                (CarbonClass::Carbonyl, 1, 1),
+                (CarbonClass::Sp2, 6, 6),
+                (CarbonClass::Sp3, 1, 1),
+            ]),
+        ),
+        (
+            "C6H10O",
+            with(&[(CarbonClass::Sp3Hetero, 2, 6), (CarbonClass::Sp2, 0, 0)]),
+        ),
+        ("C5H5N", with(&[(CarbonClass::Triple, 1, 2)])),
+        ("C5H6", with(&[(CarbonClass::Cumulated, 1, 5)])),
+        ("C4H5NO", with(&[(CarbonClass::Carbonyl, 2, 2)])),
+    ];
+    for (formula, classes) in cases {
+        let full = smiles_of(formula, Constraints::default());
+        let full: Vec<&str> = full.iter().map(String::as_str).collect();
+        let mut spec = serde_json::json!({});
+        let mut m = serde_json::Map::new();
+        for c in CarbonClass::ALL {
+            let (lo, hi) = (classes.lo[c.index()], classes.hi[c.index()]);
+            m.insert(c.name().into(), serde_json::json!([lo, hi.min(1000)]));
+        }
+        spec["classes"] = serde_json::Value::Object(m);
+        // Source: RDKit (PyPI rdkit), tests/reference/check_constraints.py.
+        let theirs = reference_fits(&full, &spec);
+        let ours: BTreeSet<String> = smiles_of(
+            formula,
+            Constraints {
+                classes: Some(classes),
+                ..Constraints::default()
+            },
+        )
+        .into_iter()
+        .collect();
+        assert_eq!(ours, theirs, "{formula}");
+        assert!(!theirs.is_empty() && theirs.len() < full.len(), "{formula}");
+    }
+}
+
+#[test]
+fn a_13c_line_list_keeps_the_structures_that_fit_it() {
+    // Phenol, 13C in CDCl3 (common practice, values from memory): 155.0
+    // (C), 129.6 (2 CH), 120.8 (CH), 115.3 (2 CH). The true structure must
+    // survive, and the kept set must be the full enumeration filtered by the
+    // derived bounds (RDKit side).
+    let lines = [
+        (155.0, Some(0), 1),
+        (129.6, Some(1), 2),
+        (120.8, Some(1), 1),
+        (115.3, Some(1), 2),
+    ];
+    let formula = "C6H6O";
+    let f = Formula::parse(formula).unwrap();
+    let facts = carbon13::carbon_facts(&lines, &f).unwrap();
+    let mut c = Constraints::default();
+    c.add_carbon_lines(&lines, &f).unwrap();
+    let ours: BTreeSet<String> = smiles_of(formula, c).into_iter().collect();
+    assert!(ours.contains("Oc1ccccc1"), "{} kept", ours.len());
+    let full = smiles_of(formula, Constraints::default());
+    let full: Vec<&str> = full.iter().map(String::as_str).collect();
+    let h = facts.hydrogens.unwrap();
+    let mut spec = serde_json::json!({
+        "hydrogens": {"C": (0..5).map(|k| [h.lo[k], h.hi[k]]).collect::<Vec<_>>()}
+    });
+    if let Some(cc) = &facts.classes {
+        let mut m = serde_json::Map::new();
+        for k in CarbonClass::ALL {
+            m.insert(
+                k.name().into(),
+                serde_json::json!([cc.lo[k.index()], cc.hi[k.index()]]),
+            );
+        }
+        spec["classes"] = serde_json::Value::Object(m);
+    }
+    // Source: RDKit (PyPI rdkit), tests/reference/check_constraints.py.
+    let theirs = reference_fits(&full, &spec);
+    assert_eq!(ours, theirs);
+    assert!(
+        ours.len() * 20 < full.len(),
+        "{} of {}",
+        ours.len(),
+        full.len()
+    );
+}
+
+#[test]
+fn shards_of_a_constrained_search_are_disjoint_and_complete() {
+    let args = [
+        "C8H8O",
+        "--require",
+        "c1ccccc1",
+        "--attached-h",
+        "CH3=1,CH=5,C=2",
+    ];
+    let whole: Vec<String> = isomers_ok(&args).lines().map(str::to_string).collect();
+    assert!(whole.len() > 5);
+    let mut union = Vec::new();
+    for k in 1..=4 {
+        let part = format!("{k}/4");
+        let mut a = args.to_vec();
+        a.extend(["--part", &part]);
+        let first = isomers_ok(&a);
+        // Deterministic: the same shard twice gives the same bytes.
+        assert_eq!(first, isomers_ok(&a), "shard {part}");
+        union.extend(first.lines().map(str::to_string));
+    }
+    let set: BTreeSet<&String> = union.iter().collect();
+    assert_eq!(set.len(), union.len(), "shards overlap");
+    let whole_set: BTreeSet<&String> = whole.iter().collect();
+    assert_eq!(set, whole_set);
+}
+
+#[test]
+fn bad_constraints_exit_2_naming_the_numbers() {
+    let cases: [(&[&str], &[&str]); 6] = [
+        (
+            &["C8H8O", "--attached-h", "CH3=2,CH=5"],
+            &["give 7 C atoms", "has 8"],
+        ),
+        (
+            &["C8H8O", "--attached-h", "CH3=2,CH=5,C=1"],
+            &["carry 11 H", "has 8"],
+        ),
+        (
+            &["C4H10O", "--require", "c1ccccc1"],
+            &["6 heavy atoms", "only 5"],
+        ),
+        (&["C6H14", "--require", "C=C"], &["at least 1", "DBE = 0"]),
+        (&["C6H6", "--require", "C(=O"], &["--require \"C(=O\""]),
+        (
+            &["C6H6", "--require", "C#C", "--forbid", "C#C"],
+            &["no structure of C6H6 fits", "together"],
+        ),
+    ];
+    for (args, wanted) in cases {
+        let mut full = vec!["isomers", "--count"];
+        full.extend_from_slice(args);
+        let out = isomerank(&full, None);
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{full:?}: {err}");
+        assert!(out.stdout.is_empty(), "{full:?}");
+        for w in wanted {
+            assert!(err.contains(w), "{full:?}: {err}");
+        }
+    }
+    // One constraint alone empties the set: it is named.
+    let out = isomerank(&["isomers", "C6H6", "--forbid", "C"], None);
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(err.contains("--forbid C removed every candidate"), "{err}");
+}
