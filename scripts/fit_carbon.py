@@ -112,9 +112,10 @@ class Model:
                 if c is not None:
                     cols[c] += 1.0
         for via, multiple, t in cls.get("paths", []):
-            c = get(("pair", fam, via, bool(multiple), t))
-            if c is not None:
-                cols[c] += 1.0
+            for key in (("pair", fam, via, bool(multiple), t), ("pcls", cls["centre"], via, bool(multiple), t)):
+                c = get(key)
+                if c is not None:
+                    cols[c] += 1.0
         r = cls["ring"]
         if 3 <= r <= 8:
             c = get(("ring", fam, r))
@@ -158,7 +159,7 @@ def solve(model, rows, y, w):
     ridge = np.zeros(p)
     for i, k in enumerate(model.names):
         ridge[i] = {"base": RIDGE_BASE, "fam": RIDGE_FAMILY, "cls": RIDGE_CLASS, "ring": RIDGE_FAMILY,
-                    "pair": RIDGE_PAIR}[k[0]]
+                    "pair": RIDGE_PAIR, "pcls": RIDGE_CLASS}[k[0]]
     ri, ci, vals = [], [], []
     for r, cols in enumerate(rows):
         for c, v in cols:
@@ -335,6 +336,17 @@ def write(model, theta, counts, rms, n_compounds, n_carbons):
             files[fname].append(
                 f'[[pair]]\ncentre = "{fam}"\nvia = "{via}"\nbond = "{"multiple" if multiple else "single"}"\n'
                 f'neighbour = "{t}"\nincrement = {val[k]:.2f}\nsource = "{src(cnt[k])}"\n')
+    for k in model.names:
+        if k[0] == "pcls" and cnt[k] >= MIN_CLASS_ROWS and abs(val[k]) >= 0.3:
+            _, c, via, multiple, t = k
+            fam = family(c)
+            fname = FILES[fam]
+            if fam == "aro6" and (t in HETERO_TYPES or via in HETERO_TYPES):
+                fname = "carbon-heteroaromatic.toml"
+            v = val.get(("pair", fam, via, multiple, t), 0.0) + val[k]
+            files[fname].append(
+                f'[[pair]]\ncentre = "{c}"\nvia = "{via}"\nbond = "{"multiple" if multiple else "single"}"\n'
+                f'neighbour = "{t}"\nincrement = {v:.2f}\nsource = "{src(cnt[k])}"\n')
     for k in model.names:
         if k[0] == "ring" and cnt[k] >= MIN_FAMILY_ROWS:
             files[FILES[k[1]]].append(

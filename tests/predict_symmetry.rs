@@ -22,21 +22,7 @@ fn partition(ids: &[usize]) -> Vec<usize> {
 
 #[test]
 fn symmetry_classes_match_rdkit() {
-    let mut smiles: Vec<String> = Vec::new();
-    for f in ["C5H10O", "C6H6", "C4H4O", "C3H6O2", "C4H6O"] {
-        let formula = Formula::parse(f).unwrap();
-        enumerate::for_each_ordered(
-            &formula,
-            &Options::default(),
-            |iso| Some(iso.smiles()),
-            |s| {
-                smiles.push(s);
-                true
-            },
-            &mut |_| {},
-        )
-        .unwrap();
-    }
+    let mut smiles = common::isomer_smiles(&["C5H10O", "C6H6", "C4H4O", "C3H6O2", "C4H6O"]);
     let named = [
         "Cc1ccccc1",
         "Cc1ccc(C)cc1",

@@ -400,11 +400,11 @@ impl<'a> CarbonCtx<'a> {
         let v = self.v;
         let mut class_of = [u8::MAX; 256];
         let mut used = 0usize;
-        for a in 0..v.n {
+        for (a, &o) in orb.iter().enumerate().take(v.n) {
             if v.element[a] != Element::C {
                 continue;
             }
-            let o = orb[a] as usize;
+            let o = o as usize;
             if class_of[o] == u8::MAX {
                 class_of[o] = used as u8;
                 let (shift, sigma) = self.shift(a);
@@ -726,8 +726,8 @@ pub(crate) fn load(files: &[(&str, String)]) -> Result<CarbonTable> {
     };
     // Path rows: the class's own, else its family's.
     let stride = 2 * NT * NT;
-    for c in 0..NC {
-        let fam = family_index(CENTRES[c].1).expect("family listed");
+    for (c, (_, family)) in CENTRES.iter().enumerate() {
+        let fam = family_index(family).expect("family listed");
         for &(k, slot, x) in &pair {
             if k == Key::Family(fam) {
                 t.pair[c * stride + slot] = x;
@@ -739,13 +739,11 @@ pub(crate) fn load(files: &[(&str, String)]) -> Result<CarbonTable> {
             }
         }
     }
-    for c in 0..NC {
+    for (c, (class, family)) in CENTRES.iter().enumerate() {
         t.base[c] = resolve(&base, c).ok_or_else(|| {
             Error::input(format!(
-                "fragment library {}: no [[base]] row for carbon centre {} or its family {}",
+                "fragment library {}: no [[base]] row for carbon centre {class} or its family {family}",
                 CARBON_FILES.join(" / "),
-                CENTRES[c].0,
-                CENTRES[c].1
             ))
         })?;
         for (ty, rows) in inc.iter().enumerate() {

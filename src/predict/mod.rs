@@ -171,13 +171,21 @@ impl Predictor {
     /// prediction are these classes before the amide and =CH2 splits; the
     /// carbon classes count the expected 13C signals.
     pub fn symmetry_classes(&self, mol: &Molecule) -> Result<Vec<usize>> {
+        self.with_orbits(mol, |v, orb| {
+            orb[..v.n].iter().map(|&o| o as usize).collect()
+        })
+    }
+
+    /// Run `f` on `mol`'s view and orbit ids (canonical labelling), with
+    /// this thread's working storage.
+    fn with_orbits<R>(&self, mol: &Molecule, f: impl FnOnce(&View, &[u8]) -> R) -> Result<R> {
         SCRATCH.with(|s| {
             let s = &mut *s.borrow_mut();
             s.view.fill(mol).map_err(Error::input)?;
             let opts = PredictOptions::default();
             let mut ctx = Ctx::new(&self.lib, &s.view, &opts);
             ctx.orbits(&mut s.canon, &mut s.graph, None);
-            Ok(ctx.orb[..s.view.n].iter().map(|&o| o as usize).collect())
+            Ok(f(&s.view, &ctx.orb))
         })
     }
 
@@ -196,14 +204,11 @@ impl Predictor {
         mol: &Molecule,
         opts: &PredictOptions,
     ) -> Result<Vec<PredictedCarbon>> {
-        SCRATCH.with(|s| {
-            let s = &mut *s.borrow_mut();
-            s.view.fill(mol).map_err(Error::input)?;
-            let mut ctx = Ctx::new(&self.lib, &s.view, opts);
-            ctx.orbits(&mut s.canon, &mut s.graph, None);
+        let _ = opts; // the 13C list does not depend on solvent or frequency (yet)
+        self.with_orbits(mol, |v, orb| {
             let mut out = Vec::new();
-            carbon::CarbonCtx::new(&self.lib.carbon, &s.view).predict(&ctx.orb, &mut out);
-            Ok(out)
+            carbon::CarbonCtx::new(&self.lib.carbon, v).predict(orb, &mut out);
+            out
         })
     }
 

@@ -284,3 +284,23 @@ pub fn rank_positions(
         })
         .collect()
 }
+
+/// Every isomer of each formula, as the generator's canonical SMILES.
+pub fn isomer_smiles(formulas: &[&str]) -> Vec<String> {
+    let mut smiles = Vec::new();
+    for f in formulas {
+        let formula = isomerank::chem::Formula::parse(f).unwrap();
+        isomerank::enumerate::for_each_ordered(
+            &formula,
+            &isomerank::enumerate::Options::default(),
+            |iso| Some(iso.smiles()),
+            |s| {
+                smiles.push(s);
+                true
+            },
+            &mut |_| {},
+        )
+        .unwrap();
+    }
+    smiles
+}
