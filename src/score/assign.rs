@@ -740,22 +740,21 @@ impl Search<'_> {
             for gi in 0..g {
                 let hg = c.hydrogens[gi] as f64;
                 let row = &c.pair[gi * m..(gi + 1) * m];
+                let reduced = |j: usize| row[j] + st.lambda[j] * hg + c.overlap[j];
                 let mut rho = c.unassigned[gi];
                 let mut arg = NONE;
                 for j in 0..m {
-                    let r = row[j] + st.lambda[j] * hg + c.overlap[j];
-                    if r < rho {
-                        rho = r;
+                    if reduced(j) < rho {
+                        rho = reduced(j);
                         arg = j as u16;
                     }
                 }
                 value += rho;
+                for j in 0..m {
+                    st.root_extra[j] = st.root_extra[j].min(reduced(j) - rho);
+                }
                 if arg != NONE {
                     st.slope[arg as usize] += hg;
-                }
-                for j in 0..m {
-                    let r = row[j] + st.lambda[j] * hg + c.overlap[j];
-                    st.root_extra[j] = st.root_extra[j].min(r - rho);
                 }
             }
             for j in 0..m {
@@ -817,13 +816,11 @@ impl Search<'_> {
             let gi = self.order[d];
             let hg = c.hydrogens[gi] as f64;
             let row = &c.pair[gi * m..(gi + 1) * m];
-            let rho = (0..m)
-                .map(|j| row[j] + st.lambda[j] * hg + c.overlap[j])
-                .fold(c.unassigned[gi], f64::min);
+            let reduced = |j: usize| row[j] + st.lambda[j] * hg + c.overlap[j];
+            let rho = (0..m).map(reduced).fold(c.unassigned[gi], f64::min);
             st.rho[d] = st.rho[d + 1] + rho;
             for j in 0..m {
-                let r = row[j] + st.lambda[j] * hg + c.overlap[j] - rho;
-                st.extra[d * m + j] = st.extra[(d + 1) * m + j].min(r);
+                st.extra[d * m + j] = st.extra[(d + 1) * m + j].min(reduced(j) - rho);
             }
             st.hmin[d] = st.hmin[d + 1].min(c.hydrogens[gi]);
         }
