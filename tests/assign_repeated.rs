@@ -54,8 +54,8 @@ fn alike_lines_optimum(c: &Costs) -> f64 {
     best[states - 1] = 0.0;
     for _ in 0..m {
         let mut next = vec![f64::INFINITY; states];
-        for s in 0..states {
-            if best[s] == f64::INFINITY {
+        for (s, &so_far) in best.iter().enumerate() {
+            if so_far == f64::INFINITY {
                 continue;
             }
             let free = decode(s);
@@ -76,7 +76,7 @@ fn alike_lines_optimum(c: &Costs) -> f64 {
                     .zip(&classes)
                     .map(|(&n, cl)| n as f64 * cl.0)
                     .sum();
-                let cost = best[s] + pair + v.multiplet(0, h, k as u32);
+                let cost = so_far + pair + v.multiplet(0, h, k as u32);
                 let left: Vec<usize> = free.iter().zip(&take).map(|(a, b)| a - b).collect();
                 let i = encode(&left);
                 next[i] = next[i].min(cost);
