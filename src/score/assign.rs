@@ -304,6 +304,19 @@ pub fn root_bound(c: &CostsRef, min_choice: &mut Vec<f64>) -> f64 {
             .sum::<f64>()
 }
 
+/// Sum of the `n` largest of `gains` (all of them when there are no more).
+fn largest(gains: &mut [f64], n: usize) -> f64 {
+    if gains.len() > n {
+        if n == 0 {
+            return 0.0;
+        }
+        gains.select_nth_unstable_by(n - 1, |a, b| b.total_cmp(a));
+        gains[..n].iter().sum()
+    } else {
+        gains.iter().sum()
+    }
+}
+
 /// Find the cheapest assignment whose cost is below `cutoff`
 /// (`f64::INFINITY` for no cutoff). `None` when none is.
 pub fn solve(c: &Costs, cutoff: f64) -> Option<Solution> {
@@ -600,123 +613,52 @@ struct Search<'a> {
     stop: bool,
 }
 
-/// A bound's per-multiplet terms summed over every multiplet for the
-/// children of one node (groups from depth `next` on still to place), so
-/// that each child's bound costs O(1): only the multiplet it fills changes.
-#[derive(Clone, Copy, Debug, Default)]
-struct Level {
-    sum: f64,
-    deficit: f64,
-    sigma2: f64,
-    /// The gains of empty multiplets (cost saved if opened): how many, their
-    /// sum, the sum of the `left` largest, the `left`-th largest and the one
-    /// after it.
-    gains: usize,
-    all: f64,
-    top: f64,
-    edge: f64,
-    after: f64,
-}
-
-impl Level {
-    /// Sum of the `left` largest gains once gain `x` (> 0; 0 for none) is
-    /// taken out.
-    fn top_without(&self, left: usize, x: f64) -> f64 {
-        let n = self.gains - (x > 0.0) as usize;
-        if n <= left {
-            self.all - x
-        } else if x > 0.0 && left > 0 && x >= self.edge {
-            self.top - x + self.after
-        } else {
-            self.top
-        }
-    }
-
-    /// Fill the gain summary from `gains` (reordered).
-    fn gains_from(&mut self, gains: &mut [f64], left: usize) {
-        self.gains = gains.len();
-        self.all = gains.iter().sum();
-        if gains.len() > left {
-            gains.sort_unstable_by(|a, b| b.total_cmp(a));
-            self.top = gains[..left].iter().sum();
-            self.edge = if left > 0 {
-                gains[left - 1]
-            } else {
-                f64::INFINITY
-            };
-            self.after = gains[left];
-        } else {
-            self.top = self.all;
-        }
-    }
-}
-
-/// Margin (relative) by which a bound is lowered before it cuts: the sums
-/// are updated incrementally, so rounding must not cut an optimum.
-fn lowered(b: f64) -> f64 {
-    b - BOUND_SLACK * (1.0 + b.abs())
-}
-
 impl Search<'_> {
-    /// Cheap bound, multiplet j holding h H in k groups: (term, deficit,
-    /// sigma^2, gain when empty).
-    fn cheap_term(&self, next: usize, j: usize, h: u32, k: u32) -> (f64, f64, f64, f64) {
+    /// Lower bound on the multiplet terms of any completion when the groups
+    /// from depth `next` on are still to place (the cheap bound).
+    fn multiplet_bound(&mut self, next: usize) -> f64 {
         let c = self.c;
-        if k == 0 {
-            let extra = self.suffix_extra[next * c.multiplets + j];
-            return if extra < c.empty[j] {
-                (extra, 0.0, 0.0, c.empty[j] - extra)
-            } else {
-                (c.empty[j], 0.0, 0.0, 0.0)
-            };
-        }
-        let t = c.overlap[j] * (k - 1) as f64;
-        match c.observed_h[j] {
-            Some(i) if h as f64 > i => (t + c.integral(j, h), 0.0, 0.0, 0.0),
-            Some(i) => (t, i - h as f64, self.sigma2[j], 0.0),
-            None => (t, 0.0, 0.0, 0.0),
-        }
-    }
-
-    fn cheap_level(&mut self, next: usize) -> Level {
-        let mut l = Level::default();
+        let m = c.multiplets;
+        let remaining = self.suffix_h[next];
+        let mut bound = 0.0;
+        let mut deficit = 0.0;
+        let mut sigma2 = 0.0;
         self.gains.clear();
-        for j in 0..self.c.multiplets {
-            let (t, d, s, gain) = self.cheap_term(next, j, self.h[j], self.k[j]);
-            l.sum += t;
-            l.deficit += d;
-            l.sigma2 += s;
-            if gain > 0.0 {
-                self.gains.push(gain);
+        for j in 0..m {
+            let k = self.k[j];
+            if k == 0 {
+                let extra = self.suffix_extra[next * m + j];
+                if extra < c.empty[j] {
+                    bound += extra;
+                    self.gains.push(c.empty[j] - extra);
+                } else {
+                    bound += c.empty[j];
+                }
+                continue;
             }
-        }
-        let left = self.order.len() - next;
-        l.gains_from(self.gains, left);
-        l
-    }
-
-    /// The cheap bound (module doc) on the multiplet terms of any completion
-    /// of the child that puts `hg` H on `j` (or nothing for [`NONE`]).
-    fn cheap_child(&self, l: &Level, next: usize, j: u16, hg: u32) -> f64 {
-        let (mut sum, mut deficit, mut sigma2, mut x) = (l.sum, l.deficit, l.sigma2, 0.0);
-        if j != NONE {
-            let j = j as usize;
-            let (t0, d0, s0, gain) = self.cheap_term(next, j, self.h[j], self.k[j]);
-            let (t1, d1, s1, _) = self.cheap_term(next, j, self.h[j] + hg, self.k[j] + 1);
-            sum += t1 - t0;
-            deficit += d1 - d0;
-            sigma2 += s1 - s0;
-            x = gain;
+            bound += c.overlap[j] * (k - 1) as f64;
+            if let Some(i) = c.observed_h[j] {
+                let h = self.h[j] as f64;
+                if h > i {
+                    bound += c.integral(j, self.h[j]);
+                } else {
+                    deficit += i - h;
+                    sigma2 += self.sigma2[j];
+                }
+            }
         }
         // Distinct multiplets need distinct groups: at most as many as
         // remain take the cheaper branch; the others stay empty.
         let left = self.order.len() - next;
-        let mut bound = sum + (l.all - x) - l.top_without(left, x);
-        let unfilled = deficit - self.suffix_h[next] as f64;
-        if unfilled > 0.0 && sigma2 > 1e-12 {
+        if self.gains.len() > left {
+            let all: f64 = self.gains.iter().sum();
+            bound += all - largest(self.gains, left);
+        }
+        let unfilled = deficit - remaining as f64;
+        if unfilled > 0.0 && sigma2 > 0.0 {
             bound += unfilled * unfilled / (2.0 * sigma2);
         }
-        lowered(bound)
+        bound
     }
 
     /// Least of u_j over H in lo..=hi.
@@ -729,62 +671,42 @@ impl Search<'_> {
         st.table[row + lo].min(st.table[row + hi + 1 - (1 << l)])
     }
 
-    /// Lagrangian bound, multiplet j holding h H in k groups: (term, gain
-    /// when empty).
-    fn strong_term(&self, next: usize, j: usize, h: u32, k: u32) -> (f64, f64) {
+    /// The Lagrangian lower bound on the cost of any completion, without the
+    /// cost of the groups already placed.
+    fn strong_bound(&mut self, next: usize) -> f64 {
         let c = self.c;
+        let m = c.multiplets;
+        let left = self.order.len() - next;
         let reach = self.suffix_h[next] as usize;
-        let observed = c.observed_h[j].is_some();
-        if k > 0 {
-            let h = h as usize;
-            let mut t = c.overlap[j] * (k - 1) as f64;
-            if observed {
-                t += self.range_min(j, h, h + reach) + self.strong.lambda[j] * h as f64;
-            }
-            return (t, 0.0);
-        }
-        if next == self.order.len() {
-            return (c.empty[j], 0.0);
-        }
-        let lo = self.strong.hmin[next] as usize;
-        let fill = if observed {
-            self.range_min(j, lo, reach)
-        } else {
-            0.0
-        };
-        let open = self.strong.extra[next * c.multiplets + j] + fill - c.overlap[j];
-        (c.empty[j], (c.empty[j] - open).max(0.0))
-    }
-
-    fn strong_level(&mut self, next: usize) -> Level {
-        let mut l = Level::default();
+        let mut bound = self.strong.rho[next];
         self.gains.clear();
-        for j in 0..self.c.multiplets {
-            let (t, gain) = self.strong_term(next, j, self.h[j], self.k[j]);
-            l.sum += t;
-            if gain > 0.0 {
-                self.gains.push(gain);
+        for j in 0..m {
+            let k = self.k[j];
+            let observed = c.observed_h[j].is_some();
+            if k > 0 {
+                let h0 = self.h[j] as usize;
+                if observed {
+                    bound += self.range_min(j, h0, h0 + reach) + self.strong.lambda[j] * h0 as f64;
+                }
+                bound += c.overlap[j] * (k - 1) as f64;
+            } else {
+                bound += c.empty[j];
+                if left > 0 {
+                    let lo = self.strong.hmin[next] as usize;
+                    let fill = if observed {
+                        self.range_min(j, lo, reach)
+                    } else {
+                        0.0
+                    };
+                    let open = self.strong.extra[next * m + j] + fill - c.overlap[j];
+                    if open < c.empty[j] {
+                        self.gains.push(c.empty[j] - open);
+                    }
+                }
             }
         }
-        let left = self.order.len() - next;
-        l.gains_from(self.gains, left);
-        l
-    }
-
-    /// The Lagrangian lower bound on the cost of any completion of the child
-    /// that puts `hg` H on `j` (or nothing), without the cost of the groups
-    /// placed.
-    fn strong_child(&self, l: &Level, next: usize, j: u16, hg: u32) -> f64 {
-        let (mut sum, mut x) = (l.sum, 0.0);
-        if j != NONE {
-            let j = j as usize;
-            let (t0, gain) = self.strong_term(next, j, self.h[j], self.k[j]);
-            let (t1, _) = self.strong_term(next, j, self.h[j] + hg, self.k[j] + 1);
-            sum += t1 - t0;
-            x = gain;
-        }
-        let left = self.order.len() - next;
-        lowered(self.strong.rho[next] + sum - l.top_without(left, x))
+        bound -= largest(self.gains, left);
+        bound - BOUND_SLACK * (1.0 + bound.abs())
     }
 
     /// Choose the multipliers by subgradient ascent on the root relaxation
@@ -930,8 +852,7 @@ impl Search<'_> {
         if self.nodes == self.strong_after {
             self.prepare_strong();
             if d == 0 {
-                let l = self.strong_level(0);
-                self.strong.root = Some(self.strong_child(&l, 0, NONE, 0));
+                self.strong.root = Some(self.strong_bound(0));
             }
         }
         let c = self.c;
@@ -967,9 +888,6 @@ impl Search<'_> {
         }
         // Identical groups take options in non-decreasing order.
         let from = if first { 0 } else { self.position[d - 1] };
-        let next = d + 1;
-        let cheap = self.cheap_level(next);
-        let mut strong = None;
         let g = self.order[d];
         let hg = c.hydrogens[g];
         for oi in from..self.stride {
@@ -991,30 +909,21 @@ impl Search<'_> {
                 {
                     continue;
                 }
-            }
-            if base + self.cheap_child(&cheap, next, j, hg) >= self.best {
-                continue;
-            }
-            if self.strong.ready {
-                let l = match strong {
-                    Some(l) => l,
-                    None => *strong.insert(self.strong_level(next)),
-                };
-                if partial + cost + self.strong_child(&l, next, j, hg) >= self.best {
-                    continue;
-                }
-            }
-            if j != NONE {
-                let ju = j as usize;
                 self.h[ju] += hg;
                 self.k[ju] += 1;
                 self.count[row + ju] += 1;
             }
-            self.current[d] = j;
-            self.position[d] = oi;
-            self.dfs(next, partial + cost);
-            if self.stop {
-                return;
+            let mut go = base + self.multiplet_bound(d + 1) < self.best;
+            if go && self.strong.ready {
+                go = partial + cost + self.strong_bound(d + 1) < self.best;
+            }
+            if go {
+                self.current[d] = j;
+                self.position[d] = oi;
+                self.dfs(d + 1, partial + cost);
+                if self.stop {
+                    return;
+                }
             }
             if j != NONE {
                 let ju = j as usize;
