@@ -1,35 +1,73 @@
 //! Exact best assignment of predicted groups to observed multiplets, by
-//! depth-first branch and bound.
+//! depth-first branch and bound with symmetry reduction and a Lagrangian
+//! bound.
 //!
 //! The problem: each of G predicted groups goes to one of M observed
 //! multiplets or to none; several groups may share one multiplet (overlap).
 //! The cost is separable per group (shift, multiplicity, J, or the
-//! unassigned penalty) plus a per-multiplet term that depends on the set of
-//! groups it holds (integral mismatch of their H sum, overlap, or the
-//! unexplained penalty when empty). The per-multiplet term couples the
-//! groups, so a greedy choice per group is not optimal; an assignment
-//! problem solver (Hungarian method) does not apply because assignments are
-//! many-to-one with a non-linear integral term.
+//! unassigned penalty) plus a per-multiplet term f_j(H, k) of the H sum H
+//! and the number k of groups it holds (integral mismatch of H, overlap per
+//! group beyond the first, or the unexplained penalty when empty). The
+//! per-multiplet term couples the groups and is not linear in the groups'
+//! H, so neither a greedy choice per group nor a plain assignment solver
+//! gives the optimum. The same code serves 13C lists (carbons in place of H).
 //!
 //! Branch and bound (Land & Doig, Econometrica 1960, 28, 497) over groups in
-//! a fixed order, each group's options tried cheapest first. The bound at a
-//! node adds to the cost so far:
+//! a fixed order (larger groups first), each group's options tried cheapest
+//! first, with three additions that keep the search small when spectra are
+//! long or repetitive:
+//!
+//! 1. **Identical groups** (same cost row, unassigned cost and H) are
+//!    interchangeable: they sit next to each other in the search order and
+//!    take options in non-decreasing order, so each multiset of choices is
+//!    visited once instead of in every permutation.
+//! 2. **Identical multiplets** (same cost column for every group, same
+//!    observed H, unexplained and overlap cost) are interchangeable too. Per
+//!    class of identical groups (a row of the count matrix "how many groups
+//!    of class c sit in multiplet j"), the columns of identical multiplets
+//!    are kept in non-increasing lexicographic order: the lex-leader
+//!    symmetry-breaking constraint (Crawford, Ginsberg, Luks & Roy, KR 1996,
+//!    148). Every assignment has a column permutation that satisfies it at
+//!    the same cost, so the optimum survives; checked incrementally because
+//!    identical multiplets are adjacent among a group's sorted options.
+//! 3. **Lagrangian bound** (Held & Karp, Math. Programming 1971, 1, 6;
+//!    Fisher, Management Science 1981, 27, 1): the coupling constraints
+//!    "H_j = sum of the H of its groups" and "k_j = number of its groups"
+//!    are priced with multipliers lambda_j and mu_j = overlap_j. A group then
+//!    pays pair + lambda_j h + mu_j on multiplet j, independently of the
+//!    others, and multiplet j contributes min over the H it may still reach
+//!    of f_j(H, k) - lambda_j (H - H0) - mu_j (k - k0); an empty multiplet
+//!    contributes the cheaper of staying empty and being opened by some
+//!    remaining group at that group's extra reduced cost, and no more
+//!    multiplets can be opened than groups remain. For every choice of
+//!    lambda this is a lower bound, so the search stays exact; lambda is
+//!    chosen once per instance by subgradient ascent (Held, Wolfe & Crowder,
+//!    Math. Programming 1974, 6, 62) on the root relaxation, and only when
+//!    the search has not finished after [`STRONG_AFTER`] nodes (ordinary
+//!    spectra never pay for it).
+//!
+//! The cheap bound of every node (kept from the earlier search, which
+//! remains in `assign_reference.rs` for the tests and the benchmark) adds to
+//! the cost so far:
 //! - the cheapest option of every group still to place (their separable part);
 //! - for each multiplet already holding groups: its overlap cost and, when it
 //!   already holds more H than observed, its integral cost (the H sum only
 //!   grows, and the integral cost grows with it past the observed value);
 //! - for each multiplet still empty: the cheaper of staying empty (its
 //!   unexplained cost) and the least extra any group still to place would
-//!   pay to go there instead of to its own cheapest option (each group fills
-//!   at most one multiplet, so these extras add up without double counting);
+//!   pay to go there instead of to its own cheapest option (distinct
+//!   multiplets need distinct groups, so these extras add up, and at most as
+//!   many multiplets as groups remain can take the cheaper branch);
 //! - the deficit bound: multiplets holding fewer H than observed need
 //!   D H more in total, the groups left carry R H, so at least D - R H stay
 //!   missing; with quadratic costs the cheapest way to spread them is
 //!   proportional to sigma^2, giving (D - R)^2 / (2 sum sigma^2).
 //!
-//! Every term is a valid lower bound, so the search returns the exact optimum.
-//! A cutoff (the current k-th best cost of the ranking) makes the search
-//! return nothing as soon as no assignment can beat it.
+//! A node is cut when either bound reaches the best cost found. A cutoff
+//! (the current k-th best cost of the ranking) makes the search return
+//! nothing as soon as no assignment can beat it. The Lagrangian bound is
+//! lowered by a relative 1e-9 before it cuts, so rounding in its sums
+//! (reduced costs added, multipliers subtracted) cannot cut an optimum.
 
 /// Marker for "no observed multiplet".
 pub const NONE: u16 = u16::MAX;
@@ -100,7 +138,9 @@ impl Costs {
 }
 
 impl CostsRef<'_> {
-    fn integral(&self, j: usize, h: u32) -> f64 {
+    /// Integral cost of multiplet j holding h H (0 without an observed
+    /// integral).
+    pub fn integral(&self, j: usize, h: u32) -> f64 {
         match self.observed_h[j] {
             Some(i) => {
                 let h = h as f64;
@@ -122,7 +162,7 @@ impl CostsRef<'_> {
 
     /// Total cost of a complete assignment; `h` and `k` are zeroed scratch
     /// of length `multiplets` (left dirty).
-    fn evaluate_in(&self, choice: &[u16], h: &mut [u32], k: &mut [u32]) -> f64 {
+    pub(crate) fn evaluate_in(&self, choice: &[u16], h: &mut [u32], k: &mut [u32]) -> f64 {
         let m = self.multiplets;
         let mut total = 0.0;
         for (g, &j) in choice.iter().enumerate() {
@@ -148,12 +188,30 @@ pub struct Solution {
     pub nodes: u64,
 }
 
+/// Search nodes after which the Lagrangian bound is computed and used for
+/// the rest of the search. Above the ranking gate's node budget, so the gate
+/// never pays for it; ordinary spectra finish well below it.
+pub const STRONG_AFTER: u64 = 128;
+
+/// Subgradient steps on the root relaxation, the first step (in cost per H)
+/// and its decay per step.
+const SUBGRADIENT_STEPS: usize = 40;
+const FIRST_STEP: f64 = 2.0;
+const STEP_DECAY: f64 = 0.85;
+
+/// Relative margin by which the Lagrangian bound is lowered before it cuts.
+const BOUND_SLACK: f64 = 1e-9;
+
 /// Buffers of one search, kept between calls so that scoring a stream of
 /// candidates allocates nothing once they have grown to the largest size.
 #[derive(Clone, Debug, Default)]
 pub struct Workspace {
     min_choice: Vec<f64>,
     order: Vec<usize>,
+    /// Per depth: the first depth of its class of identical groups.
+    class_start: Vec<usize>,
+    /// Per depth: the index of that class.
+    class_of: Vec<usize>,
     /// Options of the group at depth d: `options[d * (m + 1)..][..m + 1]`.
     options: Vec<(f64, u16)>,
     greedy: Vec<u16>,
@@ -161,11 +219,49 @@ pub struct Workspace {
     suffix_h: Vec<u32>,
     suffix_extra: Vec<f64>,
     sigma2: Vec<f64>,
+    /// Per multiplet: the nearest identical multiplet before it, or [`NONE`].
+    twin: Vec<u16>,
+    /// `count[c * m + j]`: groups of class c placed on multiplet j.
+    count: Vec<u32>,
+    /// `tie[c * m + j]`: the columns of j and `twin[j]` are equal on every
+    /// class before c (so class c must not put more groups on j).
+    tie: Vec<bool>,
+    gains: Vec<f64>,
     h: Vec<u32>,
     k: Vec<u32>,
     current: Vec<u16>,
+    /// Per depth: the index of the option taken.
+    position: Vec<usize>,
     best_choice: Vec<u16>,
+    strong: Strong,
     nodes: u64,
+}
+
+/// The Lagrangian bound's tables for one instance (module doc, item 3).
+#[derive(Clone, Debug, Default)]
+struct Strong {
+    ready: bool,
+    /// The bound at the root, when prepared there (for the tests).
+    root: Option<f64>,
+    lambda: Vec<f64>,
+    best_lambda: Vec<f64>,
+    /// `rho[d]`: sum over the groups at depth >= d of their cheapest reduced
+    /// option (reduced cost pair + lambda_j h + overlap_j, or unassigned).
+    rho: Vec<f64>,
+    /// `extra[d * m + j]`: least reduced extra (over its cheapest) for a
+    /// group at depth >= d to go to multiplet j.
+    extra: Vec<f64>,
+    /// `hmin[d]`: fewest H of a group at depth >= d.
+    hmin: Vec<u32>,
+    /// Total H + 1: the H values a multiplet can hold.
+    width: usize,
+    /// Sparse table of range minima (Bentley, CACM 1980, 23, 214):
+    /// `table[(l * m + j) * width + h]` is the least of
+    /// u_j(H) = integral_j(H) - lambda_j H over H in h..h + 2^l.
+    table: Vec<f64>,
+    slope: Vec<f64>,
+    root_extra: Vec<f64>,
+    members: Vec<(f64, u32)>,
 }
 
 impl Workspace {
@@ -181,7 +277,7 @@ impl Workspace {
     }
 }
 
-fn refill<T: Copy>(v: &mut Vec<T>, n: usize, x: T) {
+pub(crate) fn refill<T: Copy>(v: &mut Vec<T>, n: usize, x: T) {
     v.clear();
     v.resize(n, x);
 }
@@ -208,30 +304,17 @@ pub fn root_bound(c: &CostsRef, min_choice: &mut Vec<f64>) -> f64 {
             .sum::<f64>()
 }
 
-struct Search<'a> {
-    c: &'a CostsRef<'a>,
-    order: &'a [usize],
-    /// Options per depth: (separable cost, multiplet or NONE), cheapest first.
-    options: &'a [(f64, u16)],
-    stride: usize,
-    suffix_min: &'a [f64],
-    suffix_h: &'a [u32],
-    /// `suffix_extra[d * m + j]`: least extra cost (over its cheapest option)
-    /// for any group at depth >= d to go to multiplet j.
-    suffix_extra: &'a [f64],
-    sigma2: &'a [f64],
-    h: &'a mut [u32],
-    k: &'a mut [u32],
-    current: &'a mut [u16],
-    best: f64,
-    best_choice: &'a mut [u16],
-    found: bool,
-    nodes: u64,
-    /// Existence mode: stop at the first assignment below the cutoff.
-    first_only: bool,
-    /// Give up (set `stop`) beyond this many nodes.
-    max_nodes: u64,
-    stop: bool,
+/// Sum of the `n` largest of `gains` (all of them when there are no more).
+fn largest(gains: &mut [f64], n: usize) -> f64 {
+    if gains.len() > n {
+        if n == 0 {
+            return 0.0;
+        }
+        gains.select_nth_unstable_by(n - 1, |a, b| b.total_cmp(a));
+        gains[..n].iter().sum()
+    } else {
+        gains.iter().sum()
+    }
 }
 
 /// Find the cheapest assignment whose cost is below `cutoff`
@@ -249,7 +332,7 @@ pub fn solve(c: &Costs, cutoff: f64) -> Option<Solution> {
 /// [`solve`] in reused buffers: the cost, with the assignment left in
 /// [`Workspace::choice`].
 pub fn solve_in(c: &CostsRef, cutoff: f64, ws: &mut Workspace) -> Option<f64> {
-    match run(c, cutoff, ws, false, u64::MAX) {
+    match run(c, cutoff, ws, false, u64::MAX, STRONG_AFTER) {
         Outcome::Below(cost) => Some(cost),
         _ => None,
     }
@@ -260,7 +343,10 @@ pub fn solve_in(c: &CostsRef, cutoff: f64, ws: &mut Workspace) -> Option<f64> {
 /// `true` ("not ruled out") after `max_nodes` nodes. `false` only when the
 /// whole search found nothing below the cutoff.
 pub fn may_reach_below(c: &CostsRef, cutoff: f64, ws: &mut Workspace, max_nodes: u64) -> bool {
-    !matches!(run(c, cutoff, ws, true, max_nodes), Outcome::Nothing)
+    !matches!(
+        run(c, cutoff, ws, true, max_nodes, STRONG_AFTER),
+        Outcome::Nothing
+    )
 }
 
 enum Outcome {
@@ -270,7 +356,44 @@ enum Outcome {
     GaveUp,
 }
 
-fn run(c: &CostsRef, cutoff: f64, ws: &mut Workspace, first_only: bool, max_nodes: u64) -> Outcome {
+/// Whether multiplets `a` and `b` are interchangeable: same observed H,
+/// unexplained and overlap cost, and the same pair cost for every group.
+fn same_multiplet(c: &CostsRef, a: usize, b: usize) -> bool {
+    let m = c.multiplets;
+    c.observed_h[a].map(f64::to_bits) == c.observed_h[b].map(f64::to_bits)
+        && c.empty[a].to_bits() == c.empty[b].to_bits()
+        && c.overlap[a].to_bits() == c.overlap[b].to_bits()
+        && (0..c.groups).all(|g| c.pair[g * m + a].to_bits() == c.pair[g * m + b].to_bits())
+}
+
+/// Search order: larger groups first (they decide the integrals), identical
+/// groups next to each other (`Equal` only for identical groups; the caller
+/// breaks ties by index).
+fn group_order(c: &CostsRef, a: usize, b: usize) -> std::cmp::Ordering {
+    let m = c.multiplets;
+    c.hydrogens[b]
+        .cmp(&c.hydrogens[a])
+        .then(c.unassigned[a].total_cmp(&c.unassigned[b]))
+        .then_with(|| {
+            let (ra, rb) = (&c.pair[a * m..(a + 1) * m], &c.pair[b * m..(b + 1) * m]);
+            ra.iter()
+                .zip(rb)
+                .map(|(x, y)| x.total_cmp(y))
+                .find(|o| o.is_ne())
+                .unwrap_or(std::cmp::Ordering::Equal)
+        })
+}
+
+/// The search; the Lagrangian bound joins after `strong_after` nodes (the
+/// tests set 1 to check it on every instance).
+fn run(
+    c: &CostsRef,
+    cutoff: f64,
+    ws: &mut Workspace,
+    first_only: bool,
+    max_nodes: u64,
+    strong_after: u64,
+) -> Outcome {
     let (g, m) = (c.groups, c.multiplets);
     ws.nodes = 0;
     // Cheap root bound first: most candidates of a large enumeration are
@@ -282,25 +405,54 @@ fn run(c: &CostsRef, cutoff: f64, ws: &mut Workspace, first_only: bool, max_node
     let Workspace {
         min_choice,
         order,
+        class_start,
+        class_of,
         options,
         greedy,
         suffix_min,
         suffix_h,
         suffix_extra,
         sigma2,
+        twin,
+        count,
+        tie,
+        gains,
         h,
         k,
         current,
+        position,
         best_choice,
+        strong,
         nodes,
     } = ws;
-    // Larger groups first: they decide the integrals; ties by index. The
-    // comparison is a total order without ties, so the unstable sort (no
-    // allocation) gives the same order as a stable one.
     order.clear();
     order.extend(0..g);
-    order.sort_unstable_by(|&a, &b| c.hydrogens[b].cmp(&c.hydrogens[a]).then(a.cmp(&b)));
-    // Separable options of each group (in search order), cheapest first.
+    order.sort_unstable_by(|&a, &b| group_order(c, a, b).then(a.cmp(&b)));
+    // Classes of identical groups: runs of the order equal but for the index.
+    class_start.clear();
+    class_of.clear();
+    for d in 0..g {
+        let same = d > 0 && group_order(c, order[d - 1], order[d]).is_eq();
+        if same {
+            class_start.push(class_start[d - 1]);
+            class_of.push(class_of[d - 1]);
+        } else {
+            class_start.push(d);
+            class_of.push(if d == 0 { 0 } else { class_of[d - 1] + 1 });
+        }
+    }
+    let classes = class_of.last().map_or(0, |&x| x + 1);
+    twin.clear();
+    twin.extend((0..m).map(|j| {
+        (0..j)
+            .rev()
+            .find(|&p| same_multiplet(c, p, j))
+            .map_or(NONE, |p| p as u16)
+    }));
+    refill(count, classes * m, 0);
+    refill(tie, classes * m, true);
+    // Separable options of each group (in search order), cheapest first;
+    // identical multiplets tie on cost and stay in index order.
     let stride = m + 1;
     options.clear();
     for &gi in order.iter() {
@@ -316,7 +468,39 @@ fn run(c: &CostsRef, cutoff: f64, ws: &mut Workspace, first_only: bool, max_node
     }
     refill(h, m, 0);
     refill(k, m, 0);
-    let greedy_cost = c.evaluate_in(greedy, h, k);
+    let mut greedy_cost = c.evaluate_in(greedy, h, k);
+    if first_only && greedy_cost < cutoff {
+        return Outcome::Below(greedy_cost);
+    }
+    // Second incumbent: groups in search order, each where it adds least to
+    // the total so far (its pair cost plus the change of the multiplet term),
+    // which spreads repeated groups over repeated lines.
+    refill(h, m, 0);
+    refill(k, m, 0);
+    refill(current, g, NONE);
+    for &gi in order.iter() {
+        let hg = c.hydrogens[gi];
+        let mut best = (c.unassigned[gi], NONE);
+        for j in 0..m {
+            let added = c.pair[gi * m + j] + c.multiplet(j, h[j] + hg, k[j] + 1)
+                - c.multiplet(j, h[j], k[j]);
+            if added < best.0 {
+                best = (added, j as u16);
+            }
+        }
+        current[gi] = best.1;
+        if best.1 != NONE {
+            h[best.1 as usize] += hg;
+            k[best.1 as usize] += 1;
+        }
+    }
+    refill(h, m, 0);
+    refill(k, m, 0);
+    let marginal_cost = c.evaluate_in(current, h, k);
+    if marginal_cost < greedy_cost {
+        greedy.copy_from_slice(current);
+        greedy_cost = marginal_cost;
+    }
     if first_only && greedy_cost < cutoff {
         return Outcome::Below(greedy_cost);
     }
@@ -350,24 +534,36 @@ fn run(c: &CostsRef, cutoff: f64, ws: &mut Workspace, first_only: bool, max_node
         (cutoff, false)
     };
     refill(current, g, NONE);
+    refill(position, g, 0);
+    strong.ready = false;
+    strong.root = None;
     let mut s = Search {
         c,
         order,
+        class_start,
+        class_of,
         options,
         stride,
         suffix_min,
         suffix_h,
         suffix_extra,
         sigma2,
+        twin,
+        count,
+        tie,
+        gains,
         h,
         k,
         current,
+        position,
         best,
         best_choice,
+        strong,
         found,
         nodes: 0,
         first_only,
         max_nodes,
+        strong_after,
         stop: false,
     };
     s.dfs(0, 0.0);
@@ -381,20 +577,63 @@ fn run(c: &CostsRef, cutoff: f64, ws: &mut Workspace, first_only: bool, max_node
     }
 }
 
+struct Search<'a> {
+    c: &'a CostsRef<'a>,
+    order: &'a [usize],
+    class_start: &'a [usize],
+    class_of: &'a [usize],
+    /// Options per depth: (separable cost, multiplet or NONE), cheapest first.
+    options: &'a [(f64, u16)],
+    stride: usize,
+    suffix_min: &'a [f64],
+    suffix_h: &'a [u32],
+    /// `suffix_extra[d * m + j]`: least extra cost (over its cheapest option)
+    /// for any group at depth >= d to go to multiplet j.
+    suffix_extra: &'a [f64],
+    sigma2: &'a [f64],
+    twin: &'a [u16],
+    count: &'a mut [u32],
+    tie: &'a mut [bool],
+    gains: &'a mut Vec<f64>,
+    h: &'a mut [u32],
+    k: &'a mut [u32],
+    current: &'a mut [u16],
+    position: &'a mut [usize],
+    best: f64,
+    best_choice: &'a mut [u16],
+    strong: &'a mut Strong,
+    found: bool,
+    nodes: u64,
+    /// Existence mode: stop at the first assignment below the cutoff.
+    first_only: bool,
+    /// Give up (set `stop`) beyond this many nodes.
+    max_nodes: u64,
+    /// Node at which the Lagrangian bound is prepared.
+    strong_after: u64,
+    stop: bool,
+}
+
 impl Search<'_> {
     /// Lower bound on the multiplet terms of any completion when the groups
-    /// from depth `next` on are still to place.
-    fn multiplet_bound(&self, next: usize) -> f64 {
+    /// from depth `next` on are still to place (the cheap bound).
+    fn multiplet_bound(&mut self, next: usize) -> f64 {
         let c = self.c;
         let m = c.multiplets;
         let remaining = self.suffix_h[next];
         let mut bound = 0.0;
         let mut deficit = 0.0;
         let mut sigma2 = 0.0;
+        self.gains.clear();
         for j in 0..m {
             let k = self.k[j];
             if k == 0 {
-                bound += c.empty[j].min(self.suffix_extra[next * m + j]);
+                let extra = self.suffix_extra[next * m + j];
+                if extra < c.empty[j] {
+                    bound += extra;
+                    self.gains.push(c.empty[j] - extra);
+                } else {
+                    bound += c.empty[j];
+                }
                 continue;
             }
             bound += c.overlap[j] * (k - 1) as f64;
@@ -408,11 +647,200 @@ impl Search<'_> {
                 }
             }
         }
+        // Distinct multiplets need distinct groups: at most as many as
+        // remain take the cheaper branch; the others stay empty.
+        let left = self.order.len() - next;
+        if self.gains.len() > left {
+            let all: f64 = self.gains.iter().sum();
+            bound += all - largest(self.gains, left);
+        }
         let unfilled = deficit - remaining as f64;
         if unfilled > 0.0 && sigma2 > 0.0 {
             bound += unfilled * unfilled / (2.0 * sigma2);
         }
         bound
+    }
+
+    /// Least of u_j over H in lo..=hi.
+    fn range_min(&self, j: usize, lo: usize, hi: usize) -> f64 {
+        let st = &*self.strong;
+        let m = self.c.multiplets;
+        let len = hi - lo + 1;
+        let l = (usize::BITS - 1 - len.leading_zeros()) as usize;
+        let row = (l * m + j) * st.width;
+        st.table[row + lo].min(st.table[row + hi + 1 - (1 << l)])
+    }
+
+    /// The Lagrangian lower bound on the cost of any completion, without the
+    /// cost of the groups already placed.
+    fn strong_bound(&mut self, next: usize) -> f64 {
+        let c = self.c;
+        let m = c.multiplets;
+        let left = self.order.len() - next;
+        let reach = self.suffix_h[next] as usize;
+        let mut bound = self.strong.rho[next];
+        self.gains.clear();
+        for j in 0..m {
+            let k = self.k[j];
+            let observed = c.observed_h[j].is_some();
+            if k > 0 {
+                let h0 = self.h[j] as usize;
+                if observed {
+                    bound += self.range_min(j, h0, h0 + reach) + self.strong.lambda[j] * h0 as f64;
+                }
+                bound += c.overlap[j] * (k - 1) as f64;
+            } else {
+                bound += c.empty[j];
+                if left > 0 {
+                    let lo = self.strong.hmin[next] as usize;
+                    let fill = if observed {
+                        self.range_min(j, lo, reach)
+                    } else {
+                        0.0
+                    };
+                    let open = self.strong.extra[next * m + j] + fill - c.overlap[j];
+                    if open < c.empty[j] {
+                        self.gains.push(c.empty[j] - open);
+                    }
+                }
+            }
+        }
+        bound -= largest(self.gains, left);
+        bound - BOUND_SLACK * (1.0 + bound.abs())
+    }
+
+    /// Choose the multipliers by subgradient ascent on the root relaxation
+    /// and fill the tables of [`Search::strong_bound`].
+    fn prepare_strong(&mut self) {
+        let c = self.c;
+        let (g, m) = (c.groups, c.multiplets);
+        let total = self.suffix_h[0] as usize;
+        let width = total + 1;
+        let levels = (usize::BITS - width.leading_zeros()) as usize;
+        let st = &mut *self.strong;
+        st.width = width;
+        refill(&mut st.table, levels * m * width, 0.0);
+        for j in 0..m {
+            for hh in 0..width {
+                st.table[j * width + hh] = c.integral(j, hh as u32);
+            }
+        }
+        let hmin_all = (0..g).map(|gi| c.hydrogens[gi]).min().unwrap_or(0) as usize;
+        refill(&mut st.lambda, m, 0.0);
+        refill(&mut st.best_lambda, m, 0.0);
+        refill(&mut st.slope, m, 0.0);
+        refill(&mut st.root_extra, m, f64::INFINITY);
+        refill(&mut st.members, m, (0.0, 0));
+        let mut best = f64::NEG_INFINITY;
+        let mut step = FIRST_STEP;
+        for _ in 0..SUBGRADIENT_STEPS {
+            st.slope.fill(0.0);
+            st.root_extra.fill(f64::INFINITY);
+            let mut value = 0.0;
+            for gi in 0..g {
+                let hg = c.hydrogens[gi] as f64;
+                let row = &c.pair[gi * m..(gi + 1) * m];
+                let reduced = |j: usize| row[j] + st.lambda[j] * hg + c.overlap[j];
+                let mut rho = c.unassigned[gi];
+                let mut arg = NONE;
+                for j in 0..m {
+                    if reduced(j) < rho {
+                        rho = reduced(j);
+                        arg = j as u16;
+                    }
+                }
+                value += rho;
+                for j in 0..m {
+                    st.root_extra[j] = st.root_extra[j].min(reduced(j) - rho);
+                }
+                if arg != NONE {
+                    st.slope[arg as usize] += hg;
+                }
+            }
+            for j in 0..m {
+                let (mut fill, mut at) = (0.0, 0);
+                if c.observed_h[j].is_some() {
+                    fill = f64::INFINITY;
+                    for hh in hmin_all.min(total)..width {
+                        let u = st.table[j * width + hh] - st.lambda[j] * hh as f64;
+                        if u < fill {
+                            fill = u;
+                            at = hh;
+                        }
+                    }
+                }
+                let open = st.root_extra[j] + fill - c.overlap[j];
+                if open < c.empty[j] {
+                    value += open;
+                    st.slope[j] -= at as f64;
+                } else {
+                    value += c.empty[j];
+                }
+            }
+            if value > best {
+                best = value;
+                st.best_lambda.copy_from_slice(&st.lambda);
+            }
+            // Identical multiplets share one multiplier: the relaxation is
+            // symmetric, so averaging their slopes loses nothing.
+            st.members.fill((0.0, 0));
+            for j in 0..m {
+                let root = class_root(self.twin, j);
+                st.members[root].0 += st.slope[j];
+                st.members[root].1 += 1;
+            }
+            let mut norm: f64 = 0.0;
+            for j in 0..m {
+                let (sum, n) = st.members[class_root(self.twin, j)];
+                st.slope[j] = if c.observed_h[j].is_some() {
+                    sum / n as f64
+                } else {
+                    0.0
+                };
+                norm = norm.max(st.slope[j].abs());
+            }
+            if norm == 0.0 {
+                break;
+            }
+            for j in 0..m {
+                st.lambda[j] += step * st.slope[j] / norm;
+            }
+            step *= STEP_DECAY;
+        }
+        st.lambda.copy_from_slice(&st.best_lambda);
+        // Per-depth sums and minima over the groups still to place.
+        refill(&mut st.rho, g + 1, 0.0);
+        refill(&mut st.extra, (g + 1) * m, f64::INFINITY);
+        refill(&mut st.hmin, g + 1, u32::MAX);
+        for d in (0..g).rev() {
+            let gi = self.order[d];
+            let hg = c.hydrogens[gi] as f64;
+            let row = &c.pair[gi * m..(gi + 1) * m];
+            let reduced = |j: usize| row[j] + st.lambda[j] * hg + c.overlap[j];
+            let rho = (0..m).map(reduced).fold(c.unassigned[gi], f64::min);
+            st.rho[d] = st.rho[d + 1] + rho;
+            for j in 0..m {
+                st.extra[d * m + j] = st.extra[(d + 1) * m + j].min(reduced(j) - rho);
+            }
+            st.hmin[d] = st.hmin[d + 1].min(c.hydrogens[gi]);
+        }
+        // u_j(H) = integral_j(H) - lambda_j H and its range-minimum levels.
+        for j in 0..m {
+            for hh in 0..width {
+                st.table[j * width + hh] -= st.lambda[j] * hh as f64;
+            }
+        }
+        for l in 1..levels {
+            let half = 1 << (l - 1);
+            for j in 0..m {
+                let (from, to) = ((l - 1) * m + j, l * m + j);
+                for hh in 0..width + 1 - (1 << l) {
+                    st.table[to * width + hh] =
+                        st.table[from * width + hh].min(st.table[from * width + hh + half]);
+                }
+            }
+        }
+        st.ready = true;
     }
 
     fn dfs(&mut self, d: usize, partial: f64) {
@@ -421,10 +849,17 @@ impl Search<'_> {
             self.stop = true;
             return;
         }
+        if self.nodes == self.strong_after {
+            self.prepare_strong();
+            if d == 0 {
+                self.strong.root = Some(self.strong_bound(0));
+            }
+        }
         let c = self.c;
+        let m = c.multiplets;
         if d == self.order.len() {
             let total = partial
-                + (0..c.multiplets)
+                + (0..m)
                     .map(|j| c.multiplet(j, self.h[j], self.k[j]))
                     .sum::<f64>();
             if total < self.best {
@@ -437,9 +872,25 @@ impl Search<'_> {
             }
             return;
         }
+        let class = self.class_of[d];
+        let row = class * m;
+        let first = self.class_start[d] == d;
+        if first && class > 0 {
+            // The previous class is complete: carry the ties forward.
+            for j in 0..m {
+                let t = self.twin[j];
+                if t != NONE {
+                    let before = row - m;
+                    self.tie[row + j] = self.tie[before + j]
+                        && self.count[before + j] == self.count[before + t as usize];
+                }
+            }
+        }
+        // Identical groups take options in non-decreasing order.
+        let from = if first { 0 } else { self.position[d - 1] };
         let g = self.order[d];
         let hg = c.hydrogens[g];
-        for oi in 0..self.stride {
+        for oi in from..self.stride {
             let (cost, j) = self.options[d * self.stride + oi];
             let base = partial + cost + self.suffix_min[d + 1];
             if base >= self.best {
@@ -447,27 +898,55 @@ impl Search<'_> {
                 break;
             }
             if j != NONE {
-                self.h[j as usize] += hg;
-                self.k[j as usize] += 1;
+                let ju = j as usize;
+                let t = self.twin[ju];
+                // Lex-leader: while tied with its twin, j holds no more of
+                // this class than the twin (whose count is final: it comes
+                // earlier among the options).
+                if t != NONE
+                    && self.tie[row + ju]
+                    && self.count[row + ju] >= self.count[row + t as usize]
+                {
+                    continue;
+                }
+                self.h[ju] += hg;
+                self.k[ju] += 1;
+                self.count[row + ju] += 1;
             }
-            if base + self.multiplet_bound(d + 1) < self.best {
+            let mut go = base + self.multiplet_bound(d + 1) < self.best;
+            if go && self.strong.ready {
+                go = partial + cost + self.strong_bound(d + 1) < self.best;
+            }
+            if go {
                 self.current[d] = j;
+                self.position[d] = oi;
                 self.dfs(d + 1, partial + cost);
                 if self.stop {
                     return;
                 }
             }
             if j != NONE {
-                self.h[j as usize] -= hg;
-                self.k[j as usize] -= 1;
+                let ju = j as usize;
+                self.h[ju] -= hg;
+                self.k[ju] -= 1;
+                self.count[row + ju] -= 1;
             }
         }
     }
 }
 
+/// The first multiplet of j's class of identical multiplets.
+fn class_root(twin: &[u16], mut j: usize) -> usize {
+    while twin[j] != NONE {
+        j = twin[j] as usize;
+    }
+    j
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::score::assign_reference;
     use crate::score::testgen::rng;
 
     /// Exhaustive reference: every one of (M+1)^G assignments.
@@ -487,41 +966,153 @@ mod tests {
         best
     }
 
+    /// The search with the Lagrangian bound from node `strong_after` on,
+    /// and the bound's value at the root when it was prepared there.
+    fn solve_with(c: &Costs, cutoff: f64, strong_after: u64) -> (Option<Solution>, Option<f64>) {
+        let mut ws = Workspace::default();
+        let out = run(&c.view(), cutoff, &mut ws, false, u64::MAX, strong_after);
+        let root = ws.strong.root;
+        match out {
+            Outcome::Below(cost) => (
+                Some(Solution {
+                    cost,
+                    choice: ws.best_choice,
+                    nodes: ws.nodes,
+                }),
+                root,
+            ),
+            _ => (None, root),
+        }
+    }
+
+    /// A random instance of up to `g_max` groups and `m_max` multiplets in
+    /// which groups and multiplets often repeat (identical rows and
+    /// columns), as equivalent CH2 groups and equal-shift m lines do.
+    /// Invented numbers on the scales of the model (costs of a few units,
+    /// 1-3 H per group, observed 1-5 H or none).
+    fn random(st: &mut u64, g_max: usize, m_max: usize) -> Costs {
+        let g = 1 + (rng(st) * g_max as f64) as usize;
+        let m = 1 + (rng(st) * m_max as f64) as usize;
+        let copy = |st: &mut u64, i: usize| -> usize {
+            if i > 0 && rng(st) < 0.4 {
+                (rng(st) * i as f64) as usize
+            } else {
+                i
+            }
+        };
+        let mut gp: Vec<usize> = vec![];
+        for i in 0..g {
+            let p = copy(st, i);
+            gp.push(if p == i { i } else { gp[p] });
+        }
+        let mut mp: Vec<usize> = vec![];
+        for j in 0..m {
+            let p = copy(st, j);
+            mp.push(if p == j { j } else { mp[p] });
+        }
+        let base: Vec<f64> = (0..g * m).map(|_| rng(st) * 6.0).collect();
+        let un: Vec<f64> = (0..g).map(|_| 1.0 + rng(st) * 6.0).collect();
+        let hy: Vec<u32> = (0..g).map(|_| 1 + (rng(st) * 3.0) as u32).collect();
+        let obs: Vec<Option<f64>> = (0..m)
+            .map(|_| {
+                let x = rng(st);
+                (x > 0.15).then(|| 1.0 + (x * 5.0).floor())
+            })
+            .collect();
+        let empty: Vec<f64> = (0..m).map(|_| 2.0 + rng(st) * 5.0).collect();
+        let overlap: Vec<f64> = (0..m).map(|_| rng(st) * 2.0).collect();
+        Costs {
+            groups: g,
+            multiplets: m,
+            pair: (0..g * m)
+                .map(|x| base[gp[x / m] * m + mp[x % m]])
+                .collect(),
+            unassigned: gp.iter().map(|&p| un[p]).collect(),
+            hydrogens: gp.iter().map(|&p| hy[p]).collect(),
+            observed_h: mp.iter().map(|&p| obs[p]).collect(),
+            empty: mp.iter().map(|&p| empty[p]).collect(),
+            overlap: mp.iter().map(|&p| overlap[p]).collect(),
+            abs_sigma: 0.25,
+            rel_sigma: 0.06,
+        }
+    }
+
+    // Reference: exhaustive enumeration of every assignment (no outside
+    // source: the definition of the optimum).
     #[test]
-    fn branch_and_bound_equals_exhaustive_search() {
+    fn search_equals_exhaustive_search() {
         let mut st = 0x9e3779b97f4a7c15u64;
-        for _ in 0..300 {
-            let g = 1 + (rng(&mut st) * 5.0) as usize;
-            let m = 1 + (rng(&mut st) * 4.0) as usize;
-            let c = Costs {
-                groups: g,
-                multiplets: m,
-                pair: (0..g * m).map(|_| rng(&mut st) * 6.0).collect(),
-                unassigned: (0..g).map(|_| 1.0 + rng(&mut st) * 6.0).collect(),
-                hydrogens: (0..g).map(|_| 1 + (rng(&mut st) * 3.0) as u32).collect(),
-                observed_h: (0..m)
-                    .map(|_| {
-                        let x = rng(&mut st);
-                        (x > 0.1).then(|| 1.0 + (x * 5.0).floor())
-                    })
-                    .collect(),
-                empty: (0..m).map(|_| 2.0 + rng(&mut st) * 5.0).collect(),
-                overlap: (0..m).map(|_| rng(&mut st) * 2.0).collect(),
-                abs_sigma: 0.25,
-                rel_sigma: 0.06,
-            };
+        let (mut tighter, mut compared) = (0, 0);
+        for _ in 0..600 {
+            let c = random(&mut st, 6, 4);
             let exact = brute(&c);
-            let s = solve(&c, f64::INFINITY).unwrap();
-            assert!((s.cost - exact).abs() < 1e-9, "{} vs {exact}", s.cost);
-            assert!((c.evaluate(&s.choice) - s.cost).abs() < 1e-9);
-            // With a cutoff below the optimum nothing is returned.
-            assert!(solve(&c, exact - 1e-6).is_none());
+            for strong_after in [1, STRONG_AFTER] {
+                let (s, root) = solve_with(&c, f64::INFINITY, strong_after);
+                let s = s.unwrap();
+                assert!((s.cost - exact).abs() < 1e-9, "{} vs {exact}", s.cost);
+                assert!((c.evaluate(&s.choice) - s.cost).abs() < 1e-9);
+                if let Some(root) = root {
+                    // The Lagrangian bound is a lower bound ...
+                    assert!(root <= exact + 1e-9, "bound {root} above optimum {exact}");
+                    // ... and often a better one than the cheap root bound.
+                    let cheap = root_bound(&c.view(), &mut vec![]);
+                    tighter += (root > cheap + 1e-6) as usize;
+                    compared += 1;
+                }
+                // With a cutoff below the optimum nothing is returned.
+                assert!(solve_with(&c, exact - 1e-6, strong_after).0.is_none());
+                assert!(
+                    (solve_with(&c, exact + 1e-6, strong_after).0.unwrap().cost - exact).abs()
+                        < 1e-9
+                );
+            }
+            assert_eq!(
+                solve(&c, f64::INFINITY).unwrap().cost,
+                solve_with(&c, f64::INFINITY, STRONG_AFTER).0.unwrap().cost
+            );
             // The existence search agrees, and gives up only with "maybe".
             let mut ws = Workspace::default();
             assert!(may_reach_below(&c.view(), exact + 1e-6, &mut ws, u64::MAX));
             assert!(!may_reach_below(&c.view(), exact - 1e-6, &mut ws, u64::MAX));
             assert!(may_reach_below(&c.view(), exact + 1e-6, &mut ws, 1));
         }
+        assert_eq!(compared, 600);
+        assert!(
+            tighter > 150,
+            "Lagrangian bound tighter on {tighter} of {compared}"
+        );
+    }
+
+    // Reference: the search as it was before this one
+    // (`assign_reference.rs`), on instances too large to enumerate.
+    #[test]
+    fn search_equals_the_previous_search() {
+        let mut st = 0x2545_f491_4f6c_dd1du64;
+        let mut fewer = 0;
+        for _ in 0..300 {
+            let c = random(&mut st, 10, 7);
+            let old = assign_reference::solve(&c, f64::INFINITY).unwrap();
+            for strong_after in [1, STRONG_AFTER] {
+                let (s, root) = solve_with(&c, f64::INFINITY, strong_after);
+                let s = s.unwrap();
+                assert!(
+                    (s.cost - old.cost).abs() < 1e-9,
+                    "{} vs {}",
+                    s.cost,
+                    old.cost
+                );
+                assert!((c.evaluate(&s.choice) - s.cost).abs() < 1e-9);
+                if let Some(root) = root {
+                    assert!(root <= old.cost + 1e-9, "bound {root} above {}", old.cost);
+                }
+                fewer += (s.nodes <= old.nodes) as usize;
+            }
+            // Under a cutoff: nothing at or below the optimum, the optimum
+            // just above it.
+            assert!(solve(&c, old.cost - 1e-6).is_none());
+            assert!((solve(&c, old.cost + 1e-6).unwrap().cost - old.cost).abs() < 1e-9);
+        }
+        assert!(fewer > 500, "{fewer}");
     }
 
     #[test]
@@ -544,5 +1135,54 @@ mod tests {
         let s = solve(&c, f64::INFINITY).unwrap();
         assert_eq!(s.choice, vec![0, 0, 1]);
         assert!((s.cost - brute(&c)).abs() < 1e-12);
+    }
+
+    /// n identical 2H groups and `lines` identical 1H multiplets, all near
+    /// one shift (the shape of a long alkane chain against equal-shift m
+    /// lines); pair cost 2, unassigned 6 (the model's 3 + 1.5 per H),
+    /// unexplained 4.5, overlap 0.3 (the embedded model's values).
+    fn chain(n: usize, lines: usize) -> Costs {
+        Costs {
+            groups: n,
+            multiplets: lines,
+            pair: vec![2.0; n * lines],
+            unassigned: vec![6.0; n],
+            hydrogens: vec![2; n],
+            observed_h: vec![Some(1.0); lines],
+            empty: vec![4.5; lines],
+            overlap: vec![0.3; lines],
+            abs_sigma: 0.25,
+            rel_sigma: 0.06,
+        }
+    }
+
+    // Reference: worked by hand from the cost model. One 2H group in a 1H
+    // line costs 2 + (1 - 2)^2 / (2 (0.25 + 0.06 * 2)^2) = 2 + 3.652 = 5.652,
+    // below both leaving the group out (6) plus the line unexplained (4.5);
+    // a second group in the same line costs 2 + 0.3 more and raises the
+    // integral term to (1 - 4)^2 / (2 (0.25 + 0.24)^2) = 18.74, worse than 6.
+    // So the optimum puts one group in each line and leaves the rest out.
+    #[test]
+    fn repeated_groups_and_lines_are_solved_exactly_and_fast() {
+        let one = 2.0 + 1.0 / (2.0 * 0.37f64.powi(2));
+        for (n, lines) in [(14, 5), (14, 10), (30, 30), (20, 12)] {
+            let c = chain(n, lines);
+            let s = solve(&c, f64::INFINITY).unwrap();
+            let placed = n.min(lines);
+            let expect =
+                placed as f64 * one + (n - placed) as f64 * 6.0 + (lines - placed) as f64 * 4.5;
+            assert!(
+                (s.cost - expect).abs() < 1e-9,
+                "{n} {lines}: {} vs {expect}",
+                s.cost
+            );
+            // Symmetry and the bound leave a search of a few nodes per
+            // group (the previous search needed millions at 14 x 10).
+            assert!(
+                s.nodes < 50 * (n as u64 + 1),
+                "{n} {lines}: {} nodes",
+                s.nodes
+            );
+        }
     }
 }

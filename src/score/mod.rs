@@ -10,6 +10,7 @@
 //! cost) and, before multiplicities are predicted, [`Prepared::may_beat`].
 
 pub mod assign;
+pub mod assign_reference;
 pub mod carbon;
 pub mod model;
 mod pattern_rows;
