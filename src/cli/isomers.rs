@@ -37,6 +37,8 @@ pub struct Args {
 pub fn run(args: Args) -> crate::Result<()> {
     let formula = Formula::parse(&args.formula)?;
     let opts = Options {
+        limits: Default::default(),
+        weights: None,
         expanded_valence: args.expanded_valence,
         part: args.part.as_deref().map(Part::parse).transpose()?,
         rules: match args.plausible.as_deref() {

@@ -449,6 +449,9 @@ pub struct Generator<'p> {
     /// Non-identity automorphisms of the parent at each depth.
     auts: Vec<Vec<[u8; MAX_ATOMS]>>,
     orders: Orders,
+    /// Set (by a sink or another thread) to end the search early: no new
+    /// child is tried once it is true.
+    abort: std::sync::Arc<std::sync::atomic::AtomicBool>,
 }
 
 /// What a search step hands to its sink: a node at the depth limit and, for
@@ -468,7 +471,15 @@ impl<'p> Generator<'p> {
                 check_min: p.kinds.iter().any(|k| k.min_bond_sum > 0),
                 ..Orders::default()
             },
+            abort: Default::default(),
         }
+    }
+
+    /// The flag that ends this generator's search early when set (the
+    /// search returns without trying further children; what was handed to
+    /// the sink stays handed). Clear it before the next search.
+    pub fn abort_flag(&self) -> std::sync::Arc<std::sync::atomic::AtomicBool> {
+        self.abort.clone()
     }
 
     /// Visit every complete isomer whose skeleton descends from `node` (an
@@ -625,6 +636,9 @@ impl<'p> Generator<'p> {
         sink: &mut Sink<'_>,
     ) {
         let p = self.p;
+        if self.abort.load(std::sync::atomic::Ordering::Relaxed) {
+            return;
+        }
         // Only one attachment per orbit of the parent's automorphism group.
         if !ctx.auts.is_empty() && !attachment_is_minimal(attach, &ctx.auts) {
             return;
