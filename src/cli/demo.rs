@@ -45,13 +45,14 @@ pub fn run(args: Args) -> Result<()> {
         format: args.format,
         keep_all: false,
         expanded_valence: false,
+        run: Default::default(),
     };
-    let report = execute(&job, None)?;
+    let (report, _) = execute(&job, None)?;
     let text = match args.format {
         Format::Text => format!("{SCENARIO}\n{report}"),
         // JSON stays one document; the scenario goes to stderr.
         Format::Json => {
-            eprint!("{SCENARIO}");
+            super::limits::note(SCENARIO.trim_end());
             report
         }
     };

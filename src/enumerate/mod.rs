@@ -550,7 +550,7 @@ where
                             tasks_done: at,
                             tasks_total: total,
                             isomers: summary.isomers,
-                            share: share_of(at, total, emitted_share, weight_total),
+                            share: share_of(at, total, summary.generated, emitted_share, weight_total, 0.0),
                         });
                         g = state.lock().expect("driver state");
                     }
@@ -601,17 +601,21 @@ where
             let index = mine[at].0;
             if summary.stopped.is_some() {
                 // The crossing task counts as partly covered.
-                summary.share = share_of(at, total, emitted_share, weight_total);
-                if weights.is_none() && full > 0 {
-                    summary.share += out.candidates as f64 / full as f64 / total as f64;
-                }
-                if let Some(w) = &weights {
-                    if full > 0 {
-                        summary.share += w[at] / weight_total.max(f64::MIN_POSITIVE)
-                            * out.candidates as f64
-                            / full as f64;
+                let left = (full - out.candidates) as f64;
+                summary.share = match &weights {
+                    Some(w) => share_of(
+                        at,
+                        total,
+                        summary.generated,
+                        emitted_share + w[at],
+                        weight_total,
+                        left,
+                    ),
+                    None if full > 0 => {
+                        (at as f64 + out.candidates as f64 / full as f64) / total as f64
                     }
-                }
+                    None => share_of(at, total, 0, 0.0, 0.0, 0.0),
+                };
                 emit(index, out.acc);
                 break;
             }
@@ -635,7 +639,7 @@ where
                     tasks_done: at,
                     tasks_total: total,
                     isomers: summary.isomers,
-                    share: share_of(at, total, emitted_share, weight_total),
+                    share: share_of(at, total, summary.generated, emitted_share, weight_total, 0.0),
                 });
             }
         }
@@ -645,7 +649,7 @@ where
             } else {
                 Stop::Candidates
             });
-            summary.share = share_of(at, total, emitted_share, weight_total);
+            summary.share = share_of(at, total, summary.generated, emitted_share, weight_total, 0.0);
         }
         summary.tasks_done = summary.tasks_done.max(at.min(total));
         stop.store(true, Relaxed);
@@ -657,9 +661,27 @@ where
     Ok(summary)
 }
 
-fn share_of(done: usize, total: usize, weight_done: f64, weight_total: f64) -> f64 {
+/// Share of the search done after `done` of `total` tasks: with the
+/// estimator's weights, the isomers found so far (`generated`, a true count)
+/// against those plus the estimate of the tasks not done (`weight_total -
+/// weight_done`, plus `left` isomers known to remain), so the share corrects
+/// itself as tasks finish; without weights, the share of the tasks.
+fn share_of(
+    done: usize,
+    total: usize,
+    generated: u64,
+    weight_done: f64,
+    weight_total: f64,
+    left: f64,
+) -> f64 {
     if weight_total > 0.0 {
-        (weight_done / weight_total).clamp(0.0, 1.0)
+        let g = generated as f64;
+        let rest = (weight_total - weight_done).max(0.0) + left;
+        if g + rest > 0.0 {
+            (g / (g + rest)).clamp(0.0, 1.0)
+        } else {
+            1.0
+        }
     } else if total == 0 {
         1.0
     } else {
