@@ -258,7 +258,8 @@ impl<T> Collector<T> {
     }
 
     fn limit_bin(&self) -> i64 {
-        bin(self.best) + (self.skip_margin * HIST_BINS_PER_NAT).round() as i64
+        // Before any cost the best is infinite and every bin is kept.
+        bin(self.best).saturating_add((self.skip_margin * HIST_BINS_PER_NAT).round() as i64)
     }
 
     fn count_cost(&mut self, cost: f64) {
