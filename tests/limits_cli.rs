@@ -43,7 +43,14 @@ fn a_candidate_cap_keeps_the_first_isomers_in_task_order() {
     let full: Vec<&str> = full.lines().collect();
     assert_eq!(full.len(), 75);
     for threads in ["1", "2"] {
-        let (capped, err) = ok(&["isomers", "C10H22", "--max-candidates", "40", "--threads", threads]);
+        let (capped, err) = ok(&[
+            "isomers",
+            "C10H22",
+            "--max-candidates",
+            "40",
+            "--threads",
+            threads,
+        ]);
         let lines: Vec<&str> = capped.lines().collect();
         assert_eq!(lines.len(), 41, "{capped}");
         assert_eq!(lines[..40], full[..40], "threads {threads}");
@@ -69,14 +76,30 @@ fn json(args: &[&str]) -> serde_json::Value {
 
 #[test]
 fn rankings_say_whether_they_are_complete() {
-    let whole = json(&["rank", "C4H8O2", "--peaks", ETHYL_ACETATE, "--format", "json"]);
+    let whole = json(&[
+        "rank",
+        "C4H8O2",
+        "--peaks",
+        ETHYL_ACETATE,
+        "--format",
+        "json",
+    ]);
     assert_eq!(whole["complete"], true);
     assert_eq!(whole["coverage"]["share"], 1.0);
     assert!(whole["coverage"]["stopped_by"].is_null());
     let args = |threads| {
         vec![
-            "rank", "C8H8O", "--keep-all", "--peaks", ACETOPHENONE, "--max-candidates", "5000",
-            "--format", "json", "--threads", threads,
+            "rank",
+            "C8H8O",
+            "--keep-all",
+            "--peaks",
+            ACETOPHENONE,
+            "--max-candidates",
+            "5000",
+            "--format",
+            "json",
+            "--threads",
+            threads,
         ]
     };
     let one = json(&args("1"));
@@ -87,12 +110,28 @@ fn rankings_say_whether_they_are_complete() {
     // C8H8O has 112380 isomers (README, checked against nauty); 5000 of
     // them is a small share, reported as such.
     assert!(share > 0.0 && share < 0.5, "{share}");
-    assert_eq!(one, json(&args("2")), "a candidate cap counts in task order");
+    assert_eq!(
+        one,
+        json(&args("2")),
+        "a candidate cap counts in task order"
+    );
     let (text, err) = ok(&[
-        "rank", "C8H8O", "--keep-all", "--peaks", ACETOPHENONE, "--max-candidates", "5000",
+        "rank",
+        "C8H8O",
+        "--keep-all",
+        "--peaks",
+        ACETOPHENONE,
+        "--max-candidates",
+        "5000",
     ]);
-    assert!(text.contains("PARTIAL RESULT: the run stopped at --max-candidates after 5000 candidates"), "{text}");
-    assert!(err.contains("partial result: stopped by --max-candidates"), "{err}");
+    assert!(
+        text.contains("PARTIAL RESULT: the run stopped at --max-candidates after 5000 candidates"),
+        "{text}"
+    );
+    assert!(
+        err.contains("partial result: stopped by --max-candidates"),
+        "{err}"
+    );
 }
 
 #[test]
@@ -101,12 +140,23 @@ fn a_run_far_beyond_the_default_cap_is_refused_with_its_estimate() {
     let err = String::from_utf8_lossy(&out.stderr);
     assert_eq!(out.status.code(), Some(2), "{err}");
     assert!(out.stdout.is_empty());
-    for needle in ["isomers by Knuth's estimator", "default cap", "--max-candidates", "--time-limit"] {
+    for needle in [
+        "isomers by Knuth's estimator",
+        "default cap",
+        "--max-candidates",
+        "--time-limit",
+    ] {
         assert!(err.contains(needle), "{err:?} lacks {needle:?}");
     }
     // With a cap it runs, and says it is partial.
     let capped = json(&[
-        "rank", "C12H14O2", "--peaks", C12H14O2_PEAKS, "--max-candidates", "3000", "--format",
+        "rank",
+        "C12H14O2",
+        "--peaks",
+        C12H14O2_PEAKS,
+        "--max-candidates",
+        "3000",
+        "--format",
         "json",
     ]);
     assert_eq!(capped["complete"], false);
@@ -119,11 +169,27 @@ fn a_time_limit_stops_the_run_and_progress_goes_to_stderr() {
     let mut lines = out.lines();
     let n: u64 = lines.next().unwrap().parse().unwrap();
     assert!(n > 0);
-    assert!(lines.next().unwrap().starts_with("# partial result: stopped by --time-limit"), "{out}");
+    assert!(
+        lines
+            .next()
+            .unwrap()
+            .starts_with("# partial result: stopped by --time-limit"),
+        "{out}"
+    );
     assert!(err.contains("C12H14O2: about "), "estimate shown: {err}");
     assert!(err.contains("% of the search, "), "progress lines: {err}");
-    let (_, quiet) = ok(&["isomers", "C12H14O2", "--count", "--time-limit", "1", "--quiet"]);
-    assert!(!quiet.contains("% of the search, ") && !quiet.contains("about "), "{quiet}");
+    let (_, quiet) = ok(&[
+        "isomers",
+        "C12H14O2",
+        "--count",
+        "--time-limit",
+        "1",
+        "--quiet",
+    ]);
+    assert!(
+        !quiet.contains("% of the search, ") && !quiet.contains("about "),
+        "{quiet}"
+    );
     assert!(quiet.contains("partial result"), "{quiet}");
 }
 
@@ -132,7 +198,12 @@ fn a_full_stderr_does_not_end_the_run() {
     let (expected, _) = ok(&["isomers", "C6H10O", "--count", "--plausible"]);
     let out = std::process::Command::new(bin())
         .args(["isomers", "C6H10O", "--count", "--plausible"])
-        .stderr(std::fs::File::options().write(true).open("/dev/full").unwrap())
+        .stderr(
+            std::fs::File::options()
+                .write(true)
+                .open("/dev/full")
+                .unwrap(),
+        )
         .output()
         .unwrap();
     assert_eq!(out.status.code(), Some(0));
@@ -141,7 +212,10 @@ fn a_full_stderr_does_not_end_the_run() {
 
 #[test]
 fn a_formula_without_any_structure_is_not_blamed_on_the_rules() {
-    let out = isomerank(&["rank", "--keep-all", "--peaks", "5.0 (s, 2H)", "CH2"], None);
+    let out = isomerank(
+        &["rank", "--keep-all", "--peaks", "5.0 (s, 2H)", "CH2"],
+        None,
+    );
     let err = String::from_utf8_lossy(&out.stderr);
     assert_eq!(out.status.code(), Some(2), "{err}");
     assert!(err.contains("no structure has formula CH2"), "{err}");
@@ -160,7 +234,14 @@ fn raw_instrument_integrals_are_scaled() {
 [[multiplets]]\nshift = 2.05\nmultiplicity = \"s\"\nintegral = 3210.7\n\
 [[multiplets]]\nshift = 1.26\nmultiplicity = \"t\"\nintegral = 3209.9\n",
     );
-    let r = json(&["rank", "C4H8O2", "--spectrum", file.to_str().unwrap(), "--format", "json"]);
+    let r = json(&[
+        "rank",
+        "C4H8O2",
+        "--spectrum",
+        file.to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
     assert_eq!(r["candidates"][0]["smiles"], "CCOC(C)=O");
 }
 
@@ -182,12 +263,28 @@ fn byte_order_marks_are_skipped_in_every_input_file() {
 {\"shift\": 1.26, \"multiplicity\": \"t\", \"j\": 7.1, \"integral\": 3}]}"
             .as_bytes(),
     );
-    let r = json(&["rank", "C4H8O2", "--spectrum", spectrum.to_str().unwrap(), "--format", "json"]);
-    assert_eq!(r["candidates"][0]["smiles"], "CCOC(C)=O");
-    let list = temp_file("bom.smi", "\u{feff}CCOC(C)=O ethyl acetate\nCOC(=O)CC\n".as_bytes());
     let r = json(&[
-        "rank", "C4H8O2", "--candidates", list.to_str().unwrap(), "--peaks", ETHYL_ACETATE,
-        "--format", "json",
+        "rank",
+        "C4H8O2",
+        "--spectrum",
+        spectrum.to_str().unwrap(),
+        "--format",
+        "json",
+    ]);
+    assert_eq!(r["candidates"][0]["smiles"], "CCOC(C)=O");
+    let list = temp_file(
+        "bom.smi",
+        "\u{feff}CCOC(C)=O ethyl acetate\nCOC(=O)CC\n".as_bytes(),
+    );
+    let r = json(&[
+        "rank",
+        "C4H8O2",
+        "--candidates",
+        list.to_str().unwrap(),
+        "--peaks",
+        ETHYL_ACETATE,
+        "--format",
+        "json",
     ]);
     assert_eq!(r["candidates"][0]["name"], "ethyl acetate");
     assert_eq!(r["isomers_considered"], 2);

@@ -80,7 +80,13 @@ impl RunArgs {
     /// a large estimate on stderr, and refuse a run whose estimate (for this
     /// shard) is above `cap` when no cap was given. Sets the progress
     /// weights in `opts`.
-    pub fn plan(&self, formula: &Formula, opts: &mut Options, command: &str, cap: f64) -> Result<()> {
+    pub fn plan(
+        &self,
+        formula: &Formula,
+        opts: &mut Options,
+        command: &str,
+        cap: f64,
+    ) -> Result<()> {
         let est = enumerate::estimate(formula, opts)?;
         let shards = opts.part.map_or(1.0, |p| p.of as f64);
         let mine = est.isomers / shards;

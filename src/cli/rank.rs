@@ -3,6 +3,7 @@
 //! list and print the table, the groups the data cannot separate, an
 //! optional signal-by-signal assignment, and the safety wording.
 
+use super::limits::{self, Reporter, RunArgs};
 use crate::chem::smiles::{canonical_smiles, parse_smiles};
 use crate::chem::Formula;
 use crate::enumerate::{self, rules::RuleSet};
@@ -12,7 +13,6 @@ use crate::rank::{self, Ranking, Settings, ShortlistItem};
 use crate::report::{self, Context, Source};
 use crate::score::ScoringModel;
 use crate::spectrum::{file, integrals, journal, SolventTable, Spectrum};
-use super::limits::{self, Reporter, RunArgs};
 use rayon::prelude::*;
 use std::collections::HashSet;
 use std::io::{Read, Write};

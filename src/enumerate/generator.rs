@@ -440,6 +440,9 @@ pub fn root(p: &Problem, k: usize) -> Node {
     node
 }
 
+/// Automorphism lists longer than this are freed after use (see `dfs`).
+const LARGE_GROUP: usize = 4096;
+
 /// Depth-first generation below given nodes, with reusable work space.
 pub struct Generator<'p> {
     p: &'p Problem,
@@ -584,7 +587,16 @@ impl<'p> Generator<'p> {
                 self.choose(node, k, d, &ctx, others, nothers, extra, must, sink);
             }
         }
-        self.auts[n] = ctx.auts;
+        // A large group's list is not kept for the next node of this depth:
+        // kept at every depth, lists of hundreds of thousands of elements
+        // (C30 alkanes) add up to hundreds of MB.
+        self.canon[n].release_large(LARGE_GROUP);
+        self.canon[n + 1].release_large(LARGE_GROUP);
+        self.auts[n] = if ctx.auts.capacity() > LARGE_GROUP {
+            Vec::new()
+        } else {
+            ctx.auts
+        };
     }
 
     /// Choose `extra` more attachment atoms from `others` (`nothers` of

@@ -488,7 +488,9 @@ where
     let cond = Condvar::new();
     let run = |w: &mut Worker, at: usize, limit: Option<u64>| -> TaskOut<A> {
         let (index, task) = mine[at];
-        w.run(&problems, task, index, rules, limit, &limits, &stop, &time_up, &init, &visit)
+        w.run(
+            &problems, task, index, rules, limit, &limits, &stop, &time_up, &init, &visit,
+        )
     };
     let mut emitted_share = 0.0;
     let mut last_progress = std::time::Instant::now();
@@ -535,7 +537,10 @@ where
                     if stop.load(Relaxed) && at >= next.load(Relaxed) {
                         break None;
                     }
-                    if limits.deadline.is_some_and(|d| std::time::Instant::now() >= d) {
+                    if limits
+                        .deadline
+                        .is_some_and(|d| std::time::Instant::now() >= d)
+                    {
                         time_up.store(true, Relaxed);
                         stop.store(true, Relaxed);
                     }
@@ -550,7 +555,14 @@ where
                             tasks_done: at,
                             tasks_total: total,
                             isomers: summary.isomers,
-                            share: share_of(at, total, summary.generated, emitted_share, weight_total, 0.0),
+                            share: share_of(
+                                at,
+                                total,
+                                summary.generated,
+                                emitted_share,
+                                weight_total,
+                                0.0,
+                            ),
                         });
                         g = state.lock().expect("driver state");
                     }
@@ -639,7 +651,14 @@ where
                     tasks_done: at,
                     tasks_total: total,
                     isomers: summary.isomers,
-                    share: share_of(at, total, summary.generated, emitted_share, weight_total, 0.0),
+                    share: share_of(
+                        at,
+                        total,
+                        summary.generated,
+                        emitted_share,
+                        weight_total,
+                        0.0,
+                    ),
                 });
             }
         }
@@ -649,7 +668,14 @@ where
             } else {
                 Stop::Candidates
             });
-            summary.share = share_of(at, total, summary.generated, emitted_share, weight_total, 0.0);
+            summary.share = share_of(
+                at,
+                total,
+                summary.generated,
+                emitted_share,
+                weight_total,
+                0.0,
+            );
         }
         summary.tasks_done = summary.tasks_done.max(at.min(total));
         stop.store(true, Relaxed);
@@ -674,7 +700,11 @@ fn share_of(
     weight_total: f64,
     left: f64,
 ) -> f64 {
-    if weight_total > 0.0 {
+    // The estimate is trusted only while the tasks done hold about what it
+    // said (Knuth's estimator can be far too low on trees whose isomers sit
+    // in a few deep branches, as for C30 alkanes); else tasks count alike.
+    let plausible = (generated as f64) <= 4.0 * weight_done + 1000.0;
+    if weight_total > 0.0 && plausible {
         let g = generated as f64;
         let rest = (weight_total - weight_done).max(0.0) + left;
         if g + rest > 0.0 {
@@ -751,7 +781,10 @@ impl<'p> Worker<'p> {
             }
             seen = seen.wrapping_add(1);
             if seen % 256 == 0 {
-                if limits.deadline.is_some_and(|d| std::time::Instant::now() >= d) {
+                if limits
+                    .deadline
+                    .is_some_and(|d| std::time::Instant::now() >= d)
+                {
                     time_up.store(true, Relaxed);
                     stop.store(true, Relaxed);
                 }
@@ -869,7 +902,9 @@ fn probe(
     while node.n < p.atoms {
         children.clear();
         let depth = node.n + 1;
-        gen.skeletons(&mut node, depth, &mut |c: &Node, _| children.push(c.clone()));
+        gen.skeletons(&mut node, depth, &mut |c: &Node, _| {
+            children.push(c.clone())
+        });
         if children.is_empty() {
             return 0.0;
         }

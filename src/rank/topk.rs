@@ -463,7 +463,9 @@ mod tests {
     #[test]
     fn merging_parts_in_any_order_gives_the_same_bits() {
         // Costs spread over 40 nats with ties, split into parts three ways.
-        let costs: Vec<f64> = (0..500).map(|i| ((i * 7919) % 4000) as f64 / 97.0).collect();
+        let costs: Vec<f64> = (0..500)
+            .map(|i| ((i * 7919) % 4000) as f64 / 97.0)
+            .collect();
         let whole = |parts: Vec<Vec<usize>>| {
             let mut all: Collector<usize> = Collector::new(5, 30.0);
             for part in parts {
@@ -487,7 +489,12 @@ mod tests {
         };
         let one = whole(vec![(0..500).collect()]);
         let forward = whole((0..5).map(|p| (p * 100..p * 100 + 100).collect()).collect());
-        let strided = whole((0..7).rev().map(|p| (p..500).step_by(7).collect()).collect());
+        let strided = whole(
+            (0..7)
+                .rev()
+                .map(|p| (p..500).step_by(7).collect())
+                .collect(),
+        );
         assert_eq!(one, forward);
         assert_eq!(one, strided);
         // The probabilities are the softmax over the kept costs (best + 30).
@@ -500,7 +507,10 @@ mod tests {
         let p0 = f64::from_bits(one.0[0].1);
         assert!((p0 - 1.0 / z).abs() < 1e-12, "{p0} against {}", 1.0 / z);
         assert_eq!(one.1, 500);
-        assert_eq!(one.2, costs.iter().filter(|&&c| c >= best + 30.0).count() as u64);
+        assert_eq!(
+            one.2,
+            costs.iter().filter(|&&c| c >= best + 30.0).count() as u64
+        );
     }
 
     #[test]
