@@ -780,7 +780,7 @@ impl<'p> Worker<'p> {
                 return;
             }
             seen = seen.wrapping_add(1);
-            if seen % 256 == 0 {
+            if seen.is_multiple_of(256) {
                 if limits
                     .deadline
                     .is_some_and(|d| std::time::Instant::now() >= d)
