@@ -77,16 +77,7 @@ fn main() {
                 limits: limits(secs),
                 ..Default::default()
             };
-            let s = enumerate::for_each_task(
-                &formula,
-                &opts,
-                enumerate::SmallWindow,
-                || (),
-                |_, _| {},
-                |_, _| true,
-                &mut |_| {},
-            )
-            .expect("count");
+            let s = enumerate::count_summary(&formula, &opts, &mut |_| {}).expect("count");
             println!(
                 "isomers C30H62 --count, {secs} s: {} isomers, peak memory {:.1} MB",
                 s.isomers,

@@ -63,15 +63,7 @@ pub fn run(args: Args) -> crate::Result<()> {
     let mut out = output::stdout();
     let mut progress = |p: enumerate::Progress| reporter.update(p.isomers, p.share);
     let result = if args.count {
-        enumerate::for_each_task(
-            &formula,
-            &opts,
-            enumerate::SmallWindow,
-            || (),
-            |_, _| {},
-            |_, _| true,
-            &mut progress,
-        )
+        enumerate::count_summary(&formula, &opts, &mut progress)
     } else {
         enumerate::write_smiles(&formula, &opts, &mut out, &mut progress)
     };

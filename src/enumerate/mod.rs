@@ -493,6 +493,12 @@ where
         )
     };
     let mut emitted_share = 0.0;
+    let progress_at = |at: usize, s: &Summary, weight_done: f64| Progress {
+        tasks_done: at,
+        tasks_total: total,
+        isomers: s.isomers,
+        share: share_of(at, total, s.generated, weight_done, weight_total, 0.0),
+    };
     let mut last_progress = std::time::Instant::now();
     std::thread::scope(|s| {
         for _ in 0..threads {
@@ -551,19 +557,7 @@ where
                     if last_progress.elapsed().as_millis() >= 200 {
                         last_progress = std::time::Instant::now();
                         drop(g);
-                        progress(Progress {
-                            tasks_done: at,
-                            tasks_total: total,
-                            isomers: summary.isomers,
-                            share: share_of(
-                                at,
-                                total,
-                                summary.generated,
-                                emitted_share,
-                                weight_total,
-                                0.0,
-                            ),
-                        });
+                        progress(progress_at(at, &summary, emitted_share));
                         g = state.lock().expect("driver state");
                     }
                 }
@@ -647,19 +641,7 @@ where
             }
             if last_progress.elapsed().as_millis() >= 200 || at == total {
                 last_progress = std::time::Instant::now();
-                progress(Progress {
-                    tasks_done: at,
-                    tasks_total: total,
-                    isomers: summary.isomers,
-                    share: share_of(
-                        at,
-                        total,
-                        summary.generated,
-                        emitted_share,
-                        weight_total,
-                        0.0,
-                    ),
-                });
+                progress(progress_at(at, &summary, emitted_share));
             }
         }
         if at < total && summary.stopped.is_none() {
@@ -976,7 +958,25 @@ pub fn write_smiles(
 
 /// Number of isomers (of the shard, if one is given).
 pub fn count(formula: &Formula, opts: &Options) -> Result<u64> {
-    Ok(for_each_ordered(formula, opts, |_| Some(()), |_| true, &mut |_| {})?.isomers)
+    Ok(count_summary(formula, opts, &mut |_| {})?.isomers)
+}
+
+/// Count the isomers (under the caps of `opts.limits`): the summary, with
+/// the count in `isomers`.
+pub fn count_summary(
+    formula: &Formula,
+    opts: &Options,
+    progress: &mut dyn FnMut(Progress),
+) -> Result<Summary> {
+    for_each_task(
+        formula,
+        opts,
+        SmallWindow,
+        || (),
+        |_, _| {},
+        |_, _| true,
+        progress,
+    )
 }
 
 /// Every isomer of `formula` (standard valences, no rules) as a molecule,
