@@ -573,6 +573,17 @@ impl Canonizer {
         self.group.iter().copied()
     }
 
+    /// Free the group's list when it holds more than `limit` elements (the
+    /// work space otherwise keeps its largest size for the next call).
+    pub fn release_large(&mut self, limit: usize) {
+        if self.group.capacity() > limit {
+            self.group = Vec::new();
+        }
+        if self.trans.capacity() > limit {
+            self.trans = Vec::new();
+        }
+    }
+
     /// Size of the automorphism group.
     pub fn group_size(&self) -> usize {
         self.group.len()

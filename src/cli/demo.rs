@@ -74,11 +74,12 @@ pub fn run(args: Args) -> Result<()> {
             keep_all: false,
             expanded_valence: false,
             constraints: Default::default(),
+            run: Default::default(),
         })
     };
-    let ester = execute(&job(FORMULA, PEAKS, None, 5, Some(1))?, None)?;
-    let h_only = execute(&job(FORMULA_13C_CASE, PEAKS_13C_CASE, None, 3, None)?, None)?;
-    let both = execute(
+    let (ester, _) = execute(&job(FORMULA, PEAKS, None, 5, Some(1))?, None)?;
+    let (h_only, _) = execute(&job(FORMULA_13C_CASE, PEAKS_13C_CASE, None, 3, None)?, None)?;
+    let (both, _) = execute(
         &job(FORMULA_13C_CASE, PEAKS_13C_CASE, Some(CARBON), 3, Some(1))?,
         None,
     )?;

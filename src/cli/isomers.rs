@@ -1,6 +1,7 @@
 //! `isomerank isomers FORMULA`: every constitutional isomer as canonical
 //! SMILES, one per line, or their number.
 
+use super::limits::{self, note, Reporter, RunArgs};
 use super::output;
 use crate::chem::Formula;
 use crate::enumerate::constraints::{fragment::Fragment, Constraints, Cut, STAGES};
@@ -95,6 +96,7 @@ pub fn emptied(formula: &Formula, cuts: &[Cut]) -> Error {
   isomerank isomers C6H10O --plausible=enol,peroxide
   isomerank isomers C12H16O2 --require 'c1ccccc1' --count
   isomerank isomers C8H8O --attached-h 'CH3=1,CH=5,C=2' --forbid 'C=C'
+  isomerank isomers C12H14O2 --count --time-limit 60   stop after a minute, marked partial
 
 Plausibility rules (the number each flags goes to stderr):
   small-ring-triple, small-ring-cumulated, bredt, enol, peroxide, hydrate, iminol, hypohalite")]
@@ -108,19 +110,22 @@ pub struct Args {
     /// give every isomer.
     #[arg(long, value_name = "K/N")]
     pub part: Option<String>,
-    /// Apply plausibility rules: all, or a comma-separated list of names.
-    #[arg(long, value_name = "RULES", num_args = 0..=1, default_missing_value = "all")]
+    /// Apply plausibility rules: all, or a comma-separated list of names
+    /// given with `=` (`--plausible=enol,peroxide`).
+    #[arg(long, value_name = "RULES", num_args = 0..=1, default_missing_value = "all", require_equals = true)]
     pub plausible: Option<String>,
     /// Allow the expanded valences S(IV), S(VI) and P(V).
     #[arg(long)]
     pub expanded_valence: bool,
     #[command(flatten)]
     pub constraints: ConstraintArgs,
+    #[command(flatten)]
+    pub run: RunArgs,
 }
 
 pub fn run(args: Args) -> crate::Result<()> {
     let formula = Formula::parse(&args.formula)?;
-    let opts = Options {
+    let mut opts = Options {
         expanded_valence: args.expanded_valence,
         part: args.part.as_deref().map(Part::parse).transpose()?,
         rules: match args.plausible.as_deref() {
@@ -128,18 +133,26 @@ pub fn run(args: Args) -> crate::Result<()> {
             None => RuleSet::none(),
         },
         constraints: args.constraints.constraints()?,
+        limits: args.run.limits()?,
+        weights: None,
     };
-    // Check the formula before anything is written.
+    // Check the formula and the size of the search before anything is written.
     enumerate::problems(&formula, &opts)?;
-    let bar = output::task_bar(&format!("{formula}"));
+    let cap = if args.count {
+        limits::COUNT_CAP
+    } else {
+        limits::LIST_CAP
+    };
+    args.run.plan(&formula, &mut opts, "isomers", cap)?;
+    let mut reporter = Reporter::new(&format!("{formula}"), "isomers", args.run.quiet);
     let mut out = output::stdout();
-    let mut progress = |p| output::update(&bar, p, "isomers");
+    let mut progress = |p: enumerate::Progress| reporter.update(p.isomers, p.share);
     let result = if args.count {
-        enumerate::for_each_ordered(&formula, &opts, |_| Some(()), |_| true, &mut progress)
+        enumerate::count_summary(&formula, &opts, &mut progress)
     } else {
         enumerate::write_smiles(&formula, &opts, &mut out, &mut progress)
     };
-    bar.finish_and_clear();
+    reporter.finish();
     let summary = result?;
     report_cuts(&summary.constraints);
     if !opts.constraints.is_empty() && summary.isomers == 0 && summary.excluded == 0 {
@@ -151,14 +164,24 @@ pub fn run(args: Args) -> crate::Result<()> {
     if args.count {
         writeln!(out, "{}", summary.isomers)?;
     }
+    let partial = summary
+        .stopped
+        .map(|stop| limits::partial_sentence(stop, summary.share, summary.isomers, "isomers"));
+    if let Some(p) = &partial {
+        // A comment line: `rank --candidates` skips it.
+        writeln!(out, "# {p}")?;
+    }
     out.flush()?;
+    if let Some(p) = &partial {
+        note(&format!("isomers {formula}: {p}"));
+    }
     if !opts.rules.is_empty() {
-        eprintln!(
+        note(&format!(
             "plausibility rules removed {} of {} isomers:",
             summary.excluded, summary.generated
-        );
+        ));
         for (rule, n) in &summary.flagged {
-            eprintln!("  {:<22} flagged {n}", rule.name());
+            note(&format!("  {:<22} flagged {n}", rule.name()));
         }
     }
     Ok(())

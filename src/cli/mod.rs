@@ -6,6 +6,7 @@
 
 mod demo;
 mod isomers;
+pub mod limits;
 pub mod output;
 mod predict;
 mod rank;
@@ -41,17 +42,25 @@ pub enum Command {
 
 /// Run the program; returns the process exit code.
 pub fn main() -> i32 {
-    let cli = Cli::parse();
+    let cli = match Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(e) => {
+            // Usage errors, --help and --version; a failed write to the
+            // terminal must not panic.
+            let _ = e.print();
+            return e.exit_code();
+        }
+    };
     if let Some(n) = cli.threads {
         if n == 0 {
-            eprintln!("error: --threads must be at least 1");
+            limits::note("error: --threads must be at least 1");
             return 2;
         }
         if let Err(e) = rayon::ThreadPoolBuilder::new()
             .num_threads(n)
             .build_global()
         {
-            eprintln!("error: cannot start {n} threads: {e}");
+            limits::note(&format!("error: cannot start {n} threads: {e}"));
             return 1;
         }
     }
@@ -65,8 +74,23 @@ pub fn main() -> i32 {
         Ok(()) => 0,
         Err(crate::Error::Io(e)) if e.kind() == std::io::ErrorKind::BrokenPipe => 0,
         Err(e) => {
-            eprintln!("error: {e}");
+            limits::note(&format!("error: {}", printable(&e.to_string())));
             e.exit_code()
         }
     }
+}
+
+/// A message with its control characters (from the user's input: escape
+/// sequences, tabs, NUL) written as `\u{..}`, so that echoing input
+/// cannot move the cursor or recolour the terminal.
+pub fn printable(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for c in text.chars() {
+        if c.is_control() {
+            out.push_str(&format!("\\u{{{:x}}}", c as u32));
+        } else {
+            out.push(c);
+        }
+    }
+    out
 }

@@ -1,33 +1,7 @@
 //! Shared output helpers: buffered stdout that treats a closed pipe as the
-//! end, and a progress bar on stderr shown only when stderr is a terminal.
+//! end (progress on stderr: `cli::limits::Reporter`).
 
-use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
-use std::io::{IsTerminal, Write};
-
-/// A progress bar over search tasks, hidden when stderr is not a terminal.
-pub fn task_bar(label: &str) -> ProgressBar {
-    let bar = if std::io::stderr().is_terminal() {
-        ProgressBar::with_draw_target(Some(0), ProgressDrawTarget::stderr())
-    } else {
-        ProgressBar::hidden()
-    };
-    bar.set_style(
-        ProgressStyle::with_template(
-            "{prefix} [{bar:30}] {percent:>3}% of the search, {msg} (about {eta} left)",
-        )
-        .expect("valid progress template")
-        .progress_chars("=> "),
-    );
-    bar.set_prefix(label.to_string());
-    bar
-}
-
-/// Update a task bar from an enumeration progress report.
-pub fn update(bar: &ProgressBar, p: crate::enumerate::Progress, noun: &str) {
-    bar.set_length(p.tasks_total as u64);
-    bar.set_position(p.tasks_done as u64);
-    bar.set_message(format!("{} {noun}", p.isomers));
-}
+use std::io::Write;
 
 /// Buffered standard output.
 pub fn stdout() -> std::io::BufWriter<std::io::StdoutLock<'static>> {

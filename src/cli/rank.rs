@@ -3,6 +3,7 @@
 //! list and print the table, the groups the data cannot separate, an
 //! optional signal-by-signal assignment, and the safety wording.
 
+use super::limits::{self, Reporter, RunArgs};
 use crate::chem::smiles::{canonical_smiles, parse_smiles};
 use crate::chem::Formula;
 use crate::enumerate::{self, rules::RuleSet};
@@ -12,10 +13,9 @@ use crate::rank::{self, Ranking, Settings, ShortlistItem};
 use crate::report::{self, Context, Source};
 use crate::score::ScoringModel;
 use crate::spectrum::{self, carbon, file, journal, CarbonSpectrum, SolventTable, Spectrum};
-use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use rayon::prelude::*;
 use std::collections::HashSet;
-use std::io::{IsTerminal, Read, Write};
+use std::io::{Read, Write};
 use std::path::PathBuf;
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
@@ -81,6 +81,8 @@ pub struct Args {
     pub format: Format,
     #[command(flatten)]
     pub constraints: super::isomers::ConstraintArgs,
+    #[command(flatten)]
+    pub run: RunArgs,
 }
 
 /// Everything a ranking run needs, validated.
@@ -98,6 +100,8 @@ pub struct Job {
     /// Constraints on the enumerated candidates (`--require`, `--forbid`,
     /// `--attached-h`).
     pub constraints: enumerate::constraints::Constraints,
+    /// Caps, estimate and progress (`--max-candidates`, `--time-limit`, `--quiet`).
+    pub run: RunArgs,
 }
 
 pub fn run(args: Args) -> Result<()> {
@@ -152,17 +156,23 @@ pub fn run(args: Args) -> Result<()> {
         keep_all: args.keep_all,
         expanded_valence: args.expanded_valence,
         constraints,
+        run: args.run.clone(),
     };
     let shortlist = match &args.candidates {
         Some(src) => Some(read_shortlist(src)?),
         None => None,
     };
-    let text = execute(&job, shortlist)?;
-    print_all(&text)
+    let (text, partial) = execute(&job, shortlist)?;
+    print_all(&text)?;
+    if let Some(p) = partial {
+        limits::note(&format!("rank {}: {p}", job.formula));
+    }
+    Ok(())
 }
 
-/// Check the options, rank, and render the report (nothing is printed here).
-pub fn execute(job: &Job, shortlist: Option<ShortlistText>) -> Result<String> {
+/// Check the options, rank, and render the report (nothing is printed here);
+/// with it, the sentence on a partial run for stderr.
+pub fn execute(job: &Job, shortlist: Option<ShortlistText>) -> Result<(String, Option<String>)> {
     if job.top == 0 {
         return Err(Error::input("--top must be at least 1"));
     }
@@ -188,34 +198,42 @@ pub fn execute(job: &Job, shortlist: Option<ShortlistText>) -> Result<String> {
         rank::with_standard_steps(&predictor, &opts, |steps| -> Result<_> {
             Ok(match shortlist {
                 Some(list) => {
-                    let bar = progress_bar(&format!("{} shortlist", job.formula));
+                    let mut reporter = Reporter::new(
+                        &format!("ranking {} shortlist", job.formula),
+                        "structures read",
+                        job.run.quiet,
+                    );
                     let mut chunks = WithProgress {
                         chunks: ShortlistChunks::new(&list.source, &list.text, &job.formula),
-                        bar: &bar,
+                        reporter: &mut reporter,
                     };
                     let r = rank::rank_shortlist_chunks(&mut chunks, steps, &settings);
-                    bar.finish_and_clear();
+                    reporter.finish();
                     (r?, Source::Shortlist)
                 }
                 None => {
                     let mut options = enumerate::Options {
                         expanded_valence: job.expanded_valence,
                         constraints: job.constraints.clone(),
+                        limits: job.run.limits()?,
                         ..Default::default()
                     };
                     let rules = plausibility(&mut options, job.keep_all);
-                    let bar = progress_bar(&job.formula.to_string());
+                    job.run
+                        .plan(&job.formula, &mut options, "rank", limits::RANK_CAP)?;
+                    let mut reporter = Reporter::new(
+                        &format!("ranking {}", job.formula),
+                        "candidates",
+                        job.run.quiet,
+                    );
                     let r = rank::rank_formula(
                         &job.formula,
                         &options,
                         steps,
                         &settings,
-                        &mut |n, frac| {
-                            bar.set_position((frac * 1000.0) as u64);
-                            bar.set_message(format!("{n} scored"));
-                        },
+                        &mut |n, share| reporter.update(n, share),
                     );
-                    bar.finish_and_clear();
+                    reporter.finish();
                     (r?, Source::Enumeration { rules })
                 }
             })
@@ -237,10 +255,15 @@ pub fn execute(job: &Job, shortlist: Option<ShortlistText>) -> Result<String> {
         source,
         explain: job.explain,
     };
-    Ok(match job.format {
+    let text = match job.format {
         Format::Text => report::text::render(&cx),
         Format::Json => report::json::render(&cx),
-    })
+    };
+    let c = ranking.coverage;
+    let partial = c
+        .stopped
+        .map(|stop| limits::partial_sentence(stop, c.share, ranking.considered, "candidates"));
+    Ok((text, partial))
 }
 
 /// Switch the generator's plausibility rules on (unless `keep_all`); returns
@@ -292,6 +315,11 @@ pub fn read_shortlist(src: &str) -> Result<ShortlistText> {
         let t = std::fs::read_to_string(src)
             .map_err(|e| Error::input(format!("cannot read candidates file {src}: {e}")))?;
         (src.to_string(), t)
+    };
+    // A UTF-8 byte-order mark (some editors write one) is not content.
+    let text = match text.strip_prefix('\u{feff}') {
+        Some(rest) => rest.to_string(),
+        None => text,
     };
     Ok(ShortlistText { source, text })
 }
@@ -426,10 +454,10 @@ impl Iterator for ShortlistChunks<'_> {
     }
 }
 
-/// A shortlist's chunks, moving a progress bar by the share of the text read.
+/// A shortlist's chunks, reporting the share of the text read.
 struct WithProgress<'a, 'b> {
     chunks: ShortlistChunks<'a>,
-    bar: &'b ProgressBar,
+    reporter: &'b mut Reporter,
 }
 
 impl Iterator for WithProgress<'_, '_> {
@@ -437,30 +465,10 @@ impl Iterator for WithProgress<'_, '_> {
 
     fn next(&mut self) -> Option<Self::Item> {
         let chunk = self.chunks.next();
-        self.bar
-            .set_position((self.chunks.fraction_read() * 1000.0) as u64);
-        self.bar
-            .set_message(format!("{} structures read", self.chunks.kept()));
+        self.reporter
+            .update(self.chunks.kept() as u64, self.chunks.fraction_read());
         chunk
     }
-}
-
-/// A progress bar on stderr, only when stderr is a terminal.
-fn progress_bar(label: &str) -> ProgressBar {
-    let bar = if std::io::stderr().is_terminal() {
-        ProgressBar::with_draw_target(Some(1000), ProgressDrawTarget::stderr())
-    } else {
-        ProgressBar::hidden()
-    };
-    bar.set_style(
-        ProgressStyle::with_template(
-            "ranking {prefix} [{bar:30}] {percent:>3}%, {msg} (about {eta} left)",
-        )
-        .expect("valid progress template")
-        .progress_chars("=> "),
-    );
-    bar.set_prefix(label.to_string());
-    bar
 }
 
 /// Write the whole report at once.

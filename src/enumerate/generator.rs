@@ -444,6 +444,9 @@ pub fn root(p: &Problem, k: usize) -> Node {
     node
 }
 
+/// Automorphism lists longer than this are freed after use (see `dfs`).
+const LARGE_GROUP: usize = 4096;
+
 /// Depth-first generation below given nodes, with reusable work space.
 pub struct Generator<'p> {
     p: &'p Problem,
@@ -455,6 +458,9 @@ pub struct Generator<'p> {
     orders: Orders,
     /// Constraint tests and their work space, when the problem has any.
     cons: Option<Work>,
+    /// Set (by a sink or another thread) to end the search early: no new
+    /// child is tried once it is true.
+    abort: std::sync::Arc<std::sync::atomic::AtomicBool>,
 }
 
 /// What a search step hands to its sink: a node at the depth limit and, for
@@ -475,7 +481,15 @@ impl<'p> Generator<'p> {
                 ..Orders::default()
             },
             cons: p.bounds.as_ref().map(|b| Work::new(Arc::clone(b), p)),
+            abort: Default::default(),
         }
+    }
+
+    /// The flag that ends this generator's search early when set (the
+    /// search returns without trying further children; what was handed to
+    /// the sink stays handed). Clear it before the next search.
+    pub fn abort_flag(&self) -> std::sync::Arc<std::sync::atomic::AtomicBool> {
+        self.abort.clone()
     }
 
     /// Visit every complete isomer whose skeleton descends from `node` (an
@@ -580,7 +594,16 @@ impl<'p> Generator<'p> {
                 self.choose(node, k, d, &ctx, others, nothers, extra, must, sink);
             }
         }
-        self.auts[n] = ctx.auts;
+        // A large group's list is not kept for the next node of this depth:
+        // kept at every depth, lists of hundreds of thousands of elements
+        // (C30 alkanes) add up to hundreds of MB.
+        self.canon[n].release_large(LARGE_GROUP);
+        self.canon[n + 1].release_large(LARGE_GROUP);
+        self.auts[n] = if ctx.auts.capacity() > LARGE_GROUP {
+            Vec::new()
+        } else {
+            ctx.auts
+        };
     }
 
     /// Choose `extra` more attachment atoms from `others` (`nothers` of
@@ -632,6 +655,9 @@ impl<'p> Generator<'p> {
         sink: &mut Sink<'_>,
     ) {
         let p = self.p;
+        if self.abort.load(std::sync::atomic::Ordering::Relaxed) {
+            return;
+        }
         // Only one attachment per orbit of the parent's automorphism group.
         if !ctx.auts.is_empty() && !attachment_is_minimal(attach, &ctx.auts) {
             return;

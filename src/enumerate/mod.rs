@@ -17,31 +17,11 @@ use crate::chem::canon::MAX_ATOMS;
 use crate::chem::{Element, Formula, Molecule};
 use crate::error::{Error, Result};
 use generator::{Generator, Kind, Node, Problem};
-use rayon::prelude::*;
 use rules::{Rule, RuleSet};
 
 /// How many tasks the search tree is cut into (at least, where the tree is
 /// that wide): enough for even load on many cores and for fine-grained shards.
 const TARGET_TASKS: usize = 4096;
-/// Tasks run together before their results are emitted in order.
-const CHUNK: usize = 256;
-/// The first chunk's size; each next one doubles up to [`CHUNK`]. A caller
-/// that learns from the emitted results (a ranking's cutoff) learns early.
-const FIRST_CHUNK: usize = 8;
-
-/// The task ranges of the chunks: sizes 8, 16, 32, ... up to [`CHUNK`]; a
-/// fixed cut, so output stays independent of the thread count.
-fn chunk_ranges(total: usize) -> Vec<std::ops::Range<usize>> {
-    let mut out = Vec::new();
-    let (mut start, mut size) = (0, FIRST_CHUNK);
-    while start < total {
-        let end = (start + size).min(total);
-        out.push(start..end);
-        start = end;
-        size = (size * 2).min(CHUNK);
-    }
-    out
-}
 
 /// One shard of the search: the `index`-th (from 1) of `of`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -79,10 +59,16 @@ pub struct Options {
     pub rules: RuleSet,
     /// Facts the structures must fit, applied inside the search.
     pub constraints: constraints::Constraints,
+    /// Caps that end the run early.
+    pub limits: Limits,
+    /// Estimated isomers per task (all tasks, in task order, from
+    /// [`estimate`]): progress is then reported as a share of the estimated
+    /// work instead of a share of the tasks.
+    pub weights: Option<Vec<f64>>,
 }
 
 /// Counts from one enumeration.
-#[derive(Clone, Debug, Default, PartialEq, Eq)]
+#[derive(Clone, Debug, Default, PartialEq)]
 pub struct Summary {
     /// Isomers found (one per compound), before plausibility rules.
     pub generated: u64,
@@ -96,6 +82,20 @@ pub struct Summary {
     /// For each constraint, how much of the search it cut (empty without
     /// constraints).
     pub constraints: Vec<constraints::Cut>,
+    /// Tasks of this run (this shard's) and how many were covered in order.
+    pub tasks_total: usize,
+    pub tasks_done: usize,
+    /// Why the run ended early (`None`: the whole search was covered).
+    pub stopped: Option<Stop>,
+    /// Share of the search covered, 0 to 1 (1 when complete).
+    pub share: f64,
+}
+
+impl Summary {
+    /// Whether the whole search (of this shard) was covered.
+    pub fn complete(&self) -> bool {
+        self.stopped.is_none()
+    }
 }
 
 /// A complete isomer as the generator found it (compact form); convert with
@@ -350,17 +350,44 @@ fn tasks(problems: &[Problem]) -> Vec<Task> {
     level
 }
 
-/// Progress of a long enumeration, reported after each chunk of tasks.
+/// Progress of a long enumeration, reported after each task is handed on
+/// and every few hundred milliseconds while tasks run.
 #[derive(Clone, Copy, Debug)]
 pub struct Progress {
     pub tasks_done: usize,
     pub tasks_total: usize,
+    /// Candidates handed on so far (isomers after the plausibility rules).
     pub isomers: u64,
+    /// Share of the search done, 0 to 1: tasks done, each weighted by its
+    /// estimated number of isomers when an estimate was made (see
+    /// [`estimate`]), else counted alike.
+    pub share: f64,
+}
+
+/// Caps on one run (`--max-candidates`, `--time-limit`).
+#[derive(Clone, Copy, Debug, Default)]
+pub struct Limits {
+    /// Stop after this many candidates (isomers after the plausibility
+    /// rules), counted in task order: the result is the same whatever the
+    /// thread count.
+    pub max_candidates: Option<u64>,
+    /// Stop when this moment has passed; the result covers the tasks
+    /// finished in order by then.
+    pub deadline: Option<std::time::Instant>,
+}
+
+/// Why a run stopped before covering its whole search.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Stop {
+    /// `--max-candidates` was reached.
+    Candidates,
+    /// `--time-limit` passed.
+    Time,
 }
 
 /// Enumerate the isomers of `formula`, calling `map` on each (in parallel) and
 /// `emit` on each result in a deterministic order. `emit` returns false to
-/// stop early. `progress` is called after every chunk.
+/// stop early. `progress` is called as tasks finish.
 pub fn for_each_ordered<T, M, E>(
     formula: &Formula,
     opts: &Options,
@@ -373,97 +400,283 @@ where
     M: Fn(&Isomer) -> Option<T> + Sync,
     E: FnMut(T) -> bool,
 {
+    for_each_task(
+        formula,
+        opts,
+        ListWindow,
+        Vec::new,
+        |acc: &mut Vec<T>, iso| {
+            if let Some(t) = map(iso) {
+                acc.push(t);
+            }
+        },
+        |_, items: Vec<T>| items.into_iter().all(&mut emit),
+        progress,
+    )
+}
+
+/// How many tasks may run ahead of the one next in order (their results
+/// wait in memory): a few per thread for results that grow with the task
+/// (lists of SMILES), many for results of a fixed size (counts, a ranking's
+/// per-task top-k).
+#[derive(Clone, Copy, Debug)]
+pub struct ListWindow;
+/// See [`ListWindow`]: results of a fixed size per task.
+#[derive(Clone, Copy, Debug)]
+pub struct SmallWindow;
+
+/// How far ahead tasks may run; see [`ListWindow`].
+pub trait Window: Copy {
+    fn tasks(self, threads: usize) -> usize;
+}
+impl Window for ListWindow {
+    fn tasks(self, threads: usize) -> usize {
+        4 * threads + 4
+    }
+}
+impl Window for SmallWindow {
+    fn tasks(self, threads: usize) -> usize {
+        256 * threads
+    }
+}
+
+/// The ordered parallel driver. Each task (see [`tasks`]) folds its isomers
+/// into an accumulator of its own (`init`, then `visit` per isomer that
+/// passed the rules, in the generator's order); `emit` receives the
+/// accumulators in task order with the task's index and returns false to
+/// stop. Worker threads (as many as rayon's pool has) take tasks in order,
+/// at most a window ahead of the next one to emit, so memory holds the
+/// window's accumulators, never a whole chunk of the search. The caps of
+/// `opts.limits` end the run early: a candidate cap re-runs the task that
+/// crosses it up to the cap, so exactly the first N candidates in task order
+/// are covered; a time limit keeps the tasks finished in order by then.
+pub fn for_each_task<A, W, I, V, E>(
+    formula: &Formula,
+    opts: &Options,
+    window: W,
+    init: I,
+    visit: V,
+    mut emit: E,
+    progress: &mut dyn FnMut(Progress),
+) -> Result<Summary>
+where
+    A: Send,
+    W: Window,
+    I: Fn() -> A + Sync,
+    V: Fn(&mut A, &Isomer) + Sync,
+    E: FnMut(usize, A) -> bool,
+{
+    use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering::Relaxed};
+    use std::sync::{Condvar, Mutex};
     let problems = problems(formula, opts)?;
     let all = tasks(&problems);
-    let mine: Vec<&Task> = match opts.part {
-        Some(part) => all
-            .iter()
-            .enumerate()
-            .filter(|(i, _)| i % part.of == part.index - 1)
-            .map(|(_, t)| t)
-            .collect(),
-        None => all.iter().collect(),
-    };
+    let mine: Vec<(usize, &Task)> = all
+        .iter()
+        .enumerate()
+        .filter(|(i, _)| opts.part.is_none_or(|p| i % p.of == p.index - 1))
+        .collect();
+    let weights = opts
+        .weights
+        .as_ref()
+        .filter(|w| w.len() == all.len())
+        .map(|w| mine.iter().map(|&(i, _)| w[i]).collect::<Vec<f64>>());
+    let weight_total: f64 = weights.as_ref().map_or(0.0, |w| w.iter().sum());
     let rules = &opts.rules.rules;
     let mut summary = Summary {
         flagged: rules.iter().map(|&r| (r, 0)).collect(),
+        tasks_total: mine.len(),
         ..Summary::default()
     };
     let total = mine.len();
-    for range in chunk_ranges(mine.len()) {
-        let first = range.start;
-        let chunk = &mine[range];
-        let results: Vec<TaskResult<T>> = chunk
-            .par_iter()
-            .enumerate()
-            .map_init(
-                || {
-                    let gens: Vec<Generator> = problems.iter().map(Generator::new).collect();
-                    (
-                        gens,
-                        resonance::Workspace::default(),
-                        rules::Checker::default(),
-                    )
-                },
-                |(gens, ws, checker), (i, task)| {
-                    let task_index = first + i;
-                    let p = &problems[task.problem];
-                    let symmetry_usable = p.one_kind_per_element();
-                    let gen = &mut gens[task.problem];
-                    let mut node = task.node(p);
-                    let mut res = TaskResult {
-                        items: Vec::new(),
-                        generated: 0,
-                        excluded: 0,
-                        flagged: vec![0; rules.len()],
-                    };
-                    gen.search(&mut node, &mut |leaf: &Node, auts| {
-                        let iso = Isomer {
-                            node: leaf,
-                            problem: p,
-                            auts: auts.filter(|_| symmetry_usable),
-                            task: task_index,
-                        };
-                        if !resonance::is_representative(leaf, || iso.molecule(), ws) {
-                            return;
-                        }
-                        res.generated += 1;
-                        let mut out = false;
-                        for (i, &r) in rules.iter().enumerate() {
-                            if checker.flags(r, &iso) {
-                                res.flagged[i] += 1;
-                                out = true;
+    let threads = rayon::current_num_threads().max(1);
+    let ahead = window.tasks(threads);
+    let limits = opts.limits;
+    let stop = AtomicBool::new(false);
+    let time_up = AtomicBool::new(false);
+    let next = AtomicUsize::new(0);
+    // Finished tasks waiting for their turn, and the next index to emit.
+    let state: Mutex<(std::collections::BTreeMap<usize, TaskOut<A>>, usize)> =
+        Mutex::new((Default::default(), 0));
+    let cond = Condvar::new();
+    let run = |w: &mut Worker, at: usize, limit: Option<u64>| -> TaskOut<A> {
+        let (index, task) = mine[at];
+        w.run(
+            &problems, task, index, rules, limit, &limits, &stop, &time_up, &init, &visit,
+        )
+    };
+    let mut emitted_share = 0.0;
+    let progress_at = |at: usize, s: &Summary, weight_done: f64| Progress {
+        tasks_done: at,
+        tasks_total: total,
+        isomers: s.isomers,
+        share: share_of(at, total, s.generated, weight_done, weight_total, 0.0),
+    };
+    let mut last_progress = std::time::Instant::now();
+    std::thread::scope(|s| {
+        for _ in 0..threads {
+            s.spawn(|| {
+                let mut w = Worker::new(&problems);
+                loop {
+                    let at = {
+                        let mut g = state.lock().expect("driver state");
+                        loop {
+                            if stop.load(Relaxed) {
+                                return;
                             }
+                            let t = next.load(Relaxed);
+                            if t >= total {
+                                return;
+                            }
+                            if t < g.1 + ahead {
+                                next.store(t + 1, Relaxed);
+                                break t;
+                            }
+                            g = cond.wait(g).expect("driver state");
                         }
-                        if out {
-                            res.excluded += 1;
-                        } else if let Some(t) = map(&iso) {
-                            res.items.push(t);
-                        }
-                    });
-                    res
-                },
-            )
-            .collect();
-        for r in results {
-            summary.generated += r.generated;
-            summary.excluded += r.excluded;
-            for (i, f) in r.flagged.iter().enumerate() {
-                summary.flagged[i].1 += f;
+                    };
+                    let out = run(&mut w, at, None);
+                    state.lock().expect("driver state").0.insert(at, out);
+                    cond.notify_all();
+                }
+            });
+        }
+        // This thread emits in task order.
+        let mut at = 0;
+        let mut candidates = 0u64;
+        let mut own: Option<Worker> = None;
+        while at < total {
+            let out = {
+                let mut g = state.lock().expect("driver state");
+                loop {
+                    if let Some(o) = g.0.remove(&at) {
+                        g.1 = at + 1;
+                        break Some(o);
+                    }
+                    if stop.load(Relaxed) && at >= next.load(Relaxed) {
+                        break None;
+                    }
+                    if limits
+                        .deadline
+                        .is_some_and(|d| std::time::Instant::now() >= d)
+                    {
+                        time_up.store(true, Relaxed);
+                        stop.store(true, Relaxed);
+                    }
+                    g = cond
+                        .wait_timeout(g, std::time::Duration::from_millis(200))
+                        .expect("driver state")
+                        .0;
+                    if last_progress.elapsed().as_millis() >= 200 {
+                        last_progress = std::time::Instant::now();
+                        drop(g);
+                        progress(progress_at(at, &summary, emitted_share));
+                        g = state.lock().expect("driver state");
+                    }
+                }
+            };
+            cond.notify_all();
+            let Some(mut out) = out else { break };
+            if out.aborted {
+                // Stopped by the time limit (or a stop for another reason)
+                // before it finished: not covered.
+                break;
             }
-            for t in r.items {
-                summary.isomers += 1;
-                if !emit(t) {
-                    summary.constraints = constraint_cuts(&problems);
-                    return Ok(summary);
+            let full = out.candidates;
+            if let Some(max) = limits.max_candidates {
+                if candidates + out.candidates > max {
+                    // Only part of this task fits: stop the others and run
+                    // it again up to the cap.
+                    stop.store(true, Relaxed);
+                    let w = own.get_or_insert_with(|| Worker::new(&problems));
+                    let no_stop = AtomicBool::new(false);
+                    let (index, task) = mine[at];
+                    let unlimited = Limits {
+                        deadline: None,
+                        ..limits
+                    };
+                    out = w.run(
+                        &problems,
+                        task,
+                        index,
+                        rules,
+                        Some(max - candidates),
+                        &unlimited,
+                        &no_stop,
+                        &no_stop,
+                        &init,
+                        &visit,
+                    );
+                    summary.stopped = Some(Stop::Candidates);
                 }
             }
+            candidates += out.candidates;
+            summary.generated += out.generated;
+            summary.excluded += out.excluded;
+            summary.isomers += out.candidates;
+            for (i, f) in out.flagged.iter().enumerate() {
+                summary.flagged[i].1 += f;
+            }
+            let index = mine[at].0;
+            if summary.stopped.is_some() {
+                // The crossing task counts as partly covered.
+                let left = (full - out.candidates) as f64;
+                summary.share = match &weights {
+                    Some(w) => share_of(
+                        at,
+                        total,
+                        summary.generated,
+                        emitted_share + w[at],
+                        weight_total,
+                        left,
+                    ),
+                    None if full > 0 => {
+                        (at as f64 + out.candidates as f64 / full as f64) / total as f64
+                    }
+                    None => share_of(at, total, 0, 0.0, 0.0, 0.0),
+                };
+                emit(index, out.acc);
+                break;
+            }
+            if let Some(w) = &weights {
+                emitted_share += w[at];
+            }
+            at += 1;
+            summary.tasks_done = at;
+            if !emit(index, out.acc) {
+                stop.store(true, Relaxed);
+                cond.notify_all();
+                return;
+            }
+            if limits.max_candidates.is_some_and(|m| candidates >= m) && at < total {
+                summary.stopped = Some(Stop::Candidates);
+                break;
+            }
+            if last_progress.elapsed().as_millis() >= 200 || at == total {
+                last_progress = std::time::Instant::now();
+                progress(progress_at(at, &summary, emitted_share));
+            }
         }
-        progress(Progress {
-            tasks_done: first + chunk.len(),
-            tasks_total: total,
-            isomers: summary.isomers,
-        });
+        if at < total && summary.stopped.is_none() {
+            summary.stopped = Some(if time_up.load(Relaxed) {
+                Stop::Time
+            } else {
+                Stop::Candidates
+            });
+            summary.share = share_of(
+                at,
+                total,
+                summary.generated,
+                emitted_share,
+                weight_total,
+                0.0,
+            );
+        }
+        summary.tasks_done = summary.tasks_done.max(at.min(total));
+        stop.store(true, Relaxed);
+        cond.notify_all();
+    });
+    if summary.stopped.is_none() {
+        summary.share = 1.0;
     }
     summary.constraints = constraint_cuts(&problems);
     Ok(summary)
@@ -480,11 +693,258 @@ fn constraint_cuts(problems: &[Problem]) -> Vec<constraints::Cut> {
         .unwrap_or_default()
 }
 
-struct TaskResult<T> {
-    items: Vec<T>,
+/// Share of the search done after `done` of `total` tasks: with the
+/// estimator's weights, the isomers found so far (`generated`, a true count)
+/// against those plus the estimate of the tasks not done (`weight_total -
+/// weight_done`, plus `left` isomers known to remain), so the share corrects
+/// itself as tasks finish; without weights, the share of the tasks.
+fn share_of(
+    done: usize,
+    total: usize,
+    generated: u64,
+    weight_done: f64,
+    weight_total: f64,
+    left: f64,
+) -> f64 {
+    // The estimate is trusted only while the tasks done hold about what it
+    // said (Knuth's estimator can be far too low on trees whose isomers sit
+    // in a few deep branches, as for C30 alkanes); else tasks count alike.
+    let plausible = (generated as f64) <= 4.0 * weight_done + 1000.0;
+    if weight_total > 0.0 && plausible {
+        let g = generated as f64;
+        let rest = (weight_total - weight_done).max(0.0) + left;
+        if g + rest > 0.0 {
+            (g / (g + rest)).clamp(0.0, 1.0)
+        } else {
+            1.0
+        }
+    } else if total == 0 {
+        1.0
+    } else {
+        done as f64 / total as f64
+    }
+}
+
+/// One worker's generators and work space.
+struct Worker<'p> {
+    gens: Vec<Generator<'p>>,
+    ws: resonance::Workspace,
+    checker: rules::Checker,
+}
+
+impl<'p> Worker<'p> {
+    fn new(problems: &'p [Problem]) -> Worker<'p> {
+        Worker {
+            gens: problems.iter().map(Generator::new).collect(),
+            ws: resonance::Workspace::default(),
+            checker: rules::Checker::default(),
+        }
+    }
+
+    /// Run one task: every isomer below its node, through the resonance
+    /// filter and the rules, into a fresh accumulator. With `limit`, stop
+    /// after that many candidates. The search is cut short (and the result
+    /// marked aborted) when `stop` is set or the deadline passes.
+    #[allow(clippy::too_many_arguments)]
+    fn run<A>(
+        &mut self,
+        problems: &[Problem],
+        task: &Task,
+        task_index: usize,
+        rules: &[Rule],
+        limit: Option<u64>,
+        limits: &Limits,
+        stop: &std::sync::atomic::AtomicBool,
+        time_up: &std::sync::atomic::AtomicBool,
+        init: &(dyn Fn() -> A + Sync),
+        visit: &(dyn Fn(&mut A, &Isomer) + Sync),
+    ) -> TaskOut<A> {
+        use std::sync::atomic::Ordering::Relaxed;
+        let p = &problems[task.problem];
+        let symmetry_usable = p.one_kind_per_element();
+        let gen = &mut self.gens[task.problem];
+        let abort = gen.abort_flag();
+        abort.store(false, Relaxed);
+        let (ws, checker) = (&mut self.ws, &mut self.checker);
+        let mut node = task.node(p);
+        let mut res = TaskOut {
+            acc: init(),
+            generated: 0,
+            excluded: 0,
+            flagged: vec![0; rules.len()],
+            candidates: 0,
+            aborted: false,
+        };
+        let mut seen = 0u32;
+        gen.search(&mut node, &mut |leaf: &Node, auts| {
+            if abort.load(Relaxed) {
+                return;
+            }
+            if limit.is_some_and(|m| res.candidates >= m) {
+                // The cap is reached: what follows is not covered.
+                abort.store(true, Relaxed);
+                return;
+            }
+            seen = seen.wrapping_add(1);
+            if seen.is_multiple_of(256) {
+                if limits
+                    .deadline
+                    .is_some_and(|d| std::time::Instant::now() >= d)
+                {
+                    time_up.store(true, Relaxed);
+                    stop.store(true, Relaxed);
+                }
+                if stop.load(Relaxed) {
+                    res.aborted = true;
+                    abort.store(true, Relaxed);
+                    return;
+                }
+            }
+            let iso = Isomer {
+                node: leaf,
+                problem: p,
+                auts: auts.filter(|_| symmetry_usable),
+                task: task_index,
+            };
+            if !resonance::is_representative(leaf, || iso.molecule(), ws) {
+                return;
+            }
+            let mut out = false;
+            for (i, &r) in rules.iter().enumerate() {
+                if checker.flags(r, &iso) {
+                    res.flagged[i] += 1;
+                    out = true;
+                }
+            }
+            res.generated += 1;
+            if out {
+                res.excluded += 1;
+            } else {
+                res.candidates += 1;
+                visit(&mut res.acc, &iso);
+            }
+        });
+        abort.store(false, Relaxed);
+        res
+    }
+}
+
+struct TaskOut<A> {
+    acc: A,
     generated: u64,
     excluded: u64,
     flagged: Vec<u64>,
+    /// Candidates handed to `visit`.
+    candidates: u64,
+    /// Cut short by a stop: incomplete, not to be used.
+    aborted: bool,
+}
+
+/// An estimate of the number of isomers (before plausibility rules) from
+/// random probes down the search tree: Knuth's estimator (D. E. Knuth,
+/// "Estimating the efficiency of backtrack programs", Math. Comp. 29 (1975)
+/// 121-136). A probe walks from a task's skeleton to a complete skeleton,
+/// choosing one accepted child uniformly at random at each level; the
+/// product of the numbers of children met, times the isomers of the
+/// complete skeleton it reaches, is an unbiased estimate of the task's
+/// isomers. The run's estimate is the sum over tasks of their mean probe.
+#[derive(Clone, Debug)]
+pub struct Estimate {
+    /// Estimated isomers of the whole formula (every shard).
+    pub isomers: f64,
+    /// Per task (all tasks, in task order), its estimate.
+    pub per_task: Vec<f64>,
+    /// Probes made.
+    pub probes: usize,
+}
+
+/// Probes in all (spread over the tasks, at least one each).
+const PROBES: usize = 8192;
+
+/// Estimate the number of isomers of `formula` (see [`Estimate`]). The
+/// probes' random choices come from a fixed seed per task, so the estimate
+/// is the same at every run.
+pub fn estimate(formula: &Formula, opts: &Options) -> Result<Estimate> {
+    use rayon::prelude::*;
+    let problems = problems(formula, opts)?;
+    let all = tasks(&problems);
+    let per = PROBES.div_ceil(all.len().max(1)).max(1);
+    let per_task: Vec<f64> = all
+        .par_iter()
+        .enumerate()
+        .map_init(
+            || {
+                (
+                    problems.iter().map(Generator::new).collect::<Vec<_>>(),
+                    resonance::Workspace::default(),
+                )
+            },
+            |(gens, ws), (i, task)| {
+                let p = &problems[task.problem];
+                let gen = &mut gens[task.problem];
+                let mut rng = SplitMix(0x9e37_79b9_7f4a_7c15 ^ i as u64);
+                let sum: f64 = (0..per).map(|_| probe(p, gen, ws, task, &mut rng)).sum();
+                sum / per as f64
+            },
+        )
+        .collect();
+    Ok(Estimate {
+        isomers: per_task.iter().sum(),
+        probes: per * all.len(),
+        per_task,
+    })
+}
+
+fn probe(
+    p: &Problem,
+    gen: &mut Generator,
+    ws: &mut resonance::Workspace,
+    task: &Task,
+    rng: &mut SplitMix,
+) -> f64 {
+    let mut node = task.node(p);
+    let mut factor = 1.0;
+    let mut children: Vec<Node> = Vec::new();
+    while node.n < p.atoms {
+        children.clear();
+        let depth = node.n + 1;
+        gen.skeletons(&mut node, depth, &mut |c: &Node, _| {
+            children.push(c.clone())
+        });
+        if children.is_empty() {
+            return 0.0;
+        }
+        factor *= children.len() as f64;
+        let pick = (rng.next() % children.len() as u64) as usize;
+        node = children.swap_remove(pick);
+    }
+    let mut leaves = 0u64;
+    gen.search(&mut node, &mut |leaf: &Node, auts| {
+        let iso = Isomer {
+            node: leaf,
+            problem: p,
+            auts,
+            task: 0,
+        };
+        if resonance::is_representative(leaf, || iso.molecule(), ws) {
+            leaves += 1;
+        }
+    });
+    factor * leaves as f64
+}
+
+/// A small fixed-seed generator (SplitMix64, Steele, Lea & Flood, OOPSLA
+/// 2014) for the estimator's choices: reproducible, no crate needed.
+struct SplitMix(u64);
+
+impl SplitMix {
+    fn next(&mut self) -> u64 {
+        self.0 = self.0.wrapping_add(0x9e37_79b9_7f4a_7c15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+        z ^ (z >> 31)
+    }
 }
 
 /// Write every isomer's canonical SMILES to `out`, one per line, in the
@@ -522,7 +982,25 @@ pub fn write_smiles(
 
 /// Number of isomers (of the shard, if one is given).
 pub fn count(formula: &Formula, opts: &Options) -> Result<u64> {
-    Ok(for_each_ordered(formula, opts, |_| Some(()), |_| true, &mut |_| {})?.isomers)
+    Ok(count_summary(formula, opts, &mut |_| {})?.isomers)
+}
+
+/// Count the isomers (under the caps of `opts.limits`): the summary, with
+/// the count in `isomers`.
+pub fn count_summary(
+    formula: &Formula,
+    opts: &Options,
+    progress: &mut dyn FnMut(Progress),
+) -> Result<Summary> {
+    for_each_task(
+        formula,
+        opts,
+        SmallWindow,
+        || (),
+        |_, _| {},
+        |_, _| true,
+        progress,
+    )
 }
 
 /// Every isomer of `formula` (standard valences, no rules) as a molecule,

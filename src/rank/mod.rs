@@ -142,6 +142,36 @@ pub struct Ranking {
     pub excluded: u64,
     /// Per rule: name and how many it removed.
     pub rules: Vec<(String, u64)>,
+    /// How much of the search the ranking covered.
+    pub coverage: Coverage,
+}
+
+/// How much of the search a ranking covered: all of it, or what came
+/// before a cap (`--max-candidates`, `--time-limit`) stopped it.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Coverage {
+    /// Why the run stopped early; `None`: complete.
+    pub stopped: Option<enumerate::Stop>,
+    /// Share of the search covered (1 when complete).
+    pub share: f64,
+    pub tasks_done: usize,
+    pub tasks_total: usize,
+}
+
+impl Coverage {
+    /// A search covered whole (a shortlist is always whole).
+    pub fn whole() -> Coverage {
+        Coverage {
+            stopped: None,
+            share: 1.0,
+            tasks_done: 0,
+            tasks_total: 0,
+        }
+    }
+
+    pub fn complete(&self) -> bool {
+        self.stopped.is_none()
+    }
 }
 
 impl Ranking {
@@ -155,7 +185,7 @@ impl Ranking {
     }
 }
 
-struct Payload {
+pub(crate) struct Payload {
     molecule: Molecule,
     smiles: String,
     name: Option<String>,
@@ -312,30 +342,50 @@ pub fn rank_formula(
     settings: &Settings,
     progress: &mut ProgressFn,
 ) -> Result<Ranking> {
-    let mut collector = Collector::new(settings.top, settings.model.ranking.skip_margin);
+    let (collector, summary) = collect_formula(formula, options, steps, settings, progress)?;
+    let rules = summary
+        .flagged
+        .iter()
+        .map(|(r, n)| (r.name().to_string(), *n))
+        .collect();
+    let mut ranking = finish(collector, steps, settings, summary.excluded, rules);
+    ranking.coverage = coverage_of(&summary);
+    Ok(ranking)
+}
+
+/// How much of the search a run covered.
+pub fn coverage_of(summary: &enumerate::Summary) -> Coverage {
+    Coverage {
+        stopped: summary.stopped,
+        share: summary.share,
+        tasks_done: summary.tasks_done,
+        tasks_total: summary.tasks_total,
+    }
+}
+
+/// The collector of a whole run (or shard) over the isomers of `formula`,
+/// before the final step: what a shard file stores.
+pub(crate) fn collect_formula(
+    formula: &Formula,
+    options: &enumerate::Options,
+    steps: &Steps,
+    settings: &Settings,
+    progress: &mut ProgressFn,
+) -> Result<(Collector<Box<Payload>>, enumerate::Summary)> {
+    let margin = settings.model.ranking.skip_margin;
+    let mut collector = Collector::new(settings.top, margin);
     let scorers = Scorers::new(settings);
-    let cutoff = collector.cutoff();
-    // Results wait in the generator's chunk buffer until emitted in order,
-    // so they are kept small: a skipped candidate is no result at all, a
-    // cost-only one a number, and the payload is boxed.
-    let run = topk::new_run();
-    let k = settings.top.max(1);
-    let map = |iso: &enumerate::Isomer| -> Option<Outcome<Box<Payload>>> {
-        let limit = topk::task_cutoff(
-            run,
-            iso.task(),
-            k,
-            settings.model.ranking.skip_margin,
-            &cutoff,
-        );
-        Some(
-            // Predicted from the generator's compact form: the molecule is
-            // built only for a candidate that may rank.
+    let shared = collector.cutoff();
+    // Each task fills a collector of its own (at most k payloads, a
+    // histogram of costs); the driver hands them over in task order and
+    // they merge exactly, so nothing per candidate waits in memory.
+    let visit = |acc: &mut Collector<Box<Payload>>, iso: &enumerate::Isomer| {
+        let limit = acc.local_cutoff(&shared);
+        // Predicted from the generator's compact form: the molecule is
+        // built only for a candidate that may rank.
+        acc.push(
             match evaluate(iso, iso.skeleton_automorphisms(), steps, &scorers, limit) {
-                Some(e)
-                    if e.cost > cutoff.top_k()
-                        || !topk::local_admits(run, iso.task(), k, e.cost) =>
-                {
+                Some(e) if e.cost > shared.top_k() || !acc.admits(e.cost) => {
                     Outcome::CostOnly { cost: e.cost }
                 }
                 Some(evaluated) => {
@@ -351,42 +401,47 @@ pub fn rank_formula(
                     }
                     .outcome()
                 }
-                None => return None,
+                None => Outcome::Skipped,
             },
-        )
+        );
     };
-    let mut emitted = 0u64;
-    let summary = enumerate::for_each_ordered(
+    let summary = enumerate::for_each_task(
         formula,
         options,
-        map,
-        |o| {
-            emitted += 1;
-            collector.push(o);
+        enumerate::SmallWindow,
+        || Collector::new(settings.top, margin),
+        visit,
+        |_, part| {
+            collector.merge(part);
             true
         },
-        &mut |p: enumerate::Progress| {
-            let frac = if p.tasks_total == 0 {
-                1.0
-            } else {
-                p.tasks_done as f64 / p.tasks_total as f64
-            };
-            progress(p.isomers, frac);
-        },
+        &mut |p: enumerate::Progress| progress(p.isomers, p.share),
     )?;
-    let considered = summary.generated - summary.excluded;
-    collector.add_skipped(considered.saturating_sub(emitted));
-    if considered == 0 {
+    let whole = summary.complete() && options.part.is_none();
+    if summary.generated == 0 && whole && !options.constraints.is_empty() {
         return Err(Error::input(format!(
-            "no isomer of {formula} is left to rank (the plausibility rules removed all of them; --keep-all turns them off)"
+            "no isomer of {formula} fits the constraints ({}); with --carbon, --carbon-score-only keeps the 13C list out of the search",
+            summary
+                .constraints
+                .iter()
+                .map(|c| c.name.clone())
+                .collect::<Vec<_>>()
+                .join(", ")
         )));
     }
-    let rules = summary
-        .flagged
-        .iter()
-        .map(|(r, n)| (r.name().to_string(), *n))
-        .collect();
-    Ok(finish(collector, steps, settings, summary.excluded, rules))
+    if summary.generated == 0 && whole {
+        return Err(Error::input(format!(
+            "no structure has formula {formula}: the atoms cannot be bonded into one neutral molecule with standard valences{}",
+            if options.expanded_valence { " or the expanded valences of S and P" } else { "" }
+        )));
+    }
+    if summary.generated - summary.excluded == 0 && whole {
+        return Err(Error::input(format!(
+            "no isomer of {formula} is left to rank (the plausibility rules removed all {} of them; --keep-all turns them off)",
+            summary.generated
+        )));
+    }
+    Ok((collector, summary))
 }
 
 fn finish(
@@ -466,5 +521,6 @@ fn finish(
         skipped: top.skipped,
         excluded,
         rules,
+        coverage: Coverage::whole(),
     }
 }

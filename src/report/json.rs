@@ -32,7 +32,9 @@
 //! candidate `name` (shortlists), `reason`, `carbon_signals`,
 //! `unexplained_observed` (entries no group explains); at the top level
 //! `source`, `plausibility_rules`, `skipped`, `notes`, `groups` (with
-//! `evidence`) and `safety`.
+//! `evidence`), `safety`, `complete` (false when a cap stopped the run) and
+//! `coverage` (`share` of the search covered, `stopped_by`: the option or
+//! null).
 
 use super::{Context, Source, SAFETY};
 use crate::score;
@@ -135,6 +137,11 @@ pub fn render(cx: &Context) -> String {
         "source": source,
         "plausibility_rules": rules,
         "skipped": r.skipped,
+        "complete": r.coverage.complete(),
+        "coverage": {
+            "share": r.coverage.share,
+            "stopped_by": r.coverage.stopped.map(super::stop_option),
+        },
         "notes": s.notes.iter().chain(cx.carbon.iter().flat_map(|c| &c.notes)).collect::<Vec<_>>(),
         "groups": groups,
         "safety": SAFETY,

@@ -53,3 +53,11 @@ pub enum Source {
     /// A shortlist of this many structures.
     Shortlist,
 }
+
+/// The option that stopped a partial run.
+pub fn stop_option(stop: crate::enumerate::Stop) -> &'static str {
+    match stop {
+        crate::enumerate::Stop::Candidates => "--max-candidates",
+        crate::enumerate::Stop::Time => "--time-limit",
+    }
+}

@@ -88,13 +88,22 @@ pub fn render(cx: &Context) -> String {
             );
         }
     }
-    if r.skipped > 0 {
+    if let Some(stop) = r.coverage.stopped {
         let _ = writeln!(
             out,
-            "{} candidates were provably far from the top (cost above both the {} best and the best + {}) and not scored exactly; their total weight in the probabilities is below 1e-7.",
+            "PARTIAL RESULT: the run stopped at {} after {} candidates, {:.2}% of the search; the ranking and the probabilities are over those candidates only, and a better candidate may be in the rest.",
+            super::stop_option(stop),
+            r.considered,
+            r.coverage.share * 100.0
+        );
+    }
+    if r.skipped > 0 {
+        let margin = cx.model.ranking.skip_margin;
+        let _ = writeln!(
+            out,
+            "{} candidates cost more than the best + {margin} (most were provably so and not scored exactly) and are left out of the probabilities; together they would weigh less than {:.0e}.",
             r.skipped,
-            ordinal(r.candidates.len()),
-            cx.model.ranking.skip_margin
+            (r.skipped as f64 * (-margin).exp()).max(f64::MIN_POSITIVE)
         );
     }
     for n in s
@@ -176,18 +185,6 @@ pub fn render(cx: &Context) -> String {
     let _ = writeln!(out);
     let _ = writeln!(out, "{SAFETY}");
     out
-}
-
-/// 1st, 2nd, 3rd, 4th, ..., 11th, 12th, 13th, 21st, ...
-fn ordinal(n: usize) -> String {
-    let suffix = match (n % 10, n % 100) {
-        (_, 11..=13) => "th",
-        (1, _) => "st",
-        (2, _) => "nd",
-        (3, _) => "rd",
-        _ => "th",
-    };
-    format!("{n}{suffix}")
 }
 
 fn display_name(c: &Ranked) -> String {

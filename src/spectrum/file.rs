@@ -92,6 +92,8 @@ pub struct SpectrumFile {
 /// Parse the text of a spectrum file; `name` is used in messages and to
 /// choose JSON (`.json`) or TOML.
 pub fn parse(name: &str, text: &str) -> Result<SpectrumFile> {
+    // A UTF-8 byte-order mark (some editors write one) is not content.
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     let is_json = name.to_lowercase().ends_with(".json") || text.trim_start().starts_with('{');
     let file: FileSpectrum = if is_json {
         serde_json::from_str(text).map_err(|e| {
@@ -161,7 +163,9 @@ pub fn parse(name: &str, text: &str) -> Result<SpectrumFile> {
         }
         j_hz.sort_by(|a, b| b.total_cmp(a));
         if let Some(v) = m.integral {
-            if !(v > 0.0 && v <= 1000.0) {
+            // Any positive size: relative integrals straight from an
+            // instrument run to thousands and are scaled to the formula.
+            if !(v.is_finite() && v > 0.0) {
                 return Err(err(format!("integral {v} must be a positive number")));
             }
         }

@@ -529,7 +529,9 @@ fn parse_entry(entry: usize, chars: &[char], s: usize, e: usize) -> Result<RawEn
                             pat + 1
                         )));
                     }
-                    if !(v > 0.0 && v <= 1000.0) {
+                    // Any positive size: relative integrals straight from
+                    // an instrument run to thousands (scaled to the formula).
+                    if !(v.is_finite() && v > 0.0) {
                         return Err(err(format!(
                             "integral \"{part}\" at character {} must be a positive number",
                             pat + 1
