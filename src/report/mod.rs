@@ -2,6 +2,8 @@
 //! scripts. Both are built as one string before anything is written, so a
 //! failure never leaves half a report on stdout.
 
+pub mod drawing;
+pub mod files;
 pub mod json;
 pub mod text;
 
