@@ -49,8 +49,8 @@ pub fn run(args: Args) -> Result<()> {
     let report = execute(&job, None)?;
     let text = match args.format {
         Format::Text => format!("{SCENARIO}\n{report}"),
-        // JSON stays one document; the scenario goes to stderr.
-        Format::Json => {
+        // JSON and SDF stay one document; the scenario goes to stderr.
+        Format::Json | Format::Sdf => {
             eprint!("{SCENARIO}");
             report
         }

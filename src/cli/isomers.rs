@@ -13,6 +13,7 @@ use std::io::Write;
   isomerank isomers C9H10O --part 3/16   the 3rd of 16 disjoint shards
   isomerank isomers C6H10O --plausible   apply every plausibility rule
   isomerank isomers C6H10O --plausible=enol,peroxide
+  isomerank isomers C4H8O --format sdf > all.sdf   molfiles with 2D coordinates
 
 Plausibility rules (the number each flags goes to stderr):
   small-ring-triple, small-ring-cumulated, bredt, enol, peroxide")]
@@ -32,6 +33,16 @@ pub struct Args {
     /// Allow the expanded valences S(IV), S(VI) and P(V).
     #[arg(long)]
     pub expanded_valence: bool,
+    /// Output format: SMILES lines, or an SD file of V2000 molfiles with 2D
+    /// coordinates (title and `smiles` field: the canonical SMILES).
+    #[arg(long, value_enum, default_value_t = Format::Smiles)]
+    pub format: Format,
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
+pub enum Format {
+    Smiles,
+    Sdf,
 }
 
 pub fn run(args: Args) -> crate::Result<()> {
@@ -51,6 +62,8 @@ pub fn run(args: Args) -> crate::Result<()> {
     let mut progress = |p| output::update(&bar, p, "isomers");
     let result = if args.count {
         enumerate::for_each_ordered(&formula, &opts, |_| Some(()), |_| true, &mut progress)
+    } else if args.format == Format::Sdf {
+        write_sdf(&formula, &opts, &mut out, &mut progress)
     } else {
         enumerate::write_smiles(&formula, &opts, &mut out, &mut progress)
     };
@@ -70,4 +83,39 @@ pub fn run(args: Args) -> crate::Result<()> {
         }
     }
     Ok(())
+}
+
+/// Every isomer as an SD record (built in parallel, written in order).
+fn write_sdf(
+    formula: &Formula,
+    opts: &Options,
+    out: &mut dyn Write,
+    progress: &mut dyn FnMut(enumerate::Progress),
+) -> crate::Result<enumerate::Summary> {
+    let mut write_error = None;
+    let summary = enumerate::for_each_ordered(
+        formula,
+        opts,
+        |iso| {
+            let smiles = iso.smiles();
+            let mol = iso.molecule();
+            Some(crate::report::sdf::record(
+                &mol,
+                &smiles,
+                &[("smiles", smiles.clone())],
+            ))
+        },
+        |rec: String| match out.write_all(rec.as_bytes()) {
+            Ok(()) => true,
+            Err(e) => {
+                write_error = Some(e);
+                false
+            }
+        },
+        progress,
+    )?;
+    match write_error {
+        Some(e) => Err(e.into()),
+        None => Ok(summary),
+    }
 }

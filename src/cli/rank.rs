@@ -22,6 +22,8 @@ use std::path::PathBuf;
 pub enum Format {
     Text,
     Json,
+    /// V2000 molfiles with 2D coordinates, one record per candidate.
+    Sdf,
 }
 
 #[derive(clap::Args)]
@@ -29,6 +31,8 @@ pub enum Format {
   isomerank rank C4H8O2 --peaks '1H NMR (400 MHz, CDCl3) δ 4.12 (q, J = 7.1 Hz, 2H), 2.05 (s, 3H), 1.26 (t, J = 7.1 Hz, 3H)'
   isomerank rank C4H8O2 --spectrum batch.toml --top 5 --explain 1
   isomerank rank C4H8O2 --peaks '...' --format json
+  isomerank rank C4H8O2 --peaks '...' --report ester.html   also a self-contained HTML report
+  isomerank rank C4H8O2 --peaks '...' --format sdf > top.sdf  molfiles with position, cost, probability
   isomerank isomers C5H10O2 --plausible | isomerank rank C5H10O2 --candidates - --peaks '...'
 
 The peak list is journal style: optional header `1H NMR (MHz, solvent) δ`, then entries
@@ -69,6 +73,10 @@ pub struct Args {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Text)]
     pub format: Format,
+    /// Also write a self-contained HTML report (drawings, spectra,
+    /// assignments) of the same ranking to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub report: Option<PathBuf>,
 }
 
 /// Everything a ranking run needs, validated.
@@ -123,12 +131,53 @@ pub fn run(args: Args) -> Result<()> {
         Some(src) => Some(read_shortlist(src)?),
         None => None,
     };
-    let text = execute(&job, shortlist)?;
+    let done = rank_job(&job, shortlist)?;
+    let text = render(&job, &done);
+    if let Some(path) = &args.report {
+        report::files::write_whole(path, &report::html::render(&done.context(&job)))?;
+    }
     print_all(&text)
+}
+
+/// A finished ranking with what its reports need.
+pub struct Done {
+    pub ranking: Ranking,
+    pub source: Source,
+    pub model: ScoringModel,
+}
+
+impl Done {
+    /// The reports' view of this ranking.
+    pub fn context<'a>(&'a self, job: &'a Job) -> Context<'a> {
+        Context {
+            formula: &job.formula,
+            spectrum: &job.spectrum,
+            ranking: &self.ranking,
+            model: &self.model,
+            source: self.source.clone(),
+            explain: job.explain,
+        }
+    }
 }
 
 /// Check the options, rank, and render the report (nothing is printed here).
 pub fn execute(job: &Job, shortlist: Option<ShortlistText>) -> Result<String> {
+    let done = rank_job(job, shortlist)?;
+    Ok(render(job, &done))
+}
+
+/// The report of a finished ranking in the job's format.
+pub fn render(job: &Job, done: &Done) -> String {
+    let cx = done.context(job);
+    match job.format {
+        Format::Text => report::text::render(&cx),
+        Format::Json => report::json::render(&cx),
+        Format::Sdf => report::sdf::ranking(&cx),
+    }
+}
+
+/// Check the options and rank (nothing is printed here).
+pub fn rank_job(job: &Job, shortlist: Option<ShortlistText>) -> Result<Done> {
     if job.top == 0 {
         return Err(Error::input("--top must be at least 1"));
     }
@@ -191,17 +240,10 @@ pub fn execute(job: &Job, shortlist: Option<ShortlistText>) -> Result<String> {
             )));
         }
     }
-    let cx = Context {
-        formula: &job.formula,
-        spectrum: &job.spectrum,
-        ranking: &ranking,
-        model: &model,
+    Ok(Done {
+        ranking,
         source,
-        explain: job.explain,
-    };
-    Ok(match job.format {
-        Format::Text => report::text::render(&cx),
-        Format::Json => report::json::render(&cx),
+        model,
     })
 }
 

@@ -101,6 +101,9 @@ pub struct Ranked {
     pub predicted: Vec<PredictedSignal>,
     pub scored: Scored,
     pub carbon_signals: usize,
+    /// The structure (atom numbers of `predicted` refer to it): for
+    /// drawings and structure files.
+    pub molecule: Molecule,
 }
 
 /// A group of candidates the data cannot separate.
@@ -331,6 +334,7 @@ fn finish(
         .map(|(i, ((cost, probability, p), &group))| Ranked {
             position: i + 1,
             carbon_signals: (steps.carbon_signals)(&p.molecule),
+            molecule: p.molecule,
             smiles: p.smiles,
             name: p.name,
             cost,

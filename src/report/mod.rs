@@ -4,7 +4,10 @@
 
 pub mod drawing;
 pub mod files;
+pub mod html;
 pub mod json;
+pub mod sdf;
+pub mod spectrum_plot;
 pub mod text;
 
 use crate::chem::Formula;

@@ -167,14 +167,14 @@ fn ordinal(n: usize) -> String {
     format!("{n}{suffix}")
 }
 
-fn display_name(c: &Ranked) -> String {
+pub(crate) fn display_name(c: &Ranked) -> String {
     match &c.name {
         Some(n) => format!("{} ({n})", c.smiles),
         None => c.smiles.clone(),
     }
 }
 
-fn header_of(s: &Spectrum) -> String {
+pub(crate) fn header_of(s: &Spectrum) -> String {
     let mut parts = Vec::new();
     if let Some(f) = s.frequency_mhz {
         parts.push(format!("{f} MHz"));
@@ -189,7 +189,7 @@ fn header_of(s: &Spectrum) -> String {
     }
 }
 
-fn fmt_dbe(d: f64) -> String {
+pub(crate) fn fmt_dbe(d: f64) -> String {
     if d.fract() == 0.0 {
         format!("{}", d as i64)
     } else {
@@ -208,7 +208,7 @@ pub fn fmt_probability(p: f64) -> String {
     }
 }
 
-fn fmt_signal(p: &PredictedSignal) -> String {
+pub(crate) fn fmt_signal(p: &PredictedSignal) -> String {
     let mut s = format!("{:.2} {} {}H", p.shift, p.multiplicity.label(), p.hydrogens);
     if !p.j_hz.is_empty() {
         let js: Vec<String> = p.j_hz.iter().map(|j| format!("{j:.0}")).collect();
@@ -220,7 +220,7 @@ fn fmt_signal(p: &PredictedSignal) -> String {
     s
 }
 
-fn fmt_observed(o: &ObservedMultiplet) -> String {
+pub(crate) fn fmt_observed(o: &ObservedMultiplet) -> String {
     let mut s = format!(
         "entry {}: {} {}",
         o.entry,
