@@ -1,13 +1,16 @@
 //! Structure files: V2000 molfiles (the open CTfile format, as published by
 //! its authors: Dalby et al., J. Chem. Inf. Comput. Sci. 1992, 32, 244) with
 //! the 2D coordinates of [`crate::depict::layout`], gathered into an SD file
-//! with data fields. Hydrogens stay implicit; each atom's valence field
+//! with data fields. Double bonds that could be E or Z carry the stereo
+//! code "either" (3). Hydrogens stay implicit; each atom's valence field
 //! states its total valence (bonds + H) so that a reader takes the H count
 //! from the file, not from its own valence model.
 
 use super::Context;
+use crate::chem::rings::ring_info;
 use crate::chem::{Element, Molecule};
 use crate::depict::layout;
+use petgraph::graph::NodeIndex;
 use std::fmt::Write;
 
 /// Coordinates in Å: a typical C-C bond length (common practice).
@@ -52,8 +55,18 @@ pub fn molfile(mol: &Molecule, name: &str) -> String {
             vvv
         );
     }
+    // Structures are constitutional: a double bond that could be E or Z
+    // (outside rings of fewer than 8 atoms) is marked "either" (stereo
+    // field 3), so no reader takes a configuration from the coordinates.
+    let rings = ring_info(mol);
     for (a, b, o) in bonds {
-        let _ = writeln!(s, "{:>3}{:>3}{:>3}  0", a + 1, b + 1, o);
+        let e = mol
+            .graph
+            .find_edge(NodeIndex::new(a), NodeIndex::new(b))
+            .map(|e| e.index());
+        let small_ring = e.is_some_and(|e| rings.bond_in_ring_smaller_than(e, 8));
+        let stereo = if o == 2 && !small_ring { 3 } else { 0 };
+        let _ = writeln!(s, "{:>3}{:>3}{:>3}{:>3}", a + 1, b + 1, o, stereo);
     }
     s.push_str("M  END\n");
     s
