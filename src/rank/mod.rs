@@ -383,7 +383,8 @@ fn finish(
                 }
             })
             .collect();
-        g.evidence = evidence::separating_evidence(&members);
+        g.evidence =
+            evidence::separating_evidence_given(&members, evidence::Given::of(settings.spectrum));
     }
     Ranking {
         candidates,
