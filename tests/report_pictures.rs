@@ -172,6 +172,15 @@ fn html_report_renders_in_a_browser() {
     assert!(v["colours"].as_u64().unwrap() > 50, "{facts}");
 }
 
+/// RDKit's reading of an SD file (tests/reference/check_sdf.py), which must
+/// find no problem.
+fn rdkit_reads(sdf: &str, fields: &str) -> serde_json::Value {
+    let report = run_reference_script("check_sdf.py", &[fields], sdf);
+    let v: serde_json::Value = serde_json::from_str(&report).unwrap();
+    assert_eq!(v["problems"], serde_json::json!([]), "{fields}");
+    v
+}
+
 #[test]
 fn sdf_files_read_back_in_rdkit() {
     // Every isomer of C4H8O (rings, C=O, C=C, ethers) and the plausible
@@ -193,10 +202,8 @@ fn sdf_files_read_back_in_rdkit() {
             .trim()
             .parse()
             .unwrap();
-        let report = run_reference_script("check_sdf.py", &["smiles"], &sdf);
-        let v: serde_json::Value = serde_json::from_str(&report).unwrap();
+        let v = rdkit_reads(&sdf, "smiles");
         assert_eq!(v["records"].as_u64().unwrap() as usize, n, "{formula}");
-        assert_eq!(v["problems"], serde_json::json!([]), "{formula}");
     }
     // rank --format sdf: the table's candidates in order with their data.
     let out = isomerank(
@@ -228,9 +235,7 @@ fn sdf_files_read_back_in_rdkit() {
         None,
     );
     let j: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
-    let report = run_reference_script("check_sdf.py", &["position,cost,probability,smiles"], &sdf);
-    let v: serde_json::Value = serde_json::from_str(&report).unwrap();
-    assert_eq!(v["problems"], serde_json::json!([]));
+    let v = rdkit_reads(&sdf, "position,cost,probability,smiles");
     let fields = v["fields"].as_array().unwrap();
     assert_eq!(fields.len(), 5);
     for (k, f) in fields.iter().enumerate() {

@@ -21,10 +21,8 @@ use crate::error::{Error, Result};
 use crate::predict::{PredictedSignal, Predictor};
 use crate::rank::Ranked;
 use crate::report::SAFETY;
-use crate::spectrum::{file, integrals, journal, SolventTable, Spectrum};
 use serde::Serialize;
 use std::fmt::Write;
-use std::path::PathBuf;
 
 /// Exit code when the answer is not the unique best explanation.
 pub const NOT_UNIQUE: i32 = 3;
@@ -53,17 +51,8 @@ explanation; 3 it is not (rivals and separating observations are listed); 2 bad 
 pub struct Args {
     /// Molecular formula, e.g. C5H10O2.
     pub formula: String,
-    /// Observed multiplets in journal style (as for `rank`).
-    #[arg(
-        long,
-        value_name = "TEXT",
-        required_unless_present = "spectrum",
-        conflicts_with = "spectrum"
-    )]
-    pub peaks: Option<String>,
-    /// Observed multiplets from a TOML or JSON file (as for `rank`).
-    #[arg(long, value_name = "FILE")]
-    pub spectrum: Option<PathBuf>,
+    #[command(flatten)]
+    pub data: rank_cli::Observed,
     /// The intended answer (SMILES); default: the best candidate.
     #[arg(long, value_name = "SMILES")]
     pub answer: Option<String>,
@@ -146,7 +135,7 @@ pub struct Verdict {
 pub fn run(args: Args) -> Result<i32> {
     let formula = Formula::parse(&args.formula)?;
     formula.check_neutral()?;
-    let spectrum = read_spectrum(&args, &formula)?;
+    let spectrum = args.data.read(&formula)?;
     let answer = match &args.answer {
         Some(smi) => {
             let mol =
@@ -184,24 +173,6 @@ pub fn run(args: Args) -> Result<i32> {
     };
     rank_cli::print_all(&text)?;
     Ok(if verdict.unique { 0 } else { NOT_UNIQUE })
-}
-
-fn read_spectrum(args: &Args, formula: &Formula) -> Result<Spectrum> {
-    let raw = match (&args.peaks, &args.spectrum) {
-        (Some(text), _) => journal::parse(text)?,
-        (None, Some(path)) => {
-            let name = path.display().to_string();
-            let text = std::fs::read_to_string(path)
-                .map_err(|e| Error::input(format!("cannot read spectrum file {name}: {e}")))?;
-            file::parse(&name, &text)?.spectrum
-        }
-        (None, None) => {
-            return Err(Error::input(
-                "no observed data: give --peaks TEXT or --spectrum FILE",
-            ))
-        }
-    };
-    integrals::build(raw, formula, &SolventTable::embedded())
 }
 
 /// Decide uniqueness and list rivals with separating observations.

@@ -41,18 +41,8 @@ Integrals written as `2H` are H counts; bare numbers are relative and scaled to 
 pub struct Args {
     /// Molecular formula, e.g. C4H8O2.
     pub formula: String,
-    /// Observed multiplets in journal style (see below).
-    #[arg(
-        long,
-        value_name = "TEXT",
-        required_unless_present = "spectrum",
-        conflicts_with = "spectrum"
-    )]
-    pub peaks: Option<String>,
-    /// Observed multiplets from a TOML or JSON file (keys: formula, solvent,
-    /// frequency, integrals, multiplets = [{shift or range, multiplicity, j, integral}]).
-    #[arg(long, value_name = "FILE")]
-    pub spectrum: Option<PathBuf>,
+    #[command(flatten)]
+    pub data: Observed,
     /// Rank only these structures: one SMILES a line, optional name after
     /// whitespace; `-` reads standard input.
     #[arg(long, value_name = "FILE")]
@@ -79,6 +69,54 @@ pub struct Args {
     pub report: Option<PathBuf>,
 }
 
+/// The observed data options, shared by `rank` and `check`.
+#[derive(clap::Args)]
+pub struct Observed {
+    /// Observed multiplets in journal style (see below).
+    #[arg(
+        long,
+        value_name = "TEXT",
+        required_unless_present = "spectrum",
+        conflicts_with = "spectrum"
+    )]
+    pub peaks: Option<String>,
+    /// Observed multiplets from a TOML or JSON file (keys: formula, solvent,
+    /// frequency, integrals, multiplets = [{shift or range, multiplicity, j, integral}]).
+    #[arg(long, value_name = "FILE")]
+    pub spectrum: Option<PathBuf>,
+}
+
+impl Observed {
+    /// Parse and check the observed data against the formula.
+    pub fn read(&self, formula: &Formula) -> Result<Spectrum> {
+        let raw = match (&self.peaks, &self.spectrum) {
+            (Some(text), _) => journal::parse(text)?,
+            (None, Some(path)) => {
+                let name = path.display().to_string();
+                let text = std::fs::read_to_string(path)
+                    .map_err(|e| Error::input(format!("cannot read spectrum file {name}: {e}")))?;
+                let f = file::parse(&name, &text)?;
+                if let Some(ff) = &f.formula {
+                    let theirs = Formula::parse(ff)
+                        .map_err(|e| Error::input(format!("{name}: formula \"{ff}\": {e}")))?;
+                    if theirs != *formula {
+                        return Err(Error::input(format!(
+                            "{name} is for {theirs} but the command line asks for {formula}"
+                        )));
+                    }
+                }
+                f.spectrum
+            }
+            (None, None) => {
+                return Err(Error::input(
+                    "no observed data: give --peaks TEXT or --spectrum FILE",
+                ))
+            }
+        };
+        integrals::build(raw, formula, &SolventTable::embedded())
+    }
+}
+
 /// Everything a ranking run needs, validated.
 pub struct Job {
     pub formula: Formula,
@@ -93,31 +131,7 @@ pub struct Job {
 pub fn run(args: Args) -> Result<()> {
     let formula = Formula::parse(&args.formula)?;
     formula.check_neutral()?;
-    let raw = match (&args.peaks, &args.spectrum) {
-        (Some(text), _) => journal::parse(text)?,
-        (None, Some(path)) => {
-            let name = path.display().to_string();
-            let text = std::fs::read_to_string(path)
-                .map_err(|e| Error::input(format!("cannot read spectrum file {name}: {e}")))?;
-            let f = file::parse(&name, &text)?;
-            if let Some(ff) = &f.formula {
-                let theirs = Formula::parse(ff)
-                    .map_err(|e| Error::input(format!("{name}: formula \"{ff}\": {e}")))?;
-                if theirs != formula {
-                    return Err(Error::input(format!(
-                        "{name} is for {theirs} but the command line asks for {formula}"
-                    )));
-                }
-            }
-            f.spectrum
-        }
-        (None, None) => {
-            return Err(Error::input(
-                "no observed data: give --peaks TEXT or --spectrum FILE",
-            ))
-        }
-    };
-    let spectrum = integrals::build(raw, &formula, &SolventTable::embedded())?;
+    let spectrum = args.data.read(&formula)?;
     let job = Job {
         formula,
         spectrum,

@@ -196,25 +196,18 @@ mod tests {
 
     #[test]
     fn no_j_advice_when_j_was_given() {
+        // The same trans/cis pair: with J reported, J is no advice.
         let d = || Multiplicity::Coupled(vec![1]);
         let trans = [sig(1, d(), &[16.0]), sig(1, d(), &[16.0])];
         let cis = [sig(1, d(), &[10.0]), sig(1, d(), &[10.0])];
-        let members = [
-            Member {
-                label: "#1".into(),
-                predicted: &trans,
-                carbon_signals: Some(2),
-            },
-            Member {
-                label: "#2".into(),
-                predicted: &cis,
-                carbon_signals: Some(2),
-            },
-        ];
+        let members = [("#1", &trans[..]), ("#2", &cis[..])].map(|(label, predicted)| Member {
+            label: label.into(),
+            predicted,
+            carbon_signals: Some(2),
+        });
         let ev = separating_evidence_given(&members, Given { j: true });
         assert!(!ev.iter().any(|e| e.contains("J of about")), "{ev:?}");
-        let ev = separating_evidence_given(&members, Given { j: false });
-        assert!(ev.iter().any(|e| e.contains("J of about 16 Hz")), "{ev:?}");
+        assert!(ev.iter().any(|e| e.contains("does not help")), "{ev:?}");
     }
 
     #[test]
