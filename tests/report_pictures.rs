@@ -21,6 +21,13 @@ fn scratch(name: &str) -> PathBuf {
 const ISOPROPYL_ACETATE: &str =
     "1H NMR (400 MHz, CDCl3) δ 4.99 (sept, J = 6.3 Hz, 1H), 2.02 (s, 3H), 1.23 (d, J = 6.3 Hz, 6H)";
 
+/// `rank C5H10O2` against the isopropyl acetate list, with more arguments.
+fn rank_isopropyl_acetate(extra: &[&str]) -> std::process::Output {
+    let mut args = vec!["rank", "C5H10O2", "--peaks", ISOPROPYL_ACETATE];
+    args.extend_from_slice(extra);
+    isomerank(&args, None)
+}
+
 #[test]
 fn predict_writes_a_drawing() {
     let dir = scratch("svg");
@@ -82,15 +89,8 @@ fn chromium() -> PathBuf {
         return PathBuf::from(p);
     }
     for name in ["chromium", "chromium-browser"] {
-        if let Ok(out) = Command::new("sh")
-            .arg("-c")
-            .arg(format!("command -v {name}"))
-            .output()
-        {
-            let p = String::from_utf8_lossy(&out.stdout).trim().to_string();
-            if out.status.success() && !p.is_empty() {
-                return PathBuf::from(p);
-            }
+        if let Some(p) = common::on_path(name) {
+            return p;
         }
     }
     panic!("headless Chromium not found: run scripts/test (it installs Debian's package chromium) or set ISOMERANK_CHROMIUM");
@@ -100,19 +100,7 @@ fn chromium() -> PathBuf {
 fn html_report_renders_in_a_browser() {
     let dir = scratch("html");
     let html = dir.join("report.html");
-    let out = isomerank(
-        &[
-            "rank",
-            "C5H10O2",
-            "--peaks",
-            ISOPROPYL_ACETATE,
-            "--top",
-            "6",
-            "--report",
-            html.to_str().unwrap(),
-        ],
-        None,
-    );
+    let out = rank_isopropyl_acetate(&["--top", "6", "--report", html.to_str().unwrap()]);
     assert!(
         out.status.success(),
         "{}",
@@ -206,35 +194,13 @@ fn sdf_files_read_back_in_rdkit() {
         assert_eq!(v["records"].as_u64().unwrap() as usize, n, "{formula}");
     }
     // rank --format sdf: the table's candidates in order with their data.
-    let out = isomerank(
-        &[
-            "rank",
-            "C5H10O2",
-            "--peaks",
-            ISOPROPYL_ACETATE,
-            "--top",
-            "5",
-            "--format",
-            "sdf",
-        ],
-        None,
-    );
-    assert!(out.status.success());
-    let sdf = String::from_utf8(out.stdout).unwrap();
-    let json = isomerank(
-        &[
-            "rank",
-            "C5H10O2",
-            "--peaks",
-            ISOPROPYL_ACETATE,
-            "--top",
-            "5",
-            "--format",
-            "json",
-        ],
-        None,
-    );
-    let j: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
+    let top5 = |format: &str| {
+        let out = rank_isopropyl_acetate(&["--top", "5", "--format", format]);
+        assert!(out.status.success());
+        String::from_utf8(out.stdout).unwrap()
+    };
+    let sdf = top5("sdf");
+    let j: serde_json::Value = serde_json::from_str(&top5("json")).unwrap();
     let v = rdkit_reads(&sdf, "position,cost,probability,smiles");
     let fields = v["fields"].as_array().unwrap();
     assert_eq!(fields.len(), 5);
