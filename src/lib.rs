@@ -21,6 +21,7 @@
 
 pub mod chem;
 pub mod cli;
+pub mod depict;
 pub mod enumerate;
 pub mod error;
 pub mod predict;

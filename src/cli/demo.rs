@@ -89,7 +89,8 @@ pub fn run(args: Args) -> Result<()> {
         ),
         // JSON stays one document: the three rankings in order; the
         // scenarios go to stderr.
-        Format::Json => {
+        // SDF likewise: one file of the three rankings' molfiles.
+        Format::Json | Format::Sdf => {
             eprint!("{SCENARIO}\n{SCENARIO_13C}");
             format!("[\n{},\n{},\n{}]\n", ester.trim_end(), h_only.trim_end(), both.trim_end())
         }

@@ -97,6 +97,7 @@ pub fn emptied(formula: &Formula, cuts: &[Cut]) -> Error {
   isomerank isomers C12H16O2 --require 'c1ccccc1' --count
   isomerank isomers C8H8O --attached-h 'CH3=1,CH=5,C=2' --forbid 'C=C'
   isomerank isomers C12H14O2 --count --time-limit 60   stop after a minute, marked partial
+  isomerank isomers C4H8O --format sdf > all.sdf   molfiles with 2D coordinates
 
 Plausibility rules (the number each flags goes to stderr):
   small-ring-triple, small-ring-cumulated, bredt, enol, peroxide, hydrate, iminol, hypohalite")]
@@ -121,6 +122,16 @@ pub struct Args {
     pub constraints: ConstraintArgs,
     #[command(flatten)]
     pub run: RunArgs,
+    /// Output format: SMILES lines, or an SD file of V2000 molfiles with 2D
+    /// coordinates (title and `smiles` field: the canonical SMILES).
+    #[arg(long, value_enum, default_value_t = Format::Smiles)]
+    pub format: Format,
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
+pub enum Format {
+    Smiles,
+    Sdf,
 }
 
 pub fn run(args: Args) -> crate::Result<()> {
@@ -149,6 +160,8 @@ pub fn run(args: Args) -> crate::Result<()> {
     let mut progress = |p: enumerate::Progress| reporter.update(p.isomers, p.share);
     let result = if args.count {
         enumerate::count_summary(&formula, &opts, &mut progress)
+    } else if args.format == Format::Sdf {
+        write_sdf(&formula, &opts, &mut out, &mut progress)
     } else {
         enumerate::write_smiles(&formula, &opts, &mut out, &mut progress)
     };
@@ -185,4 +198,39 @@ pub fn run(args: Args) -> crate::Result<()> {
         }
     }
     Ok(())
+}
+
+/// Every isomer as an SD record (built in parallel, written in order).
+fn write_sdf(
+    formula: &Formula,
+    opts: &Options,
+    out: &mut dyn Write,
+    progress: &mut dyn FnMut(enumerate::Progress),
+) -> crate::Result<enumerate::Summary> {
+    let mut write_error = None;
+    let summary = enumerate::for_each_ordered(
+        formula,
+        opts,
+        |iso| {
+            let smiles = iso.smiles();
+            let mol = iso.molecule();
+            Some(crate::report::sdf::record(
+                &mol,
+                &smiles,
+                &[("smiles", smiles.clone())],
+            ))
+        },
+        |rec: String| match out.write_all(rec.as_bytes()) {
+            Ok(()) => true,
+            Err(e) => {
+                write_error = Some(e);
+                false
+            }
+        },
+        progress,
+    )?;
+    match write_error {
+        Some(e) => Err(e.into()),
+        None => Ok(summary),
+    }
 }

@@ -1,9 +1,10 @@
 //! Command-line layer: argument definitions (clap) and one file per
 //! subcommand. Each converts flags into typed library values once, calls the
 //! library, and returns a `Result` that [`main`] maps to an exit code
-//! (0 success, 2 bad input, 1 internal fault). A closed output pipe
+//! (0 success, 2 bad input, 1 internal fault; `check` adds 3: not unique). A closed output pipe
 //! (`isomerank isomers ... | head`) is a normal end.
 
+mod check;
 mod demo;
 mod isomers;
 pub mod limits;
@@ -36,6 +37,8 @@ pub enum Command {
     Predict(predict::Args),
     /// Rank the isomers of a formula (or a shortlist) against an observed 1H multiplet list.
     Rank(rank::Args),
+    /// Check that an exercise's answer is the unique best explanation of its data.
+    Check(check::Args),
     /// Run the ranking on an embedded, invented scenario.
     Demo(demo::Args),
 }
@@ -65,13 +68,14 @@ pub fn main() -> i32 {
         }
     }
     let result = match cli.command {
-        Command::Isomers(args) => isomers::run(args),
-        Command::Predict(args) => predict::run(args),
-        Command::Rank(args) => rank::run(args),
-        Command::Demo(args) => demo::run(args),
+        Command::Isomers(args) => isomers::run(args).map(|()| 0),
+        Command::Predict(args) => predict::run(args).map(|()| 0),
+        Command::Rank(args) => rank::run(args).map(|()| 0),
+        Command::Check(args) => check::run(args),
+        Command::Demo(args) => demo::run(args).map(|()| 0),
     };
     match result {
-        Ok(()) => 0,
+        Ok(code) => code,
         Err(crate::Error::Io(e)) if e.kind() == std::io::ErrorKind::BrokenPipe => 0,
         Err(e) => {
             limits::note(&format!("error: {}", printable(&e.to_string())));

@@ -15,6 +15,7 @@ use std::path::PathBuf;
   isomerank predict 'OCc1ccccc1' --solvent DMSO-d6  OH couples to CH2 in DMSO
   isomerank predict 'CC=O' --mhz 60 --format json
   isomerank predict 'CCO' --library my-tables/     my TOML files replace the built-in ones
+  isomerank predict 'OCc1ccccc1' --svg benzyl.svg   also write a 2D drawing
 
 Shifts are estimates from additive increment tables (sigma = typical error);
 multiplicities are first order. A prediction is a hypothesis, not a spectrum.")]
@@ -33,6 +34,12 @@ pub struct Args {
     /// Folder of fragment-library TOML files replacing the built-in ones.
     #[arg(long, value_name = "DIR")]
     pub library: Option<PathBuf>,
+    /// Also write a 2D drawing of the structure (SVG) to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub svg: Option<PathBuf>,
+    /// Number the atoms in the drawing (1-based, in SMILES order).
+    #[arg(long, requires = "svg")]
+    pub atom_numbers: bool,
 }
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
@@ -71,6 +78,17 @@ pub fn run(args: Args) -> Result<()> {
     let signals = predictor.try_predict(&mol, &opts)?;
     let carbons = predictor.try_predict_carbon(&mol, &opts)?;
     let solvent = &predictor.library().solvents[opts.solvent].name;
+    if let Some(path) = &args.svg {
+        let draw = crate::report::drawing::DrawOptions {
+            atom_numbers: args.atom_numbers,
+            title: Some(canonical_smiles(&mol)),
+            ..Default::default()
+        };
+        crate::report::files::write_whole(
+            path,
+            &crate::report::drawing::structure_svg(&mol, &draw),
+        )?;
+    }
     let text = match args.format {
         Format::Json => {
             let out = JsonOut {

@@ -22,6 +22,8 @@ use std::path::PathBuf;
 pub enum Format {
     Text,
     Json,
+    /// V2000 molfiles with 2D coordinates, one record per candidate.
+    Sdf,
 }
 
 #[derive(clap::Args)]
@@ -30,6 +32,8 @@ pub enum Format {
   isomerank rank C4H8O2 --spectrum batch.toml --top 5 --explain 1
   isomerank rank C4H8O2 --peaks '...' --carbon '13C NMR (101 MHz, CDCl3) δ 171.1 (C), 60.4 (CH2), 21.0 (CH3), 14.2 (CH3)'
   isomerank rank C4H8O2 --peaks '...' --format json
+  isomerank rank C4H8O2 --peaks '...' --report ester.html   also a self-contained HTML report
+  isomerank rank C4H8O2 --peaks '...' --format sdf > top.sdf  molfiles with position, cost, probability
   isomerank isomers C5H10O2 --plausible | isomerank rank C5H10O2 --candidates - --peaks '...'
 
 The peak list is journal style: optional header `1H NMR (MHz, solvent) δ`, then entries
@@ -41,18 +45,8 @@ off-resonance letters s, d, t, q) and a carbon count (2C).")]
 pub struct Args {
     /// Molecular formula, e.g. C4H8O2.
     pub formula: String,
-    /// Observed multiplets in journal style (see below).
-    #[arg(long, value_name = "TEXT", conflicts_with = "spectrum")]
-    pub peaks: Option<String>,
-    /// Observed 13C lines in journal style, e.g. '13C NMR (CDCl3) δ 171.1 (C),
-    /// 60.4 (CH2), 128.5 (CH, 2C)': scored beside the 1H list.
-    #[arg(long, value_name = "TEXT")]
-    pub carbon: Option<String>,
-    /// Observed data from a TOML or JSON file (keys: formula, solvent,
-    /// frequency, integrals, multiplets = [{shift or range, multiplicity, j,
-    /// integral}], carbon = [{shift or range, hydrogens, count}]).
-    #[arg(long, value_name = "FILE")]
-    pub spectrum: Option<PathBuf>,
+    #[command(flatten)]
+    pub data: Observed,
     /// Rank only these structures: one SMILES a line, optional name after
     /// whitespace; `-` reads standard input.
     #[arg(long, value_name = "FILE")]
@@ -83,6 +77,67 @@ pub struct Args {
     pub constraints: super::isomers::ConstraintArgs,
     #[command(flatten)]
     pub run: RunArgs,
+    /// Also write a self-contained HTML report (drawings, spectra,
+    /// assignments) of the same ranking to FILE.
+    #[arg(long, value_name = "FILE")]
+    pub report: Option<PathBuf>,
+}
+
+/// The observed data options, shared by `rank` and `check`.
+#[derive(clap::Args)]
+pub struct Observed {
+    /// Observed multiplets in journal style (see below).
+    #[arg(long, value_name = "TEXT", conflicts_with = "spectrum")]
+    pub peaks: Option<String>,
+    /// Observed 13C lines in journal style, e.g. '13C NMR (CDCl3) δ 171.1 (C),
+    /// 60.4 (CH2), 128.5 (CH, 2C)': scored beside the 1H list.
+    #[arg(long, value_name = "TEXT")]
+    pub carbon: Option<String>,
+    /// Observed data from a TOML or JSON file (keys: formula, solvent,
+    /// frequency, integrals, multiplets = [{shift or range, multiplicity, j,
+    /// integral}], carbon = [{shift or range, hydrogens, count}]).
+    #[arg(long, value_name = "FILE")]
+    pub spectrum: Option<PathBuf>,
+}
+
+impl Observed {
+    /// Parse and check the observed data against the formula: the 1H
+    /// multiplets (an empty list when only 13C was given) and the 13C lines.
+    pub fn read(&self, formula: &Formula) -> Result<(Spectrum, Option<CarbonSpectrum>)> {
+        let solvents = SolventTable::embedded();
+        let (raw, file_carbon) = match (&self.peaks, &self.spectrum) {
+            (Some(text), _) => (Some(journal::parse(text)?), None),
+            (None, Some(path)) => {
+                let name = path.display().to_string();
+                let text = std::fs::read_to_string(path)
+                    .map_err(|e| Error::input(format!("cannot read spectrum file {name}: {e}")))?;
+                let f = file::parse(&name, &text)?;
+                if let Some(ff) = &f.formula {
+                    let theirs = Formula::parse(ff)
+                        .map_err(|e| Error::input(format!("{name}: formula \"{ff}\": {e}")))?;
+                    if theirs != *formula {
+                        return Err(Error::input(format!(
+                            "{name} is for {theirs} but the command line asks for {formula}"
+                        )));
+                    }
+                }
+                let raw = (!f.spectrum.entries.is_empty()).then_some(f.spectrum);
+                (raw, f.carbon.map(|c| (name, c)))
+            }
+            (None, None) => (None, None),
+        };
+        let carbon_raw = match (&self.carbon, file_carbon) {
+            (Some(_), Some((name, _))) => {
+                return Err(Error::input(format!(
+                    "13C data given twice: in {name} ([[carbon]]) and with --carbon; give one"
+                )))
+            }
+            (Some(text), None) => Some(carbon::parse(text)?),
+            (None, Some((_, c))) => Some(c),
+            (None, None) => None,
+        };
+        spectrum::observed(raw, carbon_raw, formula, &solvents)
+    }
 }
 
 /// Everything a ranking run needs, validated.
@@ -107,39 +162,7 @@ pub struct Job {
 pub fn run(args: Args) -> Result<()> {
     let formula = Formula::parse(&args.formula)?;
     formula.check_neutral()?;
-    let solvents = SolventTable::embedded();
-    let (raw, file_carbon) = match (&args.peaks, &args.spectrum) {
-        (Some(text), _) => (Some(journal::parse(text)?), None),
-        (None, Some(path)) => {
-            let name = path.display().to_string();
-            let text = std::fs::read_to_string(path)
-                .map_err(|e| Error::input(format!("cannot read spectrum file {name}: {e}")))?;
-            let f = file::parse(&name, &text)?;
-            if let Some(ff) = &f.formula {
-                let theirs = Formula::parse(ff)
-                    .map_err(|e| Error::input(format!("{name}: formula \"{ff}\": {e}")))?;
-                if theirs != formula {
-                    return Err(Error::input(format!(
-                        "{name} is for {theirs} but the command line asks for {formula}"
-                    )));
-                }
-            }
-            let raw = (!f.spectrum.entries.is_empty()).then_some(f.spectrum);
-            (raw, f.carbon.map(|c| (name, c)))
-        }
-        (None, None) => (None, None),
-    };
-    let carbon_raw = match (&args.carbon, file_carbon) {
-        (Some(_), Some((name, _))) => {
-            return Err(Error::input(format!(
-                "13C data given twice: in {name} ([[carbon]]) and with --carbon; give one"
-            )))
-        }
-        (Some(text), None) => Some(carbon::parse(text)?),
-        (None, Some((_, c))) => Some(c),
-        (None, None) => None,
-    };
-    let (mut spectrum, carbon) = spectrum::observed(raw, carbon_raw, &formula, &solvents)?;
+    let (mut spectrum, carbon) = args.data.read(&formula)?;
     let mut constraints = args.constraints.constraints()?;
     if let (Some(c), false) = (&carbon, args.carbon_score_only) {
         if let Some(note) = c.constrain_search(&formula, &mut constraints)? {
@@ -162,17 +185,67 @@ pub fn run(args: Args) -> Result<()> {
         Some(src) => Some(read_shortlist(src)?),
         None => None,
     };
-    let (text, partial) = execute(&job, shortlist)?;
+    let done = rank_job(&job, shortlist)?;
+    let text = render(&job, &done);
+    if let Some(path) = &args.report {
+        report::files::write_whole(path, &report::html::render(&done.context(&job)))?;
+    }
     print_all(&text)?;
-    if let Some(p) = partial {
+    if let Some(p) = done.partial() {
         limits::note(&format!("rank {}: {p}", job.formula));
     }
     Ok(())
 }
 
+/// A finished ranking with what its reports need.
+pub struct Done {
+    pub ranking: Ranking,
+    pub source: Source,
+    pub model: ScoringModel,
+}
+
+impl Done {
+    /// The reports' view of this ranking.
+    pub fn context<'a>(&'a self, job: &'a Job) -> Context<'a> {
+        Context {
+            formula: &job.formula,
+            spectrum: &job.spectrum,
+            carbon: job.carbon.as_ref(),
+            ranking: &self.ranking,
+            model: &self.model,
+            source: self.source.clone(),
+            explain: job.explain,
+        }
+    }
+
+    /// The sentence on a partial run (for stderr), when the run was cut short.
+    pub fn partial(&self) -> Option<String> {
+        let c = self.ranking.coverage;
+        c.stopped.map(|stop| {
+            limits::partial_sentence(stop, c.share, self.ranking.considered, "candidates")
+        })
+    }
+}
+
 /// Check the options, rank, and render the report (nothing is printed here);
 /// with it, the sentence on a partial run for stderr.
 pub fn execute(job: &Job, shortlist: Option<ShortlistText>) -> Result<(String, Option<String>)> {
+    let done = rank_job(job, shortlist)?;
+    Ok((render(job, &done), done.partial()))
+}
+
+/// The report of a finished ranking in the job's format.
+pub fn render(job: &Job, done: &Done) -> String {
+    let cx = done.context(job);
+    match job.format {
+        Format::Text => report::text::render(&cx),
+        Format::Json => report::json::render(&cx),
+        Format::Sdf => report::sdf::ranking(&cx),
+    }
+}
+
+/// Check the options and rank (nothing is printed here).
+pub fn rank_job(job: &Job, shortlist: Option<ShortlistText>) -> Result<Done> {
     if job.top == 0 {
         return Err(Error::input("--top must be at least 1"));
     }
@@ -246,24 +319,11 @@ pub fn execute(job: &Job, shortlist: Option<ShortlistText>) -> Result<(String, O
             )));
         }
     }
-    let cx = Context {
-        formula: &job.formula,
-        spectrum: &job.spectrum,
-        carbon: job.carbon.as_ref(),
-        ranking: &ranking,
-        model: &model,
+    Ok(Done {
+        ranking,
         source,
-        explain: job.explain,
-    };
-    let text = match job.format {
-        Format::Text => report::text::render(&cx),
-        Format::Json => report::json::render(&cx),
-    };
-    let c = ranking.coverage;
-    let partial = c
-        .stopped
-        .map(|stop| limits::partial_sentence(stop, c.share, ranking.considered, "candidates"));
-    Ok((text, partial))
+        model,
+    })
 }
 
 /// Switch the generator's plausibility rules on (unless `keep_all`); returns

@@ -21,9 +21,31 @@ const RESOLVED_J_HZ: f64 = 3.0;
 /// overlap by about that much; common practice).
 const J_SEPARATION_HZ: f64 = 3.0;
 
+/// What the observed data already give: evidence of these kinds is not
+/// proposed again (measuring J is no advice when J was reported).
+#[derive(Clone, Copy, Debug, Default)]
+pub struct Given {
+    /// The data report at least one coupling constant.
+    pub j: bool,
+}
+
+impl Given {
+    pub fn of(spectrum: &crate::spectrum::Spectrum) -> Given {
+        Given {
+            j: spectrum.multiplets.iter().any(|o| !o.j_hz.is_empty()),
+        }
+    }
+}
+
 /// Sentences saying what would tell the members apart (empty when nothing
 /// in these three kinds of evidence does).
 pub fn separating_evidence(members: &[Member]) -> Vec<String> {
+    separating_evidence_given(members, Given::default())
+}
+
+/// [`separating_evidence`] without the kinds of evidence the data already
+/// give.
+pub fn separating_evidence_given(members: &[Member], given: Given) -> Vec<String> {
     let mut out = Vec::new();
     if members.len() < 2 {
         return out;
@@ -80,7 +102,10 @@ pub fn separating_evidence(members: &[Member]) -> Vec<String> {
                 or_none(&only_b)
             ));
         }
-        // Coupling constants.
+        // Coupling constants (unless the data give J already).
+        if given.j {
+            continue;
+        }
         let ja = resolved_j(first.predicted);
         let jb = resolved_j(m.predicted);
         let differs = |x: &[f64], y: &[f64]| {
@@ -166,6 +191,22 @@ mod tests {
             },
         ]);
         assert!(ev.iter().any(|e| e.contains("J of about 16 Hz")), "{ev:?}");
+        assert!(ev.iter().any(|e| e.contains("does not help")), "{ev:?}");
+    }
+
+    #[test]
+    fn no_j_advice_when_j_was_given() {
+        // The same trans/cis pair: with J reported, J is no advice.
+        let d = || Multiplicity::Coupled(vec![1]);
+        let trans = [sig(1, d(), &[16.0]), sig(1, d(), &[16.0])];
+        let cis = [sig(1, d(), &[10.0]), sig(1, d(), &[10.0])];
+        let members = [("#1", &trans[..]), ("#2", &cis[..])].map(|(label, predicted)| Member {
+            label: label.into(),
+            predicted,
+            carbon_signals: Some(2),
+        });
+        let ev = separating_evidence_given(&members, Given { j: true });
+        assert!(!ev.iter().any(|e| e.contains("J of about")), "{ev:?}");
         assert!(ev.iter().any(|e| e.contains("does not help")), "{ev:?}");
     }
 

@@ -116,6 +116,9 @@ pub struct Ranked {
     /// The 13C part: cost and assignment of `carbons`, when 13C data were given.
     pub carbon_scored: Option<Scored>,
     pub carbon_signals: usize,
+    /// The structure (atom numbers of `predicted` refer to it): for
+    /// drawings and structure files.
+    pub molecule: Molecule,
 }
 
 /// A group of candidates the data cannot separate.
@@ -462,6 +465,7 @@ fn finish(
         .map(|(i, ((cost, probability, p), &group))| Ranked {
             position: i + 1,
             carbon_signals: (steps.carbon_signals)(&p.molecule),
+            molecule: p.molecule,
             smiles: p.smiles,
             name: p.name,
             cost,
@@ -512,7 +516,8 @@ fn finish(
                 }
             })
             .collect();
-        g.evidence = evidence::separating_evidence(&members);
+        g.evidence =
+            evidence::separating_evidence_given(&members, evidence::Given::of(settings.spectrum));
     }
     Ranking {
         candidates,

@@ -2,7 +2,12 @@
 //! scripts. Both are built as one string before anything is written, so a
 //! failure never leaves half a report on stdout.
 
+pub mod drawing;
+pub mod files;
+pub mod html;
 pub mod json;
+pub mod sdf;
+pub mod spectrum_plot;
 pub mod text;
 
 use crate::chem::Formula;

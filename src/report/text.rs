@@ -187,14 +187,14 @@ pub fn render(cx: &Context) -> String {
     out
 }
 
-fn display_name(c: &Ranked) -> String {
+pub(crate) fn display_name(c: &Ranked) -> String {
     match &c.name {
         Some(n) => format!("{} ({n})", c.smiles),
         None => c.smiles.clone(),
     }
 }
 
-fn header_of(s: &Spectrum) -> String {
+pub(crate) fn header_of(s: &Spectrum) -> String {
     let mut parts = Vec::new();
     if let Some(f) = s.frequency_mhz {
         parts.push(format!("{f} MHz"));
@@ -209,7 +209,7 @@ fn header_of(s: &Spectrum) -> String {
     }
 }
 
-fn fmt_dbe(d: f64) -> String {
+pub(crate) fn fmt_dbe(d: f64) -> String {
     if d.fract() == 0.0 {
         format!("{}", d as i64)
     } else {
@@ -228,7 +228,7 @@ pub fn fmt_probability(p: f64) -> String {
     }
 }
 
-fn fmt_signal(p: &PredictedSignal) -> String {
+pub(crate) fn fmt_signal(p: &PredictedSignal) -> String {
     let mut s = format!("{:.2} {} {}H", p.shift, p.multiplicity.label(), p.hydrogens);
     if !p.j_hz.is_empty() {
         let js: Vec<String> = p.j_hz.iter().map(|j| format!("{j:.0}")).collect();
@@ -240,7 +240,7 @@ fn fmt_signal(p: &PredictedSignal) -> String {
     s
 }
 
-fn fmt_observed(o: &ObservedMultiplet) -> String {
+pub(crate) fn fmt_observed(o: &ObservedMultiplet) -> String {
     let label = if o.pattern.reported {
         o.pattern.label()
     } else {

@@ -84,19 +84,23 @@ pub fn run_reference_script(script: &str, args: &[&str], stdin: &str) -> String 
     String::from_utf8(out.stdout).expect("utf-8 from reference script")
 }
 
+/// Where a command is found on PATH (`command -v`), if anywhere.
+pub fn on_path(name: &str) -> Option<PathBuf> {
+    let out = Command::new("sh")
+        .arg("-c")
+        .arg(format!("command -v {name}"))
+        .output()
+        .ok()?;
+    let p = String::from_utf8_lossy(&out.stdout).trim().to_string();
+    (out.status.success() && !p.is_empty()).then(|| PathBuf::from(p))
+}
+
 /// A nauty tool by its upstream name (`geng`, `vcolg`, `multig`): Debian installs
 /// them as `nauty-geng` etc. Panics when absent.
 pub fn nauty_tool(name: &str) -> PathBuf {
     for candidate in [format!("nauty-{name}"), name.to_string()] {
-        if let Ok(out) = Command::new("sh")
-            .arg("-c")
-            .arg(format!("command -v {candidate}"))
-            .output()
-        {
-            let p = String::from_utf8_lossy(&out.stdout).trim().to_string();
-            if out.status.success() && !p.is_empty() {
-                return PathBuf::from(p);
-            }
+        if let Some(p) = on_path(&candidate) {
+            return p;
         }
     }
     panic!("nauty tool {name} not found: run scripts/test (it installs Debian's package nauty)");
