@@ -267,7 +267,7 @@ pub fn judge(
             .collect()
     };
     let rules = match &done.source {
-        crate::report::Source::Enumeration { rules } => rules.clone(),
+        crate::report::Source::Enumeration { rules, .. } => rules.clone(),
         crate::report::Source::Shortlist => Vec::new(),
     };
     Ok(Verdict {

@@ -307,7 +307,13 @@ pub fn rank_job(job: &Job, shortlist: Option<ShortlistText>) -> Result<Done> {
                         &mut |n, share| reporter.update(n, share),
                     );
                     reporter.finish();
-                    (r?, Source::Enumeration { rules })
+                    (
+                        r?,
+                        Source::Enumeration {
+                            rules,
+                            constraints: job.constraints.names(),
+                        },
+                    )
                 }
             })
         })?;

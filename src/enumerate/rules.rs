@@ -319,10 +319,9 @@ impl Checker {
     /// is on no ring, an OH and another O, N or S.
     fn hydrate(&mut self, iso: &Isomer) -> bool {
         let adj = &iso.node.g.adj;
-        for c in 0..iso.atoms() {
-            if iso.element(c) != Element::C || adj[1][c] | adj[2][c] != 0 {
-                continue;
-            }
+        let sp3_carbons = (0..iso.atoms())
+            .filter(|&c| iso.element(c) == Element::C && adj[1][c] | adj[2][c] == 0);
+        for c in sp3_carbons {
             let (mut oh, mut halogen, mut hetero) = (0, 0, 0);
             for y in bits(iso.node.nb[c]) {
                 match iso.element(y) {

@@ -166,11 +166,20 @@ pub fn render(cx: &Context) -> String {
     // Candidates and rules.
     let _ = writeln!(h, "<h2>Candidates considered</h2>");
     match &cx.source {
-        Source::Enumeration { rules } => {
+        Source::Enumeration { rules, constraints } => {
+            let which = if constraints.is_empty() {
+                format!("Every constitutional isomer of {}", cx.formula)
+            } else {
+                format!(
+                    "The constitutional isomers of {} that meet {}",
+                    cx.formula,
+                    constraints.join(", ")
+                )
+            };
             let _ = writeln!(
                 h,
-                "<p>Every constitutional isomer of {}: {} considered{}.</p>",
-                esc(&cx.formula.to_string()),
+                "<p>{}: {} considered{}.</p>",
+                esc(&which),
                 r.considered,
                 if r.excluded > 0 {
                     format!(", {} excluded by plausibility rules", r.excluded)
@@ -332,6 +341,24 @@ fn candidate_card(
         .filter_map(|(i, o)| o.map(|j| (i, j)))
         .collect();
     h.push_str(&spectrum_plot::proton_svg(&sims, marks, &links, mhz));
+    // The 13C lines against the predicted classes, when 13C data were given.
+    if let (Some(cs), Some(_)) = (cx.carbon, &c.carbon_scored) {
+        let observed: Vec<Stick> = cs
+            .lines
+            .iter()
+            .map(|l| Stick {
+                shift: l.shift,
+                label: match l.count {
+                    Some(n) if n > 1 => format!("{} ×{n}", l.kind_label()),
+                    _ => l.kind_label().to_string(),
+                },
+            })
+            .collect();
+        h.push_str(&spectrum_plot::carbon_svg(
+            &carbon_sticks(&c.carbons),
+            &observed,
+        ));
+    }
     // Assignment table.
     let e = score::explain(&c.predicted, s, cx.model, &c.scored);
     h.push_str("<table><tr><th>group</th><th>predicted</th><th>observed</th><th>shift term</th><th>multiplicity term</th><th>J term</th></tr>\n");

@@ -31,7 +31,8 @@
 //! 13C line) in the input. Keys added beside the schema (never removed or renamed): per
 //! candidate `name` (shortlists), `reason`, `carbon_signals`,
 //! `unexplained_observed` (entries no group explains); at the top level
-//! `source`, `plausibility_rules`, `skipped`, `notes`, `groups` (with
+//! `source` (`all isomers`, `constrained isomers`, `shortlist`),
+//! `constraints` (their names), `plausibility_rules`, `skipped`, `notes`, `groups` (with
 //! `evidence`), `safety`, `complete` (false when a cap stopped the run) and
 //! `coverage` (`share` of the search covered, `stopped_by`: the option or
 //! null).
@@ -116,8 +117,12 @@ pub fn render(cx: &Context) -> String {
         })
         .collect();
     let (source, rules) = match &cx.source {
-        Source::Enumeration { rules } => (
-            "all isomers",
+        Source::Enumeration { rules, constraints } => (
+            if constraints.is_empty() {
+                "all isomers"
+            } else {
+                "constrained isomers"
+            },
             rules
                 .iter()
                 .map(|name| {
@@ -135,6 +140,10 @@ pub fn render(cx: &Context) -> String {
         "isomers_excluded": r.excluded,
         "candidates": candidates,
         "source": source,
+        "constraints": match &cx.source {
+            Source::Enumeration { constraints, .. } => constraints.clone(),
+            Source::Shortlist => Vec::new(),
+        },
         "plausibility_rules": rules,
         "skipped": r.skipped,
         "complete": r.coverage.complete(),

@@ -54,7 +54,11 @@ pub fn reason(cx: &Context, c: &crate::rank::Ranked) -> String {
 pub enum Source {
     /// Every isomer of the formula; the plausibility rules applied, by name
     /// (empty with `--keep-all`).
-    Enumeration { rules: Vec<String> },
+    Enumeration {
+        rules: Vec<String>,
+        /// The constraints the search was bounded by (empty: none), by name.
+        constraints: Vec<String>,
+    },
     /// A shortlist of this many structures.
     Shortlist,
 }

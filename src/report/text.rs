@@ -51,11 +51,20 @@ pub fn render(cx: &Context) -> String {
         against.join(" and ")
     );
     match &cx.source {
-        Source::Enumeration { rules } => {
+        Source::Enumeration { rules, constraints } => {
+            let which = if constraints.is_empty() {
+                format!("every constitutional isomer of {}", cx.formula)
+            } else {
+                format!(
+                    "the constitutional isomers of {} that meet {} (built inside the search)",
+                    cx.formula,
+                    constraints.join(", ")
+                )
+            };
             let _ = writeln!(
                 out,
-                "Candidates: every constitutional isomer of {}: {} considered{}.",
-                cx.formula,
+                "Candidates: {}: {} considered{}.",
+                which,
                 r.considered,
                 if r.excluded > 0 {
                     format!(", {} excluded by plausibility rules", r.excluded)

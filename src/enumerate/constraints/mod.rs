@@ -173,6 +173,32 @@ pub struct Constraints {
 }
 
 impl Constraints {
+    /// One name per constraint, in the order the search counts their cuts:
+    /// attached H, carbon types, each required fragment, each forbidden one.
+    pub fn names(&self) -> Vec<String> {
+        let mut names = Vec::new();
+        if !self.hydrogens.is_empty() {
+            names.push(format!(
+                "attached H ({})",
+                self.hydrogens
+                    .iter()
+                    .map(|c| c.describe())
+                    .collect::<Vec<_>>()
+                    .join("; ")
+            ));
+        }
+        if let Some(cc) = &self.classes {
+            names.push(format!("carbon types ({})", cc.describe()));
+        }
+        for f in &self.require {
+            names.push(format!("--require {}", f.text));
+        }
+        for f in &self.forbid {
+            names.push(format!("--forbid {}", f.text));
+        }
+        names
+    }
+
     pub fn is_empty(&self) -> bool {
         self.hydrogens.is_empty()
             && self.classes.is_none()
@@ -376,29 +402,10 @@ impl Constraints {
                 }
             }
         }
-        let mut names = Vec::new();
-        if !self.hydrogens.is_empty() {
-            names.push(format!(
-                "attached H ({})",
-                self.hydrogens
-                    .iter()
-                    .map(|c| c.describe())
-                    .collect::<Vec<_>>()
-                    .join("; ")
-            ));
-        }
-        let classes_at = names.len();
-        if let Some(cc) = &self.classes {
-            names.push(format!("carbon types ({})", cc.describe()));
-        }
-        let require_at = names.len();
-        for f in &self.require {
-            names.push(format!("--require {}", f.text));
-        }
-        let forbid_at = names.len();
-        for f in &self.forbid {
-            names.push(format!("--forbid {}", f.text));
-        }
+        let names = self.names();
+        let classes_at = usize::from(!self.hydrogens.is_empty());
+        let require_at = classes_at + usize::from(self.classes.is_some());
+        let forbid_at = require_at + self.require.len();
         let stats = (0..names.len())
             .map(|_| [AtomicU64::new(0), AtomicU64::new(0), AtomicU64::new(0)])
             .collect();
