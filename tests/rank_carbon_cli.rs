@@ -172,37 +172,53 @@ fn gates_stay_sound_with_the_13c_term() {
             "209.3 (C), 36.9 (CH2), 29.4 (CH3), 7.9 (CH3)",
         ),
     ] {
-        let json = |top: &str| -> serde_json::Value {
-            let mut args = vec![
-                "rank",
-                formula,
-                "--carbon",
-                carbon,
-                "--keep-all",
-                "--format",
-                "json",
-                "--top",
-                top,
-            ];
-            if let Some(p) = peaks {
-                args.extend(["--peaks", p]);
-            }
-            serde_json::from_str(&run_ok(&args)).unwrap()
-        };
-        let all = json("100000");
-        let gated = json("5");
-        assert_eq!(all["skipped"], 0);
-        let n = all["isomers_considered"].as_u64().unwrap();
-        assert_eq!(all["candidates"].as_array().unwrap().len() as u64, n);
-        for k in 0..5 {
-            let (a, g) = (&all["candidates"][k], &gated["candidates"][k]);
-            assert_eq!(a["smiles"], g["smiles"], "{formula} #{}", k + 1);
-            assert_eq!(a["cost"], g["cost"], "{formula} #{}", k + 1);
-            let (pa, pg) = (
-                a["probability"].as_f64().unwrap(),
-                g["probability"].as_f64().unwrap(),
+        // With the 13C list in the score alone (every isomer) and bounding
+        // the search too (the default).
+        for score_only in [true, false] {
+            let json = |top: &str| -> serde_json::Value {
+                let mut args = vec![
+                    "rank",
+                    formula,
+                    "--carbon",
+                    carbon,
+                    "--keep-all",
+                    "--format",
+                    "json",
+                    "--top",
+                    top,
+                ];
+                if let Some(p) = peaks {
+                    args.extend(["--peaks", p]);
+                }
+                if score_only {
+                    args.push("--carbon-score-only");
+                }
+                serde_json::from_str(&run_ok(&args)).unwrap()
+            };
+            // A table longer than the candidate list: the cutoff stays infinite
+            // and every candidate is scored exactly.
+            let all = json("100000");
+            let gated = json("5");
+            let n = all["isomers_considered"].as_u64().unwrap();
+            assert!(n < 100000 && n >= 1, "{formula}: {n} candidates");
+            assert_eq!(all["isomers_considered"], gated["isomers_considered"]);
+            // Candidates beyond the best + 30 are left out of both tables.
+            let shown = all["candidates"].as_array().unwrap().len().min(5);
+            assert_eq!(
+                gated["candidates"].as_array().unwrap().len(),
+                shown,
+                "{formula}"
             );
-            assert!((pa - pg).abs() < 1e-6, "{formula} #{}: {pa} vs {pg}", k + 1);
+            for k in 0..shown {
+                let (a, g) = (&all["candidates"][k], &gated["candidates"][k]);
+                assert_eq!(a["smiles"], g["smiles"], "{formula} #{}", k + 1);
+                assert_eq!(a["cost"], g["cost"], "{formula} #{}", k + 1);
+                let (pa, pg) = (
+                    a["probability"].as_f64().unwrap(),
+                    g["probability"].as_f64().unwrap(),
+                );
+                assert!((pa - pg).abs() < 1e-6, "{formula} #{}: {pa} vs {pg}", k + 1);
+            }
         }
     }
 }
