@@ -6,11 +6,14 @@
 //! ```sh
 //! cargo run --release --example rank_nmrshiftdb            # up to 8 heavy atoms
 //! cargo run --release --example rank_nmrshiftdb -- 9 all   # up to 9, 13C-only cases too
+//! cargo run --release --example rank_nmrshiftdb -- 11-14    # real-size unknowns
 //! ```
 //!
-//! "Within reach" is a heavy-atom limit (first argument, default 8): every
-//! isomer of such a formula is enumerated and scored in seconds. By default
-//! only cases with a 1H list are ranked; `all` adds the 13C-only cases.
+//! The first argument is a heavy-atom limit (`MAX`, default 8) or range
+//! (`MIN-MAX`). The 13C list bounds the search as `rank --carbon` does by
+//! default, which is what brings 10-16 heavy atoms within reach. By default
+//! only cases with a 1H list are ranked; `all` adds the 13C-only cases. The
+//! last line gives the median time per compound as well.
 
 #[path = "common/nmrshiftdb.rs"]
 mod nmrshiftdb;
@@ -21,19 +24,27 @@ use nmrshiftdb::{cases, rank_case, summary};
 
 fn main() {
     let mut args = std::env::args().skip(1);
-    let max_heavy: u32 = args
-        .next()
-        .map(|a| a.parse().expect("heavy-atom limit"))
-        .unwrap_or(8);
+    let (min_heavy, max_heavy): (u32, u32) = match args.next() {
+        None => (0, 8),
+        Some(a) => match a.split_once('-') {
+            Some((lo, hi)) => (
+                lo.parse().expect("heavy-atom range MIN-MAX"),
+                hi.parse().expect("heavy-atom range MIN-MAX"),
+            ),
+            None => (0, a.parse().expect("heavy-atom limit")),
+        },
+    };
     let all = args.next().is_some_and(|a| a == "all");
     let predictor = Predictor::embedded().expect("predictor");
     let model = ScoringModel::embedded();
     let selected: Vec<_> = cases()
         .into_iter()
-        .filter(|c| c.heavy_atoms <= max_heavy && (all || !c.peaks.is_empty()))
+        .filter(|c| {
+            (min_heavy..=max_heavy).contains(&c.heavy_atoms) && (all || !c.peaks.is_empty())
+        })
         .collect();
     println!(
-        "NMRShiftDB2 dev split, {} compounds of at most {max_heavy} heavy atoms{}",
+        "NMRShiftDB2 dev split, {} compounds of {min_heavy} to {max_heavy} heavy atoms{}",
         selected.len(),
         if all { "" } else { " with a 1H list" }
     );
@@ -44,9 +55,13 @@ fn main() {
         outcomes.push(o);
     }
     let (n, t1, t3, t10) = summary(&outcomes);
+    let mut times: Vec<f64> = outcomes.iter().map(|o| o.seconds).collect();
+    times.sort_by(f64::total_cmp);
+    let median = times.get(times.len() / 2).copied().unwrap_or(0.0);
+    let slowest = times.last().copied().unwrap_or(0.0);
     let pct = |k: usize| 100.0 * k as f64 / n.max(1) as f64;
     println!(
-        "ranked {n} (refused {}): first {t1} ({:.1} %), top 3 {t3} ({:.1} %), top 10 {t10} ({:.1} %)",
+        "ranked {n} (refused {}): first {t1} ({:.1} %), top 3 {t3} ({:.1} %), top 10 {t10} ({:.1} %); median {median:.2} s, slowest {slowest:.1} s",
         outcomes.len() - n,
         pct(t1),
         pct(t3),
