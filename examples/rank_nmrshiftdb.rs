@@ -22,6 +22,10 @@ use isomerank::predict::Predictor;
 use isomerank::score::ScoringModel;
 use nmrshiftdb::{cases, rank_case, summary};
 
+/// Each compound's search stops after this long (the goal: at most
+/// 60 s per compound on the 2-core machine).
+const LIMIT: std::time::Duration = std::time::Duration::from_secs(60);
+
 fn main() {
     let mut args = std::env::args().skip(1);
     let (min_heavy, max_heavy): (u32, u32) = match args.next() {
@@ -50,21 +54,26 @@ fn main() {
     );
     let mut outcomes = Vec::new();
     for c in &selected {
-        let o = rank_case(c, &predictor, &model, 10);
+        let o = rank_case(c, &predictor, &model, 10, Some(LIMIT));
         println!("{}", o.line(&c.smiles));
         outcomes.push(o);
     }
     let (n, t1, t3, t10) = summary(&outcomes);
+    let partial = outcomes
+        .iter()
+        .filter(|o| o.refused.is_none() && !o.complete)
+        .count();
     let mut times: Vec<f64> = outcomes.iter().map(|o| o.seconds).collect();
     times.sort_by(f64::total_cmp);
     let median = times.get(times.len() / 2).copied().unwrap_or(0.0);
     let slowest = times.last().copied().unwrap_or(0.0);
     let pct = |k: usize| 100.0 * k as f64 / n.max(1) as f64;
     println!(
-        "ranked {n} (refused {}): first {t1} ({:.1} %), top 3 {t3} ({:.1} %), top 10 {t10} ({:.1} %); median {median:.2} s, slowest {slowest:.1} s",
+        "ranked {n} (refused {}): first {t1} ({:.1} %), top 3 {t3} ({:.1} %), top 10 {t10} ({:.1} %); median {median:.2} s, slowest {slowest:.1} s; {partial} stopped at the {}-s limit",
         outcomes.len() - n,
         pct(t1),
         pct(t3),
-        pct(t10)
+        pct(t10),
+        LIMIT.as_secs()
     );
 }

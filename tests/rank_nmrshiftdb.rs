@@ -34,7 +34,7 @@ fn dev_compounds_within_reach_rank_with_1h_and_13c() {
     assert_eq!(selected.len(), 393, "the sample changed: update the floors");
     let outcomes: Vec<_> = selected
         .par_iter()
-        .map(|c| (rank_case(c, &predictor, &model, 10), c.smiles.clone()))
+        .map(|c| (rank_case(c, &predictor, &model, 10, None), c.smiles.clone()))
         .collect();
     for (o, smiles) in &outcomes {
         if o.position != Some(1) {

@@ -65,6 +65,9 @@ pub struct Outcome {
     pub true_cost: Option<f64>,
     /// Why the case could not be ranked (an input the tool refuses).
     pub refused: Option<String>,
+    /// Whether the whole search was covered (false: stopped at the time
+    /// limit, the position is then among the candidates covered).
+    pub complete: bool,
 }
 
 impl Outcome {
@@ -72,10 +75,11 @@ impl Outcome {
         match &self.refused {
             Some(why) => format!("{:>9} {:<12} refused: {why}", self.id, self.formula),
             None => format!(
-                "{:>9} {:<12} {:>8} candidates {:>6.2} s  position {:<4} {}{}",
+                "{:>9} {:<12} {:>8} candidates{} {:>6.2} s  position {:<4} {}{}",
                 self.id,
                 self.formula,
                 self.considered,
+                if self.complete { "" } else { " (partial)" },
                 self.seconds,
                 self.position
                     .map(|p| p.to_string())
@@ -102,7 +106,14 @@ impl Outcome {
 /// and carbon types bound the search, as `rank --carbon` does by default)
 /// against its 1H list (when it has one) and its 13C list, keeping `top`
 /// candidates.
-pub fn rank_case(case: &Case, predictor: &Predictor, model: &ScoringModel, top: usize) -> Outcome {
+/// With `limit`, the search stops after that long (as `--time-limit`).
+pub fn rank_case(
+    case: &Case,
+    predictor: &Predictor,
+    model: &ScoringModel,
+    top: usize,
+    limit: Option<std::time::Duration>,
+) -> Outcome {
     let start = Instant::now();
     let formula = Formula::parse(&case.formula).expect("formula of the data file");
     let answer = parse_smiles(&case.smiles).expect("SMILES of the data file");
@@ -118,6 +129,7 @@ pub fn rank_case(case: &Case, predictor: &Predictor, model: &ScoringModel, top: 
         first_cost: f64::NAN,
         true_cost: None,
         refused: Some(why),
+        complete: false,
     };
     let hydrogen = if case.peaks.is_empty() {
         None
@@ -162,6 +174,10 @@ pub fn rank_case(case: &Case, predictor: &Predictor, model: &ScoringModel, top: 
         }
     }
     let options = enumerate::Options {
+        limits: enumerate::Limits {
+            max_candidates: None,
+            deadline: limit.map(|d| start + d),
+        },
         constraints,
         rules: RuleSet::all(),
         expanded_valence: formula.count(Element::S) + formula.count(Element::P) > 0,
@@ -190,6 +206,7 @@ pub fn rank_case(case: &Case, predictor: &Predictor, model: &ScoringModel, top: 
         first_cost: r.candidates[0].cost,
         true_cost: position.map(|p| r.candidates[p - 1].cost),
         refused: None,
+        complete: r.coverage.stopped.is_none(),
     }
 }
 

@@ -79,11 +79,7 @@ pub struct CarbonLine {
 impl CarbonLine {
     /// Distance (ppm) from `shift` to this line: 0 inside a range.
     pub fn distance(&self, shift: f64) -> f64 {
-        match self.range {
-            Some((lo, hi)) if shift >= lo && shift <= hi => 0.0,
-            Some((lo, hi)) => (shift - lo).abs().min((shift - hi).abs()),
-            None => (shift - self.shift).abs(),
-        }
+        super::distance_to(self.shift, self.range, shift)
     }
 
     /// The shift as quoted: `128.6` or `128.9-128.5`.
@@ -216,32 +212,11 @@ fn parse_line(entry: usize, chars: &[char], s: usize, e: usize) -> Result<Carbon
             *i += 1;
         }
     };
-    let mut i = s;
-    skip_ws(&mut i);
-    let (first, next) = journal::read_number(chars, i, e).ok_or_else(|| {
-        err(format!(
-            "expected a 13C chemical shift (a number in ppm) at character {}",
-            i + 1
-        ))
-    })?;
-    i = next;
-    skip_ws(&mut i);
-    let mut range = None;
-    if i < e && matches!(chars[i], '-' | '–' | '—' | '‒') {
-        let dash = i;
-        i += 1;
-        skip_ws(&mut i);
-        let (second, next) = journal::read_number(chars, i, e).ok_or_else(|| {
-            err(format!(
-                "expected the second shift of the range after the dash at character {}",
-                dash + 1
-            ))
-        })?;
-        i = next;
-        range = Some((first.min(second), first.max(second)));
-        skip_ws(&mut i);
-    }
-    for v in [Some(first), range.map(|r| r.1)].into_iter().flatten() {
+    let (first, range, mut i) = journal::read_shift(chars, s, e, "13C ").map_err(&err)?;
+    for v in [Some(first), range.map(|r| r.0), range.map(|r| r.1)]
+        .into_iter()
+        .flatten()
+    {
         if !(SHIFT_LIMITS.0..=SHIFT_LIMITS.1).contains(&v) {
             return Err(err(format!(
                 "shift {v} ppm is outside the 13C range ({} to {} ppm)",

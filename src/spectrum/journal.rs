@@ -376,36 +376,12 @@ fn parse_header_items(
 fn parse_entry(entry: usize, chars: &[char], s: usize, e: usize) -> Result<RawEntry> {
     let piece = &chars[s..e];
     let err = |what: String| entry_error(entry, piece, what);
-    let mut i = s;
     let skip_ws = |i: &mut usize| {
         while *i < e && chars[*i].is_whitespace() {
             *i += 1;
         }
     };
-    skip_ws(&mut i);
-    let (first, next) = read_number(chars, i, e).ok_or_else(|| {
-        err(format!(
-            "expected a chemical shift (a number in ppm) at character {}",
-            i + 1
-        ))
-    })?;
-    i = next;
-    skip_ws(&mut i);
-    let mut range = None;
-    if i < e && matches!(chars[i], '-' | '–' | '—' | '‒') {
-        let dash = i;
-        i += 1;
-        skip_ws(&mut i);
-        let (second, next) = read_number(chars, i, e).ok_or_else(|| {
-            err(format!(
-                "expected the second shift of the range after the dash at character {}",
-                dash + 1
-            ))
-        })?;
-        i = next;
-        range = Some((first.min(second), first.max(second)));
-        skip_ws(&mut i);
-    }
+    let (first, range, mut i) = read_shift(chars, s, e, "").map_err(err)?;
     for v in [Some(first), range.map(|r| r.0), range.map(|r| r.1)]
         .into_iter()
         .flatten()
@@ -638,6 +614,49 @@ fn parse_j_values(text: &str) -> Option<(Vec<f64>, bool)> {
 
 /// A decimal number (optionally signed) starting at `i`; returns the value
 /// and the index after it.
+/// The shift or range at the start of an entry (`chars[s..e]`): the first
+/// number, the range (low, high) when a dash and a second number follow, and
+/// the index after them and the white space behind. `nucleus` names the
+/// nucleus in the message ("" or "13C ").
+pub(super) fn read_shift(
+    chars: &[char],
+    s: usize,
+    e: usize,
+    nucleus: &str,
+) -> std::result::Result<(f64, Option<(f64, f64)>, usize), String> {
+    let skip_ws = |i: &mut usize| {
+        while *i < e && chars[*i].is_whitespace() {
+            *i += 1;
+        }
+    };
+    let mut i = s;
+    skip_ws(&mut i);
+    let (first, next) = read_number(chars, i, e).ok_or_else(|| {
+        format!(
+            "expected a {nucleus}chemical shift (a number in ppm) at character {}",
+            i + 1
+        )
+    })?;
+    i = next;
+    skip_ws(&mut i);
+    let mut range = None;
+    if i < e && matches!(chars[i], '-' | '–' | '—' | '‒') {
+        let dash = i;
+        i += 1;
+        skip_ws(&mut i);
+        let (second, next) = read_number(chars, i, e).ok_or_else(|| {
+            format!(
+                "expected the second shift of the range after the dash at character {}",
+                dash + 1
+            )
+        })?;
+        i = next;
+        range = Some((first.min(second), first.max(second)));
+        skip_ws(&mut i);
+    }
+    Ok((first, range, i))
+}
+
 pub(super) fn read_number(chars: &[char], i: usize, e: usize) -> Option<(f64, usize)> {
     let mut j = i;
     if j < e && (chars[j] == '-' || chars[j] == '−') {

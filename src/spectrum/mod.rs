@@ -46,11 +46,7 @@ pub struct ObservedMultiplet {
 impl ObservedMultiplet {
     /// Distance (ppm) from `shift` to this multiplet: 0 inside a range.
     pub fn distance(&self, shift: f64) -> f64 {
-        match self.range {
-            Some((lo, hi)) if shift >= lo && shift <= hi => 0.0,
-            Some((lo, hi)) => (shift - lo).abs().min((shift - hi).abs()),
-            None => (shift - self.shift).abs(),
-        }
+        distance_to(self.shift, self.range, shift)
     }
 
     /// The shift as a user would quote it: `7.32-7.15` or `4.12`.
@@ -59,6 +55,16 @@ impl ObservedMultiplet {
             Some((lo, hi)) => format!("{hi:.2}-{lo:.2}"),
             None => format!("{:.2}", self.shift),
         }
+    }
+}
+
+/// Distance (ppm) from `x` to a reported signal at `shift`, or to its range
+/// when one was given (0 inside it); both nuclei's signals use it.
+pub fn distance_to(shift: f64, range: Option<(f64, f64)>, x: f64) -> f64 {
+    match range {
+        Some((lo, hi)) if x >= lo && x <= hi => 0.0,
+        Some((lo, hi)) => (x - lo).abs().min((x - hi).abs()),
+        None => (x - shift).abs(),
     }
 }
 
