@@ -614,16 +614,15 @@ fn parse_j_values(text: &str) -> Option<(Vec<f64>, bool)> {
 
 /// A decimal number (optionally signed) starting at `i`; returns the value
 /// and the index after it.
+/// What [`read_shift`] gives: (first number, range, index after), or the
+/// error's text.
+pub(super) type ShiftRead = std::result::Result<(f64, Option<(f64, f64)>, usize), String>;
+
 /// The shift or range at the start of an entry (`chars[s..e]`): the first
 /// number, the range (low, high) when a dash and a second number follow, and
 /// the index after them and the white space behind. `nucleus` names the
 /// nucleus in the message ("" or "13C ").
-pub(super) fn read_shift(
-    chars: &[char],
-    s: usize,
-    e: usize,
-    nucleus: &str,
-) -> std::result::Result<(f64, Option<(f64, f64)>, usize), String> {
+pub(super) fn read_shift(chars: &[char], s: usize, e: usize, nucleus: &str) -> ShiftRead {
     let skip_ws = |i: &mut usize| {
         while *i < e && chars[*i].is_whitespace() {
             *i += 1;
