@@ -7,7 +7,7 @@
 
 mod common;
 
-use common::isomerank;
+use common::{fails_with, isomerank, stdout_of};
 
 /// Ethyl acetate: 1H and 13C in CDCl3 (Gottlieb, Kotlyar & Nudelman,
 /// J. Org. Chem. 1997, 62, 7512: 1H 4.12 q, 2.05 s, 1.26 t; 13C 171.36,
@@ -18,25 +18,11 @@ const EA_1H: &str =
 const EA_13C: &str = "13C NMR (101 MHz, CDCl3) δ 171.4 (C), 60.5 (CH2), 21.0 (CH3), 14.2 (CH3)";
 
 fn run_ok(args: &[&str]) -> String {
-    let out = isomerank(args, None);
-    assert_eq!(
-        out.status.code(),
-        Some(0),
-        "{args:?}: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    String::from_utf8(out.stdout).unwrap()
+    stdout_of(isomerank(args, None))
 }
 
-fn fails_with(args: &[&str], needle: &str) {
-    let out = isomerank(args, None);
-    let err = String::from_utf8_lossy(&out.stderr);
-    assert_eq!(out.status.code(), Some(2), "args {args:?}: stderr {err}");
-    assert!(out.stdout.is_empty(), "args {args:?}: stdout not empty");
-    assert!(
-        err.contains(needle),
-        "args {args:?}: stderr {err:?} lacks {needle:?}"
-    );
+fn fails(args: &[&str], needle: &str) {
+    fails_with(args, None, needle)
 }
 
 #[test]
@@ -53,11 +39,11 @@ fn carbon_input_errors_name_the_entry() {
         (EA_1H, "give it with --peaks"),
         ("171.4 (CH5)", "\"CH5\""),
     ] {
-        fails_with(&with(carbon), needle);
+        fails(&with(carbon), needle);
     }
     // The 13C list given to --peaks is named as such.
-    fails_with(&["rank", "C4H8O2", "--peaks", EA_13C], "--carbon");
-    fails_with(&["rank", "C4H8O2"], "no observed data");
+    fails(&["rank", "C4H8O2", "--peaks", EA_13C], "--carbon");
+    fails(&["rank", "C4H8O2"], "no observed data");
 }
 
 #[test]
@@ -71,7 +57,7 @@ fn carbon_given_twice_is_refused() {
     )
     .unwrap();
     let path = p.to_str().unwrap();
-    fails_with(
+    fails(
         &["rank", "C4H8O2", "--spectrum", path, "--carbon", EA_13C],
         "13C data given twice",
     );

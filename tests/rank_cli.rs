@@ -5,40 +5,17 @@
 
 mod common;
 
-use common::{canonical, isomerank};
+use common::{canonical, fails_with, isomerank, stdout_of};
 use std::io::Write;
 
 const ETHYL_ACETATE: &str =
     "1H NMR (400 MHz, CDCl3) δ 4.12 (q, J = 7.1 Hz, 2H), 2.05 (s, 3H), 1.26 (t, J = 7.1 Hz, 3H)";
 
-/// Run and expect a bad-input failure whose stderr contains `needle`.
 /// `rank C4H8O2 --peaks ETHYL_ACETATE` followed by `extra`.
 fn ethyl_acetate<'a>(extra: &[&'a str]) -> Vec<&'a str> {
     let mut args = vec!["rank", "C4H8O2", "--peaks", ETHYL_ACETATE];
     args.extend_from_slice(extra);
     args
-}
-
-fn fails_with(args: &[&str], stdin: Option<&str>, needle: &str) {
-    let out = isomerank(args, stdin);
-    let err = String::from_utf8_lossy(&out.stderr);
-    assert_eq!(out.status.code(), Some(2), "args {args:?}: stderr {err}");
-    assert!(out.stdout.is_empty(), "args {args:?}: stdout not empty");
-    assert!(
-        err.contains(needle),
-        "args {args:?}: stderr {err:?} lacks {needle:?}"
-    );
-}
-
-/// The standard output of a run that must succeed (exit 0).
-fn stdout_of(out: std::process::Output) -> String {
-    assert_eq!(
-        out.status.code(),
-        Some(0),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    String::from_utf8(out.stdout).unwrap()
 }
 
 fn temp_file(name: &str, text: &str) -> std::path::PathBuf {

@@ -167,15 +167,8 @@ pub fn render(cx: &Context) -> String {
     let _ = writeln!(h, "<h2>Candidates considered</h2>");
     match &cx.source {
         Source::Enumeration { rules, constraints } => {
-            let which = if constraints.is_empty() {
-                format!("Every constitutional isomer of {}", cx.formula)
-            } else {
-                format!(
-                    "The constitutional isomers of {} that meet {}",
-                    cx.formula,
-                    constraints.join(", ")
-                )
-            };
+            let which = super::candidate_set(cx.formula, constraints);
+            let which = format!("{}{}", which[..1].to_uppercase(), &which[1..]);
             let _ = writeln!(
                 h,
                 "<p>{}: {} considered{}.</p>",

@@ -35,6 +35,19 @@ pub struct Context<'a> {
     pub explain: Option<usize>,
 }
 
+/// Which candidates an enumeration considered, in words: every isomer, or
+/// those meeting the named constraints (text and HTML reports).
+pub fn candidate_set(formula: &Formula, constraints: &[String]) -> String {
+    if constraints.is_empty() {
+        format!("every constitutional isomer of {formula}")
+    } else {
+        format!(
+            "the constitutional isomers of {formula} that meet {} (built inside the search)",
+            constraints.join(", ")
+        )
+    }
+}
+
 /// The one-line reason for a candidate's place: the costliest terms of its
 /// 1H and 13C parts together.
 pub fn reason(cx: &Context, c: &crate::rank::Ranked) -> String {

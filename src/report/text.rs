@@ -52,15 +52,7 @@ pub fn render(cx: &Context) -> String {
     );
     match &cx.source {
         Source::Enumeration { rules, constraints } => {
-            let which = if constraints.is_empty() {
-                format!("every constitutional isomer of {}", cx.formula)
-            } else {
-                format!(
-                    "the constitutional isomers of {} that meet {} (built inside the search)",
-                    cx.formula,
-                    constraints.join(", ")
-                )
-            };
+            let which = super::candidate_set(cx.formula, constraints);
             let _ = writeln!(
                 out,
                 "Candidates: {}: {} considered{}.",

@@ -308,3 +308,27 @@ pub fn isomer_smiles(formulas: &[&str]) -> Vec<String> {
     }
     smiles
 }
+
+/// Run and expect a bad-input failure (exit 2, nothing on stdout) whose
+/// stderr contains `needle`.
+pub fn fails_with(args: &[&str], stdin: Option<&str>, needle: &str) {
+    let out = isomerank(args, stdin);
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "args {args:?}: stderr {err}");
+    assert!(out.stdout.is_empty(), "args {args:?}: stdout not empty");
+    assert!(
+        err.contains(needle),
+        "args {args:?}: stderr {err:?} lacks {needle:?}"
+    );
+}
+
+/// The standard output of a run that must succeed (exit 0).
+pub fn stdout_of(out: std::process::Output) -> String {
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8(out.stdout).unwrap()
+}
