@@ -22,7 +22,7 @@ multiplicities are first order. A prediction is a hypothesis, not a spectrum.")]
 pub struct Args {
     /// The structure as SMILES, e.g. CC(=O)OC.
     pub smiles: String,
-    /// Solvent: CDCl3, DMSO-d6, acetone-d6, C6D6, CD3CN, CD3OD or D2O (as named in the library's solvents.toml).
+    /// Solvent: CDCl3, DMSO-d6, acetone-d6, C6D6, CD3CN, CD3OD, D2O or CD2Cl2 (as named in the library's solvents.toml).
     #[arg(long, default_value = "CDCl3")]
     pub solvent: String,
     /// Spectrometer 1H frequency in MHz (decides first order against m).

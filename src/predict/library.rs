@@ -528,6 +528,10 @@ struct SolventRow {
     #[serde(default)]
     #[allow(dead_code)]
     residual_multiplicity: Option<String>,
+    /// The solvent's own 13C lines; read by the spectrum side only.
+    #[serde(default)]
+    #[allow(dead_code)]
+    carbon: Vec<f64>,
     #[serde(default)]
     exchanges: bool,
     water: f64,

@@ -395,6 +395,7 @@ mod tests {
         carbon::build(
             carbon::parse(text).unwrap(),
             &Formula::parse(formula).unwrap(),
+            &crate::spectrum::solvent::SolventTable::embedded(),
             "CDCl3",
         )
         .unwrap()

@@ -28,6 +28,7 @@
 //! Errors name the entry and the character, as the 1H reader's do.
 
 use super::journal::{self, Cursor};
+use super::solvent::SolventTable;
 use crate::chem::{Element, Formula};
 use crate::enumerate::constraints::carbon13::carbon_facts;
 use crate::enumerate::constraints::Constraints;
@@ -486,30 +487,21 @@ fn set_count(line: &mut CarbonLine, n: u32, at: usize) -> std::result::Result<()
     Ok(())
 }
 
-/// The 13C signal of a deuterated solvent, ppm (Gottlieb, Kotlyar &
-/// Nudelman, J. Org. Chem. 1997, 62, 7512, 13C table; values from memory).
-pub fn solvent_lines(solvent: &str) -> &'static [f64] {
-    match solvent.to_ascii_lowercase().as_str() {
-        "cdcl3" | "chloroform-d" | "chloroform" => &[77.16],
-        "dmso-d6" | "dmso" | "(cd3)2so" | "dmso-d₆" => &[39.52],
-        "cd3od" | "methanol-d4" | "methanol" => &[49.00],
-        "acetone-d6" | "(cd3)2co" | "acetone" => &[29.84, 206.26],
-        "c6d6" | "benzene-d6" | "benzene" => &[128.06],
-        "cd3cn" | "acetonitrile-d3" | "acetonitrile" => &[1.32, 118.26],
-        "cd2cl2" | "dichloromethane-d2" => &[53.84],
-        _ => &[],
-    }
-}
-
 /// How far (ppm) a line may sit from the solvent's own line to be taken as
 /// it: the solvent multiplet spans about +-0.3 ppm (CDCl3's 1:1:1 triplet,
 /// J(C,D) about 32 Hz, is 0.64 ppm wide at 100 MHz; common practice).
 const SOLVENT_TOLERANCE: f64 = 0.35;
 
 /// Check a parsed 13C list against the formula: numbers of carbons and H,
-/// counts completed, solvent lines marked. `default_solvent` is assumed
-/// when the list names none.
-pub fn build(raw: RawCarbon, formula: &Formula, default_solvent: &str) -> Result<CarbonSpectrum> {
+/// counts completed, solvent lines marked (the solvent's 13C lines come from
+/// `solvents`). When the list names no solvent, `default_solvent` (the 1H
+/// list's, else the table's default) is assumed.
+pub fn build(
+    raw: RawCarbon,
+    formula: &Formula,
+    solvents: &SolventTable,
+    default_solvent: &str,
+) -> Result<CarbonSpectrum> {
     let carbons = formula.count(Element::C);
     let hydrogens = formula.hydrogens();
     let mut notes = Vec::new();
@@ -526,7 +518,20 @@ pub fn build(raw: RawCarbon, formula: &Formula, default_solvent: &str) -> Result
         .solvent
         .clone()
         .unwrap_or_else(|| default_solvent.to_string());
-    let solvent_at = solvent_lines(&solvent_name);
+    let solvent_at = match solvents.carbon_lines(&solvent_name) {
+        Some(at) => at,
+        None => {
+            // Only when the 13C list names it: an unknown solvent on the 1H
+            // side has its note there already.
+            if raw.solvent.is_some() {
+                notes.push(format!(
+                    "solvent \"{solvent_name}\" of the 13C list is not in the solvent table (known: {}): no solvent line recognised",
+                    solvents.names().join(", ")
+                ));
+            }
+            &[]
+        }
+    };
     let mut lines = raw.lines;
     for l in &mut lines {
         if counted && l.count.is_none() {
@@ -671,22 +676,24 @@ mod tests {
     #[test]
     fn build_checks_against_the_formula() {
         let f = Formula::parse("C4H8O2").unwrap();
+        let table = SolventTable::embedded();
         // Ethyl acetate, 13C in CDCl3 (Gottlieb, Kotlyar & Nudelman 1997:
         // 171.36, 60.49, 21.04, 14.19; values from memory).
         let s = build(
             parse("171.4 (C), 60.5 (CH2), 21.0 (CH3), 14.2 (CH3)").unwrap(),
             &f,
+            &table,
             "CDCl3",
         )
         .unwrap();
         assert!(!s.counted);
         assert_eq!(s.observed_carbons(), 4);
-        let e = build(parse("171, 60, 21, 14, 30").unwrap(), &f, "CDCl3")
+        let e = build(parse("171, 60, 21, 14, 30").unwrap(), &f, &table, "CDCl3")
             .unwrap_err()
             .to_string();
         assert!(e.contains("5 lines") && e.contains("only 4 carbons"), "{e}");
         // Counted list: lines without a count are one carbon.
-        let s = build(parse("171.4, 60.5 (CH2, 2C)").unwrap(), &f, "CDCl3").unwrap();
+        let s = build(parse("171.4, 60.5 (CH2, 2C)").unwrap(), &f, &table, "CDCl3").unwrap();
         assert!(s.counted);
         assert_eq!(s.lines[0].count, Some(1));
         assert!(
@@ -697,6 +704,7 @@ mod tests {
         let e = build(
             parse("171.4 (C), 60.5 (CH3, 2C), 21.0 (CH3, 2C)").unwrap(),
             &f,
+            &table,
             "CDCl3",
         )
         .unwrap_err()
@@ -706,10 +714,35 @@ mod tests {
         let s = build(
             parse("13C NMR (CDCl3) δ 171.4, 77.2, 60.5, 21.0, 14.2").unwrap(),
             &f,
+            &table,
             "CDCl3",
         )
         .unwrap();
         assert!(s.lines[1].solvent);
         assert_eq!(s.observed_carbons(), 4);
+        // The same list in DMSO-d6 (own line 39.52): 77.2 is then a carbon,
+        // one too many for the formula.
+        let e = build(
+            parse("13C NMR (DMSO-d6) δ 171.4, 77.2, 60.5, 21.0, 14.2").unwrap(),
+            &f,
+            &table,
+            "CDCl3",
+        )
+        .unwrap_err()
+        .to_string();
+        assert!(e.contains("5 lines"), "{e}");
+        // A solvent the table does not know is named in a note.
+        let s = build(
+            parse("13C NMR (CCl4) δ 171.4, 60.5, 21.0, 14.2").unwrap(),
+            &f,
+            &table,
+            "CDCl3",
+        )
+        .unwrap();
+        assert!(
+            s.notes.iter().any(|n| n.contains("\"CCl4\"") && n.contains("not in the solvent table")),
+            "{:?}",
+            s.notes
+        );
     }
 }

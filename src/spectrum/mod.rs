@@ -132,7 +132,7 @@ pub fn observed(
         .clone()
         .unwrap_or_else(|| solvents.default_solvent().to_string());
     let carbon = carbon_raw
-        .map(|c| carbon::build(c, formula, &default_solvent))
+        .map(|c| carbon::build(c, formula, solvents, &default_solvent))
         .transpose()?;
     Ok((spectrum, carbon))
 }

@@ -43,6 +43,9 @@ struct SolventRow {
     /// The residual's pattern when not a singlet (`quint` for CHD2 groups).
     residual_multiplicity: Option<String>,
     water: Option<f64>,
+    /// The solvent's own 13C lines, ppm.
+    #[serde(default)]
+    carbon: Vec<f64>,
     #[allow(dead_code)]
     source: String,
 }
@@ -110,10 +113,9 @@ impl SolventTable {
             Some(s) => match self.canonical_name(s) {
                 Some(name) => (self.row(name), false),
                 None => {
-                    let known: Vec<&str> = self.rows.iter().map(|r| r.name.as_str()).collect();
                     spectrum.notes.push(format!(
                         "solvent \"{s}\" is not in the solvent table (known: {}): no stray-peak recognition, shifts predicted as in {}",
-                        known.join(", "),
+                        self.names().join(", "),
                         self.default_solvent()
                     ));
                     return;
@@ -174,6 +176,18 @@ impl SolventTable {
 
     fn row(&self, name: &str) -> Option<&SolventRow> {
         self.rows.iter().find(|s| s.name == name)
+    }
+
+    /// The 13C lines of a solvent as a user wrote its name; `None` when the
+    /// table does not know it.
+    pub fn carbon_lines(&self, written: &str) -> Option<&[f64]> {
+        let n = self.canonical_name(written)?;
+        self.row(n).map(|r| r.carbon.as_slice())
+    }
+
+    /// The names the table knows, in its order.
+    pub fn names(&self) -> Vec<&str> {
+        self.rows.iter().map(|r| r.name.as_str()).collect()
     }
 
     /// Residual and water shifts of a solvent (for documentation and tests).
