@@ -208,32 +208,14 @@ pub fn parse(text: &str) -> Result<RawCarbon> {
 fn parse_line(entry: usize, chars: &[char], s: usize, e: usize) -> Result<CarbonLine> {
     let piece = &chars[s..e];
     let err = |what: String| journal::entry_error(entry, piece, what);
-    let skip_ws = |i: &mut usize| {
-        while *i < e && chars[*i].is_whitespace() {
-            *i += 1;
-        }
-    };
-    let (first, range, mut i) = journal::read_shift(chars, s, e, "13C ").map_err(&err)?;
-    for v in [Some(first), range.map(|r| r.0), range.map(|r| r.1)]
-        .into_iter()
-        .flatten()
-    {
-        if !(SHIFT_LIMITS.0..=SHIFT_LIMITS.1).contains(&v) {
-            return Err(err(format!(
-                "shift {v} ppm is outside the 13C range ({} to {} ppm)",
-                SHIFT_LIMITS.0, SHIFT_LIMITS.1
-            )));
-        }
-    }
+    let (first, range, i) = journal::read_shift(chars, s, e, "13C ", SHIFT_LIMITS, |v| {
+        format!(
+            "shift {v} ppm is outside the 13C range ({} to {} ppm)",
+            SHIFT_LIMITS.0, SHIFT_LIMITS.1
+        )
+    })
+    .map_err(&err)?;
     let shift = range.map_or(first, |(lo, hi)| (lo + hi) / 2.0);
-    if chars[i..e.min(i + 3)]
-        .iter()
-        .collect::<String>()
-        .eq_ignore_ascii_case("ppm")
-    {
-        i += 3;
-        skip_ws(&mut i);
-    }
     let mut line = CarbonLine {
         entry,
         text: journal::quote(piece),
@@ -254,16 +236,7 @@ fn parse_line(entry: usize, chars: &[char], s: usize, e: usize) -> Result<Carbon
         )));
     }
     let open = i;
-    let close = (open..e)
-        .find(|&j| chars[j] == ')')
-        .ok_or_else(|| err("missing \")\"".to_string()))?;
-    if let Some(j) = (close + 1..e).find(|&j| !chars[j].is_whitespace()) {
-        return Err(err(format!(
-            "unexpected \"{}\" at character {} after \")\": separate entries with commas",
-            chars[j],
-            j + 1
-        )));
-    }
+    let close = journal::closing_paren(chars, open, e).map_err(&err)?;
     read_items(&chars[open + 1..close], open + 1, &mut line).map_err(err)?;
     Ok(line)
 }
@@ -740,7 +713,9 @@ mod tests {
         )
         .unwrap();
         assert!(
-            s.notes.iter().any(|n| n.contains("\"CCl4\"") && n.contains("not in the solvent table")),
+            s.notes
+                .iter()
+                .any(|n| n.contains("\"CCl4\"") && n.contains("not in the solvent table")),
             "{:?}",
             s.notes
         );

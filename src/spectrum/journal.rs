@@ -376,29 +376,8 @@ fn parse_header_items(
 fn parse_entry(entry: usize, chars: &[char], s: usize, e: usize) -> Result<RawEntry> {
     let piece = &chars[s..e];
     let err = |what: String| entry_error(entry, piece, what);
-    let skip_ws = |i: &mut usize| {
-        while *i < e && chars[*i].is_whitespace() {
-            *i += 1;
-        }
-    };
-    let (first, range, mut i) = read_shift(chars, s, e, "").map_err(err)?;
-    for v in [Some(first), range.map(|r| r.0), range.map(|r| r.1)]
-        .into_iter()
-        .flatten()
-    {
-        if v < SHIFT_LIMITS.0 || v > SHIFT_LIMITS.1 {
-            return Err(err(shift_out_of_range(v)));
-        }
-    }
-    if chars[i..e.min(i + 3)]
-        .iter()
-        .collect::<String>()
-        .to_lowercase()
-        == "ppm"
-    {
-        i += 3;
-        skip_ws(&mut i);
-    }
+    let (first, range, i) =
+        read_shift(chars, s, e, "", SHIFT_LIMITS, shift_out_of_range).map_err(err)?;
     if i >= e || chars[i] != '(' {
         let what = if i >= e {
             "missing \"(\" with the multiplicity and integral after the shift, e.g. 2.05 (s, 3H)"
@@ -413,16 +392,7 @@ fn parse_entry(entry: usize, chars: &[char], s: usize, e: usize) -> Result<RawEn
         return Err(err(what));
     }
     let open = i;
-    let close = (open..e)
-        .find(|&j| chars[j] == ')')
-        .ok_or_else(|| err("missing \")\"".to_string()))?;
-    if let Some(j) = (close + 1..e).find(|&j| !chars[j].is_whitespace()) {
-        return Err(err(format!(
-            "unexpected \"{}\" at character {} after \")\": separate entries with commas",
-            chars[j],
-            j + 1
-        )));
-    }
+    let close = closing_paren(chars, open, e).map_err(err)?;
     // Items inside the parentheses, with their starting character.
     let mut items: Vec<(String, usize)> = Vec::new();
     let mut buf = String::new();
@@ -620,9 +590,17 @@ pub(super) type ShiftRead = std::result::Result<(f64, Option<(f64, f64)>, usize)
 
 /// The shift or range at the start of an entry (`chars[s..e]`): the first
 /// number, the range (low, high) when a dash and a second number follow, and
-/// the index after them and the white space behind. `nucleus` names the
-/// nucleus in the message ("" or "13C ").
-pub(super) fn read_shift(chars: &[char], s: usize, e: usize, nucleus: &str) -> ShiftRead {
+/// the index after them, an optional "ppm" and the white space behind.
+/// `nucleus` names the nucleus in the message ("" or "13C "); every number
+/// must lie within `limits`, else `out_of_range` words the error.
+pub(super) fn read_shift(
+    chars: &[char],
+    s: usize,
+    e: usize,
+    nucleus: &str,
+    limits: (f64, f64),
+    out_of_range: impl Fn(f64) -> String,
+) -> ShiftRead {
     let skip_ws = |i: &mut usize| {
         while *i < e && chars[*i].is_whitespace() {
             *i += 1;
@@ -653,7 +631,43 @@ pub(super) fn read_shift(chars: &[char], s: usize, e: usize, nucleus: &str) -> S
         range = Some((first.min(second), first.max(second)));
         skip_ws(&mut i);
     }
+    for v in [Some(first), range.map(|r| r.0), range.map(|r| r.1)]
+        .into_iter()
+        .flatten()
+    {
+        if !(limits.0..=limits.1).contains(&v) {
+            return Err(out_of_range(v));
+        }
+    }
+    if chars[i..e.min(i + 3)]
+        .iter()
+        .collect::<String>()
+        .eq_ignore_ascii_case("ppm")
+    {
+        i += 3;
+        skip_ws(&mut i);
+    }
     Ok((first, range, i))
+}
+
+/// The `)` that closes the group opened at `chars[open]`, when nothing but
+/// white space follows it before `e`; else the error's text.
+pub(super) fn closing_paren(
+    chars: &[char],
+    open: usize,
+    e: usize,
+) -> std::result::Result<usize, String> {
+    let close = (open..e)
+        .find(|&j| chars[j] == ')')
+        .ok_or_else(|| "missing \")\"".to_string())?;
+    if let Some(j) = (close + 1..e).find(|&j| !chars[j].is_whitespace()) {
+        return Err(format!(
+            "unexpected \"{}\" at character {} after \")\": separate entries with commas",
+            chars[j],
+            j + 1
+        ));
+    }
+    Ok(close)
 }
 
 pub(super) fn read_number(chars: &[char], i: usize, e: usize) -> Option<(f64, usize)> {
