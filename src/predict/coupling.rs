@@ -10,8 +10,12 @@
 //! solvent where the exchangeable H couples (DMSO-d6). Couplings to 19F
 //! (spin 1/2, 100%: n equivalent F split like n H): geminal H-C-F,
 //! vicinal H-C-C(sp3)-F by the number of F there, ring H to ring F ortho
-//! and meta; always first order (heteronuclear). Allylic and other
-//! long-range couplings are below the usual resolution and left out.
+//! and meta; always first order (heteronuclear). Couplings to 31P the same
+//! way: H-C-P (large on P(V), a P=O or P=S bond; small on P(III)), H-C-C-P,
+//! H-C-O-P, H-C-N-P and ring H next to a P-bearing ring carbon. Allylic and
+//! other long-range couplings are below the usual resolution and left out.
+//! The two doublets of a para-disubstituted ring keep their couplings to F
+//! or P (a 4-fluorophenyl ring: dd and an apparent t).
 //!
 //! Not first order, reported as m (common practice):
 //! - the shift difference in Hz to a coupled group is under
@@ -41,6 +45,14 @@ const NONE: u8 = u8::MAX;
 /// The partner "group" of a coupling to 19F: F are no H group, and a
 /// heteronuclear coupling is first order at any shift difference.
 const FLUORINE: u8 = u8::MAX - 1;
+/// The same for 31P.
+const PHOSPHORUS: u8 = u8::MAX - 2;
+
+/// A coupling to a nucleus other than 1H (first order at any shift
+/// difference).
+fn heteronuclear(group: u8) -> bool {
+    group == FLUORINE || group == PHOSPHORUS
+}
 
 impl Ctx<'_> {
     pub(super) fn multiplicities(&mut self, groups: &[Group]) -> Vec<Mult> {
@@ -61,6 +73,8 @@ impl Ctx<'_> {
             set.first_order_min_ratio,
         );
         let mut out = Vec::with_capacity(groups.len());
+        // Each group's couplings to F and P, for the para-pair doublets.
+        let mut hetero: Vec<Vec<Cpl>> = Vec::with_capacity(groups.len());
         for (gi, g) in groups.iter().enumerate() {
             let mut cpl = [Cpl {
                 atom: 0,
@@ -84,7 +98,7 @@ impl Ctx<'_> {
                 if c.group == gi as u8 || c.group == NONE || c.j < resolved {
                     continue;
                 }
-                if c.group == FLUORINE {
+                if heteronuclear(c.group) {
                     kept[nk] = *c;
                     nk += 1;
                     continue;
@@ -130,14 +144,21 @@ impl Ctx<'_> {
                 j,
                 notes,
             });
+            hetero.push(
+                kept[..nk]
+                    .iter()
+                    .filter(|c| heteronuclear(c.group))
+                    .copied()
+                    .collect(),
+            );
         }
-        self.aromatic_systems(groups, &mut out);
+        self.aromatic_systems(groups, &mut out, &hetero);
         out
     }
 
     /// Aromatic rings whose equivalent H are magnetically inequivalent:
     /// AA'XX' para pairs become two doublets, everything else m.
-    fn aromatic_systems(&mut self, groups: &[Group], out: &mut [Mult]) {
+    fn aromatic_systems(&mut self, groups: &[Group], out: &mut [Mult], hetero: &[Vec<Cpl>]) {
         let mut done_rings = 0u64; // by representative ring's lowest atom
         for g in groups {
             if !matches!(g.method, Method::Benzene | Method::Hetero) {
@@ -194,8 +215,17 @@ impl Ctx<'_> {
                     let m = &mut out[i];
                     m.notes &= !note::SECOND_ORDER;
                     if ok {
-                        m.multiplicity = Multiplicity::Coupled(vec![1]);
-                        m.j = vec![round1(j)];
+                        // The ortho partner, and any F or P on the ring.
+                        let mut c = hetero[i].clone();
+                        c.push(Cpl {
+                            atom: 0,
+                            group: 0,
+                            count: 1,
+                            j,
+                        });
+                        let (mult, js) = merge(&mut c, self.lib.settings.similar_j_hz);
+                        m.multiplicity = mult;
+                        m.j = js;
                         m.notes |= note::PARA_PAIR;
                     } else {
                         m.multiplicity = Multiplicity::Multiplet;
@@ -269,18 +299,22 @@ impl Ctx<'_> {
                 *n += 1;
             }
         };
-        // F on atom x, as (first F, count).
-        let fluorines = |x: usize| {
+        // Atoms of `element` on atom x, as (first, count).
+        let on = |x: usize, element: Element| {
             let mut first = usize::MAX;
             let mut count = 0u8;
             for (f, _) in self.v.neighbours(x) {
-                if self.v.element[f] == Element::F {
+                if self.v.element[f] == element {
                     first = first.min(f);
                     count += 1;
                 }
             }
             (first, count)
         };
+        let fluorines = |x: usize| on(x, Element::F);
+        let phosphorus = |x: usize| on(x, Element::P);
+        // P(V): a double bond on the P (P=O, P=S).
+        let five = |p: usize| self.v.neighbours(p).any(|(_, k)| k == DOUBLE);
         if self.v.is_aromatic(a) {
             if let Some(r) = self.v.aromatic_ring_of(a) {
                 for y in bits(r & !(1u64 << a)) {
@@ -298,6 +332,12 @@ impl Ctx<'_> {
                     if let (Some(kind), true) = (kind, count > 0) {
                         push(f, FLUORINE, count, self.lib.j(kind), n);
                     }
+                    // P on the neighbouring ring atom.
+                    let (p, count) = phosphorus(y);
+                    if count > 0 && self.v.ring_distance(r, a, y) == 1 {
+                        let j = self.lib.j(CouplingKind::HpAromaticOrtho);
+                        push(p, PHOSPHORUS, count, j, n);
+                    }
                 }
             }
             return;
@@ -313,8 +353,30 @@ impl Ctx<'_> {
             if let Some(kind) = kind {
                 push(f, FLUORINE, count, self.lib.j(kind), n);
             }
+            // P on the H's carbon, and P one atom further (C, O or N between).
+            let (p, count) = phosphorus(a);
+            if count > 0 {
+                let kind = if five(p) {
+                    CouplingKind::HpGeminalFive
+                } else {
+                    CouplingKind::HpGeminalThree
+                };
+                push(p, PHOSPHORUS, count, self.lib.j(kind), n);
+            }
             for k in 0..self.v.deg[a] as usize {
                 let b = self.v.nbr[a][k] as usize;
+                if self.v.bond[a][k] != DOUBLE {
+                    let kind = match self.v.element[b] {
+                        Element::C => Some(CouplingKind::HpVicinalCarbon),
+                        Element::O => Some(CouplingKind::HpVicinalOxygen),
+                        Element::N => Some(CouplingKind::HpVicinalNitrogen),
+                        _ => None,
+                    };
+                    let (p, count) = phosphorus(b);
+                    if let (Some(kind), true) = (kind, count > 0) {
+                        push(p, PHOSPHORUS, count, self.lib.j(kind), n);
+                    }
+                }
                 if self.v.element[b] != Element::C || self.v.hyb[b] != 3 {
                     continue;
                 }

@@ -104,10 +104,19 @@ pub enum CouplingKind {
     /// Ring H to ring F: ortho (three bonds) and meta (four bonds).
     HfAromaticOrtho,
     HfAromaticMeta,
+    /// H-C-P: P(V) (a P=O or P=S bond) and P(III).
+    HpGeminalFive,
+    HpGeminalThree,
+    /// H-C-C-P, H-C-O-P, H-C-N-P.
+    HpVicinalCarbon,
+    HpVicinalOxygen,
+    HpVicinalNitrogen,
+    /// Ring H to P on the neighbouring ring atom (three bonds).
+    HpAromaticOrtho,
 }
 
 /// Number of coupling kinds (the rows couplings.toml must have).
-pub const COUPLING_KINDS: usize = 23;
+pub const COUPLING_KINDS: usize = 29;
 
 impl CouplingKind {
     pub const ALL: [(CouplingKind, &'static str); COUPLING_KINDS] = [
@@ -134,6 +143,12 @@ impl CouplingKind {
         (CouplingKind::HfVicinalThree, "hf_vicinal_three"),
         (CouplingKind::HfAromaticOrtho, "hf_aromatic_ortho"),
         (CouplingKind::HfAromaticMeta, "hf_aromatic_meta"),
+        (CouplingKind::HpGeminalFive, "hp_geminal_five"),
+        (CouplingKind::HpGeminalThree, "hp_geminal_three"),
+        (CouplingKind::HpVicinalCarbon, "hp_vicinal_carbon"),
+        (CouplingKind::HpVicinalOxygen, "hp_vicinal_oxygen"),
+        (CouplingKind::HpVicinalNitrogen, "hp_vicinal_nitrogen"),
+        (CouplingKind::HpAromaticOrtho, "hp_aromatic_ortho"),
     ];
 }
 

@@ -207,6 +207,59 @@ fn fluorine_splits_like_hydrogen() {
 }
 
 #[test]
+fn phosphorus_splits_like_hydrogen() {
+    // 31P has spin 1/2 and 100% abundance (common practice). J and shifts
+    // from couplings.toml and sp3.toml (from memory): dimethyl
+    // methylphosphonate P-CH3 1.48 (d, about 17.5 Hz) and OCH3 3.74 (d,
+    // about 11 Hz); P(III) couplings to P-CH3 are small (2-4 Hz).
+    let p = Predictor::embedded().unwrap();
+    let opts = Default::default();
+    let signals = |smiles: &str| {
+        let mut v = p.predict(&parse_smiles(smiles).unwrap(), &opts);
+        v.sort_by(|a, b| b.shift.total_cmp(&a.shift));
+        v
+    };
+    let dmmp = signals("CP(=O)(OC)OC");
+    assert_eq!(dmmp.len(), 2, "{dmmp:?}");
+    let (och3, pch3) = (&dmmp[0], &dmmp[1]);
+    assert_eq!((och3.label(), och3.j_hz.clone()), ("d".into(), vec![8.0]));
+    assert_eq!((pch3.label(), pch3.j_hz.clone()), ("d".into(), vec![17.0]));
+    assert!((3.6..=3.9).contains(&och3.shift), "{och3:?}");
+    assert!((1.35..=1.65).contains(&pch3.shift), "{pch3:?}");
+    // Diethyl ethylphosphonate: the P-ethyl CH3 couples to P over three
+    // bonds (dt), its CH2 to P over two (dq); the O-CH2 couples to P (about
+    // 8 Hz) and CH3 (7 Hz) alike, an apparent quintet.
+    let labels: Vec<String> = signals("CCP(=O)(OCC)OCC")
+        .iter()
+        .map(|s| s.label())
+        .collect();
+    assert_eq!(labels, ["quint", "dq", "t", "dt"]);
+    // Trimethylphosphine: a small P-CH3 doublet.
+    let pme3 = signals("CP(C)C");
+    assert_eq!(pme3[0].label(), "d");
+    assert!(pme3[0].j_hz[0] < 6.0, "{:?}", pme3[0]);
+}
+
+#[test]
+fn para_pair_keeps_its_fluorine_couplings() {
+    // A 4-fluorophenyl ring (common practice; 4-fluoroacetophenone from
+    // memory: 7.98 dd, J about 8.8 and 5.4 Hz; 7.13 apparent t, J about
+    // 8.6 Hz): the two doublets of the para pair are split again by F.
+    let p = Predictor::embedded().unwrap();
+    let opts = Default::default();
+    let mut v = p.predict(&parse_smiles("CC(=O)c1ccc(F)cc1").unwrap(), &opts);
+    v.retain(|s| s.shift > 6.0);
+    v.sort_by(|a, b| b.shift.total_cmp(&a.shift));
+    let labels: Vec<String> = v.iter().map(|s| s.label()).collect();
+    assert_eq!(labels, ["dd", "t"]);
+    // Without F the para pair stays two doublets.
+    let mut v = p.predict(&parse_smiles("CC(=O)c1ccc(Cl)cc1").unwrap(), &opts);
+    v.retain(|s| s.shift > 6.0);
+    let labels: Vec<String> = v.iter().map(|s| s.label()).collect();
+    assert_eq!(labels, ["d", "d"]);
+}
+
+#[test]
 fn chelated_phenol_oh_is_far_downfield() {
     // A phenol OH hydrogen-bonded to an ortho C=O sits near 10.8-12.3 ppm
     // (methyl salicylate 10.8, from memory); a free phenol OH near 4-8.
