@@ -1138,6 +1138,32 @@ mod tests {
         }
     }
 
+    #[test]
+    fn groups_kept_as_transversals_give_the_same_counts() {
+        // With no group listed at all (list limit 0), every parent group is
+        // a product of transversals and every attachment goes through
+        // `set_is_minimal`. Source: OEIS A000602 (alkanes, n = 10..14) and
+        // nauty's counts of `multigraph_counts_match_nauty` (C8H8, C9H8).
+        for (c, h, want) in [
+            (10, 22, 75),
+            (12, 26, 355),
+            (14, 30, 1858),
+            (8, 8, 7437),
+            (9, 8, 57771),
+        ] {
+            let p = hydrocarbon(c, h);
+            let mut gen = Generator::new(&p);
+            for canon in &mut gen.canon {
+                canon.set_list_limit(0);
+            }
+            let mut count = 0;
+            for mut root in roots(&p) {
+                gen.search(&mut root, &mut |_: &Node, _| count += 1);
+            }
+            assert_eq!(count, want, "C{c}H{h}");
+        }
+    }
+
     /// A random connected skeleton on carbons and oxygens, grown atom by atom.
     fn random_node(p: &Problem, state: &mut u64, n: usize) -> Node {
         let mut next = || {
