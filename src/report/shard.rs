@@ -81,7 +81,9 @@ pub fn write(formula: &str, shard: &Shard, settings: &Map<String, Value>) -> Str
         "histogram": t.bins.iter().map(|&(b, n, s)| json!([b, n, s.to_string()])).collect::<Vec<_>>(),
         "candidates": shard.items.iter().map(item_json).collect::<Vec<_>>(),
     });
-    let mut text = serde_json::to_string_pretty(&doc).expect("JSON of plain values");
+    // One line: the histogram has up to 30,000 rows, which pretty-printing
+    // would spread over five lines each.
+    let mut text = serde_json::to_string(&doc).expect("JSON of plain values");
     text.push('\n');
     text
 }
