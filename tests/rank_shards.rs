@@ -80,6 +80,19 @@ fn merged_equals_single(tag: &str, args: &[&str]) -> Value {
             json,
             "{tag}: JSON report, N = {n}"
         );
+        if n == 3 {
+            // The HTML report (drawings marked by the stored atom numbers)
+            // and --explain are the single run's too.
+            let (a, b) = (d.join("single.html"), d.join("merged.html"));
+            let explained = single(args, &["--explain", "1", "--report", a.to_str().unwrap()]);
+            let merged = merge(&files, &["--explain", "1", "--report", b.to_str().unwrap()]);
+            assert_eq!(merged, explained, "{tag}: --explain 1");
+            assert_eq!(
+                std::fs::read(&b).unwrap(),
+                std::fs::read(&a).unwrap(),
+                "{tag}: HTML report"
+            );
+        }
         // And the shard files carry what the README says.
         let first: Value =
             serde_json::from_str(&std::fs::read_to_string(&files[0]).unwrap()).unwrap();
