@@ -124,8 +124,21 @@ pub struct Canonizer {
     have_leaf: bool,
     /// Automorphisms found during the search (they generate the group).
     gens: Vec<[u8; MAX_ATOMS]>,
-    /// The whole group, identity first (`perm[v]` = image of v).
+    /// The whole group, identity first (`perm[v]` = image of v), when
+    /// listed (`listed`).
     group: Vec<[u8; MAX_ATOMS]>,
+    /// The group as a product of transversals (a stabiliser chain along the
+    /// first path's individualised vertices): level k's non-identity coset
+    /// representatives are `chain[chain_ends[k]..chain_ends[k + 1]]`; every
+    /// element is, once, t_last ∘ ... ∘ t_0 with t_k identity or from level k.
+    chain: Vec<[u8; MAX_ATOMS]>,
+    chain_ends: Vec<usize>,
+    /// The group's order (product of the levels' sizes).
+    size: usize,
+    /// Groups larger than this are not listed by `run` (see
+    /// [`Canonizer::set_list_limit`]).
+    list_limit: usize,
+    listed: bool,
     /// Work space of [`Canonizer::close_group`]: (orbit point, element).
     trans: Vec<(u8, [u8; MAX_ATOMS])>,
     n: usize,
@@ -161,6 +174,11 @@ impl Default for Canonizer {
             have_leaf: false,
             gens: Vec::new(),
             group: Vec::new(),
+            chain: Vec::new(),
+            chain_ends: Vec::new(),
+            size: 1,
+            list_limit: usize::MAX,
+            listed: true,
             trans: Vec::new(),
             n: 0,
             used: [0; LABELS],
@@ -184,6 +202,11 @@ impl Canonizer {
         self.n = n;
         self.best.clear();
         self.group.clear();
+        self.listed = true;
+        self.size = 0;
+        self.chain.clear();
+        self.chain_ends.clear();
+        self.chain_ends.push(0);
         self.gens.clear();
         self.have_leaf = false;
         self.nused = 0;
@@ -342,8 +365,13 @@ impl Canonizer {
         for (v, x) in id[..n].iter_mut().enumerate() {
             *x = v as u8;
         }
-        self.group.push(id);
+        self.chain.clear();
+        self.chain_ends.clear();
+        self.chain_ends.push(0);
+        self.size = 1;
         if self.gens.is_empty() {
+            self.group.push(id);
+            self.listed = true;
             return;
         }
         let mut trans = std::mem::take(&mut self.trans);
@@ -373,8 +401,34 @@ impl Canonizer {
                 }
                 k += 1;
             }
+            self.chain.extend(trans[1..].iter().map(|t| t.1));
+            self.chain_ends.push(self.chain.len());
+            self.size = self.size.saturating_mul(trans.len());
+        }
+        self.trans = trans;
+        self.listed = false;
+        if self.size <= self.list_limit {
+            self.list_group();
+        }
+    }
+
+    /// List the whole group from the transversals, when `run` left it
+    /// unlisted (a group above the list limit). The order of the list is
+    /// the same either way.
+    pub fn list_group(&mut self) {
+        if self.listed {
+            return;
+        }
+        let n = self.n;
+        let mut id = [0u8; MAX_ATOMS];
+        for (v, x) in id[..n].iter_mut().enumerate() {
+            *x = v as u8;
+        }
+        self.group.clear();
+        self.group.push(id);
+        for k in 0..self.chain_ends.len() - 1 {
             let have = self.group.len();
-            for &(_, t) in &trans[1..] {
+            for t in &self.chain[self.chain_ends[k]..self.chain_ends[k + 1]] {
                 for j in 0..have {
                     let e = self.group[j];
                     let mut f = [0u8; MAX_ATOMS];
@@ -385,7 +439,26 @@ impl Canonizer {
                 }
             }
         }
-        self.trans = trans;
+        self.listed = true;
+    }
+
+    /// Groups above `limit` elements are kept as transversals only (a few
+    /// hundred bytes instead of 64 bytes an element): [`Canonizer::
+    /// automorphisms`] then needs [`Canonizer::list_group`] first; orbits,
+    /// the group's size and [`Canonizer::set_is_minimal`] work either way.
+    pub fn set_list_limit(&mut self, limit: usize) {
+        self.list_limit = limit;
+    }
+
+    /// Whether the group is listed (see [`Canonizer::set_list_limit`]).
+    pub fn is_listed(&self) -> bool {
+        self.listed
+    }
+
+    /// The group as transversals: (representatives, level ends); see the
+    /// `chain` field. For [`set_is_minimal`].
+    pub fn chain(&self) -> (&[[u8; MAX_ATOMS]], &[usize]) {
+        (&self.chain, &self.chain_ends)
     }
 
     /// Refine `p` with the cells whose start positions are set in `queue` as
@@ -568,8 +641,10 @@ impl Canonizer {
     }
 
     /// The automorphisms, each as a vertex permutation `perm[v] = image of v`
-    /// (the first is the identity).
+    /// (the first is the identity). A group above the list limit must be
+    /// listed first ([`Canonizer::list_group`]).
     pub fn automorphisms(&self) -> impl Iterator<Item = [u8; MAX_ATOMS]> + '_ {
+        assert!(self.listed, "the group was not listed (list_group)");
         self.group.iter().copied()
     }
 
@@ -586,13 +661,29 @@ impl Canonizer {
 
     /// Size of the automorphism group.
     pub fn group_size(&self) -> usize {
-        self.group.len()
+        self.size
     }
 
-    /// The automorphism orbit of vertex `v`, as a bitset.
+    /// The automorphism orbit of vertex `v`, as a bitset (from the list, or
+    /// closed under the generators when the group is not listed).
     pub fn orbit(&self, v: usize) -> u64 {
         assert!(v < self.n, "vertex in range");
-        self.group.iter().fold(0, |m, g| m | 1u64 << g[v])
+        if self.listed {
+            return self.group.iter().fold(0, |m, g| m | 1u64 << g[v]);
+        }
+        let mut orbit = 1u64 << v;
+        loop {
+            let mut next = orbit;
+            for g in &self.gens {
+                for x in super::bitset::bits(orbit) {
+                    next |= 1u64 << g[x];
+                }
+            }
+            if next == orbit {
+                return orbit;
+            }
+            orbit = next;
+        }
     }
 
     /// The orbit of the vertex at canonical position `p`.
@@ -617,6 +708,31 @@ impl Canonizer {
         }
         id
     }
+}
+
+/// Whether `set` is the smallest (as a bitset number) of its images under
+/// the group given as transversals ([`Canonizer::chain`]): every product
+/// of one representative (or the identity) per level is applied, level by
+/// level, so no list of the group is ever held.
+pub fn set_is_minimal(set: u64, chain: &[[u8; MAX_ATOMS]], ends: &[usize]) -> bool {
+    fn image(set: u64, t: &[u8; MAX_ATOMS]) -> u64 {
+        let mut out = 0u64;
+        for x in super::bitset::bits(set) {
+            out |= 1u64 << t[x];
+        }
+        out
+    }
+    fn walk(cur: u64, level: usize, set: u64, chain: &[[u8; MAX_ATOMS]], ends: &[usize]) -> bool {
+        if level + 1 == ends.len() {
+            return cur >= set;
+        }
+        // The identity of this level, then its representatives.
+        walk(cur, level + 1, set, chain, ends)
+            && chain[ends[level]..ends[level + 1]]
+                .iter()
+                .all(|t| walk(image(cur, t), level + 1, set, chain, ends))
+    }
+    walk(set, 0, set, chain, ends)
 }
 
 #[cfg(test)]
@@ -665,6 +781,69 @@ mod tests {
         d.set_edge(0, 1, 2);
         c2.run(&d);
         assert_ne!(c1.certificate(), c2.certificate());
+    }
+
+    #[test]
+    fn an_unlisted_group_answers_as_the_listed_one() {
+        // Highly symmetric trees (stars of stars, as in C30 alkanes) and a
+        // cycle: with the list limit at 0 the group is kept as transversals;
+        // size, orbits and the minimal-image test must equal what the full
+        // list gives (the test below is checked against every subset of up
+        // to three vertices by brute force over the list).
+        let mut graphs = Vec::new();
+        // A centre with 3 arms, each a carbon with 3 methyls (13 atoms).
+        let mut g = CanonGraph::new(13);
+        for arm in 0..3 {
+            let a = 1 + arm * 4;
+            g.set_edge(0, a, 1);
+            for m in 1..4 {
+                g.set_edge(a, a + m, 1);
+            }
+        }
+        graphs.push(g);
+        let mut ring = CanonGraph::new(8);
+        for i in 0..8 {
+            ring.set_edge(i, (i + 1) % 8, 1);
+        }
+        graphs.push(ring);
+        graphs.push(path(7));
+        for g in &graphs {
+            let mut full = Canonizer::new();
+            full.run(g);
+            let mut lean = Canonizer::new();
+            lean.set_list_limit(0);
+            lean.run(g);
+            assert!(!lean.is_listed());
+            assert_eq!(lean.group_size(), full.group_size());
+            for v in 0..g.n {
+                assert_eq!(lean.orbit(v), full.orbit(v), "orbit of {v}");
+            }
+            let list: Vec<[u8; MAX_ATOMS]> = full.automorphisms().collect();
+            let (reps, ends) = lean.chain();
+            let mut checked = 0;
+            for set in 1u64..(1u64 << g.n) {
+                if set.count_ones() > 3 {
+                    continue;
+                }
+                let brute = list.iter().all(|p| {
+                    let mut img = 0u64;
+                    for x in crate::chem::bitset::bits(set) {
+                        img |= 1u64 << p[x];
+                    }
+                    img >= set
+                });
+                assert_eq!(set_is_minimal(set, reps, ends), brute, "set {set:b}");
+                checked += brute as usize;
+            }
+            assert!(checked > 0);
+            // Listed on demand, in the same order.
+            lean.list_group();
+            assert!(lean.automorphisms().eq(full.automorphisms()));
+        }
+        // The star of stars: 3! arms times (3!)^3 methyls = 1296.
+        let mut c = Canonizer::new();
+        c.run(&graphs[0]);
+        assert_eq!(c.group_size(), 1296);
     }
 
     #[test]

@@ -8,6 +8,7 @@ mod check;
 mod demo;
 mod isomers;
 pub mod limits;
+mod merge;
 pub mod output;
 mod predict;
 mod rank;
@@ -37,6 +38,8 @@ pub enum Command {
     Predict(predict::Args),
     /// Rank the isomers of a formula (or a shortlist) against an observed 1H multiplet list.
     Rank(rank::Args),
+    /// Merge the shard files of `rank --part K/N --format json` into the final ranking.
+    Merge(merge::Args),
     /// Check that an exercise's answer is the unique best explanation of its data.
     Check(check::Args),
     /// Run the ranking on an embedded, invented scenario.
@@ -71,6 +74,7 @@ pub fn main() -> i32 {
         Command::Isomers(args) => isomers::run(args).map(|()| 0),
         Command::Predict(args) => predict::run(args).map(|()| 0),
         Command::Rank(args) => rank::run(args).map(|()| 0),
+        Command::Merge(args) => merge::run(args).map(|()| 0),
         Command::Check(args) => check::run(args),
         Command::Demo(args) => demo::run(args).map(|()| 0),
     };

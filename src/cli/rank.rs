@@ -14,6 +14,7 @@ use crate::report::{self, Context, Source};
 use crate::score::ScoringModel;
 use crate::spectrum::{self, carbon, file, journal, CarbonSpectrum, SolventTable, Spectrum};
 use rayon::prelude::*;
+use serde_json::{json, Map, Value};
 use std::collections::HashSet;
 use std::io::{Read, Write};
 use std::path::PathBuf;
@@ -81,6 +82,10 @@ pub struct Args {
     /// assignments) of the same ranking to FILE.
     #[arg(long, value_name = "FILE")]
     pub report: Option<PathBuf>,
+    /// Rank only the K-th of N disjoint shards of the search and write a
+    /// shard file (with --format json) for `isomerank merge`.
+    #[arg(long, value_name = "K/N")]
+    pub part: Option<String>,
 }
 
 /// The observed data options, shared by `rank` and `check`.
@@ -104,14 +109,45 @@ impl Observed {
     /// Parse and check the observed data against the formula: the 1H
     /// multiplets (an empty list when only 13C was given) and the 13C lines.
     pub fn read(&self, formula: &Formula) -> Result<(Spectrum, Option<CarbonSpectrum>)> {
-        let solvents = SolventTable::embedded();
-        let (raw, file_carbon) = match (&self.peaks, &self.spectrum) {
-            (Some(text), _) => (Some(journal::parse(text)?), None),
+        self.texts()?.read(formula)
+    }
+
+    /// The observed data as given (a spectrum file read into memory).
+    pub fn texts(&self) -> Result<ObservedText> {
+        let spectrum = match (&self.peaks, &self.spectrum) {
             (None, Some(path)) => {
                 let name = path.display().to_string();
                 let text = std::fs::read_to_string(path)
                     .map_err(|e| Error::input(format!("cannot read spectrum file {name}: {e}")))?;
-                let f = file::parse(&name, &text)?;
+                Some((name, text))
+            }
+            _ => None,
+        };
+        Ok(ObservedText {
+            peaks: self.peaks.clone(),
+            spectrum,
+            carbon: self.carbon.clone(),
+        })
+    }
+}
+
+/// The observed data as given: the texts of --peaks and --carbon, or a
+/// spectrum file's name and text.
+#[derive(Clone, Debug, Default)]
+pub struct ObservedText {
+    pub peaks: Option<String>,
+    pub spectrum: Option<(String, String)>,
+    pub carbon: Option<String>,
+}
+
+impl ObservedText {
+    /// Parse and check the observed data against the formula.
+    pub fn read(&self, formula: &Formula) -> Result<(Spectrum, Option<CarbonSpectrum>)> {
+        let solvents = SolventTable::embedded();
+        let (raw, file_carbon) = match (&self.peaks, &self.spectrum) {
+            (Some(text), _) => (Some(journal::parse(text)?), None),
+            (None, Some((name, text))) => {
+                let f = file::parse(name, text)?;
                 if let Some(ff) = &f.formula {
                     let theirs = Formula::parse(ff)
                         .map_err(|e| Error::input(format!("{name}: formula \"{ff}\": {e}")))?;
@@ -122,7 +158,7 @@ impl Observed {
                     }
                 }
                 let raw = (!f.spectrum.entries.is_empty()).then_some(f.spectrum);
-                (raw, f.carbon.map(|c| (name, c)))
+                (raw, f.carbon.map(|c| (name.clone(), c)))
             }
             (None, None) => (None, None),
         };
@@ -138,6 +174,177 @@ impl Observed {
         };
         spectrum::observed(raw, carbon_raw, formula, &solvents)
     }
+}
+
+/// A ranking's inputs as given: what `rank` reads from its options, and
+/// what a shard file stores (as its settings) so that `merge` rebuilds the
+/// same job.
+#[derive(Clone, Debug, Default)]
+pub struct Inputs {
+    pub formula: String,
+    pub observed: ObservedText,
+    pub carbon_score_only: bool,
+    pub keep_all: bool,
+    pub expanded_valence: bool,
+    pub top: usize,
+    pub constraints: super::isomers::ConstraintArgs,
+    pub max_candidates: Option<u64>,
+    pub time_limit: Option<f64>,
+}
+
+impl Inputs {
+    fn of(args: &Args) -> Result<Inputs> {
+        Ok(Inputs {
+            formula: args.formula.clone(),
+            observed: args.data.texts()?,
+            carbon_score_only: args.carbon_score_only,
+            keep_all: args.keep_all,
+            expanded_valence: args.expanded_valence,
+            top: args.top,
+            constraints: args.constraints.clone(),
+            max_candidates: args.run.max_candidates,
+            time_limit: args.run.time_limit,
+        })
+    }
+
+    /// Check the inputs and build the job (the 13C list bounding the search
+    /// unless `carbon_score_only`).
+    pub fn job(&self, format: Format, explain: Option<usize>, run: RunArgs) -> Result<Job> {
+        let formula = Formula::parse(&self.formula)?;
+        formula.check_neutral()?;
+        let (mut spectrum, carbon) = self.observed.read(&formula)?;
+        let mut constraints = self.constraints.constraints()?;
+        if let (Some(c), false) = (&carbon, self.carbon_score_only) {
+            if let Some(note) = c.constrain_search(&formula, &mut constraints)? {
+                spectrum.notes.push(note);
+            }
+        }
+        Ok(Job {
+            formula,
+            spectrum,
+            carbon,
+            top: self.top,
+            explain,
+            format,
+            keep_all: self.keep_all,
+            expanded_valence: self.expanded_valence,
+            constraints,
+            run,
+        })
+    }
+
+    /// The settings a shard file records: every input that shapes the
+    /// ranking, by option name, with the program and a fingerprint of its
+    /// tables. Shards merge only when these are equal.
+    pub fn settings(&self, formula: &Formula) -> Map<String, Value> {
+        let c = &self.constraints;
+        let mut m = Map::new();
+        m.insert("formula".into(), json!(formula.to_string()));
+        m.insert("--peaks".into(), json!(self.observed.peaks));
+        m.insert(
+            "--spectrum".into(),
+            match &self.observed.spectrum {
+                Some((name, text)) => json!({"file": name, "text": text}),
+                None => Value::Null,
+            },
+        );
+        m.insert("--carbon".into(), json!(self.observed.carbon));
+        m.insert("--carbon-score-only".into(), json!(self.carbon_score_only));
+        m.insert("--keep-all".into(), json!(self.keep_all));
+        m.insert("--expanded-valence".into(), json!(self.expanded_valence));
+        m.insert("--top".into(), json!(self.top));
+        m.insert("--require".into(), json!(c.require));
+        m.insert("--forbid".into(), json!(c.forbid));
+        m.insert("--attached-h".into(), json!(c.attached_h));
+        m.insert("--max-candidates".into(), json!(self.max_candidates));
+        m.insert("--time-limit".into(), json!(self.time_limit));
+        m.insert("program".into(), json!(report::shard::program()));
+        m.insert("tables".into(), json!(tables_fingerprint()));
+        m
+    }
+
+    /// The inputs a shard file's settings record (`name`: the file, for
+    /// messages).
+    pub fn from_settings(name: &str, m: &Map<String, Value>) -> Result<Inputs> {
+        let bad = |key: &str| {
+            Error::input(format!(
+                "{name}: shard file setting \"{key}\" is missing or not what rank --part writes"
+            ))
+        };
+        let text = |key: &str| -> Result<Option<String>> {
+            match m.get(key) {
+                Some(Value::Null) => Ok(None),
+                Some(Value::String(s)) => Ok(Some(s.clone())),
+                _ => Err(bad(key)),
+            }
+        };
+        let flag = |key: &str| m.get(key).and_then(Value::as_bool).ok_or_else(|| bad(key));
+        let list = |key: &str| -> Result<Vec<String>> {
+            m.get(key)
+                .and_then(Value::as_array)
+                .and_then(|a| a.iter().map(|x| x.as_str().map(str::to_string)).collect())
+                .ok_or_else(|| bad(key))
+        };
+        let spectrum = match m.get("--spectrum") {
+            Some(Value::Null) => None,
+            Some(v) => match (
+                v.get("file").and_then(Value::as_str),
+                v.get("text").and_then(Value::as_str),
+            ) {
+                (Some(f), Some(t)) => Some((f.to_string(), t.to_string())),
+                _ => return Err(bad("--spectrum")),
+            },
+            None => return Err(bad("--spectrum")),
+        };
+        Ok(Inputs {
+            formula: text("formula")?.ok_or_else(|| bad("formula"))?,
+            observed: ObservedText {
+                peaks: text("--peaks")?,
+                spectrum,
+                carbon: text("--carbon")?,
+            },
+            carbon_score_only: flag("--carbon-score-only")?,
+            keep_all: flag("--keep-all")?,
+            expanded_valence: flag("--expanded-valence")?,
+            top: m
+                .get("--top")
+                .and_then(Value::as_u64)
+                .ok_or_else(|| bad("--top"))? as usize,
+            constraints: super::isomers::ConstraintArgs {
+                require: list("--require")?,
+                forbid: list("--forbid")?,
+                attached_h: text("--attached-h")?,
+            },
+            max_candidates: match m.get("--max-candidates") {
+                Some(Value::Null) => None,
+                Some(v) => Some(v.as_u64().ok_or_else(|| bad("--max-candidates"))?),
+                None => return Err(bad("--max-candidates")),
+            },
+            time_limit: match m.get("--time-limit") {
+                Some(Value::Null) => None,
+                Some(v) => Some(v.as_f64().ok_or_else(|| bad("--time-limit"))?),
+                None => return Err(bad("--time-limit")),
+            },
+        })
+    }
+}
+
+/// A fingerprint (64-bit FNV-1a, hex) of the tables a ranking reads: the
+/// fragment library and the scoring table embedded in this binary.
+fn tables_fingerprint() -> String {
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+    let mut eat = |bytes: &[u8]| {
+        for &b in bytes {
+            h ^= b as u64;
+            h = h.wrapping_mul(0x0100_0000_01b3);
+        }
+    };
+    for (name, text) in crate::predict::library::FILES {
+        eat(name.as_bytes());
+        eat(text.as_bytes());
+    }
+    eat(crate::score::model::SCORING_TOML.as_bytes());
+    format!("{h:016x}")
 }
 
 /// Everything a ranking run needs, validated.
@@ -160,27 +367,11 @@ pub struct Job {
 }
 
 pub fn run(args: Args) -> Result<()> {
-    let formula = Formula::parse(&args.formula)?;
-    formula.check_neutral()?;
-    let (mut spectrum, carbon) = args.data.read(&formula)?;
-    let mut constraints = args.constraints.constraints()?;
-    if let (Some(c), false) = (&carbon, args.carbon_score_only) {
-        if let Some(note) = c.constrain_search(&formula, &mut constraints)? {
-            spectrum.notes.push(note);
-        }
+    let inputs = Inputs::of(&args)?;
+    let job = inputs.job(args.format, args.explain, args.run.clone())?;
+    if let Some(part) = &args.part {
+        return run_shard(&args, &inputs, &job, enumerate::Part::parse(part)?);
     }
-    let job = Job {
-        formula,
-        spectrum,
-        carbon,
-        top: args.top,
-        explain: args.explain,
-        format: args.format,
-        keep_all: args.keep_all,
-        expanded_valence: args.expanded_valence,
-        constraints,
-        run: args.run.clone(),
-    };
     let shortlist = match &args.candidates {
         Some(src) => Some(read_shortlist(src)?),
         None => None,
@@ -244,8 +435,8 @@ pub fn render(job: &Job, done: &Done) -> String {
     }
 }
 
-/// Check the options and rank (nothing is printed here).
-pub fn rank_job(job: &Job, shortlist: Option<ShortlistText>) -> Result<Done> {
+/// Check the table options (`--top`, `--explain`).
+fn check_table(job: &Job) -> Result<()> {
     if job.top == 0 {
         return Err(Error::input("--top must be at least 1"));
     }
@@ -257,18 +448,58 @@ pub fn rank_job(job: &Job, shortlist: Option<ShortlistText>) -> Result<Done> {
             )));
         }
     }
-    let model = ScoringModel::embedded();
+    Ok(())
+}
+
+/// `--explain N` within the candidates ranked.
+fn check_explain(job: &Job, ranking: &Ranking) -> Result<()> {
+    match job.explain {
+        Some(n) if n > ranking.candidates.len() => Err(Error::input(format!(
+            "--explain {n}: only {} candidates were ranked",
+            ranking.candidates.len()
+        ))),
+        _ => Ok(()),
+    }
+}
+
+/// Run `f` with the job's ranking steps and settings (the embedded
+/// predictor, options for the spectrum's solvent and frequency, `model`).
+fn with_scoring<R>(
+    job: &Job,
+    model: &ScoringModel,
+    f: impl FnOnce(&rank::Steps, &Settings) -> Result<R>,
+) -> Result<R> {
     let predictor = Predictor::embedded()?;
     let mut opts = predict_options(&predictor, &job.spectrum);
     opts.carbon = job.carbon.is_some();
     let settings = Settings {
         spectrum: &job.spectrum,
         carbon: job.carbon.as_ref(),
-        model: &model,
+        model,
         top: job.top,
     };
+    rank::with_standard_steps(&predictor, &opts, |steps| f(steps, &settings))
+}
+
+/// The generator's options for the job (caps, rules, constraints) and the
+/// names of the plausibility rules applied.
+fn enumeration_options(job: &Job) -> Result<(enumerate::Options, Vec<String>)> {
+    let mut options = enumerate::Options {
+        expanded_valence: job.expanded_valence,
+        constraints: job.constraints.clone(),
+        limits: job.run.limits()?,
+        ..Default::default()
+    };
+    let rules = plausibility(&mut options, job.keep_all);
+    Ok((options, rules))
+}
+
+/// Check the options and rank (nothing is printed here).
+pub fn rank_job(job: &Job, shortlist: Option<ShortlistText>) -> Result<Done> {
+    check_table(job)?;
+    let model = ScoringModel::embedded();
     let (ranking, source): (Ranking, Source) =
-        rank::with_standard_steps(&predictor, &opts, |steps| -> Result<_> {
+        with_scoring(job, &model, |steps, settings| -> Result<_> {
             Ok(match shortlist {
                 Some(list) => {
                     let mut reporter = Reporter::new(
@@ -280,18 +511,12 @@ pub fn rank_job(job: &Job, shortlist: Option<ShortlistText>) -> Result<Done> {
                         chunks: ShortlistChunks::new(&list.source, &list.text, &job.formula),
                         reporter: &mut reporter,
                     };
-                    let r = rank::rank_shortlist_chunks(&mut chunks, steps, &settings);
+                    let r = rank::rank_shortlist_chunks(&mut chunks, steps, settings);
                     reporter.finish();
                     (r?, Source::Shortlist)
                 }
                 None => {
-                    let mut options = enumerate::Options {
-                        expanded_valence: job.expanded_valence,
-                        constraints: job.constraints.clone(),
-                        limits: job.run.limits()?,
-                        ..Default::default()
-                    };
-                    let rules = plausibility(&mut options, job.keep_all);
+                    let (mut options, rules) = enumeration_options(job)?;
                     job.run
                         .plan(&job.formula, &mut options, "rank", limits::RANK_CAP)?;
                     let mut reporter = Reporter::new(
@@ -303,7 +528,7 @@ pub fn rank_job(job: &Job, shortlist: Option<ShortlistText>) -> Result<Done> {
                         &job.formula,
                         &options,
                         steps,
-                        &settings,
+                        settings,
                         &mut |n, share| reporter.update(n, share),
                     );
                     reporter.finish();
@@ -317,19 +542,130 @@ pub fn rank_job(job: &Job, shortlist: Option<ShortlistText>) -> Result<Done> {
                 }
             })
         })?;
-    if let Some(n) = job.explain {
-        if n > ranking.candidates.len() {
-            return Err(Error::input(format!(
-                "--explain {n}: only {} candidates were ranked",
-                ranking.candidates.len()
-            )));
-        }
-    }
+    check_explain(job, &ranking)?;
     Ok(Done {
         ranking,
         source,
         model,
     })
+}
+
+/// `rank --part K/N`: rank one shard and print its shard file.
+fn run_shard(args: &Args, inputs: &Inputs, job: &Job, part: enumerate::Part) -> Result<()> {
+    let refuse = |what: &str| {
+        Err(Error::input(format!(
+            "--part {}/{} writes a shard file for `isomerank merge`; {what}",
+            part.index, part.of
+        )))
+    };
+    if args.candidates.is_some() {
+        return refuse("a shortlist (--candidates) is ranked in one run, without --part");
+    }
+    if args.report.is_some() || args.explain.is_some() {
+        return refuse("give --report and --explain to `isomerank merge` instead");
+    }
+    if args.format != Format::Json {
+        return refuse("add --format json");
+    }
+    check_table(job)?;
+    let model = ScoringModel::embedded();
+    let shard = with_scoring(job, &model, |steps, settings| {
+        let (mut options, _) = enumeration_options(job)?;
+        options.part = Some(part);
+        job.run
+            .plan(&job.formula, &mut options, "rank", limits::RANK_CAP)?;
+        let mut reporter = Reporter::new(
+            &format!("ranking {} part {}/{}", job.formula, part.index, part.of),
+            "candidates",
+            job.run.quiet,
+        );
+        let r =
+            rank::shard::rank_shard(&job.formula, &options, steps, settings, &mut |n, share| {
+                reporter.update(n, share)
+            });
+        reporter.finish();
+        r
+    })?;
+    let text = report::shard::write(
+        &job.formula.to_string(),
+        &shard,
+        &inputs.settings(&job.formula),
+    );
+    print_all(&text)?;
+    if let Some(stop) = shard.coverage.stopped {
+        limits::note(&format!(
+            "rank {} part {}/{}: {}",
+            job.formula,
+            part.index,
+            part.of,
+            limits::partial_sentence(
+                stop,
+                shard.coverage.share,
+                shard.totals.considered,
+                "candidates"
+            )
+        ));
+    }
+    Ok(())
+}
+
+/// `isomerank merge`: the ranking of a complete set of shard files, as one
+/// run over all of them gives it.
+pub fn merge(
+    files: &[(String, report::shard::ShardFile)],
+    format: Format,
+    explain: Option<usize>,
+) -> Result<(Job, Done)> {
+    let (first_name, first) = files
+        .first()
+        .ok_or_else(|| Error::input("merge: give the shard files"))?;
+    let inputs = Inputs::from_settings(first_name, &first.settings)?;
+    let run = RunArgs {
+        quiet: true,
+        ..RunArgs::default()
+    };
+    let job = inputs.job(format, explain, run)?;
+    check_table(&job)?;
+    let (_, rules) = enumeration_options(&job)?;
+    let lines = job.spectrum.multiplets.len();
+    let carbon_lines = job.carbon.as_ref().map_or(0, |c| c.lines.len());
+    for (name, f) in files {
+        for it in &f.shard.items {
+            let fits =
+                |s: &crate::score::Scored, n: usize| s.assigned.iter().flatten().all(|&j| j < n);
+            if !fits(&it.scored, lines)
+                || !it
+                    .carbon_scored
+                    .as_ref()
+                    .is_none_or(|s| fits(s, carbon_lines))
+                || (it.carbon_scored.is_some() != job.carbon.is_some())
+            {
+                return Err(Error::input(format!(
+                    "{name}: candidate {} is assigned to observed entries the data do not have (was the file edited?)",
+                    it.smiles
+                )));
+            }
+        }
+    }
+    let facts = rank::shard::SearchFacts {
+        constraints: job.constraints.names(),
+        expanded_valence: job.expanded_valence,
+    };
+    let shards = files.iter().map(|(_, f)| f.shard.clone()).collect();
+    let model = ScoringModel::embedded();
+    let ranking = with_scoring(&job, &model, |steps, settings| {
+        rank::shard::merge(&job.formula, shards, &facts, steps, settings)
+    })?;
+    check_explain(&job, &ranking)?;
+    let done = Done {
+        ranking,
+        source: Source::Enumeration {
+            rules,
+            constraints: job.constraints.names(),
+        },
+        model,
+    };
+    Ok((job, done))
 }
 
 /// Switch the generator's plausibility rules on (unless `keep_all`); returns

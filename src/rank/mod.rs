@@ -14,6 +14,7 @@
 pub mod carbon;
 pub mod evidence;
 pub mod groups;
+pub mod shard;
 pub mod topk;
 
 use crate::chem::{Formula, HeavyAtoms, Molecule};
@@ -420,31 +421,51 @@ pub(crate) fn collect_formula(
         },
         &mut |p: enumerate::Progress| progress(p.isomers, p.share),
     )?;
-    let whole = summary.complete() && options.part.is_none();
-    if summary.generated == 0 && whole && !options.constraints.is_empty() {
-        return Err(Error::input(format!(
-            "no isomer of {formula} fits the constraints ({}); with --carbon, --carbon-score-only keeps the 13C list out of the search",
-            summary
-                .constraints
-                .iter()
-                .map(|c| c.name.clone())
-                .collect::<Vec<_>>()
-                .join(", ")
-        )));
-    }
-    if summary.generated == 0 && whole {
-        return Err(Error::input(format!(
-            "no structure has formula {formula}: the atoms cannot be bonded into one neutral molecule with standard valences{}",
-            if options.expanded_valence { " or the expanded valences of S and P" } else { "" }
-        )));
-    }
-    if summary.generated - summary.excluded == 0 && whole {
-        return Err(Error::input(format!(
-            "no isomer of {formula} is left to rank (the plausibility rules removed all {} of them; --keep-all turns them off)",
-            summary.generated
-        )));
+    if summary.complete() && options.part.is_none() {
+        let constraints = if options.constraints.is_empty() {
+            Vec::new()
+        } else {
+            summary.constraints.iter().map(|c| c.name.clone()).collect()
+        };
+        check_something_to_rank(
+            formula,
+            summary.generated,
+            summary.excluded,
+            &constraints,
+            options.expanded_valence,
+        )?;
     }
     Ok((collector, summary))
+}
+
+/// The error of a whole search that left nothing to rank (no structure, none
+/// that fits the constraints `constraints` names, or all removed by the
+/// plausibility rules); shared by a single run and a merge of shards.
+pub(crate) fn check_something_to_rank(
+    formula: &Formula,
+    generated: u64,
+    excluded: u64,
+    constraints: &[String],
+    expanded_valence: bool,
+) -> Result<()> {
+    if generated == 0 && !constraints.is_empty() {
+        return Err(Error::input(format!(
+            "no isomer of {formula} fits the constraints ({}); with --carbon, --carbon-score-only keeps the 13C list out of the search",
+            constraints.join(", ")
+        )));
+    }
+    if generated == 0 {
+        return Err(Error::input(format!(
+            "no structure has formula {formula}: the atoms cannot be bonded into one neutral molecule with standard valences{}",
+            if expanded_valence { " or the expanded valences of S and P" } else { "" }
+        )));
+    }
+    if generated - excluded == 0 {
+        return Err(Error::input(format!(
+            "no isomer of {formula} is left to rank (the plausibility rules removed all {generated} of them; --keep-all turns them off)"
+        )));
+    }
+    Ok(())
 }
 
 fn finish(

@@ -170,6 +170,27 @@ pub struct Totals {
     pub bins: Vec<(i64, u64, u128)>,
 }
 
+impl Totals {
+    /// The log of the sum of exp(-cost) over the costs in the normaliser
+    /// (those below the best + skip_margin; minus infinity when none): the
+    /// softmax denominator of these candidates, for readers of a shard file.
+    /// A merge adds the bins themselves, which is exact.
+    pub fn log_sum_exp(&self) -> f64 {
+        let z: f64 = self
+            .bins
+            .iter()
+            .map(|&(b, _, s)| {
+                (s as f64 / FIXED) * (-(b as f64 / HIST_BINS_PER_NAT - self.best)).exp()
+            })
+            .sum();
+        if z > 0.0 {
+            z.ln() - self.best
+        } else {
+            f64::NEG_INFINITY
+        }
+    }
+}
+
 impl<T> Collector<T> {
     pub fn new(k: usize, skip_margin: f64) -> Collector<T> {
         Collector {

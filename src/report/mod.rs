@@ -7,6 +7,7 @@ pub mod files;
 pub mod html;
 pub mod json;
 pub mod sdf;
+pub mod shard;
 pub mod spectrum_plot;
 pub mod text;
 
