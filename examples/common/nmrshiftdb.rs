@@ -291,3 +291,64 @@ pub fn summary(outcomes: &[Outcome]) -> (usize, usize, usize, usize) {
     };
     (ranked.len(), within(1), within(3), within(10))
 }
+
+/// One bin of a calibration table: the first candidates whose stated
+/// probability lies in [lo, lo + 0.1).
+#[derive(Clone, Copy, Debug)]
+pub struct Bin {
+    pub lo: f64,
+    pub n: usize,
+    /// Mean stated probability of the first candidate.
+    pub stated: f64,
+    /// Share of the bin whose first candidate is the deposited structure.
+    pub observed: f64,
+    /// Binomial standard error of the observed share if the stated
+    /// probability were right: sqrt(p (1 - p) / n).
+    pub se: f64,
+}
+
+/// The calibration table over ranked outcomes: bins of 0.1 of the first
+/// candidate's stated probability (empty bins left out).
+pub fn calibration_bins(outcomes: &[Outcome]) -> Vec<Bin> {
+    let ranked: Vec<&Outcome> = outcomes.iter().filter(|o| o.refused.is_none()).collect();
+    (0..10)
+        .filter_map(|b| {
+            let inside: Vec<&&Outcome> = ranked
+                .iter()
+                .filter(|o| ((o.first_probability * 10.0).floor() as i64).min(9) == b)
+                .collect();
+            if inside.is_empty() {
+                return None;
+            }
+            let n = inside.len() as f64;
+            let stated = inside.iter().map(|o| o.first_probability).sum::<f64>() / n;
+            let observed = inside.iter().filter(|o| o.position == Some(1)).count() as f64 / n;
+            Some(Bin {
+                lo: b as f64 / 10.0,
+                n: inside.len(),
+                stated,
+                observed,
+                se: (stated * (1.0 - stated) / n).sqrt(),
+            })
+        })
+        .collect()
+}
+
+/// The calibration table as Markdown.
+pub fn calibration_markdown(outcomes: &[Outcome]) -> String {
+    let mut out = String::from(
+        "| stated probability | n | mean stated | observed first | standard error |\n| --- | --- | --- | --- | --- |\n",
+    );
+    for b in calibration_bins(outcomes) {
+        out.push_str(&format!(
+            "| {:.1}-{:.1} | {} | {:.3} | {:.3} | {:.3} |\n",
+            b.lo,
+            b.lo + 0.1,
+            b.n,
+            b.stated,
+            b.observed,
+            b.se
+        ));
+    }
+    out
+}
