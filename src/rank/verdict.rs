@@ -116,12 +116,14 @@ impl FitTable {
 
 /// The report's wording of a verdict: one line, and the warning when due.
 pub fn describe(v: &Verdict, table: &FitTable) -> (String, Option<String>) {
+    let share = if v.beyond_table {
+        format!("more than {}", v.percentile)
+    } else {
+        format!("{:.0}", v.percentile)
+    };
     let line = format!(
-        "Fit: the first candidate costs {:.2} per observed line; {}{:.0} % of the correct structures of {} NMRShiftDB2 dev compounds fit better (fragment-library/fit-percentiles.toml).",
-        v.cost_per_line,
-        if v.beyond_table { "more than " } else { "" },
-        v.percentile,
-        table.n
+        "Fit: the first candidate costs {:.2} per observed line; {share} % of the correct structures of {} NMRShiftDB2 dev compounds fit better (fragment-library/fit-percentiles.toml).",
+        v.cost_per_line, table.n
     );
     let warning = v.warning.then(|| {
         format!(
@@ -162,6 +164,14 @@ mod tests {
         let v = t.verdict(10.0, 2.0, 10).unwrap();
         assert!((v.cost_per_line - 0.5).abs() < 1e-12);
         assert_eq!(t.verdict(1.0, 1.0, 0), None);
+        // The wording: beyond the table it names the last level as a bound.
+        let (line, warning) = describe(&t.verdict(31.0, 1.0, 10).unwrap(), &t);
+        assert!(line.contains("more than 99 %"), "{line}");
+        assert!(warning.is_some_and(|w| w.contains("outside the search space")));
+        // 2.1 per line: 50 + 1.1 / 2 * 49 = 76.95 %.
+        let (line, warning) = describe(&t.verdict(21.0, 1.0, 10).unwrap(), &t);
+        assert!(line.contains("; 77 % of the correct structures"), "{line}");
+        assert!(warning.is_none());
     }
 
     #[test]
