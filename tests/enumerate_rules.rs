@@ -160,9 +160,11 @@ fn common_practice_cases() {
     // Hypohalites: ethyl hypochlorite goes, chloromethyl methyl ether stays.
     assert!(!keeps("C2H5ClO", "hypohalite", "CCOCl"));
     assert!(keeps("C2H5ClO", "hypohalite", "COCCl"));
-    // Katritzky & Lagowski, Adv. Heterocycl. Chem. 1963, 1, 339 and 2, 27:
-    // pyridine-2-thione, not 2-mercaptopyridine; 3-mercaptopyridine (no N
-    // next to the carbon) and thiophenol stay.
+    // Katritzky & Lagowski, Prototropic tautomerism of heteroaromatic
+    // compounds II and IV, Adv. Heterocycl. Chem. 1963, vols 1 and 2
+    // (volume of II from memory): pyridine-2-thione, not
+    // 2-mercaptopyridine; 3-mercaptopyridine (no N next to the carbon) and
+    // thiophenol stay.
     assert!(!keeps("C5H5NS", "thione", "Sc1ccccn1"));
     assert!(keeps("C5H5NS", "thione", "S=c1cccc[nH]1"));
     assert!(keeps("C5H5NS", "thione", "Sc1cccnc1"));

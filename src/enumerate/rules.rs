@@ -105,8 +105,10 @@ impl Rule {
                 "no mercapto tautomer of a heteroarene: SH on an aromatic carbon next to a \
                  pyridine-type ring N (2-mercaptopyridines, -imidazoles, -thiazoles, \
                  mercaptotriazoles) gives way to the thione with the H on that N, which is \
-                 enumerated (Katritzky & Lagowski, Adv. Heterocycl. Chem. 1963, 1, 339 and \
-                 1963, 2, 27: the thione forms predominate in solution)"
+                 enumerated (Katritzky & Lagowski, Prototropic tautomerism of heteroaromatic \
+                 compounds II and IV, Adv. Heterocycl. Chem. 1963, vols 1 and 2, \
+                 doi:10.1016/S0065-2725(08)60746-1 for IV; the thione forms predominate in \
+                 solution; volume of II from memory)"
             }
             Rule::NhImine => {
                 "no N-unsubstituted imine C=NH of an aldehyde or ketone (no N, O or S on the \
