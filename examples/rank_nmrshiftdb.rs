@@ -21,6 +21,7 @@ mod nmrshiftdb;
 use isomerank::predict::Predictor;
 use isomerank::score::ScoringModel;
 use nmrshiftdb::{cases, rank_case, summary};
+use std::io::Write;
 
 /// Each compound's search stops after this long (the goal: at most
 /// 60 s per compound on the 2-core machine).
@@ -52,10 +53,19 @@ fn main() {
         selected.len(),
         if all { "" } else { " with a 1H list" }
     );
+    // RANK_NMRSHIFTDB_TSV=FILE: one tab-separated row per compound as well.
+    let mut tsv = std::env::var_os("RANK_NMRSHIFTDB_TSV").map(|p| {
+        let mut f = std::fs::File::create(&p).expect("create the TSV file");
+        writeln!(f, "{}", nmrshiftdb::Outcome::TSV_HEADER).expect("write");
+        f
+    });
     let mut outcomes = Vec::new();
     for c in &selected {
         let o = rank_case(c, &predictor, &model, 10, Some(LIMIT));
         println!("{}", o.line(&c.smiles));
+        if let Some(f) = &mut tsv {
+            writeln!(f, "{}", o.tsv(&c.smiles)).expect("write");
+        }
         outcomes.push(o);
     }
     let (n, t1, t3, t10) = summary(&outcomes);

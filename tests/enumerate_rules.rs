@@ -12,7 +12,7 @@ mod common;
 use common::{canonical, isomers_ok, run_reference_script};
 use std::collections::{BTreeMap, BTreeSet};
 
-const RULES: [&str; 8] = [
+const RULES: [&str; 11] = [
     "small-ring-triple",
     "small-ring-cumulated",
     "bredt",
@@ -21,6 +21,9 @@ const RULES: [&str; 8] = [
     "hydrate",
     "iminol",
     "hypohalite",
+    "thione",
+    "nh-imine",
+    "sulfur-ylide",
 ];
 
 #[derive(serde::Deserialize)]
@@ -30,8 +33,11 @@ struct Reference {
 }
 
 /// The isomers `--plausible=rule` removes, as indices into the full list.
-fn removed_by(formula: &str, full: &[&str], rule: &str) -> BTreeSet<usize> {
-    let kept_text = isomers_ok(&[formula, &format!("--plausible={rule}")]);
+fn removed_by(formula: &str, extra: &[&str], full: &[&str], rule: &str) -> BTreeSet<usize> {
+    let plausible = format!("--plausible={rule}");
+    let mut args = vec![formula, &plausible];
+    args.extend_from_slice(extra);
+    let kept_text = isomers_ok(&args);
     let kept: BTreeSet<&str> = kept_text.lines().collect();
     (0..full.len())
         .filter(|&i| !kept.contains(full[i]))
@@ -42,15 +48,30 @@ fn removed_by(formula: &str, full: &[&str], rule: &str) -> BTreeSet<usize> {
 fn each_rule_removes_exactly_what_an_independent_check_flags() {
     // Formulas with small rings, bridged polycycles, triple bonds, allenes,
     // enols, phenols, hydroxy heteroarenes, O-O bonds, carbonyl hydrates
-    // and adducts, imidic acids, thiols on C=C and C=N, hypohalites among
-    // their isomers.
+    // and adducts, imidic acids, thiols on C=C and C=N, hypohalites,
+    // mercapto heteroarenes, NH imines and (with the expanded valences)
+    // S=C at S(IV) and S(VI) among their isomers.
+    let none: &[&str] = &[];
+    let expanded: &[&str] = &["--expanded-valence"];
     let formulas = [
-        "C6H6O", "C7H8O", "C6H6O2", "C8H10", "C6H8O2", "C7H10", "C5H5NO", "C3H5ClO", "C3H5NOS",
+        ("C6H6O", none),
+        ("C7H8O", none),
+        ("C6H6O2", none),
+        ("C8H10", none),
+        ("C6H8O2", none),
+        ("C7H10", none),
+        ("C5H5NO", none),
+        ("C3H5ClO", none),
+        ("C3H5NOS", none),
+        ("C4H4N2S", none),
+        ("C2H5NS", expanded),
     ];
     let mut failures = Vec::new();
     let mut seen = BTreeMap::new();
-    for formula in formulas {
-        let text = isomers_ok(&[formula]);
+    for (formula, extra) in formulas {
+        let mut args = vec![formula];
+        args.extend_from_slice(extra);
+        let text = isomers_ok(&args);
         let full: Vec<&str> = text.lines().collect();
         // Source: RDKit (PyPI rdkit) and a brute-force path search, see the
         // module doc and tests/reference/check_rules.py.
@@ -58,7 +79,7 @@ fn each_rule_removes_exactly_what_an_independent_check_flags() {
         let reference: Reference = serde_json::from_str(&json).expect("check_rules.py JSON");
         assert_eq!(reference.lines, full.len(), "{formula}: lines read");
         for rule in RULES {
-            let ours = removed_by(formula, &full, rule);
+            let ours = removed_by(formula, extra, &full, rule);
             let theirs: BTreeSet<usize> = reference.flagged[rule].iter().copied().collect();
             *seen.entry(rule).or_insert(0) += theirs.len();
             let only = |a: &BTreeSet<usize>, b: &BTreeSet<usize>| -> Vec<&str> {
@@ -139,4 +160,34 @@ fn common_practice_cases() {
     // Hypohalites: ethyl hypochlorite goes, chloromethyl methyl ether stays.
     assert!(!keeps("C2H5ClO", "hypohalite", "CCOCl"));
     assert!(keeps("C2H5ClO", "hypohalite", "COCCl"));
+    // Katritzky & Lagowski, Prototropic tautomerism of heteroaromatic
+    // compounds II and IV, Adv. Heterocycl. Chem. 1963, vols 1 and 2
+    // (volume of II from memory): pyridine-2-thione, not
+    // 2-mercaptopyridine; 3-mercaptopyridine (no N next to the carbon) and
+    // thiophenol stay.
+    assert!(!keeps("C5H5NS", "thione", "Sc1ccccn1"));
+    assert!(keeps("C5H5NS", "thione", "S=c1cccc[nH]1"));
+    assert!(keeps("C5H5NS", "thione", "Sc1cccnc1"));
+    assert!(keeps("C6H6S", "thione", "Sc1ccccc1"));
+    // NH imines: propan-1-imine goes; acetamidine and methyl acetimidate
+    // (an N or O on the carbon) stay.
+    assert!(!keeps("C3H7N", "nh-imine", "CCC=N"));
+    assert!(keeps("C2H6N2", "nh-imine", "CC(N)=N"));
+    assert!(keeps("C3H7NO", "nh-imine", "COC(C)=N"));
+}
+
+#[test]
+fn sulfur_ylide_keeps_sulfoxides_and_removes_s_c_double_bonds() {
+    // Common practice: dimethyl sulfoxide and ethanesulfenic acid's
+    // isomers without S=C stay; the ylenes H2C=S(CH3)OH and
+    // H2C=S(CH3)(=O) and an S-C triple bond are not isolable.
+    let formula = "C2H6OS";
+    let all = isomers_ok(&[formula, "--expanded-valence"]);
+    let kept = isomers_ok(&[formula, "--expanded-valence", "--plausible=sulfur-ylide"]);
+    let has = |text: &str, smiles: &str| text.lines().any(|l| l == canonical(smiles));
+    assert!(has(&kept, "CS(C)=O"));
+    assert!(has(&kept, "CSOC"));
+    for gone in ["C=S(C)O", "C=S(C)=O", "C#S(C)O"] {
+        assert!(has(&all, gone) && !has(&kept, gone), "{gone}");
+    }
 }

@@ -68,6 +68,17 @@ pub struct Outcome {
     /// Whether the whole search was covered (false: stopped at the time
     /// limit, the position is then among the candidates covered).
     pub complete: bool,
+    /// The first candidate's cost split into its 1H and 13C parts, and its
+    /// stated probability.
+    pub first_parts: (f64, f64),
+    pub first_probability: f64,
+    /// The true structure's parts and probability when it is in the table.
+    pub true_parts: Option<(f64, f64)>,
+    pub true_probability: Option<f64>,
+    /// Observed 1H multiplets plus 13C lines (the data's size).
+    pub observed_lines: usize,
+    /// The true structure's cost, scored alone (whatever its position).
+    pub truth_cost: f64,
 }
 
 impl Outcome {
@@ -89,12 +100,15 @@ impl Outcome {
                     String::new()
                 } else {
                     format!(
-                        "  (first {} {:.2}, truth {})",
+                        "  (first {} {:.2} = 1H {:.2} + 13C {:.2}, truth {})",
                         self.first,
                         self.first_cost,
-                        self.true_cost
-                            .map(|c| format!("{c:.2}"))
-                            .unwrap_or_else(|| "-".into())
+                        self.first_parts.0,
+                        self.first_parts.1,
+                        match (self.true_cost, self.true_parts) {
+                            (Some(c), Some((h, k))) => format!("{c:.2} = 1H {h:.2} + 13C {k:.2}"),
+                            _ => "-".into(),
+                        }
                     )
                 },
             ),
@@ -130,6 +144,12 @@ pub fn rank_case(
         true_cost: None,
         refused: Some(why),
         complete: false,
+        first_parts: (f64::NAN, f64::NAN),
+        first_probability: f64::NAN,
+        true_parts: None,
+        true_probability: None,
+        observed_lines: 0,
+        truth_cost: f64::NAN,
     };
     let hydrogen = if case.peaks.is_empty() {
         None
@@ -184,9 +204,18 @@ pub fn rank_case(
         ..Default::default()
     };
     let r = rank::with_standard_steps(predictor, &opts, |steps| {
-        rank::rank_formula(&formula, &options, steps, &settings, &mut |_, _| {})
+        // The true structure alone as well: its cost whatever its position.
+        let item = rank::ShortlistItem {
+            smiles: want.clone(),
+            molecule: answer.clone(),
+            name: None,
+        };
+        let mut one = std::iter::once(Ok(vec![item]));
+        let truth = rank::rank_shortlist_chunks(&mut one, steps, &settings)?;
+        let r = rank::rank_formula(&formula, &options, steps, &settings, &mut |_, _| {})?;
+        Ok::<_, isomerank::error::Error>((r, truth.candidates[0].cost))
     });
-    let r = match r {
+    let (r, truth_cost) = match r {
         Ok(r) => r,
         Err(e) => return refused(e.to_string()),
     };
@@ -195,6 +224,13 @@ pub fn rank_case(
         .iter()
         .position(|x| x.smiles == want)
         .map(|p| p + 1);
+    let parts = |c: &rank::Ranked| {
+        (
+            c.scored.cost,
+            c.carbon_scored.as_ref().map_or(0.0, |s| s.cost),
+        )
+    };
+    let observed_lines = spectrum.multiplets.len() + carbon.as_ref().map_or(0, |c| c.lines.len());
     Outcome {
         id: case.id,
         formula: case.formula.clone(),
@@ -207,7 +243,41 @@ pub fn rank_case(
         true_cost: position.map(|p| r.candidates[p - 1].cost),
         refused: None,
         complete: r.coverage.stopped.is_none(),
+        first_parts: parts(&r.candidates[0]),
+        first_probability: r.candidates[0].probability,
+        true_parts: position.map(|p| parts(&r.candidates[p - 1])),
+        true_probability: position.map(|p| r.candidates[p - 1].probability),
+        observed_lines,
+        truth_cost,
     }
+}
+
+impl Outcome {
+    /// One tab-separated row for offline study (header: [`Outcome::TSV_HEADER`]).
+    pub fn tsv(&self, smiles: &str) -> String {
+        let opt = |x: Option<f64>| x.map_or("".to_string(), |v| format!("{v:.4}"));
+        format!(
+            "{}\t{}\t{}\t{}\t{}\t{:.4}\t{:.4}\t{:.4}\t{:.6}\t{}\t{}\t{}\t{:.4}\t{}\t{}\t{}",
+            self.id,
+            self.formula,
+            self.heavy_atoms,
+            self.position.map_or("".to_string(), |p| p.to_string()),
+            self.considered,
+            self.first_cost,
+            self.first_parts.0,
+            self.first_parts.1,
+            self.first_probability,
+            opt(self.true_parts.map(|p| p.0)),
+            opt(self.true_parts.map(|p| p.1)),
+            opt(self.true_probability),
+            self.truth_cost,
+            self.observed_lines,
+            smiles,
+            self.first,
+        )
+    }
+
+    pub const TSV_HEADER: &'static str = "id\tformula\theavy\tposition\tconsidered\tfirst_cost\tfirst_1h\tfirst_13c\tfirst_p\ttrue_1h\ttrue_13c\ttrue_p\ttruth_cost\tlines\tsmiles\tfirst";
 }
 
 /// top-1, top-3 and top-10 counts over ranked (not refused) outcomes.
@@ -220,4 +290,65 @@ pub fn summary(outcomes: &[Outcome]) -> (usize, usize, usize, usize) {
             .count()
     };
     (ranked.len(), within(1), within(3), within(10))
+}
+
+/// One bin of a calibration table: the first candidates whose stated
+/// probability lies in [lo, lo + 0.1).
+#[derive(Clone, Copy, Debug)]
+pub struct Bin {
+    pub lo: f64,
+    pub n: usize,
+    /// Mean stated probability of the first candidate.
+    pub stated: f64,
+    /// Share of the bin whose first candidate is the deposited structure.
+    pub observed: f64,
+    /// Binomial standard error of the observed share if the stated
+    /// probability were right: sqrt(p (1 - p) / n).
+    pub se: f64,
+}
+
+/// The calibration table over ranked outcomes: bins of 0.1 of the first
+/// candidate's stated probability (empty bins left out).
+pub fn calibration_bins(outcomes: &[Outcome]) -> Vec<Bin> {
+    let ranked: Vec<&Outcome> = outcomes.iter().filter(|o| o.refused.is_none()).collect();
+    (0..10)
+        .filter_map(|b| {
+            let inside: Vec<&&Outcome> = ranked
+                .iter()
+                .filter(|o| ((o.first_probability * 10.0).floor() as i64).min(9) == b)
+                .collect();
+            if inside.is_empty() {
+                return None;
+            }
+            let n = inside.len() as f64;
+            let stated = inside.iter().map(|o| o.first_probability).sum::<f64>() / n;
+            let observed = inside.iter().filter(|o| o.position == Some(1)).count() as f64 / n;
+            Some(Bin {
+                lo: b as f64 / 10.0,
+                n: inside.len(),
+                stated,
+                observed,
+                se: (stated * (1.0 - stated) / n).sqrt(),
+            })
+        })
+        .collect()
+}
+
+/// The calibration table as Markdown.
+pub fn calibration_markdown(outcomes: &[Outcome]) -> String {
+    let mut out = String::from(
+        "| stated probability | n | mean stated | observed first | standard error |\n| --- | --- | --- | --- | --- |\n",
+    );
+    for b in calibration_bins(outcomes) {
+        out.push_str(&format!(
+            "| {:.1}-{:.1} | {} | {:.3} | {:.3} | {:.3} |\n",
+            b.lo,
+            b.lo + 0.1,
+            b.n,
+            b.stated,
+            b.observed,
+            b.se
+        ));
+    }
+    out
 }

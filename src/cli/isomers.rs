@@ -100,7 +100,8 @@ pub fn emptied(formula: &Formula, cuts: &[Cut]) -> Error {
   isomerank isomers C4H8O --format sdf > all.sdf   molfiles with 2D coordinates
 
 Plausibility rules (the number each flags goes to stderr):
-  small-ring-triple, small-ring-cumulated, bredt, enol, peroxide, hydrate, iminol, hypohalite")]
+  small-ring-triple, small-ring-cumulated, bredt, enol, peroxide, hydrate, iminol, hypohalite,
+  thione, nh-imine, sulfur-ylide")]
 pub struct Args {
     /// Molecular formula, e.g. C8H10O or BrC3H7 (any element order).
     pub formula: String,

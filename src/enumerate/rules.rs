@@ -26,10 +26,13 @@ pub enum Rule {
     Hydrate,
     Iminol,
     Hypohalite,
+    Thione,
+    NhImine,
+    SulfurYlide,
 }
 
 impl Rule {
-    pub const ALL: [Rule; 8] = [
+    pub const ALL: [Rule; 11] = [
         Rule::SmallRingTriple,
         Rule::SmallRingCumulated,
         Rule::Bredt,
@@ -38,6 +41,9 @@ impl Rule {
         Rule::Hydrate,
         Rule::Iminol,
         Rule::Hypohalite,
+        Rule::Thione,
+        Rule::NhImine,
+        Rule::SulfurYlide,
     ];
 
     pub fn name(self) -> &'static str {
@@ -50,6 +56,9 @@ impl Rule {
             Rule::Hydrate => "hydrate",
             Rule::Iminol => "iminol",
             Rule::Hypohalite => "hypohalite",
+            Rule::Thione => "thione",
+            Rule::NhImine => "nh-imine",
+            Rule::SulfurYlide => "sulfur-ylide",
         }
     }
 
@@ -91,6 +100,27 @@ impl Rule {
             Rule::Hypohalite => {
                 "no O-halogen bond: hypohalites and their esters are unstable oxidants, not \
                  isolable unknowns (common practice)"
+            }
+            Rule::Thione => {
+                "no mercapto tautomer of a heteroarene: SH on an aromatic carbon next to a \
+                 pyridine-type ring N (2-mercaptopyridines, -imidazoles, -thiazoles, \
+                 mercaptotriazoles) gives way to the thione with the H on that N, which is \
+                 enumerated (Katritzky & Lagowski, Prototropic tautomerism of heteroaromatic \
+                 compounds II and IV, Adv. Heterocycl. Chem. 1963, vols 1 and 2, \
+                 doi:10.1016/S0065-2725(08)60746-1 for IV; the thione forms predominate in \
+                 solution; volume of II from memory)"
+            }
+            Rule::NhImine => {
+                "no N-unsubstituted imine C=NH of an aldehyde or ketone (no N, O or S on the \
+                 carbon): such imines hydrolyse, trimerise or tautomerise to the enamine and are \
+                 rarely isolated; amidines, guanidines, imidates and thioimidates are kept \
+                 (common practice)"
+            }
+            Rule::SulfurYlide => {
+                "no S(IV) or S(VI) with a double or triple bond to carbon (sulfur ylides \
+                 written as ylenes, sulfines, S-C triple bonds): reactive species, isolable only when strongly stabilised; \
+                 sulfoxides, sulfones and sulfilimines are kept (only with the expanded \
+                 valences) (common practice)"
             }
         }
     }
@@ -210,6 +240,9 @@ impl Checker {
             Rule::Hydrate => self.hydrate(iso),
             Rule::Iminol => self.iminol(iso),
             Rule::Hypohalite => hypohalite(iso),
+            Rule::Thione => self.thione(iso),
+            Rule::NhImine => nh_imine(iso),
+            Rule::SulfurYlide => sulfur_ylide(iso),
         }
     }
 
@@ -289,6 +322,47 @@ impl Checker {
             | tautomer_carbons(iso, Element::S, |y| (adj[1][y], Element::N))
             | tautomer_carbons(iso, Element::S, |y| (adj[1][y] | adj[2][y], Element::C));
         self.any_not_aromatic(iso, carbons)
+    }
+
+    /// SH on an aromatic carbon with an aromatic ring neighbour N that has
+    /// two heavy neighbours and no H (pyridine-type: the H can move to it).
+    fn thione(&mut self, iso: &Isomer) -> bool {
+        let mut pairs: Vec<(usize, usize)> = Vec::new();
+        for x in 0..iso.atoms() {
+            if iso.element(x) != Element::S || iso.hydrogens(x) != 1 {
+                continue;
+            }
+            for c in bits(iso.node.nb[x]) {
+                if iso.element(c) != Element::C {
+                    continue;
+                }
+                for n in bits(iso.node.nb[c] & !(1u64 << x)) {
+                    if iso.element(n) == Element::N
+                        && iso.hydrogens(n) == 0
+                        && iso.node.nb[n].count_ones() == 2
+                    {
+                        pairs.push((c, n));
+                    }
+                }
+            }
+        }
+        if pairs.is_empty() {
+            return false;
+        }
+        // Both on a ring before aromaticity is perceived (only ring atoms
+        // can be aromatic).
+        pairs.retain(|&(c, n)| self.rings_of(iso, c).0 >> n & 1 == 1);
+        if pairs.is_empty() {
+            return false;
+        }
+        if self.flat.set_heavy_atoms(iso) {
+            self.rings.perceive_ring_bonds(&self.flat);
+        }
+        self.perceiver
+            .perceive(&self.flat, &mut self.rings, &mut self.aromatic);
+        pairs
+            .iter()
+            .any(|&(c, n)| self.aromatic.atom[c] && self.aromatic.atom[n])
     }
 
     /// Whether some atom of `carbons` is not aromatic. Only a ring atom can
@@ -451,6 +525,36 @@ fn bonds<'a>(iso: &'a Isomer<'a>) -> impl Iterator<Item = (usize, usize, u8)> + 
 
 fn peroxide(iso: &Isomer) -> bool {
     bonds(iso).any(|(a, b, _)| iso.element(a) == Element::O && iso.element(b) == Element::O)
+}
+
+/// A carbon double-bonded to an N that carries one H and nothing else,
+/// with no N, O or S among the carbon's other neighbours.
+fn nh_imine(iso: &Isomer) -> bool {
+    let double = &iso.node.g.adj[1];
+    (0..iso.atoms()).any(|n| {
+        iso.element(n) == Element::N
+            && iso.hydrogens(n) == 1
+            && iso.node.nb[n].count_ones() == 1
+            && bits(double[n]).any(|c| {
+                iso.element(c) == Element::C
+                    && !bits(iso.node.nb[c] & !(1u64 << n))
+                        .any(|y| matches!(iso.element(y), Element::N | Element::O | Element::S))
+            })
+    })
+}
+
+/// An S with a double or triple bond to carbon and a valence above 2.
+fn sulfur_ylide(iso: &Isomer) -> bool {
+    let adj = &iso.node.g.adj;
+    (0..iso.atoms()).any(|s| {
+        iso.element(s) == Element::S
+            && bits(adj[1][s] | adj[2][s]).any(|c| iso.element(c) == Element::C)
+            && bits(iso.node.nb[s])
+                .map(|y| u32::from(iso.order(s, y)))
+                .sum::<u32>()
+                + u32::from(iso.hydrogens(s))
+                > 2
+    })
 }
 
 fn hypohalite(iso: &Isomer) -> bool {

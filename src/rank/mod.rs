@@ -16,6 +16,7 @@ pub mod evidence;
 pub mod groups;
 pub mod shard;
 pub mod topk;
+pub mod verdict;
 
 use crate::chem::{Formula, HeavyAtoms, Molecule};
 use crate::enumerate;
@@ -104,7 +105,8 @@ pub struct Ranked {
     pub position: usize,
     pub smiles: String,
     pub name: Option<String>,
-    /// The whole cost: the 1H part (`scored.cost`) plus the 13C part.
+    /// The whole cost: `[ranking] cost_scale` times the 1H part
+    /// (`scored.cost`) plus the 13C part.
     pub cost: f64,
     pub probability: f64,
     /// 1-based group number: equal numbers cannot be told apart by the data.
@@ -209,7 +211,7 @@ impl Payload {
 
 /// One candidate's predictions and scores.
 struct Evaluated {
-    /// The 1H part plus the 13C part.
+    /// The cost scale times the 1H part plus the 13C part.
     cost: f64,
     predicted: Vec<PredictedSignal>,
     scored: Scored,
@@ -222,6 +224,8 @@ struct Evaluated {
 struct Scorers<'a> {
     hydrogen: Prepared<'a>,
     carbon: Option<CarbonPrepared<'a>>,
+    /// `[ranking] cost_scale`: the cost is this times the sum of the parts.
+    scale: f64,
 }
 
 impl<'a> Scorers<'a> {
@@ -231,6 +235,7 @@ impl<'a> Scorers<'a> {
             carbon: settings
                 .carbon
                 .map(|c| CarbonPrepared::new(c, settings.model)),
+            scale: settings.model.ranking.cost_scale,
         }
     }
 }
@@ -243,7 +248,8 @@ impl<'a> Scorers<'a> {
 /// prediction stops after the shifts when even a score without its
 /// multiplicity and J terms (never negative) cannot
 /// ([`score::Prepared::may_beat`]). Both tests are sound: the 13C cost is
-/// exact and the 1H bound is a lower bound, and the costs add.
+/// exact and the 1H bound is a lower bound, and the costs add. The cutoff
+/// is on the scaled cost; the parts are tested against it unscaled.
 fn evaluate(
     molecule: &dyn HeavyAtoms,
     symmetry: Option<&[[u8; 64]]>,
@@ -251,6 +257,7 @@ fn evaluate(
     scorers: &Scorers,
     cutoff: f64,
 ) -> Option<Evaluated> {
+    let cutoff = cutoff / scorers.scale;
     let has_h = !scorers.hydrogen.spectrum().multiplets.is_empty();
     let mut carbon_scored: Option<Scored> = None;
     let mut gate = |est: &[ShiftEstimate], carbons: &[PredictedCarbon]| {
@@ -282,7 +289,7 @@ fn evaluate(
         }
     };
     Some(Evaluated {
-        cost: scored.cost + carbon_cost,
+        cost: scorers.scale * (scored.cost + carbon_cost),
         predicted: prediction.signals,
         scored,
         carbons: prediction.carbons,

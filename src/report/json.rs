@@ -35,7 +35,20 @@
 //! `constraints` (their names), `plausibility_rules`, `skipped`, `notes`, `groups` (with
 //! `evidence`), `safety`, `complete` (false when a cap stopped the run) and
 //! `coverage` (`share` of the search covered, `stopped_by`: the option or
-//! null).
+//! null), and `fit`, the absolute verdict on the first candidate (null
+//! without candidates or observed lines):
+//!
+//! ```text
+//!  "fit": {"cost_per_line": f64, "percentile": f64, "beyond_table": bool,
+//!          "warning": bool, "reference_compounds": int, "message": str}
+//! ```
+//!
+//! `cost_per_line` is the first candidate's cost over the observed 1H
+//! multiplets plus 13C lines; `percentile` the share (%) of correct
+//! structures of the NMRShiftDB2 dev compounds with a lower cost per line
+//! (fragment-library/fit-percentiles.toml; a lower bound when
+//! `beyond_table`); `warning` is true above the table's warning level (99 %),
+//! and `message` then holds the warning's text, else the verdict line.
 
 use super::{Context, Source, SAFETY};
 use crate::score;
@@ -153,6 +166,17 @@ pub fn render(cx: &Context) -> String {
         },
         "notes": s.notes.iter().chain(cx.carbon.iter().flat_map(|c| &c.notes)).collect::<Vec<_>>(),
         "groups": groups,
+        "fit": super::verdict(cx).map(|(v, table)| {
+            let (line, warning) = crate::rank::verdict::describe(&v, &table);
+            json!({
+                "cost_per_line": round4(v.cost_per_line),
+                "percentile": round4(v.percentile),
+                "beyond_table": v.beyond_table,
+                "warning": v.warning,
+                "reference_compounds": table.n,
+                "message": warning.unwrap_or(line),
+            })
+        }),
         "safety": SAFETY,
     });
     let mut text = serde_json::to_string_pretty(&doc).expect("JSON of plain values");

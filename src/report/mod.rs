@@ -49,6 +49,21 @@ pub fn candidate_set(formula: &Formula, constraints: &[String]) -> String {
     }
 }
 
+/// The absolute fit verdict on the first candidate (see
+/// [`crate::rank::verdict`]), when there is one and any observed line.
+pub fn verdict(
+    cx: &Context,
+) -> Option<(
+    crate::rank::verdict::Verdict,
+    crate::rank::verdict::FitTable,
+)> {
+    let first = cx.ranking.candidates.first()?;
+    let lines = cx.spectrum.multiplets.len() + cx.carbon.map_or(0, |c| c.lines.len());
+    let table = crate::rank::verdict::FitTable::embedded();
+    let v = table.verdict(first.cost, cx.model.ranking.cost_scale, lines)?;
+    Some((v, table))
+}
+
 /// The one-line reason for a candidate's place: the costliest terms of its
 /// 1H and 13C parts together.
 pub fn reason(cx: &Context, c: &crate::rank::Ranked) -> String {

@@ -177,6 +177,14 @@ pub fn render(cx: &Context) -> String {
             }
         }
     }
+    if let Some((v, table)) = super::verdict(cx) {
+        let (line, warning) = crate::rank::verdict::describe(&v, &table);
+        let _ = writeln!(out);
+        let _ = writeln!(out, "{line}");
+        if let Some(w) = warning {
+            let _ = writeln!(out, "{w}");
+        }
+    }
     if let Some(n) = cx.explain {
         if let Some(c) = r.candidates.get(n - 1) {
             let _ = writeln!(out);
@@ -372,13 +380,24 @@ pub fn explanation(cx: &Context, c: &Ranked) -> String {
         out.push_str(&carbon_explanation(cx, cs, c, sc));
         let _ = writeln!(
             out,
-            "  total {:.2} (1H {:.2} + 13C {:.2})",
-            e.total + sc.cost,
+            "  total {:.2} ({}1H {:.2} + 13C {:.2})",
+            c.cost,
+            scale_text(cx),
             e.total,
             sc.cost
         );
     } else {
-        let _ = writeln!(out, "  total {:.2}", e.total);
+        let _ = if cx.model.ranking.cost_scale == 1.0 {
+            writeln!(out, "  total {:.2}", c.cost)
+        } else {
+            writeln!(
+                out,
+                "  total {:.2} ({}1H {:.2})",
+                c.cost,
+                scale_text(cx),
+                e.total
+            )
+        };
     }
     out
 }
@@ -405,6 +424,16 @@ fn fmt_class(p: &PredictedCarbon) -> String {
 }
 
 /// The 13C part of `--explain`: each carbon class and its line.
+/// The cost scale as a factor in front of the parts (empty at 1).
+fn scale_text(cx: &Context) -> String {
+    let k = cx.model.ranking.cost_scale;
+    if k == 1.0 {
+        String::new()
+    } else {
+        format!("cost scale {k} x ")
+    }
+}
+
 fn carbon_explanation(cx: &Context, cs: &CarbonSpectrum, c: &Ranked, sc: &score::Scored) -> String {
     let e = score::carbon::explain(&c.carbons, cs, cx.model, sc);
     let mut out = String::new();

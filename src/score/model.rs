@@ -57,6 +57,15 @@ pub struct MultiplicityParams {
 pub struct RankingParams {
     pub indistinguishable_margin: f64,
     pub skip_margin: f64,
+    /// A candidate's cost is this factor times the sum of its 1H and 13C
+    /// parts (a temperature of the softmax, fitted so that the stated
+    /// probabilities match how often the first candidate is right).
+    #[serde(default = "unit_scale")]
+    pub cost_scale: f64,
+}
+
+fn unit_scale() -> f64 {
+    1.0
 }
 
 /// The 13C part of the cost (fragment-library/scoring.toml, `[carbon]`;
@@ -428,6 +437,7 @@ fn validate(f: &ModelFile) -> Result<()> {
         f.ranking.indistinguishable_margin,
     )?;
     check_non_negative("[ranking] skip_margin", f.ranking.skip_margin)?;
+    check_positive("[ranking] cost_scale", f.ranking.cost_scale)?;
     let c = &f.carbon;
     check_positive("[carbon] min_sigma", c.min_sigma)?;
     check_positive("[carbon] count_sigma", c.count_sigma)?;

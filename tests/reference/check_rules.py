@@ -27,7 +27,13 @@ README states them:
   N or S neighbour;
 - iminol: OH or SH on a non-aromatic carbon with a double bond to N, or SH
   on a non-aromatic carbon with a double or triple bond to carbon;
-- hypohalite: a bond between O and F, Cl, Br or I.
+- hypohalite: a bond between O and F, Cl, Br or I;
+- thione: SH on an aromatic carbon that has an aromatic N neighbour with
+  two heavy neighbours and no H (pyridine-type N);
+- nh-imine: a C=N double bond whose N carries one H and no other heavy
+  atom, the carbon having no N, O or S neighbour besides;
+- sulfur-ylide: an S with a double or triple bond to carbon and a valence
+  (bond orders plus H) above 2.
 
 The input is read as Kekule structures (aromatic SMILES are kekulized by
 RDKit's parser), so double bonds are those of one Kekule form, as the
@@ -198,6 +204,58 @@ def hypohalite(mol, aromatic):
     return False
 
 
+def thione(mol, aromatic):
+    for s in mol.GetAtoms():
+        if s.GetSymbol() != "S" or s.GetTotalNumHs() != 1:
+            continue
+        for c in s.GetNeighbors():
+            if c.GetSymbol() != "C" or c.GetIdx() not in aromatic:
+                continue
+            for n in c.GetNeighbors():
+                if (
+                    n.GetSymbol() == "N"
+                    and n.GetIdx() in aromatic
+                    and n.GetTotalNumHs() == 0
+                    and n.GetDegree() == 2
+                ):
+                    return True
+    return False
+
+
+def nh_imine(mol, aromatic):
+    for b in mol.GetBonds():
+        if b.GetBondType() != Chem.BondType.DOUBLE:
+            continue
+        for n, c in ((b.GetBeginAtom(), b.GetEndAtom()), (b.GetEndAtom(), b.GetBeginAtom())):
+            if (
+                n.GetSymbol() == "N"
+                and n.GetTotalNumHs() == 1
+                and n.GetDegree() == 1
+                and c.GetSymbol() == "C"
+                and not any(
+                    y.GetSymbol() in ("N", "O", "S")
+                    for y in c.GetNeighbors()
+                    if y.GetIdx() != n.GetIdx()
+                )
+            ):
+                return True
+    return False
+
+
+def sulfur_ylide(mol, aromatic):
+    for s in mol.GetAtoms():
+        if s.GetSymbol() != "S":
+            continue
+        valence = sum(b.GetBondTypeAsDouble() for b in s.GetBonds()) + s.GetTotalNumHs()
+        if valence > 2 and any(
+            b.GetBondType() in (Chem.BondType.DOUBLE, Chem.BondType.TRIPLE)
+            and b.GetOtherAtom(s).GetSymbol() == "C"
+            for b in s.GetBonds()
+        ):
+            return True
+    return False
+
+
 RULES = {
     "small-ring-triple": small_ring_triple,
     "small-ring-cumulated": small_ring_cumulated,
@@ -207,6 +265,9 @@ RULES = {
     "hydrate": hydrate,
     "iminol": iminol,
     "hypohalite": hypohalite,
+    "thione": thione,
+    "nh-imine": nh_imine,
+    "sulfur-ylide": sulfur_ylide,
 }
 
 
