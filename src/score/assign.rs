@@ -1354,6 +1354,33 @@ mod tests {
         assert!(fewer > 500 * TUNINGS.len() / 2, "{fewer}");
     }
 
+    // Reference: exhaustive enumeration. The check of the checks: the line
+    // bound raised by 0.3 (no longer a lower bound) must be caught by the
+    // comparisons above, on the same kind of instances.
+    #[test]
+    fn a_raised_line_bound_is_caught() {
+        let mut st = 0x9e3779b97f4a7c15u64;
+        let mut caught = 0;
+        for _ in 0..300 {
+            let c = random(&mut st, 6, 4);
+            let exact = brute(&c);
+            let mut ws = Workspace::default();
+            ws.lines.raise = 0.3;
+            let tuning = Tuning {
+                strong_after: u64::MAX,
+                lines_after: 1,
+            };
+            let out = run(&c.view(), f64::INFINITY, &mut ws, false, u64::MAX, tuning);
+            let wrong_cost = match out {
+                Outcome::Below(cost) => (cost - exact).abs() > 1e-9,
+                _ => true,
+            };
+            let wrong_root = ws.lines.root.is_some_and(|r| r > exact + 1e-9);
+            caught += (wrong_cost || wrong_root) as usize;
+        }
+        assert!(caught > 10, "a raised bound caught on {caught} of 300");
+    }
+
     #[test]
     fn overlap_beats_greedy_when_integrals_demand_it() {
         // Two 1H groups both closest to a 2H multiplet 0; multiplet 1 (1H) is
