@@ -262,6 +262,9 @@ pub struct Workspace {
     trial: Vec<u16>,
     trial_h: Vec<u32>,
     trial_k: Vec<u32>,
+    /// Per depth d, per multiplet: its line-bound term at depth d + 1 before
+    /// the group at depth d is placed.
+    line_terms: Vec<f64>,
     nodes: u64,
 }
 
@@ -462,6 +465,7 @@ fn run(
         trial,
         trial_h,
         trial_k,
+        line_terms,
         nodes,
     } = ws;
     order.clear();
@@ -590,6 +594,7 @@ fn run(
     strong.root = None;
     lines.ready = false;
     lines.root = None;
+    refill(line_terms, g * m, 0.0);
     let mut s = Search {
         c,
         order,
@@ -617,6 +622,7 @@ fn run(
         trial,
         trial_h,
         trial_k,
+        line_terms,
         found,
         nodes: 0,
         first_only,
@@ -667,6 +673,7 @@ struct Search<'a> {
     trial: &'a mut Vec<u16>,
     trial_h: &'a mut Vec<u32>,
     trial_k: &'a mut Vec<u32>,
+    line_terms: &'a mut Vec<f64>,
     found: bool,
     nodes: u64,
     /// Existence mode: stop at the first assignment below the cutoff.
@@ -790,7 +797,15 @@ impl Search<'_> {
         };
         let m = c.multiplets;
         let best = self.best;
+        // The relaxed solution often repeats between steps: improve each
+        // distinct one once.
+        let mut last: Vec<u16> = vec![];
         let mut offer = |choice: &[u16]| -> f64 {
+            if last == choice {
+                return self.best;
+            }
+            last.clear();
+            last.extend_from_slice(choice);
             self.trial.clear();
             self.trial.extend_from_slice(choice);
             refill(self.trial_h, m, 0);
@@ -997,6 +1012,9 @@ impl Search<'_> {
         let from = if first { 0 } else { self.position[d - 1] };
         let g = self.order[d];
         let hg = c.hydrogens[g];
+        // Sum of the line-bound terms at depth d + 1 before this group is
+        // placed, filled when first needed: a child changes one term only.
+        let mut line_sum: Option<f64> = None;
         for oi in from..self.stride {
             let (cost, j) = self.options[d * self.stride + oi];
             let base = partial + cost + self.suffix_min[d + 1];
@@ -1025,9 +1043,25 @@ impl Search<'_> {
                 go = partial + cost + self.strong_bound(d + 1) < self.best;
             }
             if go && self.lines.ready {
-                let b = self
-                    .lines
-                    .bound(c, d + 1, self.h, self.k, self.suffix_h[d + 1]);
+                let reach = self.suffix_h[d + 1];
+                let terms = &mut self.line_terms[d * m..(d + 1) * m];
+                let sum = *line_sum.get_or_insert_with(|| {
+                    for (jj, t) in terms.iter_mut().enumerate() {
+                        let (mut h0, mut k0) = (self.h[jj], self.k[jj]);
+                        if jj as u16 == j {
+                            // Undo this option's own change.
+                            h0 -= hg;
+                            k0 -= 1;
+                        }
+                        *t = self.lines.term(c, jj, d + 1, h0, k0, reach);
+                    }
+                    terms.iter().sum()
+                });
+                let mut b = self.lines.base(d + 1) + sum;
+                if j != NONE {
+                    let ju = j as usize;
+                    b += self.lines.term(c, ju, d + 1, self.h[ju], self.k[ju], reach) - terms[ju];
+                }
                 go = partial + cost + b - BOUND_SLACK * (1.0 + b.abs()) < self.best;
             }
             if go {

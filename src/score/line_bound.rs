@@ -235,15 +235,29 @@ impl LineBound {
     /// The bound on the cost of any completion from depth `d`, without what
     /// the placed groups paid; `h`, `k` per multiplet (empty slices: none
     /// placed).
+    /// Multiplet j's term in [`LineBound::bound`].
+    pub fn term(&self, c: &CostsRef, j: usize, d: usize, h0: u32, k0: u32, reach: u32) -> f64 {
+        self.line(c, j, d, h0, k0, reach as usize).0
+    }
+
+    /// The part of [`LineBound::bound`] that is not per multiplet (with the
+    /// tests' raise).
+    pub fn base(&self, d: usize) -> f64 {
+        #[cfg(test)]
+        {
+            self.base[d] + self.raise
+        }
+        #[cfg(not(test))]
+        {
+            self.base[d]
+        }
+    }
+
     pub fn bound(&self, c: &CostsRef, d: usize, h: &[u32], k: &[u32], reach: u32) -> f64 {
-        let mut total = self.base[d];
+        let mut total = self.base(d);
         for j in 0..c.multiplets {
             let (h0, k0) = if h.is_empty() { (0, 0) } else { (h[j], k[j]) };
             total += self.line(c, j, d, h0, k0, reach as usize).0;
-        }
-        #[cfg(test)]
-        {
-            total += self.raise;
         }
         total
     }
