@@ -197,7 +197,7 @@ pub const STRONG_AFTER: u64 = 128;
 
 /// Search nodes after which the line bound ([`super::line_bound`]) is
 /// prepared and used for the rest of the search.
-pub const LINES_AFTER: u64 = 256;
+pub const LINES_AFTER: u64 = 1024;
 
 /// When the two stronger bounds join the search (node counts; the tests and
 /// the benchmark vary them).
