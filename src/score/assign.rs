@@ -1,6 +1,6 @@
 //! Exact best assignment of predicted groups to observed multiplets, by
-//! depth-first branch and bound with symmetry reduction and a Lagrangian
-//! bound.
+//! depth-first branch and bound with symmetry reduction, local search on the
+//! incumbents and two Lagrangian bounds.
 //!
 //! The problem: each of G predicted groups goes to one of M observed
 //! multiplets or to none; several groups may share one multiplet (overlap).
@@ -14,7 +14,7 @@
 //!
 //! Branch and bound (Land & Doig, Econometrica 1960, 28, 497) over groups in
 //! a fixed order (larger groups first), each group's options tried cheapest
-//! first, with three additions that keep the search small when spectra are
+//! first, with five additions that keep the search small when spectra are
 //! long or repetitive:
 //!
 //! 1. **Identical groups** (same cost row, unassigned cost and H) are
@@ -45,6 +45,17 @@
 //!    Math. Programming 1974, 6, 62) on the root relaxation, and only when
 //!    the search has not finished after [`STRONG_AFTER`] nodes (ordinary
 //!    spectra never pay for it).
+//! 4. **Local search** on the incumbents: one group moved to another
+//!    multiplet (or none), or two groups exchanging places, while the total
+//!    drops (a plain descent over these two neighbourhoods, as in the
+//!    interchange heuristics for assignment problems).
+//! 5. **Line bound** ([`super::line_bound`]), after [`LINES_AFTER`] nodes:
+//!    the other Lagrangian relaxation, pricing "each group is placed once"
+//!    with one multiplier per group, so that each multiplet takes its best
+//!    subset of the remaining groups at its exact term (a knapsack table by
+//!    H per multiplet and depth). It sees what item 3 cannot: two groups
+//!    wanting one line, a second group on a full line, and the integral
+//!    deficit, at O(M x H) per node (a child changes one multiplet's term).
 //!
 //! The cheap bound of every node (kept from the earlier search, which
 //! remains in `assign_reference.rs` for the tests and the benchmark) adds to
@@ -63,9 +74,9 @@
 //!   missing; with quadratic costs the cheapest way to spread them is
 //!   proportional to sigma^2, giving (D - R)^2 / (2 sum sigma^2).
 //!
-//! A node is cut when either bound reaches the best cost found. A cutoff
+//! A node is cut when any bound reaches the best cost found. A cutoff
 //! (the current k-th best cost of the ranking) makes the search return
-//! nothing as soon as no assignment can beat it. The Lagrangian bound is
+//! nothing as soon as no assignment can beat it. The Lagrangian bounds are
 //! lowered by a relative 1e-9 before it cuts, so rounding in its sums
 //! (reduced costs added, multipliers subtracted) cannot cut an optimum.
 
