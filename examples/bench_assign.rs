@@ -8,23 +8,31 @@
 //!   and M predicted groups, each near one of them (invented lists, seeded);
 //! * adversarial: M equal-shift one-proton `m` lines ("1.30 (m, 1H)")
 //!   against the predicted spectrum of `CCCCCCCCC(C)CCCCCC(C)CCC` (C20H42,
-//!   20 groups, 14 of them alike), the case reported slow.
+//!   20 groups, 14 of them alike), the case reported slow;
+//! * 13C: M lines at distinct shifts (10-210 ppm, an H count on each, a
+//!   carbon count of 2 on some) and M predicted carbon classes, each near its
+//!   own line, through the ranking's 13C scorer (`CarbonPrepared::score`:
+//!   the pair costs and the same search; invented lists, seeded).
 //!
 //! The previous search runs only while its time per candidate stayed below
 //! `OLD_CAP_S` at the smaller sizes (it grows too fast to wait for). Each
-//! figure is the mean over the instances (and repeats) of one size.
+//! figure is the mean over the instances (and repeats) of one size; each
+//! series ends with the ratio of the time at M = 30 to the time at M = 5.
 //!
-//! Run: `cargo run --release --example bench_assign`
+//! Run: `cargo run --release --example bench_assign`. `NEW_ONLY=1` skips
+//! the previous search; `TUNING=S,L` makes the Lagrangian bound join after
+//! S nodes and the line bound after L (`assign::Tuning`; the result is the
+//! same, only the time differs).
 
 mod common;
 
 use common::cpu_model;
 use isomerank::chem::smiles::parse_smiles;
 use isomerank::chem::Formula;
-use isomerank::predict::{Multiplicity, PredictedSignal, Predictor};
-use isomerank::score::assign::{self, Costs};
-use isomerank::score::{self, assign_reference, ScoringModel};
-use isomerank::spectrum::{integrals, journal, SolventTable, Spectrum};
+use isomerank::predict::{Multiplicity, PredictedCarbon, PredictedSignal, Predictor};
+use isomerank::score::assign::{self, Costs, Tuning, Workspace};
+use isomerank::score::{self, assign_reference, CarbonPrepared, ScoringModel};
+use isomerank::spectrum::{carbon, integrals, journal, CarbonSpectrum, SolventTable, Spectrum};
 use std::time::Instant;
 
 /// Stop timing the previous search once one size took this long per
@@ -123,9 +131,26 @@ fn time(instances: &[Costs], solve: impl Fn(&Costs) -> (f64, u64)) -> (f64, u64,
     (per, nodes, costs)
 }
 
+/// When the stronger bounds join: `TUNING=S,L`, else the default.
+fn tuning() -> Tuning {
+    let Ok(text) = std::env::var("TUNING") else {
+        return Tuning::default();
+    };
+    let v: Vec<u64> = text
+        .split(',')
+        .map(|x| x.trim().parse().expect("TUNING=S,L (two node counts)"))
+        .collect();
+    assert_eq!(v.len(), 2, "TUNING=S,L (two node counts)");
+    Tuning {
+        strong_after: v[0],
+        lines_after: v[1],
+    }
+}
+
 fn new(c: &Costs) -> (f64, u64) {
-    let s = assign::solve(c, f64::INFINITY).expect("optimum");
-    (s.cost, s.nodes)
+    let mut ws = Workspace::default();
+    let cost = assign::solve_tuned(&c.view(), f64::INFINITY, &mut ws, tuning()).expect("optimum");
+    (cost, ws.nodes())
 }
 
 fn old(c: &Costs) -> (f64, u64) {
@@ -133,9 +158,10 @@ fn old(c: &Costs) -> (f64, u64) {
     (s.cost, s.nodes)
 }
 
-/// Print one row of a series: the new search and, while under the cap, the
-/// old one (checking that both find the same optimum).
-fn row(m: usize, instances: &[Costs], old_on: &mut bool) {
+/// Print one row of a series (no line end): the new search and, while under
+/// the cap, the old one (checking that both find the same optimum); the new
+/// search's time per candidate.
+fn row(m: usize, instances: &[Costs], old_on: &mut bool) -> f64 {
     let (t_new, n_new, c_new) = time(instances, new);
     let old_text = if *old_on {
         let (t_old, n_old, c_old) = time(instances, old);
@@ -151,12 +177,107 @@ fn row(m: usize, instances: &[Costs], old_on: &mut bool) {
     } else {
         format!("{:>15} {:>18}", "not run", "")
     };
-    println!(
+    print!(
         "{m:>3} {:>4} {:>10.3} ms {:>8} nodes   {old_text}",
         instances[0].groups,
         t_new * 1e3,
         n_new / instances.len() as u64
     );
+    t_new
+}
+
+/// The ratio line that ends a series: time at M = 30 over time at M = 5.
+fn ratio(times: &[(usize, f64)]) {
+    let at = |m| times.iter().find(|x| x.0 == m).map(|x| x.1);
+    if let (Some(a), Some(b)) = (at(5), at(30)) {
+        println!("  ratio M = 30 / M = 5: {:.1}", b / a);
+    }
+}
+
+/// A 13C instance: `m` lines at distinct shifts with DEPT H counts (a
+/// carbon count of 2 on about one line in five, so the list counts carbons)
+/// and as many predicted classes, each within 4 ppm of its own line, with
+/// the same carbons and mostly the same H.
+fn carbon_instance(m: usize, st: &mut u64) -> (CarbonSpectrum, Vec<PredictedCarbon>) {
+    let kinds = ["C", "CH", "CH2", "CH3"];
+    let mut lines = vec![];
+    let mut predicted = vec![];
+    for i in 0..m {
+        let shift = 10.0 + 200.0 * (i as f64 + 0.2 + 0.6 * rng(st)) / m as f64;
+        let hydrogens = (rng(st) * 4.0) as u8 % 4;
+        let carbons = if rng(st) < 0.2 { 2 } else { 1 };
+        let count = if carbons == 2 { ", 2C" } else { "" };
+        lines.push(format!("{shift:.1} ({}{count})", kinds[hydrogens as usize]));
+        let predicted_h = if rng(st) < 0.85 {
+            hydrogens
+        } else {
+            (hydrogens + 1) % 4
+        };
+        predicted.push(PredictedCarbon {
+            shift: shift + (rng(st) - 0.5) * 8.0,
+            sigma: 3.0,
+            carbons,
+            hydrogens: predicted_h,
+            atoms: vec![i],
+        });
+    }
+    let raw = carbon::parse(&lines.join(", ")).expect("13C list");
+    let spectrum =
+        carbon::build(raw, &Formula::parse("C90H182").unwrap(), "CDCl3").expect("13C spectrum");
+    (spectrum, predicted)
+}
+
+/// The search's numbers of a 13C instance, as `CarbonPrepared` fills them
+/// (the cost terms of `score::carbon`).
+fn carbon_costs(
+    spectrum: &CarbonSpectrum,
+    predicted: &[PredictedCarbon],
+    model: &ScoringModel,
+) -> Costs {
+    let lines = &spectrum.lines;
+    Costs {
+        groups: predicted.len(),
+        multiplets: lines.len(),
+        pair: predicted
+            .iter()
+            .flat_map(|p| {
+                lines
+                    .iter()
+                    .map(|l| score::carbon::pair_cost(model, p, l).total())
+            })
+            .collect(),
+        unassigned: predicted
+            .iter()
+            .map(|p| score::carbon::unassigned_cost(model, p))
+            .collect(),
+        hydrogens: predicted.iter().map(|p| p.carbons).collect(),
+        observed_h: lines.iter().map(|l| l.count.map(f64::from)).collect(),
+        empty: lines
+            .iter()
+            .map(|l| score::carbon::empty_cost(model, l))
+            .collect(),
+        overlap: vec![model.carbon.overlap; lines.len()],
+        abs_sigma: model.carbon.count_sigma,
+        rel_sigma: 0.0,
+    }
+}
+
+/// Mean seconds per 13C candidate (the ranking's scorer: pair costs and
+/// search) over the instances, repeated until 0.2 s passed.
+fn time_carbon(instances: &[(CarbonSpectrum, Vec<PredictedCarbon>)], model: &ScoringModel) -> f64 {
+    let prepared: Vec<CarbonPrepared> = instances
+        .iter()
+        .map(|(s, _)| CarbonPrepared::new(s, model))
+        .collect();
+    let start = Instant::now();
+    let mut passes = 0;
+    while passes == 0 || start.elapsed().as_secs_f64() < 0.2 {
+        for (p, (_, predicted)) in prepared.iter().zip(instances) {
+            p.score(predicted, f64::INFINITY).expect("optimum");
+        }
+        passes += 1;
+    }
+    start.elapsed().as_secs_f64() / (passes * instances.len()) as f64
 }
 
 fn main() {
@@ -173,10 +294,13 @@ fn main() {
     println!("  M    G        new            nodes            old              nodes");
     let mut old_on = std::env::var_os("NEW_ONLY").is_none();
     let mut st = 0x2545_f491_4f6c_dd1du64;
+    let mut times = vec![];
     for &m in &sizes {
         let instances: Vec<Costs> = (0..20).map(|_| realistic(m, &mut st, &model)).collect();
-        row(m, &instances, &mut old_on);
+        times.push((m, row(m, &instances, &mut old_on)));
+        println!();
     }
+    ratio(&times);
 
     println!("\nadversarial: M x \"1.30 (m, 1H)\" against CCCCCCCCC(C)CCCCCC(C)CCC (predicted, CDCl3, 400 MHz)");
     println!("  M    G        new            nodes            old              nodes");
@@ -185,9 +309,35 @@ fn main() {
     let mol = parse_smiles("CCCCCCCCC(C)CCCCCC(C)CCC").expect("SMILES");
     let predicted = predictor.predict(&mol, &opts);
     let mut old_on = std::env::var_os("NEW_ONLY").is_none();
+    let mut times = vec![];
     for &m in &sizes {
-        row(m, &[adversarial(m, &predicted, &model)], &mut old_on);
+        times.push((
+            m,
+            row(m, &[adversarial(m, &predicted, &model)], &mut old_on),
+        ));
+        println!();
     }
+    ratio(&times);
+
+    println!("\n13C: M distinct-shift lines, M predicted classes (20 instances per size); the search alone, then the ranking's scorer (pair costs and search)");
+    println!("  M    G        new            nodes            old              nodes      scorer");
+    let mut st = 0x9e37_79b9_7f4a_7c15u64;
+    let (mut times, mut scorer) = (vec![], vec![]);
+    let mut old_on = std::env::var_os("NEW_ONLY").is_none();
+    for &m in &sizes {
+        let instances: Vec<_> = (0..20).map(|_| carbon_instance(m, &mut st)).collect();
+        let costs: Vec<Costs> = instances
+            .iter()
+            .map(|(s, p)| carbon_costs(s, p, &model))
+            .collect();
+        times.push((m, row(m, &costs, &mut old_on)));
+        let t = time_carbon(&instances, &model);
+        println!(" {:>8.3} ms", t * 1e3);
+        scorer.push((m, t));
+    }
+    ratio(&times);
+    print!("  scorer:");
+    ratio(&scorer);
 }
 
 fn num_cpus() -> usize {

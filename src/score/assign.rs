@@ -1,6 +1,6 @@
 //! Exact best assignment of predicted groups to observed multiplets, by
-//! depth-first branch and bound with symmetry reduction and a Lagrangian
-//! bound.
+//! depth-first branch and bound with symmetry reduction, local search on the
+//! incumbents and two Lagrangian bounds.
 //!
 //! The problem: each of G predicted groups goes to one of M observed
 //! multiplets or to none; several groups may share one multiplet (overlap).
@@ -14,7 +14,7 @@
 //!
 //! Branch and bound (Land & Doig, Econometrica 1960, 28, 497) over groups in
 //! a fixed order (larger groups first), each group's options tried cheapest
-//! first, with three additions that keep the search small when spectra are
+//! first, with five additions that keep the search small when spectra are
 //! long or repetitive:
 //!
 //! 1. **Identical groups** (same cost row, unassigned cost and H) are
@@ -45,6 +45,17 @@
 //!    Math. Programming 1974, 6, 62) on the root relaxation, and only when
 //!    the search has not finished after [`STRONG_AFTER`] nodes (ordinary
 //!    spectra never pay for it).
+//! 4. **Local search** on the incumbents: one group moved to another
+//!    multiplet (or none), or two groups exchanging places, while the total
+//!    drops (a plain descent over these two neighbourhoods, as in the
+//!    interchange heuristics for assignment problems).
+//! 5. **Line bound** ([`super::line_bound`]), after [`LINES_AFTER`] nodes:
+//!    the other Lagrangian relaxation, pricing "each group is placed once"
+//!    with one multiplier per group, so that each multiplet takes its best
+//!    subset of the remaining groups at its exact term (a knapsack table by
+//!    H per multiplet and depth). It sees what item 3 cannot: two groups
+//!    wanting one line, a second group on a full line, and the integral
+//!    deficit, at O(M x H) per node (a child changes one multiplet's term).
 //!
 //! The cheap bound of every node (kept from the earlier search, which
 //! remains in `assign_reference.rs` for the tests and the benchmark) adds to
@@ -63,11 +74,13 @@
 //!   missing; with quadratic costs the cheapest way to spread them is
 //!   proportional to sigma^2, giving (D - R)^2 / (2 sum sigma^2).
 //!
-//! A node is cut when either bound reaches the best cost found. A cutoff
+//! A node is cut when any bound reaches the best cost found. A cutoff
 //! (the current k-th best cost of the ranking) makes the search return
-//! nothing as soon as no assignment can beat it. The Lagrangian bound is
+//! nothing as soon as no assignment can beat it. The Lagrangian bounds are
 //! lowered by a relative 1e-9 before it cuts, so rounding in its sums
 //! (reduced costs added, multipliers subtracted) cannot cut an optimum.
+
+use super::line_bound::{LineBound, Order};
 
 /// Marker for "no observed multiplet".
 pub const NONE: u16 = u16::MAX;
@@ -193,6 +206,27 @@ pub struct Solution {
 /// never pays for it; ordinary spectra finish well below it.
 pub const STRONG_AFTER: u64 = 128;
 
+/// Search nodes after which the line bound ([`super::line_bound`]) is
+/// prepared and used for the rest of the search.
+pub const LINES_AFTER: u64 = 1024;
+
+/// When the two stronger bounds join the search (node counts; the tests and
+/// the benchmark vary them).
+#[derive(Clone, Copy, Debug)]
+pub struct Tuning {
+    pub strong_after: u64,
+    pub lines_after: u64,
+}
+
+impl Default for Tuning {
+    fn default() -> Tuning {
+        Tuning {
+            strong_after: STRONG_AFTER,
+            lines_after: LINES_AFTER,
+        }
+    }
+}
+
 /// Subgradient steps on the root relaxation, the first step (in cost per H)
 /// and its decay per step.
 const SUBGRADIENT_STEPS: usize = 40;
@@ -234,6 +268,14 @@ pub struct Workspace {
     position: Vec<usize>,
     best_choice: Vec<u16>,
     strong: Strong,
+    lines: LineBound,
+    /// Scratch of the local search on offered incumbents.
+    trial: Vec<u16>,
+    trial_h: Vec<u32>,
+    trial_k: Vec<u32>,
+    /// Per depth d, per multiplet: its line-bound term at depth d + 1 before
+    /// the group at depth d is placed.
+    line_terms: Vec<f64>,
     nodes: u64,
 }
 
@@ -332,7 +374,14 @@ pub fn solve(c: &Costs, cutoff: f64) -> Option<Solution> {
 /// [`solve`] in reused buffers: the cost, with the assignment left in
 /// [`Workspace::choice`].
 pub fn solve_in(c: &CostsRef, cutoff: f64, ws: &mut Workspace) -> Option<f64> {
-    match run(c, cutoff, ws, false, u64::MAX, STRONG_AFTER) {
+    solve_tuned(c, cutoff, ws, Tuning::default())
+}
+
+/// [`solve_in`] with the stronger bounds joining at other node counts (for
+/// the benchmark and the tests; the result is the same, only the time
+/// differs).
+pub fn solve_tuned(c: &CostsRef, cutoff: f64, ws: &mut Workspace, tuning: Tuning) -> Option<f64> {
+    match run(c, cutoff, ws, false, u64::MAX, tuning) {
         Outcome::Below(cost) => Some(cost),
         _ => None,
     }
@@ -344,7 +393,7 @@ pub fn solve_in(c: &CostsRef, cutoff: f64, ws: &mut Workspace) -> Option<f64> {
 /// whole search found nothing below the cutoff.
 pub fn may_reach_below(c: &CostsRef, cutoff: f64, ws: &mut Workspace, max_nodes: u64) -> bool {
     !matches!(
-        run(c, cutoff, ws, true, max_nodes, STRONG_AFTER),
+        run(c, cutoff, ws, true, max_nodes, Tuning::default()),
         Outcome::Nothing
     )
 }
@@ -384,15 +433,15 @@ fn group_order(c: &CostsRef, a: usize, b: usize) -> std::cmp::Ordering {
         })
 }
 
-/// The search; the Lagrangian bound joins after `strong_after` nodes (the
-/// tests set 1 to check it on every instance).
+/// The search; the Lagrangian bounds join after `tuning`'s node counts (the
+/// tests set 1 to check them on every instance).
 fn run(
     c: &CostsRef,
     cutoff: f64,
     ws: &mut Workspace,
     first_only: bool,
     max_nodes: u64,
-    strong_after: u64,
+    tuning: Tuning,
 ) -> Outcome {
     let (g, m) = (c.groups, c.multiplets);
     ws.nodes = 0;
@@ -423,6 +472,11 @@ fn run(
         position,
         best_choice,
         strong,
+        lines,
+        trial,
+        trial_h,
+        trial_k,
+        line_terms,
         nodes,
     } = ws;
     order.clear();
@@ -504,6 +558,18 @@ fn run(
     if first_only && greedy_cost < cutoff {
         return Outcome::Below(greedy_cost);
     }
+    // Local search from the better of the two.
+    refill(h, m, 0);
+    refill(k, m, 0);
+    trial.clone_from(greedy);
+    let improved = improve(c, trial, h, k);
+    if improved < greedy_cost {
+        greedy.copy_from_slice(trial);
+        greedy_cost = improved;
+        if first_only && greedy_cost < cutoff {
+            return Outcome::Below(greedy_cost);
+        }
+    }
     refill(h, m, 0);
     refill(k, m, 0);
     refill(suffix_min, g + 1, 0.0);
@@ -537,6 +603,9 @@ fn run(
     refill(position, g, 0);
     strong.ready = false;
     strong.root = None;
+    lines.ready = false;
+    lines.root = None;
+    refill(line_terms, g * m, 0.0);
     let mut s = Search {
         c,
         order,
@@ -559,11 +628,18 @@ fn run(
         best,
         best_choice,
         strong,
+        lines,
+        lines_ok: LineBound::applies(c),
+        trial,
+        trial_h,
+        trial_k,
+        line_terms,
         found,
         nodes: 0,
         first_only,
         max_nodes,
-        strong_after,
+        strong_after: tuning.strong_after,
+        lines_after: tuning.lines_after,
         stop: false,
     };
     s.dfs(0, 0.0);
@@ -602,6 +678,13 @@ struct Search<'a> {
     best: f64,
     best_choice: &'a mut [u16],
     strong: &'a mut Strong,
+    lines: &'a mut LineBound,
+    /// Whether the line bound applies (every group holds H).
+    lines_ok: bool,
+    trial: &'a mut Vec<u16>,
+    trial_h: &'a mut Vec<u32>,
+    trial_k: &'a mut Vec<u32>,
+    line_terms: &'a mut Vec<f64>,
     found: bool,
     nodes: u64,
     /// Existence mode: stop at the first assignment below the cutoff.
@@ -610,6 +693,8 @@ struct Search<'a> {
     max_nodes: u64,
     /// Node at which the Lagrangian bound is prepared.
     strong_after: u64,
+    /// Node at which the line bound is prepared.
+    lines_after: u64,
     stop: bool,
 }
 
@@ -707,6 +792,45 @@ impl Search<'_> {
         }
         bound -= largest(self.gains, left);
         bound - BOUND_SLACK * (1.0 + bound.abs())
+    }
+
+    /// Prepare the line bound; every feasible assignment its multiplier
+    /// search meets is improved by local search and kept when it beats the
+    /// best so far (in existence mode, one below the cutoff ends the search).
+    fn prepare_lines(&mut self) {
+        let c = self.c;
+        let g = c.groups;
+        let cheapest: Vec<f64> = (0..g).map(|d| self.options[d * self.stride].0).collect();
+        let order = Order {
+            order: self.order,
+            suffix_h: self.suffix_h,
+            cheapest: &cheapest,
+        };
+        let m = c.multiplets;
+        let best = self.best;
+        // The relaxed solution often repeats between steps: improve each
+        // distinct one once.
+        let mut last: Vec<u16> = vec![];
+        let mut offer = |choice: &[u16]| -> f64 {
+            if last == choice {
+                return self.best;
+            }
+            last.clear();
+            last.extend_from_slice(choice);
+            self.trial.clear();
+            self.trial.extend_from_slice(choice);
+            refill(self.trial_h, m, 0);
+            refill(self.trial_k, m, 0);
+            let cost = improve(c, self.trial, self.trial_h, self.trial_k);
+            if cost < self.best {
+                self.best = cost;
+                self.found = true;
+                self.best_choice.copy_from_slice(self.trial);
+                self.stop |= self.first_only;
+            }
+            self.best
+        };
+        self.lines.prepare(c, &order, best, &mut offer);
     }
 
     /// Choose the multipliers by subgradient ascent on the root relaxation
@@ -855,6 +979,15 @@ impl Search<'_> {
                 self.strong.root = Some(self.strong_bound(0));
             }
         }
+        if self.nodes == self.lines_after && self.lines_ok {
+            self.prepare_lines();
+            if d == 0 {
+                self.lines.root = Some(self.lines.bound(self.c, 0, &[], &[], self.suffix_h[0]));
+            }
+            if self.stop {
+                return;
+            }
+        }
         let c = self.c;
         let m = c.multiplets;
         if d == self.order.len() {
@@ -890,6 +1023,9 @@ impl Search<'_> {
         let from = if first { 0 } else { self.position[d - 1] };
         let g = self.order[d];
         let hg = c.hydrogens[g];
+        // Sum of the line-bound terms at depth d + 1 before this group is
+        // placed, filled when first needed: a child changes one term only.
+        let mut line_sum: Option<f64> = None;
         for oi in from..self.stride {
             let (cost, j) = self.options[d * self.stride + oi];
             let base = partial + cost + self.suffix_min[d + 1];
@@ -917,6 +1053,28 @@ impl Search<'_> {
             if go && self.strong.ready {
                 go = partial + cost + self.strong_bound(d + 1) < self.best;
             }
+            if go && self.lines.ready {
+                let reach = self.suffix_h[d + 1];
+                let terms = &mut self.line_terms[d * m..(d + 1) * m];
+                let sum = *line_sum.get_or_insert_with(|| {
+                    for (jj, t) in terms.iter_mut().enumerate() {
+                        let (mut h0, mut k0) = (self.h[jj], self.k[jj]);
+                        if jj as u16 == j {
+                            // Undo this option's own change.
+                            h0 -= hg;
+                            k0 -= 1;
+                        }
+                        *t = self.lines.term(c, jj, d + 1, h0, k0, reach);
+                    }
+                    terms.iter().sum()
+                });
+                let mut b = self.lines.base(d + 1) + sum;
+                if j != NONE {
+                    let ju = j as usize;
+                    b += self.lines.term(c, ju, d + 1, self.h[ju], self.k[ju], reach) - terms[ju];
+                }
+                go = partial + cost + b - BOUND_SLACK * (1.0 + b.abs()) < self.best;
+            }
             if go {
                 self.current[d] = j;
                 self.position[d] = oi;
@@ -934,6 +1092,105 @@ impl Search<'_> {
         }
     }
 }
+
+/// Local search: move one group to another multiplet (or none), or exchange
+/// the places of two groups, while that lowers the total; `choice` is
+/// changed in place and its cost returned. `h` and `k` are zeroed scratch of
+/// length `multiplets` (left holding the final sums).
+fn improve(c: &CostsRef, choice: &mut [u16], h: &mut [u32], k: &mut [u32]) -> f64 {
+    let (g, m) = (c.groups, c.multiplets);
+    for (gi, &j) in choice.iter().enumerate() {
+        if j != NONE {
+            h[j as usize] += c.hydrogens[gi];
+            k[j as usize] += 1;
+        }
+    }
+    let own = |gi: usize, j: u16| {
+        if j == NONE {
+            c.unassigned[gi]
+        } else {
+            c.pair[gi * m + j as usize]
+        }
+    };
+    // Change of multiplet j's term when its H grow by `dh` and its groups
+    // by `dk` (none for NONE).
+    let change = |h: &[u32], k: &[u32], j: u16, dh: i64, dk: i64| {
+        if j == NONE {
+            return 0.0;
+        }
+        let j = j as usize;
+        let (h0, k0) = (h[j] as i64, k[j] as i64);
+        c.multiplet(j, (h0 + dh) as u32, (k0 + dk) as u32) - c.multiplet(j, h[j], k[j])
+    };
+    let mut passes = 0;
+    loop {
+        passes += 1;
+        let mut better = false;
+        for (gi, place) in choice.iter_mut().enumerate() {
+            let from = *place;
+            let hg = c.hydrogens[gi] as i64;
+            // What leaving `from` saves (own cost, and the term's change).
+            let leave = own(gi, from) - change(h, k, from, -hg, -1);
+            let mut best = (0.0, from);
+            for to in (0..m as u16).chain([NONE]) {
+                if to == from {
+                    continue;
+                }
+                let delta = own(gi, to) + change(h, k, to, hg, 1) - leave;
+                if delta < best.0 - IMPROVE_EPS {
+                    best = (delta, to);
+                }
+            }
+            if best.1 != from {
+                let to = best.1;
+                if from != NONE {
+                    h[from as usize] -= c.hydrogens[gi];
+                    k[from as usize] -= 1;
+                }
+                if to != NONE {
+                    h[to as usize] += c.hydrogens[gi];
+                    k[to as usize] += 1;
+                }
+                *place = to;
+                better = true;
+            }
+        }
+        for a in 0..g {
+            for b in a + 1..g {
+                let (ja, jb) = (choice[a], choice[b]);
+                let (ha, hb) = (c.hydrogens[a] as i64, c.hydrogens[b] as i64);
+                if ja == jb || ha == hb && own(a, jb) + own(b, ja) >= own(a, ja) + own(b, jb) {
+                    continue;
+                }
+                let delta = own(a, jb) + own(b, ja) - own(a, ja) - own(b, jb)
+                    + change(h, k, ja, hb - ha, 0)
+                    + change(h, k, jb, ha - hb, 0);
+                if delta < -IMPROVE_EPS {
+                    for (j, dh) in [(ja, hb - ha), (jb, ha - hb)] {
+                        if j != NONE {
+                            h[j as usize] = (h[j as usize] as i64 + dh) as u32;
+                        }
+                    }
+                    choice.swap(a, b);
+                    // `swap` exchanged the groups' places: a now sits on jb.
+                    better = true;
+                }
+            }
+        }
+        if !better || passes >= IMPROVE_PASSES {
+            break;
+        }
+    }
+    for x in h.iter_mut().chain(k.iter_mut()) {
+        *x = 0;
+    }
+    c.evaluate_in(choice, h, k)
+}
+
+/// A move of the local search must gain at least this much (no cycling on
+/// rounding), and the local search stops after this many passes.
+const IMPROVE_EPS: f64 = 1e-12;
+const IMPROVE_PASSES: usize = 50;
 
 /// The first multiplet of j's class of identical multiplets.
 fn class_root(twin: &[u16], mut j: usize) -> usize {
@@ -966,12 +1223,16 @@ mod tests {
         best
     }
 
-    /// The search with the Lagrangian bound from node `strong_after` on,
-    /// and the bound's value at the root when it was prepared there.
-    fn solve_with(c: &Costs, cutoff: f64, strong_after: u64) -> (Option<Solution>, Option<f64>) {
+    /// The search with the stronger bounds from `tuning`'s nodes on, and
+    /// the lower of their root values when one was prepared at the root.
+    fn solve_with(c: &Costs, cutoff: f64, tuning: Tuning) -> (Option<Solution>, Option<f64>) {
         let mut ws = Workspace::default();
-        let out = run(&c.view(), cutoff, &mut ws, false, u64::MAX, strong_after);
-        let root = ws.strong.root;
+        let out = run(&c.view(), cutoff, &mut ws, false, u64::MAX, tuning);
+        // Each root value must be a lower bound: report the higher one.
+        let root = match (ws.strong.root, ws.lines.root) {
+            (Some(a), Some(b)) => Some(a.max(b)),
+            (a, b) => a.or(b),
+        };
         match out {
             Outcome::Below(cost) => (
                 Some(Solution {
@@ -1037,6 +1298,27 @@ mod tests {
         }
     }
 
+    /// Both stronger bounds from the root, each alone from the root, and
+    /// the default.
+    const TUNINGS: [Tuning; 4] = [
+        Tuning {
+            strong_after: 1,
+            lines_after: 1,
+        },
+        Tuning {
+            strong_after: 1,
+            lines_after: u64::MAX,
+        },
+        Tuning {
+            strong_after: u64::MAX,
+            lines_after: 1,
+        },
+        Tuning {
+            strong_after: STRONG_AFTER,
+            lines_after: LINES_AFTER,
+        },
+    ];
+
     // Reference: exhaustive enumeration of every assignment (no outside
     // source: the definition of the optimum).
     #[test]
@@ -1046,8 +1328,8 @@ mod tests {
         for _ in 0..600 {
             let c = random(&mut st, 6, 4);
             let exact = brute(&c);
-            for strong_after in [1, STRONG_AFTER] {
-                let (s, root) = solve_with(&c, f64::INFINITY, strong_after);
+            for tuning in TUNINGS {
+                let (s, root) = solve_with(&c, f64::INFINITY, tuning);
                 let s = s.unwrap();
                 assert!((s.cost - exact).abs() < 1e-9, "{} vs {exact}", s.cost);
                 assert!((c.evaluate(&s.choice) - s.cost).abs() < 1e-9);
@@ -1060,15 +1342,17 @@ mod tests {
                     compared += 1;
                 }
                 // With a cutoff below the optimum nothing is returned.
-                assert!(solve_with(&c, exact - 1e-6, strong_after).0.is_none());
+                assert!(solve_with(&c, exact - 1e-6, tuning).0.is_none());
                 assert!(
-                    (solve_with(&c, exact + 1e-6, strong_after).0.unwrap().cost - exact).abs()
-                        < 1e-9
+                    (solve_with(&c, exact + 1e-6, tuning).0.unwrap().cost - exact).abs() < 1e-9
                 );
             }
             assert_eq!(
                 solve(&c, f64::INFINITY).unwrap().cost,
-                solve_with(&c, f64::INFINITY, STRONG_AFTER).0.unwrap().cost
+                solve_with(&c, f64::INFINITY, Tuning::default())
+                    .0
+                    .unwrap()
+                    .cost
             );
             // The existence search agrees, and gives up only with "maybe".
             let mut ws = Workspace::default();
@@ -1076,7 +1360,7 @@ mod tests {
             assert!(!may_reach_below(&c.view(), exact - 1e-6, &mut ws, u64::MAX));
             assert!(may_reach_below(&c.view(), exact + 1e-6, &mut ws, 1));
         }
-        assert_eq!(compared, 600);
+        assert_eq!(compared, 600 * 3);
         assert!(
             tighter > 150,
             "Lagrangian bound tighter on {tighter} of {compared}"
@@ -1092,8 +1376,8 @@ mod tests {
         for _ in 0..300 {
             let c = random(&mut st, 10, 7);
             let old = assign_reference::solve(&c, f64::INFINITY).unwrap();
-            for strong_after in [1, STRONG_AFTER] {
-                let (s, root) = solve_with(&c, f64::INFINITY, strong_after);
+            for tuning in TUNINGS {
+                let (s, root) = solve_with(&c, f64::INFINITY, tuning);
                 let s = s.unwrap();
                 assert!(
                     (s.cost - old.cost).abs() < 1e-9,
@@ -1112,7 +1396,34 @@ mod tests {
             assert!(solve(&c, old.cost - 1e-6).is_none());
             assert!((solve(&c, old.cost + 1e-6).unwrap().cost - old.cost).abs() < 1e-9);
         }
-        assert!(fewer > 500, "{fewer}");
+        assert!(fewer > 500 * TUNINGS.len() / 2, "{fewer}");
+    }
+
+    // Reference: exhaustive enumeration. The check of the checks: the line
+    // bound raised by 0.3 (no longer a lower bound) must be caught by the
+    // comparisons above, on the same kind of instances.
+    #[test]
+    fn a_raised_line_bound_is_caught() {
+        let mut st = 0x9e3779b97f4a7c15u64;
+        let mut caught = 0;
+        for _ in 0..300 {
+            let c = random(&mut st, 6, 4);
+            let exact = brute(&c);
+            let mut ws = Workspace::default();
+            ws.lines.raise = 0.3;
+            let tuning = Tuning {
+                strong_after: u64::MAX,
+                lines_after: 1,
+            };
+            let out = run(&c.view(), f64::INFINITY, &mut ws, false, u64::MAX, tuning);
+            let wrong_cost = match out {
+                Outcome::Below(cost) => (cost - exact).abs() > 1e-9,
+                _ => true,
+            };
+            let wrong_root = ws.lines.root.is_some_and(|r| r > exact + 1e-9);
+            caught += (wrong_cost || wrong_root) as usize;
+        }
+        assert!(caught > 10, "a raised bound caught on {caught} of 300");
     }
 
     #[test]

@@ -12,6 +12,7 @@
 pub mod assign;
 pub mod assign_reference;
 pub mod carbon;
+mod line_bound;
 pub mod model;
 mod pattern_rows;
 pub mod prepared;
