@@ -138,6 +138,60 @@ expanded_against_reference! {
     expanded_valence_c3h9op => "C3H9OP";
 }
 
+// Charge-separated neutral groups (nitro, nitrate, azine and amine
+// N-oxides, nitrones, azoxy), built with --charge-separated: the reference
+// gives N valence 3 or 5 and keeps a 5-valent N only as such a group, built
+// charged in RDKit (nauty_isomers.py --charge-separated). Reference counts
+// (nauty 2.8.6, RDKit 2026.9.1), standard valences only / with the groups:
+// CH3NO2 15/17, C2H5NO2 84/91, C2H5NO 22/23, C3H9NO 21/22, C2H4N2O 194,
+// C2H6N2O2 588, C5H5NO 7685/8031.
+macro_rules! charge_separated_against_reference {
+    ($($name:ident => $formula:literal;)*) => {
+        $(
+            #[test]
+            fn $name() {
+                compare($formula, &["--charge-separated"], &["--charge-separated"]);
+            }
+        )*
+    };
+}
+
+charge_separated_against_reference! {
+    charge_separated_ch3no2 => "CH3NO2";
+    charge_separated_c2h5no2 => "C2H5NO2";
+    charge_separated_c2h5no => "C2H5NO";
+    charge_separated_c3h9no => "C3H9NO";
+    charge_separated_c2h4n2o => "C2H4N2O";
+    charge_separated_c2h6n2o2 => "C2H6N2O2";
+    charge_separated_c5h5no => "C5H5NO";
+}
+
+/// The charge-separated reference holds the textbook compounds of each
+/// group and adds nothing to formulas without N and O.
+#[test]
+fn charge_separated_reference_holds_the_named_groups() {
+    let canon = |s: &str| rdkit_canonical(s)[0].clone();
+    // Source: common practice (nitromethane, methyl nitrite, methyl nitrate,
+    // pyridine N-oxide, trimethylamine N-oxide, azoxymethane, the nitrone
+    // CH2=N(CH3)O, N-nitrodimethylamine are all CAS-registered compounds).
+    for (formula, smiles) in [
+        ("CH3NO2", "C[N+](=O)[O-]"),
+        ("CH3NO3", "CO[N+](=O)[O-]"),
+        ("C5H5NO", "[O-][n+]1ccccc1"),
+        ("C3H9NO", "C[N+](C)(C)[O-]"),
+        ("C2H6N2O", "CN=[N+](C)[O-]"),
+        ("C2H5NO", "C=[N+](C)[O-]"),
+        ("C2H6N2O2", "CN(C)[N+](=O)[O-]"),
+    ] {
+        let set = reference_smiles(formula, &["--charge-separated"]);
+        assert!(set.contains(&canon(smiles)), "{formula}: {smiles} missing");
+    }
+    assert_eq!(
+        reference_smiles("C6H6", &["--charge-separated"]),
+        reference_smiles("C6H6", &[])
+    );
+}
+
 /// The reference itself against published and textbook numbers, so that a
 /// broken reference cannot pass the comparisons above.
 #[test]
