@@ -58,6 +58,12 @@ pub struct Args {
     /// sulfones, phosphine oxides).
     #[arg(long)]
     pub expanded_valence: bool,
+    /// Also build charge-separated neutral groups: nitro and nitrate
+    /// R-[N+](=O)[O-], azine N-oxides [n+][O-], amine oxides, nitrones and
+    /// azoxy compounds (off by default; a note says when the formula could
+    /// hold one).
+    #[arg(long)]
+    pub charge_separated: bool,
     /// Number of candidates in the table.
     #[arg(long, default_value_t = 10, value_name = "N")]
     pub top: usize,
@@ -152,6 +158,8 @@ pub struct Job {
     pub format: Format,
     pub keep_all: bool,
     pub expanded_valence: bool,
+    /// Build charge-separated N-oxide groups too (`--charge-separated`).
+    pub charge_separated: bool,
     /// Constraints on the enumerated candidates (`--require`, `--forbid`,
     /// `--attached-h`).
     pub constraints: enumerate::constraints::Constraints,
@@ -169,6 +177,15 @@ pub fn run(args: Args) -> Result<()> {
             spectrum.notes.push(note);
         }
     }
+    if args.candidates.is_none() {
+        let probe = enumerate::Options {
+            charge_separated: args.charge_separated,
+            ..Default::default()
+        };
+        if let Some(note) = enumerate::charge_separated_note(&formula, &probe) {
+            spectrum.notes.push(note);
+        }
+    }
     let job = Job {
         formula,
         spectrum,
@@ -178,6 +195,7 @@ pub fn run(args: Args) -> Result<()> {
         format: args.format,
         keep_all: args.keep_all,
         expanded_valence: args.expanded_valence,
+        charge_separated: args.charge_separated,
         constraints,
         run: args.run.clone(),
     };
@@ -287,6 +305,7 @@ pub fn rank_job(job: &Job, shortlist: Option<ShortlistText>) -> Result<Done> {
                 None => {
                     let mut options = enumerate::Options {
                         expanded_valence: job.expanded_valence,
+                        charge_separated: job.charge_separated,
                         constraints: job.constraints.clone(),
                         limits: job.run.limits()?,
                         ..Default::default()

@@ -252,15 +252,15 @@ impl Checker {
 
     /// An atom with two or more double bonds, one of them on a small ring.
     fn small_ring_cumulated(&mut self, iso: &Isomer) -> bool {
-        let double = &iso.node.g.adj[1];
-        (0..iso.atoms())
-            .any(|x| double[x].count_ones() >= 2 && self.rings_of(iso, x).1 & double[x] != 0)
+        (0..iso.atoms()).any(|x| {
+            let double = pi_doubles(iso, x);
+            double.count_ones() >= 2 && self.rings_of(iso, x).1 & double != 0
+        })
     }
 
     /// A double bond at a bridgehead of a small bridged bicyclic.
     fn bredt(&mut self, iso: &Isomer) -> bool {
-        let double = &iso.node.g.adj[1];
-        (0..iso.atoms()).any(|x| double[x] != 0 && self.is_small_bridgehead(iso, x))
+        (0..iso.atoms()).any(|x| pi_doubles(iso, x) != 0 && self.is_small_bridgehead(iso, x))
     }
 
     fn is_small_bridgehead(&mut self, iso: &Isomer, x: usize) -> bool {
@@ -339,6 +339,26 @@ impl Checker {
             }
         }
         false
+    }
+}
+
+/// The double-bond partners of atom `x`, leaving out the N=O of a
+/// charge-separated N-oxide group (pentavalent N, see
+/// [`super::generator::Kind::oxide_n`]): it stands for the single bond of
+/// [N+]-[O-], so pyridine N-oxide has no cumulated atom and quinuclidine
+/// N-oxide no bridgehead double bond.
+fn pi_doubles(iso: &Isomer, x: usize) -> u64 {
+    let double = iso.node.g.adj[1][x];
+    let oxide = |a: usize| iso.problem.kinds[iso.node.kind[a] as usize].oxide;
+    if oxide(x) {
+        double
+            & !bits(double)
+                .filter(|&o| iso.element(o) == Element::O)
+                .fold(0, |m, o| m | 1u64 << o)
+    } else if iso.element(x) == Element::O && bits(double).any(oxide) {
+        0
+    } else {
+        double
     }
 }
 
