@@ -101,7 +101,8 @@ pub fn emptied(formula: &Formula, cuts: &[Cut]) -> Error {
   isomerank isomers C7H7NO2 --charge-separated --count   nitro compounds too
 
 Plausibility rules (the number each flags goes to stderr):
-  small-ring-triple, small-ring-cumulated, bredt, enol, peroxide, hydrate, iminol, hypohalite")]
+  small-ring-triple, small-ring-cumulated, bredt, enol, peroxide, hydrate, iminol, hypohalite,
+  small-ring-cage, fused-small-rings")]
 pub struct Args {
     /// Molecular formula, e.g. C8H10O or BrC3H7 (any element order).
     pub formula: String,

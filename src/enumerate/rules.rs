@@ -26,10 +26,13 @@ pub enum Rule {
     Hydrate,
     Iminol,
     Hypohalite,
+    // Strained small-ring skeletons (see `small_rings`).
+    SmallRingCage,
+    FusedSmallRings,
 }
 
 impl Rule {
-    pub const ALL: [Rule; 8] = [
+    pub const ALL: [Rule; 10] = [
         Rule::SmallRingTriple,
         Rule::SmallRingCumulated,
         Rule::Bredt,
@@ -38,6 +41,8 @@ impl Rule {
         Rule::Hydrate,
         Rule::Iminol,
         Rule::Hypohalite,
+        Rule::SmallRingCage,
+        Rule::FusedSmallRings,
     ];
 
     pub fn name(self) -> &'static str {
@@ -50,6 +55,8 @@ impl Rule {
             Rule::Hydrate => "hydrate",
             Rule::Iminol => "iminol",
             Rule::Hypohalite => "hypohalite",
+            Rule::SmallRingCage => "small-ring-cage",
+            Rule::FusedSmallRings => "fused-small-rings",
         }
     }
 
@@ -91,6 +98,19 @@ impl Rule {
             Rule::Hypohalite => {
                 "no O-halogen bond: hypohalites and their esters are unstable oxidants, not \
                  isolable unknowns (common practice)"
+            }
+            Rule::SmallRingCage => {
+                "no atom in three or more rings of 3 or 4 atoms (tetrahedrane, prismane, cubane, \
+                 [1.1.1]propellane, bicyclo[1.1.1]pentane cages): strain energies of about \
+                 68-170 kcal/mol (Wiberg, Angew. Chem. Int. Ed. Engl. 1986, 25, 312, values from \
+                 memory); made on purpose, never met as unknowns by chance (common practice)"
+            }
+            Rule::FusedSmallRings => {
+                "no two rings of 3 or 4 atoms sharing a bond (bicyclo[1.1.0]butane, \
+                 bicyclo[2.1.0]pentane, bicyclo[2.2.0]hexane, Dewar benzene, and every cage): \
+                 strain energies of about 51-66 kcal/mol for the bicycles alone (Wiberg, Angew. \
+                 Chem. Int. Ed. Engl. 1986, 25, 312, values from memory); rare, reactive \
+                 targets of synthesis, not likely unknowns (common practice)"
             }
         }
     }
@@ -172,6 +192,13 @@ pub struct Checker {
     /// Atoms whose bridgehead verdict is known, and those found bridgeheads.
     bridgehead_known: u64,
     bridgehead: u64,
+    /// Whether the small-ring verdicts are known for this skeleton, and
+    /// them: (an atom in three or more small rings, two small rings share
+    /// a bond).
+    small_known: bool,
+    small: (bool, bool),
+    /// Work space: the skeleton's small rings as atom sets.
+    small_rings: Vec<u64>,
     /// Aromaticity perception for the enol rule (phenols are not enols).
     flat: FlatMolecule,
     rings: RingInfo,
@@ -189,6 +216,9 @@ impl Default for Checker {
             small_nb: [0; MAX_ATOMS],
             bridgehead_known: 0,
             bridgehead: 0,
+            small_known: false,
+            small: (false, false),
+            small_rings: Vec::new(),
             flat: FlatMolecule::default(),
             rings: RingInfo::default(),
             perceiver: Perceiver::default(),
@@ -210,6 +240,8 @@ impl Checker {
             Rule::Hydrate => self.hydrate(iso),
             Rule::Iminol => self.iminol(iso),
             Rule::Hypohalite => hypohalite(iso),
+            Rule::SmallRingCage => self.small_ring_verdicts(iso).0,
+            Rule::FusedSmallRings => self.small_ring_verdicts(iso).1,
         }
     }
 
@@ -224,6 +256,50 @@ impl Checker {
         self.ring_known = 0;
         self.bridgehead_known = 0;
         self.bridgehead = 0;
+        self.small_known = false;
+    }
+
+    /// The skeleton's small rings (chordless cycles of 3 or 4 atoms) and
+    /// the two verdicts on them: some atom lies in three or more
+    /// ([`Rule::SmallRingCage`]); two of them share a bond
+    /// ([`Rule::FusedSmallRings`]). In a chordless ring two bonded atoms
+    /// are ring neighbours, so two rings share a bond exactly when their
+    /// common atoms include a bonded pair. Once per skeleton.
+    fn small_ring_verdicts(&mut self, iso: &Isomer) -> (bool, bool) {
+        if self.small_known {
+            return self.small;
+        }
+        let nb = &iso.node.nb;
+        let n = iso.atoms();
+        let rings = &mut self.small_rings;
+        rings.clear();
+        for x in 0..n {
+            let higher = !((2u64 << x) - 1);
+            for y in bits(nb[x] & higher) {
+                // Triangles x < y < z.
+                for z in bits(nb[x] & nb[y] & !((2u64 << y) - 1)) {
+                    rings.push(1u64 << x | 1u64 << y | 1u64 << z);
+                }
+                // Chordless squares x-y-w-z with x the lowest atom and y < z
+                // its two ring neighbours: y, z not bonded, w (opposite x)
+                // not bonded to x.
+                for z in bits(nb[x] & !nb[y] & !((2u64 << y) - 1)) {
+                    for w in bits(nb[y] & nb[z] & !nb[x] & higher) {
+                        rings.push(1u64 << x | 1u64 << y | 1u64 << z | 1u64 << w);
+                    }
+                }
+            }
+        }
+        let cage = (0..n).any(|a| rings.iter().filter(|&&r| r >> a & 1 == 1).count() >= 3);
+        let fused = rings.iter().enumerate().any(|(i, &r)| {
+            rings[i + 1..].iter().any(|&q| {
+                let shared = r & q;
+                shared.count_ones() >= 2 && bits(shared).any(|a| nb[a] & shared != 0)
+            })
+        });
+        self.small = (cage, fused);
+        self.small_known = true;
+        self.small
     }
 
     /// The ring masks of atom `x` (bonds on a ring; bonds on a small ring).
