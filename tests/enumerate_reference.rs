@@ -119,18 +119,19 @@ against_reference! {
 // takes the lowest allowed valence not below its bond-order sum (S(IV) has a
 // bond-order sum of 3 or 4, never CH3-SH3=O). Reference counts (nauty 2.8.6,
 // RDKit 2026.3.6): C2H6S 3, C2H6OS 19, C2H6O2S 86, CH4O3S 50, C3H9OP 31.
-macro_rules! expanded_against_reference {
-    ($($name:ident => $formula:literal;)*) => {
+/// Tests comparing `isomers F FLAG` with `nauty_isomers.py F FLAG`.
+macro_rules! against_reference_with {
+    ($flag:literal; $($name:ident => $formula:literal;)*) => {
         $(
             #[test]
             fn $name() {
-                compare($formula, &["--expanded-valence"], &["--expanded-valence"]);
+                compare($formula, &[$flag], &[$flag]);
             }
         )*
     };
 }
 
-expanded_against_reference! {
+against_reference_with! { "--expanded-valence";
     expanded_valence_c2h6s => "C2H6S";
     expanded_valence_c2h6os => "C2H6OS";
     expanded_valence_c2h6o2s => "C2H6O2S";
@@ -145,18 +146,7 @@ expanded_against_reference! {
 // (nauty 2.8.6, RDKit 2026.9.1), standard valences only / with the groups:
 // CH3NO2 15/17, C2H5NO2 84/91, C2H5NO 22/23, C3H9NO 21/22, C2H4N2O 194,
 // C2H6N2O2 588, C5H5NO 7685/8031.
-macro_rules! charge_separated_against_reference {
-    ($($name:ident => $formula:literal;)*) => {
-        $(
-            #[test]
-            fn $name() {
-                compare($formula, &["--charge-separated"], &["--charge-separated"]);
-            }
-        )*
-    };
-}
-
-charge_separated_against_reference! {
+against_reference_with! { "--charge-separated";
     charge_separated_ch3no2 => "CH3NO2";
     charge_separated_c2h5no2 => "C2H5NO2";
     charge_separated_c2h5no => "C2H5NO";

@@ -759,6 +759,28 @@ fn valence_list(v: &[u8]) -> String {
 mod tests {
     use super::*;
 
+    #[test]
+    fn charge_separated_n_oxides_read_as_pentavalent_n_and_round_trip() {
+        use crate::chem::smiles::canonical_smiles;
+        // Common practice: the forms chemists' toolkits write (RDKit's
+        // canonical SMILES of nitromethane, pyridine N-oxide, nitrobenzene).
+        let m = parse_smiles("C[N+](=O)[O-]").unwrap();
+        let orders: Vec<u8> = m.graph.edge_weights().map(|b| b.order).collect();
+        assert_eq!(orders, [1, 2, 2]);
+        assert_eq!(canonical_smiles(&m), "C[N+](=O)[O-]");
+        let a = canonical_smiles(&parse_smiles("[O-][n+]1ccccc1").unwrap());
+        assert_eq!(a, "[O-][n+]1ccccc1");
+        assert_eq!(canonical_smiles(&parse_smiles("c1cc[n+]([O-])cc1").unwrap()), a);
+        assert_eq!(
+            canonical_smiles(&parse_smiles("O=[N+]([O-])c1ccccc1").unwrap()),
+            canonical_smiles(&parse_smiles("[O-][N+](=O)C1=CC=CC=C1").unwrap())
+        );
+        for bad in ["[NH4+]", "C[N+](C)(C)C", "C[O-]", "C[N+]([O-])([O-])C", "C[N++](=O)[O-]"] {
+            let e = parse_smiles(bad).unwrap_err().to_string();
+            assert!(e.contains("charge"), "{bad}: {e}");
+        }
+    }
+
     fn ok(s: &str) -> Molecule {
         parse_smiles(s).unwrap_or_else(|e| panic!("{s}: {e}"))
     }
