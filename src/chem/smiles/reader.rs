@@ -770,12 +770,21 @@ mod tests {
         assert_eq!(canonical_smiles(&m), "C[N+](=O)[O-]");
         let a = canonical_smiles(&parse_smiles("[O-][n+]1ccccc1").unwrap());
         assert_eq!(a, "[O-][n+]1ccccc1");
-        assert_eq!(canonical_smiles(&parse_smiles("c1cc[n+]([O-])cc1").unwrap()), a);
+        assert_eq!(
+            canonical_smiles(&parse_smiles("c1cc[n+]([O-])cc1").unwrap()),
+            a
+        );
         assert_eq!(
             canonical_smiles(&parse_smiles("O=[N+]([O-])c1ccccc1").unwrap()),
             canonical_smiles(&parse_smiles("[O-][N+](=O)C1=CC=CC=C1").unwrap())
         );
-        for bad in ["[NH4+]", "C[N+](C)(C)C", "C[O-]", "C[N+]([O-])([O-])C", "C[N++](=O)[O-]"] {
+        for bad in [
+            "[NH4+]",
+            "C[N+](C)(C)C",
+            "C[O-]",
+            "C[N+]([O-])([O-])C",
+            "C[N++](=O)[O-]",
+        ] {
             let e = parse_smiles(bad).unwrap_err().to_string();
             assert!(e.contains("charge"), "{bad}: {e}");
         }
