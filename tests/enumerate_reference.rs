@@ -119,23 +119,67 @@ against_reference! {
 // takes the lowest allowed valence not below its bond-order sum (S(IV) has a
 // bond-order sum of 3 or 4, never CH3-SH3=O). Reference counts (nauty 2.8.6,
 // RDKit 2026.3.6): C2H6S 3, C2H6OS 19, C2H6O2S 86, CH4O3S 50, C3H9OP 31.
-macro_rules! expanded_against_reference {
-    ($($name:ident => $formula:literal;)*) => {
+/// Tests comparing `isomers F FLAG` with `nauty_isomers.py F FLAG`.
+macro_rules! against_reference_with {
+    ($flag:literal; $($name:ident => $formula:literal;)*) => {
         $(
             #[test]
             fn $name() {
-                compare($formula, &["--expanded-valence"], &["--expanded-valence"]);
+                compare($formula, &[$flag], &[$flag]);
             }
         )*
     };
 }
 
-expanded_against_reference! {
+against_reference_with! { "--expanded-valence";
     expanded_valence_c2h6s => "C2H6S";
     expanded_valence_c2h6os => "C2H6OS";
     expanded_valence_c2h6o2s => "C2H6O2S";
     expanded_valence_ch4o3s => "CH4O3S";
     expanded_valence_c3h9op => "C3H9OP";
+}
+
+// Charge-separated neutral groups (nitro, nitrate, azine and amine
+// N-oxides, nitrones, azoxy), built with --charge-separated: the reference
+// gives N valence 3 or 5 and keeps a 5-valent N only as such a group, built
+// charged in RDKit (nauty_isomers.py --charge-separated). Reference counts
+// (nauty 2.8.6, RDKit 2026.9.1), standard valences only / with the groups:
+// CH3NO2 15/17, C2H5NO2 84/91, C2H5NO 22/23, C3H9NO 21/22, C2H4N2O 194,
+// C2H6N2O2 588, C5H5NO 7685/8031.
+against_reference_with! { "--charge-separated";
+    charge_separated_ch3no2 => "CH3NO2";
+    charge_separated_c2h5no2 => "C2H5NO2";
+    charge_separated_c2h5no => "C2H5NO";
+    charge_separated_c3h9no => "C3H9NO";
+    charge_separated_c2h4n2o => "C2H4N2O";
+    charge_separated_c2h6n2o2 => "C2H6N2O2";
+    charge_separated_c5h5no => "C5H5NO";
+}
+
+/// The charge-separated reference holds the textbook compounds of each
+/// group and adds nothing to formulas without N and O.
+#[test]
+fn charge_separated_reference_holds_the_named_groups() {
+    let canon = |s: &str| rdkit_canonical(s)[0].clone();
+    // Source: common practice (nitromethane, methyl nitrite, methyl nitrate,
+    // pyridine N-oxide, trimethylamine N-oxide, azoxymethane, the nitrone
+    // CH2=N(CH3)O, N-nitrodimethylamine are all CAS-registered compounds).
+    for (formula, smiles) in [
+        ("CH3NO2", "C[N+](=O)[O-]"),
+        ("CH3NO3", "CO[N+](=O)[O-]"),
+        ("C5H5NO", "[O-][n+]1ccccc1"),
+        ("C3H9NO", "C[N+](C)(C)[O-]"),
+        ("C2H6N2O", "CN=[N+](C)[O-]"),
+        ("C2H5NO", "C=[N+](C)[O-]"),
+        ("C2H6N2O2", "CN(C)[N+](=O)[O-]"),
+    ] {
+        let set = reference_smiles(formula, &["--charge-separated"]);
+        assert!(set.contains(&canon(smiles)), "{formula}: {smiles} missing");
+    }
+    assert_eq!(
+        reference_smiles("C6H6", &["--charge-separated"]),
+        reference_smiles("C6H6", &[])
+    );
 }
 
 /// The reference itself against published and textbook numbers, so that a

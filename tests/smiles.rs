@@ -325,8 +325,9 @@ fn syntax_errors_name_the_column() {
 #[test]
 fn unsupported_chemistry_is_refused_with_position() {
     // Common practice: the tool handles neutral closed-shell molecules of
-    // C H N O S P F Cl Br I only.
-    assert!(error("C[N+](C)(C)C").contains("charge '+' in [N+] at column 4 is not supported"));
+    // C H N O S P F Cl Br I only (charges only as the [N+][O-] of a
+    // charge-separated N-oxide group).
+    assert!(error("C[N+](C)(C)C").contains("charged atom [N+] at column 2 is not supported"));
     assert!(error("C[O-]").contains("charge"));
     assert!(error("[13CH4]").contains("isotope in [13CH4] at column 1"));
     assert!(

@@ -13,6 +13,9 @@
 //!   carbonyl carbon of tropone or 2-pyridone); N or P with a ring double
 //!   bond 1; N or P with three single bonds (counting H), O, and divalent S
 //!   2. A triple bond counts 1.
+//! * A pentavalent N with a double bond to O (the generator's form of an
+//!   N-oxide, `[n+]([O-])` as written) counts as the charged N RDKit sees:
+//!   with a ring double bond it gives 1 electron, as pyridine's N does.
 //! * Atoms that cannot take part: more than three neighbours including H
 //!   (sp3 carbon), a valence above the standard one (S(IV), S(VI), P(V)),
 //!   two multiple bonds (allene-type), halogens.
@@ -141,6 +144,23 @@ fn classify(mol: &FlatMolecule, i: usize, bond_in_ring: &[bool]) -> AtomState {
     let degree = heavy_degree + hydrogens as i32;
     if degree > 3 {
         return none;
+    }
+    if element == Element::N && bond_sum + hydrogens as i32 == 5 {
+        // [n+]([O-]): the N=O is the charge-separated N-O single bond, so
+        // the atom is a cationic N with its ring double bond (1 electron)
+        // and no other multiple bond.
+        let oxo = mol
+            .neighbours(i)
+            .iter()
+            .any(|&(o, e)| mol.element(o) == Element::O && mol.order(e) == 2 && !bond_in_ring[e]);
+        return if oxo && cyclic_multiple && multiple == 2 {
+            AtomState {
+                donor: Donor::One,
+                candidate: true,
+            }
+        } else {
+            none
+        };
     }
     let lone = outer_electrons(element) - dv;
     let mut nelec = dv - degree + lone;

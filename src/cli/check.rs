@@ -161,6 +161,7 @@ pub fn run(args: Args) -> Result<i32> {
         format: RankFormat::Text,
         keep_all: args.keep_all,
         expanded_valence: false,
+        charge_separated: false,
         constraints: Default::default(),
         run: Default::default(),
     };

@@ -73,6 +73,7 @@ pub fn run(args: Args) -> Result<()> {
             format: args.format,
             keep_all: false,
             expanded_valence: false,
+            charge_separated: false,
             constraints: Default::default(),
             run: Default::default(),
         })

@@ -98,10 +98,11 @@ pub fn emptied(formula: &Formula, cuts: &[Cut]) -> Error {
   isomerank isomers C8H8O --attached-h 'CH3=1,CH=5,C=2' --forbid 'C=C'
   isomerank isomers C12H14O2 --count --time-limit 60   stop after a minute, marked partial
   isomerank isomers C4H8O --format sdf > all.sdf   molfiles with 2D coordinates
+  isomerank isomers C7H7NO2 --charge-separated --count   nitro compounds too
 
 Plausibility rules (the number each flags goes to stderr):
   small-ring-triple, small-ring-cumulated, bredt, enol, peroxide, hydrate, iminol, hypohalite,
-  thione, nh-imine, sulfur-ylide")]
+  thione, nh-imine, sulfur-ylide, small-ring-cage, fused-small-rings")]
 pub struct Args {
     /// Molecular formula, e.g. C8H10O or BrC3H7 (any element order).
     pub formula: String,
@@ -119,6 +120,11 @@ pub struct Args {
     /// Allow the expanded valences S(IV), S(VI) and P(V).
     #[arg(long)]
     pub expanded_valence: bool,
+    /// Also build charge-separated neutral groups: nitro and nitrate
+    /// R-[N+](=O)[O-], azine N-oxides [n+][O-], amine oxides, nitrones and
+    /// azoxy compounds.
+    #[arg(long)]
+    pub charge_separated: bool,
     #[command(flatten)]
     pub constraints: ConstraintArgs,
     #[command(flatten)]
@@ -139,6 +145,7 @@ pub fn run(args: Args) -> crate::Result<()> {
     let formula = Formula::parse(&args.formula)?;
     let mut opts = Options {
         expanded_valence: args.expanded_valence,
+        charge_separated: args.charge_separated,
         part: args.part.as_deref().map(Part::parse).transpose()?,
         rules: match args.plausible.as_deref() {
             Some(list) => RuleSet::parse(list)?,
@@ -188,6 +195,9 @@ pub fn run(args: Args) -> crate::Result<()> {
     out.flush()?;
     if let Some(p) = &partial {
         note(&format!("isomers {formula}: {p}"));
+    }
+    if let Some(text) = enumerate::charge_separated_note(&formula, &opts) {
+        note(&text);
     }
     if !opts.rules.is_empty() {
         note(&format!(

@@ -59,6 +59,12 @@ pub struct Args {
     /// sulfones, phosphine oxides).
     #[arg(long)]
     pub expanded_valence: bool,
+    /// Also build charge-separated neutral groups: nitro and nitrate
+    /// R-[N+](=O)[O-], azine N-oxides [n+][O-], amine oxides, nitrones and
+    /// azoxy compounds (off by default; a note says when the formula could
+    /// hold one).
+    #[arg(long)]
+    pub charge_separated: bool,
     /// Number of candidates in the table.
     #[arg(long, default_value_t = 10, value_name = "N")]
     pub top: usize,
@@ -186,6 +192,10 @@ pub struct Inputs {
     pub carbon_score_only: bool,
     pub keep_all: bool,
     pub expanded_valence: bool,
+    /// `--charge-separated`.
+    pub charge_separated: bool,
+    /// A shortlist (`--candidates`) is ranked: the search's notes do not apply.
+    pub shortlist: bool,
     pub top: usize,
     pub constraints: super::isomers::ConstraintArgs,
     pub max_candidates: Option<u64>,
@@ -200,6 +210,8 @@ impl Inputs {
             carbon_score_only: args.carbon_score_only,
             keep_all: args.keep_all,
             expanded_valence: args.expanded_valence,
+            charge_separated: args.charge_separated,
+            shortlist: args.candidates.is_some(),
             top: args.top,
             constraints: args.constraints.clone(),
             max_candidates: args.run.max_candidates,
@@ -219,6 +231,15 @@ impl Inputs {
                 spectrum.notes.push(note);
             }
         }
+        if !self.shortlist {
+            let probe = enumerate::Options {
+                charge_separated: self.charge_separated,
+                ..Default::default()
+            };
+            if let Some(note) = enumerate::charge_separated_note(&formula, &probe) {
+                spectrum.notes.push(note);
+            }
+        }
         Ok(Job {
             formula,
             spectrum,
@@ -228,6 +249,7 @@ impl Inputs {
             format,
             keep_all: self.keep_all,
             expanded_valence: self.expanded_valence,
+            charge_separated: self.charge_separated,
             constraints,
             run,
         })
@@ -252,6 +274,7 @@ impl Inputs {
         m.insert("--carbon-score-only".into(), json!(self.carbon_score_only));
         m.insert("--keep-all".into(), json!(self.keep_all));
         m.insert("--expanded-valence".into(), json!(self.expanded_valence));
+        m.insert("--charge-separated".into(), json!(self.charge_separated));
         m.insert("--top".into(), json!(self.top));
         m.insert("--require".into(), json!(c.require));
         m.insert("--forbid".into(), json!(c.forbid));
@@ -306,6 +329,8 @@ impl Inputs {
             carbon_score_only: flag("--carbon-score-only")?,
             keep_all: flag("--keep-all")?,
             expanded_valence: flag("--expanded-valence")?,
+            charge_separated: flag("--charge-separated")?,
+            shortlist: false,
             top: m
                 .get("--top")
                 .and_then(Value::as_u64)
@@ -359,6 +384,8 @@ pub struct Job {
     pub format: Format,
     pub keep_all: bool,
     pub expanded_valence: bool,
+    /// Build charge-separated N-oxide groups too (`--charge-separated`).
+    pub charge_separated: bool,
     /// Constraints on the enumerated candidates (`--require`, `--forbid`,
     /// `--attached-h`).
     pub constraints: enumerate::constraints::Constraints,
@@ -486,6 +513,7 @@ fn with_scoring<R>(
 fn enumeration_options(job: &Job) -> Result<(enumerate::Options, Vec<String>)> {
     let mut options = enumerate::Options {
         expanded_valence: job.expanded_valence,
+        charge_separated: job.charge_separated,
         constraints: job.constraints.clone(),
         limits: job.run.limits()?,
         ..Default::default()

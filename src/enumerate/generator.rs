@@ -79,6 +79,9 @@ pub struct Kind {
     pub min_bond_sum: u8,
     /// Deletion priority: higher is deleted first (so added last).
     pub priority: u8,
+    /// A nitrogen of valence 5 that stands for the charge-separated N-oxide
+    /// form (nitro, N-oxide, nitrone, azoxy: see [`Kind::oxide_n`]).
+    pub oxide: bool,
 }
 
 impl Kind {
@@ -102,6 +105,24 @@ impl Kind {
             valence,
             min_bond_sum: lower.map(|v| v + 1).unwrap_or(0),
             priority,
+            oxide: false,
+        }
+    }
+
+    /// The nitrogen of a charge-separated neutral group, R-[N+](=O)[O-]
+    /// (nitro, nitrate, nitramine), [n+]([O-]) (azine N-oxide), R3[N+][O-]
+    /// (amine oxide), R2C=[N+](R)[O-] (nitrone), RN=[N+](R)[O-] (azoxy),
+    /// built as pentavalent N: the generator gives it valence 5 and keeps
+    /// only structures where it carries no H, no triple bond, at least one
+    /// double bond to O (which, with O's valence 2, is a terminal O: the
+    /// one written [O-]) and double bonds only to C, N or O. Written
+    /// charge-separated by the SMILES writer; the Kekulé-like pentavalent
+    /// form is one graph per compound, so the two O of a nitro group are
+    /// symmetric and every compound comes out once.
+    pub fn oxide_n() -> Kind {
+        Kind {
+            oxide: true,
+            ..Kind::new(Element::N, 5)
         }
     }
 }
@@ -489,6 +510,12 @@ impl<'p> Generator<'p> {
             chains: vec![Default::default(); p.atoms + 2],
             orders: Orders {
                 check_min: p.kinds.iter().any(|k| k.min_bond_sum > 0),
+                oxide_kinds: p
+                    .kinds
+                    .iter()
+                    .enumerate()
+                    .filter(|&(k, kind)| kind.oxide && p.counts[k] > 0)
+                    .fold(0u16, |m, (k, _)| m | 1 << k),
                 ..Orders::default()
             },
             cons: p.bounds.as_ref().map(|b| Work::new(Arc::clone(b), p)),
@@ -810,6 +837,9 @@ impl<'p> Generator<'p> {
             }
         }
         let o = &mut self.orders;
+        if o.oxide_kinds != 0 && !o.oxide_skeleton_ok(p, node, extra) {
+            return;
+        }
         if extra == 0 {
             if (!o.check_min || o.min_sums_hold(p, node))
                 && self.cons.as_mut().is_none_or(|w| w.accepts(node, p))
@@ -905,9 +935,55 @@ struct Orders {
     /// Edge index by end points (a * MAX_ATOMS + b), for building `eperm`.
     index: Vec<u8>,
     check_min: bool,
+    /// Kinds (bit per kind index) that are N-oxide nitrogens
+    /// ([`Kind::oxide_n`]); 0 when the problem has none.
+    oxide_kinds: u16,
 }
 
 impl Orders {
+    /// Whether the skeleton leaves each N-oxide nitrogen room for its group:
+    /// an O neighbour with no other bond (the future N=O) and a free valence
+    /// that the extra bond orders can use up (it must end with no H, and at
+    /// least 1 of its extra orders goes to that O).
+    fn oxide_skeleton_ok(&self, p: &Problem, node: &Node, extra: i32) -> bool {
+        (0..node.n).all(|x| {
+            if self.oxide_kinds >> node.kind[x] & 1 == 0 {
+                return true;
+            }
+            let terminal_o = bits(node.nb[x])
+                .any(|y| node.deg[y] == 1 && p.kinds[node.kind[y] as usize].element == Element::O);
+            node.free[x] >= 1 && node.free[x] as i32 <= extra && terminal_o
+        })
+    }
+
+    /// Whether every N-oxide nitrogen has, with the extra orders chosen so
+    /// far (`node.free` already lowered by them), no H left, no triple
+    /// bond, a double bond to O, and double bonds only to C, N or O (see
+    /// [`Kind::oxide_n`]). Keeps isomorphism: it reads kinds and orders only,
+    /// so it may run before the orderly test.
+    fn oxide_groups_ok(&self, p: &Problem, node: &Node) -> bool {
+        let mut oxo = 0u64;
+        for &(i, x) in &self.chosen {
+            let (a, b) = self.edges[i as usize];
+            for (n, o) in [(a as usize, b as usize), (b as usize, a as usize)] {
+                if self.oxide_kinds >> node.kind[n] & 1 == 0 {
+                    continue;
+                }
+                if x >= 2 {
+                    return false;
+                }
+                match p.kinds[node.kind[o] as usize].element {
+                    Element::O => oxo |= 1u64 << n,
+                    Element::C | Element::N => {}
+                    _ => return false,
+                }
+            }
+        }
+        (0..node.n).all(|x| {
+            self.oxide_kinds >> node.kind[x] & 1 == 0 || node.free[x] == 0 && oxo >> x & 1 == 1
+        })
+    }
+
     fn min_sums_hold(&self, p: &Problem, node: &Node) -> bool {
         (0..node.n).all(|x| {
             let k = &p.kinds[node.kind[x] as usize];
@@ -978,6 +1054,9 @@ impl Orders {
         sink: &mut Sink<'_>,
     ) {
         if self.check_min && !self.min_sums_hold(p, node) {
+            return;
+        }
+        if self.oxide_kinds != 0 && !self.oxide_groups_ok(p, node) {
             return;
         }
         if let Some(w) = cons {

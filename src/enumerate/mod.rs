@@ -53,6 +53,10 @@ impl Part {
 pub struct Options {
     /// Allow S(IV), S(VI) and P(V) besides the standard valences.
     pub expanded_valence: bool,
+    /// Also build the charge-separated neutral N-oxide groups (nitro,
+    /// nitrate, azine and amine N-oxides, nitrones, azoxy), with N as
+    /// [`generator::Kind::oxide_n`]; written `[N+](=O)[O-]`, `[n+][O-]`.
+    pub charge_separated: bool,
     /// Only this shard of the search.
     pub part: Option<Part>,
     /// Plausibility rules to apply (none: every isomer).
@@ -223,18 +227,28 @@ pub fn problems(formula: &Formula, opts: &Options) -> Result<Vec<Problem>> {
         let vals = e.valences(opts.expanded_valence);
         let mut splits = Vec::new();
         split_counts(c, vals, &mut Vec::new(), &mut splits);
-        per_element.push(
-            splits
-                .into_iter()
-                .map(|s| {
-                    vals.iter()
-                        .zip(s)
-                        .filter(|&(_, n)| n > 0)
-                        .map(|(&v, n)| (Kind::new(e, v), n))
-                        .collect()
-                })
-                .collect(),
-        );
+        let mut ways: Vec<Vec<(Kind, u8)>> = splits
+            .into_iter()
+            .map(|s| {
+                vals.iter()
+                    .zip(s)
+                    .filter(|&(_, n)| n > 0)
+                    .map(|(&v, n)| (Kind::new(e, v), n))
+                    .collect()
+            })
+            .collect();
+        if e == Element::N && opts.charge_separated {
+            // k of the N as N-oxide nitrogens, each with an O of its own.
+            let oxygens = formula.count(Element::O) as u8;
+            for k in 1..=c.min(oxygens) {
+                let mut way = vec![(Kind::oxide_n(), k)];
+                if c > k {
+                    way.insert(0, (Kind::new(e, 3), c - k));
+                }
+                ways.push(way);
+            }
+        }
+        per_element.push(ways);
     }
     let mut out = Vec::new();
     for combo in itertools::Itertools::multi_cartesian_product(per_element.iter().map(|v| v.iter()))
@@ -273,6 +287,22 @@ pub fn problems(formula: &Formula, opts: &Options) -> Result<Vec<Problem>> {
         p.bounds = bounds.clone();
     }
     Ok(out)
+}
+
+/// The note for a run without [`Options::charge_separated`] whose formula
+/// could hold a charge-separated N-oxide group (an N, an O and at least 4
+/// heavy atoms: the smallest such group, the nitrone C=[N+](C)[O-], has
+/// 4), naming the option; `None` when the option is on or no group fits.
+pub fn charge_separated_note(formula: &Formula, opts: &Options) -> Option<String> {
+    let fits = formula.count(Element::N) > 0
+        && formula.count(Element::O) > 0
+        && formula.heavy_atoms() >= 4;
+    (fits && !opts.charge_separated).then(|| {
+        format!(
+            "{formula} could hold a charge-separated group (nitro, nitrate, N-oxide, nitrone, \
+             azoxy), which was not built; add --charge-separated to include them"
+        )
+    })
 }
 
 fn split_counts(left: u8, vals: &[u8], cur: &mut Vec<u8>, out: &mut Vec<Vec<u8>>) {

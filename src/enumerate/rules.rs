@@ -29,10 +29,13 @@ pub enum Rule {
     Thione,
     NhImine,
     SulfurYlide,
+    // Strained small-ring skeletons (see `small_rings`).
+    SmallRingCage,
+    FusedSmallRings,
 }
 
 impl Rule {
-    pub const ALL: [Rule; 11] = [
+    pub const ALL: [Rule; 13] = [
         Rule::SmallRingTriple,
         Rule::SmallRingCumulated,
         Rule::Bredt,
@@ -44,6 +47,8 @@ impl Rule {
         Rule::Thione,
         Rule::NhImine,
         Rule::SulfurYlide,
+        Rule::SmallRingCage,
+        Rule::FusedSmallRings,
     ];
 
     pub fn name(self) -> &'static str {
@@ -59,6 +64,8 @@ impl Rule {
             Rule::Thione => "thione",
             Rule::NhImine => "nh-imine",
             Rule::SulfurYlide => "sulfur-ylide",
+            Rule::SmallRingCage => "small-ring-cage",
+            Rule::FusedSmallRings => "fused-small-rings",
         }
     }
 
@@ -121,6 +128,19 @@ impl Rule {
                  written as ylenes, sulfines, S-C triple bonds): reactive species, isolable only when strongly stabilised; \
                  sulfoxides, sulfones and sulfilimines are kept (only with the expanded \
                  valences) (common practice)"
+            }
+            Rule::SmallRingCage => {
+                "no atom in three or more rings of 3 or 4 atoms (tetrahedrane, prismane, cubane, \
+                 [1.1.1]propellane, bicyclo[1.1.1]pentane cages): strain energies of about \
+                 68-170 kcal/mol (Wiberg, Angew. Chem. Int. Ed. Engl. 1986, 25, 312, values from \
+                 memory); made on purpose, never met as unknowns by chance (common practice)"
+            }
+            Rule::FusedSmallRings => {
+                "no two rings of 3 or 4 atoms sharing a bond (bicyclo[1.1.0]butane, \
+                 bicyclo[2.1.0]pentane, bicyclo[2.2.0]hexane, Dewar benzene, and every cage): \
+                 strain energies of about 51-66 kcal/mol for the bicycles alone (Wiberg, Angew. \
+                 Chem. Int. Ed. Engl. 1986, 25, 312, values from memory); rare, reactive \
+                 targets of synthesis, not likely unknowns (common practice)"
             }
         }
     }
@@ -202,6 +222,13 @@ pub struct Checker {
     /// Atoms whose bridgehead verdict is known, and those found bridgeheads.
     bridgehead_known: u64,
     bridgehead: u64,
+    /// Whether the small-ring verdicts are known for this skeleton, and
+    /// them: (an atom in three or more small rings, two small rings share
+    /// a bond).
+    small_known: bool,
+    small: (bool, bool),
+    /// Work space: the skeleton's small rings as atom sets.
+    small_rings: Vec<u64>,
     /// Aromaticity perception for the enol rule (phenols are not enols).
     flat: FlatMolecule,
     rings: RingInfo,
@@ -219,6 +246,9 @@ impl Default for Checker {
             small_nb: [0; MAX_ATOMS],
             bridgehead_known: 0,
             bridgehead: 0,
+            small_known: false,
+            small: (false, false),
+            small_rings: Vec::new(),
             flat: FlatMolecule::default(),
             rings: RingInfo::default(),
             perceiver: Perceiver::default(),
@@ -243,6 +273,8 @@ impl Checker {
             Rule::Thione => self.thione(iso),
             Rule::NhImine => nh_imine(iso),
             Rule::SulfurYlide => sulfur_ylide(iso),
+            Rule::SmallRingCage => self.small_ring_verdicts(iso).0,
+            Rule::FusedSmallRings => self.small_ring_verdicts(iso).1,
         }
     }
 
@@ -257,6 +289,50 @@ impl Checker {
         self.ring_known = 0;
         self.bridgehead_known = 0;
         self.bridgehead = 0;
+        self.small_known = false;
+    }
+
+    /// The skeleton's small rings (chordless cycles of 3 or 4 atoms) and
+    /// the two verdicts on them: some atom lies in three or more
+    /// ([`Rule::SmallRingCage`]); two of them share a bond
+    /// ([`Rule::FusedSmallRings`]). In a chordless ring two bonded atoms
+    /// are ring neighbours, so two rings share a bond exactly when their
+    /// common atoms include a bonded pair. Once per skeleton.
+    fn small_ring_verdicts(&mut self, iso: &Isomer) -> (bool, bool) {
+        if self.small_known {
+            return self.small;
+        }
+        let nb = &iso.node.nb;
+        let n = iso.atoms();
+        let rings = &mut self.small_rings;
+        rings.clear();
+        for x in 0..n {
+            let higher = !((2u64 << x) - 1);
+            for y in bits(nb[x] & higher) {
+                // Triangles x < y < z.
+                for z in bits(nb[x] & nb[y] & !((2u64 << y) - 1)) {
+                    rings.push(1u64 << x | 1u64 << y | 1u64 << z);
+                }
+                // Chordless squares x-y-w-z with x the lowest atom and y < z
+                // its two ring neighbours: y, z not bonded, w (opposite x)
+                // not bonded to x.
+                for z in bits(nb[x] & !nb[y] & !((2u64 << y) - 1)) {
+                    for w in bits(nb[y] & nb[z] & !nb[x] & higher) {
+                        rings.push(1u64 << x | 1u64 << y | 1u64 << z | 1u64 << w);
+                    }
+                }
+            }
+        }
+        let cage = (0..n).any(|a| rings.iter().filter(|&&r| r >> a & 1 == 1).count() >= 3);
+        let fused = rings.iter().enumerate().any(|(i, &r)| {
+            rings[i + 1..].iter().any(|&q| {
+                let shared = r & q;
+                shared.count_ones() >= 2 && bits(shared).any(|a| nb[a] & shared != 0)
+            })
+        });
+        self.small = (cage, fused);
+        self.small_known = true;
+        self.small
     }
 
     /// The ring masks of atom `x` (bonds on a ring; bonds on a small ring).
@@ -285,15 +361,15 @@ impl Checker {
 
     /// An atom with two or more double bonds, one of them on a small ring.
     fn small_ring_cumulated(&mut self, iso: &Isomer) -> bool {
-        let double = &iso.node.g.adj[1];
-        (0..iso.atoms())
-            .any(|x| double[x].count_ones() >= 2 && self.rings_of(iso, x).1 & double[x] != 0)
+        (0..iso.atoms()).any(|x| {
+            let double = pi_doubles(iso, x);
+            double.count_ones() >= 2 && self.rings_of(iso, x).1 & double != 0
+        })
     }
 
     /// A double bond at a bridgehead of a small bridged bicyclic.
     fn bredt(&mut self, iso: &Isomer) -> bool {
-        let double = &iso.node.g.adj[1];
-        (0..iso.atoms()).any(|x| double[x] != 0 && self.is_small_bridgehead(iso, x))
+        (0..iso.atoms()).any(|x| pi_doubles(iso, x) != 0 && self.is_small_bridgehead(iso, x))
     }
 
     fn is_small_bridgehead(&mut self, iso: &Isomer, x: usize) -> bool {
@@ -413,6 +489,26 @@ impl Checker {
             }
         }
         false
+    }
+}
+
+/// The double-bond partners of atom `x`, leaving out the N=O of a
+/// charge-separated N-oxide group (pentavalent N, see
+/// [`super::generator::Kind::oxide_n`]): it stands for the single bond of
+/// [N+]-[O-], so pyridine N-oxide has no cumulated atom and quinuclidine
+/// N-oxide no bridgehead double bond.
+fn pi_doubles(iso: &Isomer, x: usize) -> u64 {
+    let double = iso.node.g.adj[1][x];
+    let oxide = |a: usize| iso.problem.kinds[iso.node.kind[a] as usize].oxide;
+    if oxide(x) {
+        double
+            & !bits(double)
+                .filter(|&o| iso.element(o) == Element::O)
+                .fold(0, |m, o| m | 1u64 << o)
+    } else if iso.element(x) == Element::O && bits(double).any(oxide) {
+        0
+    } else {
+        double
     }
 }
 

@@ -204,6 +204,8 @@ pub struct HeteroRing {
     pub size: usize,
     /// Ring heteroatom as an element with the aromatic flag.
     pub heteroatom: crate::chem::Element,
+    /// The heteroatom is the N of an N-oxide (`n+` in the table, `[n+][O-]`).
+    pub oxide: bool,
     pub sigma: f64,
     /// Shift per position (index = position number).
     pub shift: [Option<f64>; 5],
@@ -829,12 +831,12 @@ impl Library {
         for row in &f.ring {
             need_source(file, &row.name, &row.source)?;
             let heteroatom = match row.heteroatom.as_str() {
-                "n" => crate::chem::Element::N,
+                "n" | "n+" => crate::chem::Element::N,
                 "o" => crate::chem::Element::O,
                 "s" => crate::chem::Element::S,
                 other => {
                     return Err(Error::input(format!(
-                        "fragment library {file}: ring {}: heteroatom \"{other}\" (use n, o or s)",
+                        "fragment library {file}: ring {}: heteroatom \"{other}\" (use n, n+ for an N-oxide, o or s)",
                         row.name
                     )))
                 }
@@ -868,6 +870,7 @@ impl Library {
                 name: row.name.clone(),
                 size: row.size,
                 heteroatom,
+                oxide: row.heteroatom == "n+",
                 sigma: row.sigma,
                 shift,
                 couplings,

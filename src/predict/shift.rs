@@ -419,12 +419,15 @@ impl Ctx<'_> {
         }
         let h = hetero.trailing_zeros() as usize;
         let size = r.count_ones() as usize;
-        let t = self
-            .lib
-            .hetero
-            .rings
-            .iter()
-            .find(|t| t.size == size && t.heteroatom == self.v.element[h])?;
+        // An N-oxide ring N ([n+][O-]) has its own table row.
+        let oxide = self.v.element[h] == Element::N
+            && (0..self.v.deg[h] as usize).any(|k| {
+                self.v.order[h][k] == 2 && self.v.element[self.v.nbr[h][k] as usize] == Element::O
+            });
+        let t =
+            self.lib.hetero.rings.iter().find(|t| {
+                t.size == size && t.heteroatom == self.v.element[h] && t.oxide == oxide
+            })?;
         let pos = self.v.ring_distance(r, h, a) + 1;
         if pos > 4 {
             return None;

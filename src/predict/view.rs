@@ -15,7 +15,9 @@
 //!   rings of fused systems such as naphthalene, whatever the Kekulé form);
 //! - a 5-ring is aromatic when four ring atoms have double bonds inside the
 //!   ring or to an aromatic 6-ring atom, and the fifth is O, S, or N with
-//!   three single bonds (furan, thiophene, pyrrole, azoles, indole).
+//!   three single bonds (furan, thiophene, pyrrole, azoles, indole);
+//! - the N=O of an N-oxide (pentavalent N, `[n+][O-]` as written) is not
+//!   counted as the N's double bond, so pyridine N-oxide is aromatic.
 
 use crate::chem::{Element, HeavyAtoms, Molecule};
 
@@ -453,7 +455,19 @@ impl View {
     /// Double-bond partner of `a`, if it has exactly one double bond.
     fn double_partner(&self, a: usize) -> Option<usize> {
         let mut p = None;
+        // The N=O of an N-oxide ([n+][O-], built as pentavalent N) leaves
+        // the ring N its ring double bond, as in pyridine.
+        let oxide = self.element[a] == Element::N
+            && (0..self.deg[a] as usize)
+                .map(|k| self.order[a][k] as u32)
+                .sum::<u32>()
+                + self.h[a] as u32
+                == 5;
         for k in 0..self.deg[a] as usize {
+            let b = self.nbr[a][k] as usize;
+            if oxide && self.order[a][k] == 2 && self.element[b] == Element::O {
+                continue;
+            }
             match self.order[a][k] {
                 2 if p.is_none() => p = Some(self.nbr[a][k] as usize),
                 2 | 3 => return None,

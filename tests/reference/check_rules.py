@@ -34,6 +34,15 @@ README states them:
   atom, the carbon having no N, O or S neighbour besides;
 - sulfur-ylide: an S with a double or triple bond to carbon and a valence
   (bond orders plus H) above 2.
+- small-ring-cage: an atom in three or more small rings, a small ring being
+  a chordless cycle of 3 or 4 atoms (3 atoms pairwise bonded; 4 atoms each
+  bonded to exactly two of the others), found here by trying every 3- and
+  4-subset of the atoms near each atom;
+- fused-small-rings: two such small rings sharing a bond.
+
+With --count FILE.toml, the rules are applied instead to every `smiles =`
+of that file (the NMRShiftDB2 dev structures) and the number of structures
+each rule flags is printed, with up to 5 examples.
 
 The input is read as Kekule structures (aromatic SMILES are kekulized by
 RDKit's parser), so double bonds are those of one Kekule form, as the
@@ -256,6 +265,37 @@ def sulfur_ylide(mol, aromatic):
     return False
 
 
+def small_rings(mol):
+    """Chordless cycles of 3 or 4 atoms, as frozensets of atom indices."""
+    adj = {a.GetIdx(): {n.GetIdx() for n in a.GetNeighbors()} for a in mol.GetAtoms()}
+    rings = set()
+    for x in adj:
+        near = {x} | adj[x]
+        for y in adj[x]:
+            near |= adj[y]
+        for size in (3, 4):
+            for rest in combinations(sorted(near - {x}), size - 1):
+                ring = (x,) + rest
+                if all(len(adj[a] & set(ring)) == 2 for a in ring):
+                    rings.add(frozenset(ring))
+    return adj, [r for r in rings if len(r) == 3 or all(
+        len(adj[a] & r) == 2 for a in r)]
+
+
+def small_ring_cage(mol, aromatic):
+    _, rings = small_rings(mol)
+    return any(sum(a in r for r in rings) >= 3 for a in range(mol.GetNumAtoms()))
+
+
+def fused_small_rings(mol, aromatic):
+    adj, rings = small_rings(mol)
+    for r, q in combinations(rings, 2):
+        shared = r & q
+        if any(adj[a] & shared for a in shared):
+            return True
+    return False
+
+
 RULES = {
     "small-ring-triple": small_ring_triple,
     "small-ring-cumulated": small_ring_cumulated,
@@ -268,11 +308,32 @@ RULES = {
     "thione": thione,
     "nh-imine": nh_imine,
     "sulfur-ylide": sulfur_ylide,
+    "small-ring-cage": small_ring_cage,
+    "fused-small-rings": fused_small_rings,
 }
+
+
+def count_file(path):
+    """Structures of a data file (lines `smiles = "..."`) each rule flags."""
+    import re
+    with open(path) as f:
+        smiles = re.findall(r'^smiles = "(.*)"$', f.read(), re.M)
+    counts = {name: [] for name in RULES}
+    for s in smiles:
+        mol, aromatic = kekule(s)
+        for name, rule in RULES.items():
+            if rule(mol, aromatic):
+                counts[name].append(s)
+    print(json.dumps({"structures": len(smiles),
+                      "flagged": {k: len(v) for k, v in counts.items()},
+                      "examples": {k: v[:5] for k, v in counts.items()}}, indent=1))
 
 
 def main():
     RDLogger.DisableLog("rdApp.*")
+    if len(sys.argv) == 3 and sys.argv[1] == "--count":
+        count_file(sys.argv[2])
+        return
     lines = [l.strip() for l in sys.stdin if l.strip()]
     flagged = {name: [] for name in RULES}
     for i, smiles in enumerate(lines):

@@ -27,7 +27,7 @@ option without any compound crossing two shards.
 
 Usage:
     nauty_isomers.py FORMULA [--smiles] [--expanded-valence [--any-valence-h]]
-                             [--jobs N] [--no-cache] [--stats]
+                             [--charge-separated] [--jobs N] [--no-cache] [--stats]
 
 Prints the number of isomers, or with --smiles the sorted canonical SMILES,
 one per line. --expanded-valence also allows S 4 and 6 and P 5, read as
@@ -39,6 +39,14 @@ filled by H as the formula's H total allows. Results are cached under
 <project>/.reference-cache/ (gitignored), keyed by the formula, the mode, the
 nauty and RDKit versions and this script's own hash; --no-cache bypasses it.
 --stats prints the pipeline's counts and timings on stderr.
+
+--charge-separated also allows N 5 (steps 2-3 as above), keeping an N whose
+bond-order sum is 5 only as the N of a charge-separated neutral group:
+no H, no triple bond, at least one double bond to O, every double bond to
+C, N or O (nitro, nitrate, azine and amine N-oxides, nitrones, azoxy). Each
+such N is built in RDKit as [N+] with one of its N=O bonds made a single
+bond to [O-] (which one does not matter: RDKit's canonical SMILES is the
+same), so the output is what RDKit reads from the charged form.
 """
 
 import argparse
@@ -102,9 +110,12 @@ def tool(name):
 class Plan:
     """Everything the pipeline needs for one formula, picklable for workers."""
 
-    def __init__(self, counts, expanded, any_valence_h=False):
+    def __init__(self, counts, expanded, any_valence_h=False, charge_separated=False):
         self.any_valence_h = any_valence_h
+        self.charge_separated = charge_separated
         table = EXPANDED_VALENCES if expanded else STANDARD_VALENCES
+        if charge_separated:
+            table = dict(table, N=(3, 5))
         self.hydrogens = counts.get("H", 0)
         self.elements = [e for e in ELEMENT_ORDER if counts.get(e, 0) > 0]
         self.element_counts = [counts[e] for e in self.elements]
@@ -159,15 +170,44 @@ def hydrogen_choices(plan, symbols_valences, bond_sums):
     return [h for h in itertools.product(*options) if sum(h) == plan.hydrogens]
 
 
-def canonical_smiles(symbols, hcounts, bonds):
+def oxide_nitrogens(symbols, hcounts, bonds):
+    """The N atoms with bond-order sum + H = 5, or None when one of them is
+    not the N of a charge-separated group (no H, no triple bond, a double
+    bond to O, double bonds only to C, N or O)."""
+    sums = [0] * len(symbols)
+    for u, v, k in bonds:
+        sums[u] += k
+        sums[v] += k
+    found = []
+    for i, symbol in enumerate(symbols):
+        if symbol != "N" or sums[i] + hcounts[i] != 5:
+            continue
+        partners = [(v if u == i else u, k) for u, v, k in bonds if i in (u, v)]
+        if hcounts[i] != 0 or any(k == 3 for _, k in partners):
+            return None
+        doubles = [symbols[j] for j, k in partners if k == 2]
+        if "O" not in doubles or any(s not in ("C", "N", "O") for s in doubles):
+            return None
+        found.append(i)
+    return found
+
+
+def canonical_smiles(symbols, hcounts, bonds, oxides=()):
     mol = Chem.RWMol()
     for symbol, h in zip(symbols, hcounts):
         atom = Chem.Atom(symbol)
         atom.SetNoImplicit(True)
         atom.SetNumExplicitHs(h)
         mol.AddAtom(atom)
+    charged = set()
+    for n in oxides:
+        o = next(v if u == n else u for u, v, k in bonds
+                 if k == 2 and n in (u, v) and symbols[v if u == n else u] == "O")
+        charged.add(frozenset((n, o)))
+        mol.GetAtomWithIdx(n).SetFormalCharge(1)
+        mol.GetAtomWithIdx(o).SetFormalCharge(-1)
     for u, v, k in bonds:
-        mol.AddBond(u, v, BOND_TYPES[k])
+        mol.AddBond(u, v, BOND_TYPES[1 if frozenset((u, v)) in charged else k])
     Chem.SanitizeMol(mol)
     return Chem.MolToSmiles(mol)
 
@@ -211,8 +251,11 @@ def run_shard(args):
         kept += 1
         symbols = [plan.elements[int(c)] for c in colours]
         for hcounts in choices:
+            oxides = oxide_nitrogens(symbols, hcounts, bonds) if plan.charge_separated else []
+            if oxides is None:
+                continue
             try:
-                seen.add(canonical_smiles(symbols, hcounts, bonds))
+                seen.add(canonical_smiles(symbols, hcounts, bonds, oxides))
             except Exception as exc:  # a reference must not drop a molecule silently
                 raise RuntimeError(f"RDKit rejected {symbols} H={hcounts} bonds={bonds}: {exc}")
     for p, cmd in zip(procs, cmds):
@@ -233,18 +276,19 @@ def nauty_version():
         return "geng-sha256-" + hashlib.sha256(f.read()).hexdigest()[:16]
 
 
-def cache_path(formula_key, expanded, any_valence_h):
+def cache_path(formula_key, expanded, any_valence_h, charge_separated):
     with open(os.path.abspath(__file__), "rb") as f:
         script_hash = hashlib.sha256(f.read()).hexdigest()[:16]
     mode = ("x" + ("a" if any_valence_h else "")) if expanded else "s"
+    mode += "c" if charge_separated else ""
     key = "|".join([formula_key, mode,
                     nauty_version(), dist_version("rdkit"), script_hash])
     digest = hashlib.sha256(key.encode()).hexdigest()[:20]
     return os.path.join(PROJECT_ROOT, ".reference-cache", f"{formula_key}-{mode}-{digest}.smi.gz")
 
 
-def enumerate_isomers(counts, expanded, any_valence_h, jobs, stats):
-    plan = Plan(counts, expanded, any_valence_h)
+def enumerate_isomers(counts, expanded, any_valence_h, charge_separated, jobs, stats):
+    plan = Plan(counts, expanded, any_valence_h, charge_separated)
     if plan.empty():
         return set()
     # More shards than processes evens out geng's uneven res/mod split.
@@ -282,6 +326,7 @@ def main():
     parser.add_argument("--smiles", action="store_true", help="print the SMILES, not the count")
     parser.add_argument("--expanded-valence", action="store_true")
     parser.add_argument("--any-valence-h", action="store_true")
+    parser.add_argument("--charge-separated", action="store_true")
     parser.add_argument("--jobs", type=int, default=min(2, os.cpu_count() or 1))
     parser.add_argument("--no-cache", action="store_true")
     parser.add_argument("--stats", action="store_true")
@@ -294,7 +339,7 @@ def main():
     if args.any_valence_h and not args.expanded_valence:
         sys.exit("nauty_isomers: --any-valence-h only goes with --expanded-valence")
     path = None if args.no_cache else cache_path(key, args.expanded_valence,
-                                                 args.any_valence_h)
+                                                 args.any_valence_h, args.charge_separated)
     if path and os.path.exists(path):
         with gzip.open(path, "rt") as f:
             smiles = [line.rstrip("\n") for line in f if line.strip()]
@@ -302,7 +347,7 @@ def main():
             print(f"nauty_isomers: {len(smiles)} compounds from cache {path}", file=sys.stderr)
     else:
         smiles = sorted(enumerate_isomers(counts, args.expanded_valence, args.any_valence_h,
-                                          max(1, args.jobs), args.stats))
+                                          args.charge_separated, max(1, args.jobs), args.stats))
         if path:
             os.makedirs(os.path.dirname(path), exist_ok=True)
             tmp = f"{path}.{os.getpid()}.tmp"

@@ -8,7 +8,13 @@
 //! Chirality marks and atom classes in brackets are accepted and ignored,
 //! since the tool works with constitution only.
 //!
-//! Rejected with a message naming the column: charges, isotopes, radicals
+//! Charges are read in one form only, the charge-separated neutral N-oxide
+//! group chemists' toolkits write (`C[N+](=O)[O-]`, `[O-][n+]1ccccc1`,
+//! `C[N+](C)(C)[O-]`): each `[N+]` must be single-bonded to exactly one
+//! `[O-]` with no other bond, and the pair is read as the pentavalent
+//! N=O the generator builds (see `enumerate::generator::Kind::oxide_n`).
+//!
+//! Rejected with a message naming the column: other charges, isotopes, radicals
 //! (a bracket atom whose valence is not a normal one), elements outside
 //! C H N O S P F Cl Br I, wildcard `*`, disconnected parts `.`, quadruple
 //! bonds, and every syntax error. Columns count characters from 1.
@@ -42,6 +48,8 @@ struct RawAtom {
     aromatic: bool,
     /// H count from a bracket atom; `None` for the organic subset.
     bracket_h: Option<u8>,
+    /// Formal charge from a bracket atom (+1 or -1, or 0).
+    charge: i8,
     /// Column (1-based) of the atom's first character.
     col: usize,
     /// The atom's text, for messages.
@@ -331,6 +339,7 @@ fn parse_organic(chars: &[char], i: usize) -> std::result::Result<(RawAtom, usiz
             element,
             aromatic,
             bracket_h: None,
+            charge: 0,
             col,
             text,
         },
@@ -430,12 +439,21 @@ fn parse_bracket(chars: &[char], start: usize) -> std::result::Result<(RawAtom, 
             i += 1;
         }
     }
+    let mut charge = 0i8;
     if i < close && (chars[i] == '+' || chars[i] == '-') {
-        return Err(format!(
-            "charge '{}' in {text} at column {} is not supported (neutral molecules only)",
-            chars[i],
-            i + 1
-        ));
+        let sign = chars[i];
+        let col = i + 1;
+        i += 1;
+        if i < close && chars[i] == '1' {
+            i += 1;
+        }
+        if i < close && (chars[i] == '+' || chars[i] == '-' || chars[i].is_ascii_digit()) {
+            return Err(format!(
+                "charge in {text} at column {col} is not supported (only [N+] with [O-], the \
+                 charge-separated N-oxide form)"
+            ));
+        }
+        charge = if sign == '+' { 1 } else { -1 };
     }
     if i < close && chars[i] == ':' {
         // Atom class: accepted and ignored.
@@ -464,6 +482,7 @@ fn parse_bracket(chars: &[char], start: usize) -> std::result::Result<(RawAtom, 
             element,
             aromatic,
             bracket_h: Some(h),
+            charge,
             col: open_col,
             text,
         },
@@ -517,6 +536,57 @@ fn build(atoms: &[RawAtom], bonds: &[RawBond]) -> std::result::Result<Molecule, 
         }
         extra_h[other] += 1;
     }
+    // Charges: each [N+] single-bonded to exactly one [O-] that has no
+    // other bond; the pair is read as a pentavalent N=O.
+    let mut oxide_bond = vec![false; bonds.len()];
+    for (i, a) in atoms.iter().enumerate() {
+        if a.charge == 0 {
+            continue;
+        }
+        let mine: Vec<usize> = (0..bonds.len())
+            .filter(|&k| bonds[k].a == i || bonds[k].b == i)
+            .collect();
+        let other = |k: usize| {
+            if bonds[k].a == i {
+                bonds[k].b
+            } else {
+                bonds[k].a
+            }
+        };
+        let single = |k: usize| bonds[k].symbol.is_none_or(is_single);
+        let ok = match (a.element, a.charge) {
+            (Element::O, -1) => {
+                a.bracket_h == Some(0)
+                    && mine.len() == 1
+                    && single(mine[0])
+                    && atoms[other(mine[0])].element == Element::N
+                    && atoms[other(mine[0])].charge == 1
+            }
+            (Element::N, 1) => {
+                let oxides: Vec<usize> = mine
+                    .iter()
+                    .copied()
+                    .filter(|&k| {
+                        let o = other(k);
+                        atoms[o].element == Element::O && atoms[o].charge == -1
+                    })
+                    .collect();
+                if oxides.len() == 1 {
+                    oxide_bond[oxides[0]] = true;
+                }
+                a.bracket_h == Some(0) && oxides.len() == 1
+            }
+            _ => false,
+        };
+        if !ok {
+            return Err(format!(
+                "charged atom {} at column {} is not supported: charges are read only as an \
+                 [N+] without H single-bonded to one [O-] that has no other bond (nitro \
+                 C[N+](=O)[O-], N-oxide [O-][n+]1ccccc1)",
+                a.text, a.col
+            ));
+        }
+    }
     // Heavy atoms keep their written order.
     let mut new_index = vec![usize::MAX; n];
     let mut mol = Molecule::new();
@@ -537,9 +607,14 @@ fn build(atoms: &[RawAtom], bonds: &[RawBond]) -> std::result::Result<Molecule, 
     // bond outside a ring is read as single (as RDKit does for biphenyl written
     // without '-').
     let mut aromatic_written = Vec::new();
-    for b in bonds {
+    for (k, b) in bonds.iter().enumerate() {
         let (x, y) = (new_index[b.a], new_index[b.b]);
         if x == usize::MAX || y == usize::MAX {
+            continue;
+        }
+        if oxide_bond[k] {
+            mol.add_bond(NodeIndex::new(x), NodeIndex::new(y), 2);
+            aromatic_written.push(false);
             continue;
         }
         let both_aromatic = atoms[b.a].aromatic && atoms[b.b].aromatic;
@@ -581,7 +656,9 @@ fn build(atoms: &[RawAtom], bonds: &[RawBond]) -> std::result::Result<Molecule, 
         // is never S(IV) or P(V) (the aromaticity rule excludes them), so a
         // lower-case atom that would need one is a mistake, as RDKit holds.
         let standard = [a.element.valence()];
-        let allowed: &[u8] = if a.aromatic {
+        let allowed: &[u8] = if a.charge == 1 {
+            &[5]
+        } else if a.aromatic {
             &standard
         } else {
             a.element.valences(true)
@@ -681,6 +758,37 @@ fn valence_list(v: &[u8]) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn charge_separated_n_oxides_read_as_pentavalent_n_and_round_trip() {
+        use crate::chem::smiles::canonical_smiles;
+        // Common practice: the forms chemists' toolkits write (RDKit's
+        // canonical SMILES of nitromethane, pyridine N-oxide, nitrobenzene).
+        let m = parse_smiles("C[N+](=O)[O-]").unwrap();
+        let orders: Vec<u8> = m.graph.edge_weights().map(|b| b.order).collect();
+        assert_eq!(orders, [1, 2, 2]);
+        assert_eq!(canonical_smiles(&m), "C[N+](=O)[O-]");
+        let a = canonical_smiles(&parse_smiles("[O-][n+]1ccccc1").unwrap());
+        assert_eq!(a, "[O-][n+]1ccccc1");
+        assert_eq!(
+            canonical_smiles(&parse_smiles("c1cc[n+]([O-])cc1").unwrap()),
+            a
+        );
+        assert_eq!(
+            canonical_smiles(&parse_smiles("O=[N+]([O-])c1ccccc1").unwrap()),
+            canonical_smiles(&parse_smiles("[O-][N+](=O)C1=CC=CC=C1").unwrap())
+        );
+        for bad in [
+            "[NH4+]",
+            "C[N+](C)(C)C",
+            "C[O-]",
+            "C[N+]([O-])([O-])C",
+            "C[N++](=O)[O-]",
+        ] {
+            let e = parse_smiles(bad).unwrap_err().to_string();
+            assert!(e.contains("charge"), "{bad}: {e}");
+        }
+    }
 
     fn ok(s: &str) -> Molecule {
         parse_smiles(s).unwrap_or_else(|e| panic!("{s}: {e}"))

@@ -14,6 +14,13 @@
 //! central bond of azulene); brackets only when the implicit-hydrogen rule
 //! would give another H count (`[nH]`, `[SH4]`); ring-closure digits reused
 //! lowest first, the bond symbol written at the closing digit.
+//!
+//! A pentavalent N with a double bond to an O (the generator's form of
+//! nitro groups and N-oxides) is written charge-separated, as chemists'
+//! toolkits write it: that O becomes `[O-]` on a single bond and the N
+//! `[N+]` (`[n+]` in an aromatic ring), e.g. `C[N+](=O)[O-]`,
+//! `[O-][n+]1ccccc1`. Where the N has two such O, the one of higher
+//! canonical rank takes the charge, so the string stays canonical.
 
 use crate::chem::aromaticity::{Aromaticity, Perceiver};
 use crate::chem::canon::{CanonGraph, Canonizer, MAX_ATOMS};
@@ -228,6 +235,11 @@ struct Traversal {
     /// Depth-first stack of (atom, next neighbour position).
     stack: Vec<(usize, usize)>,
     tasks: Vec<Task>,
+    /// Formal charge of each atom (charge-separated N-oxide groups only).
+    charge: Vec<i8>,
+    /// Bonds written single though their order is 2 (the N-O of such a
+    /// group).
+    demoted: Vec<bool>,
 }
 
 impl Traversal {
@@ -257,6 +269,7 @@ impl Traversal {
                 self.cursor[v] += 1;
             }
         }
+        self.charge_separate(mol, ranks);
         reset(&mut self.parent_bond, n, NOT_REACHED);
         reset(&mut self.bond_role, m, UNSEEN);
         self.closures.clear();
@@ -276,6 +289,35 @@ impl Traversal {
             }
             first = false;
             self.emit(mol, arom, root, out);
+        }
+    }
+
+    /// Charges for the charge-separated form: each N whose bond orders and
+    /// H add up to 5 takes +1, and of its O neighbours on a double bond the
+    /// one of highest rank takes -1 and a single bond.
+    fn charge_separate(&mut self, mol: &FlatMolecule, ranks: &[usize]) {
+        let n = mol.atom_count();
+        reset(&mut self.charge, n, 0);
+        reset(&mut self.demoted, mol.bond_count(), false);
+        for v in 0..n {
+            if mol.element(v) != Element::N {
+                continue;
+            }
+            let nbrs = mol.neighbours(v);
+            let valence: u32 = nbrs.iter().map(|&(_, e)| mol.order(e) as u32).sum::<u32>()
+                + mol.hydrogens(v) as u32;
+            if valence != 5 {
+                continue;
+            }
+            let oxo = nbrs
+                .iter()
+                .filter(|&&(u, e)| mol.element(u) == Element::O && mol.order(e) == 2)
+                .max_by_key(|&&(u, _)| ranks[u]);
+            if let Some(&(u, e)) = oxo {
+                self.charge[v] = 1;
+                self.charge[u] = -1;
+                self.demoted[e] = true;
+            }
         }
     }
 
@@ -319,7 +361,7 @@ impl Traversal {
                 Task::Paren(c) => out.push(c),
                 Task::Atom(v, from) => {
                     if let Some(e) = from {
-                        push_bond_symbol(out, mol, arom, e);
+                        push_bond_symbol(out, mol, arom, &self.demoted, e);
                     }
                     self.atom_symbol(mol, arom, v, out);
                     if self
@@ -358,10 +400,11 @@ impl Traversal {
         let Traversal {
             closures,
             digits_used,
+            demoted,
             ..
         } = self;
         for c in closures.iter().filter(|c| c.descendant == v) {
-            push_bond_symbol(out, mol, arom, c.bond);
+            push_bond_symbol(out, mol, arom, demoted, c.bond);
             push_digit(out, c.digit);
             digits_used[c.digit as usize] = false;
         }
@@ -425,7 +468,8 @@ impl Traversal {
                 | Element::I
         );
         let needs_pi = aromatic && self.pi[v];
-        if organic && implicit == Some((hydrogens as u32, needs_pi)) {
+        let charge = self.charge[v];
+        if charge == 0 && organic && implicit == Some((hydrogens as u32, needs_pi)) {
             push_symbol(out);
             return;
         }
@@ -439,17 +483,28 @@ impl Traversal {
                 push_number(out, h as u32);
             }
         }
+        match charge {
+            1 => out.push('+'),
+            -1 => out.push('-'),
+            _ => {}
+        }
         out.push(']');
     }
 }
 
 /// The bond symbol of bond `e`, when it needs one.
-fn push_bond_symbol(out: &mut String, mol: &FlatMolecule, arom: &Aromaticity, e: usize) {
+fn push_bond_symbol(
+    out: &mut String,
+    mol: &FlatMolecule,
+    arom: &Aromaticity,
+    demoted: &[bool],
+    e: usize,
+) {
     if arom.bond[e] {
         return;
     }
     let (a, b) = mol.ends(e);
-    match mol.order(e) {
+    match if demoted[e] { 1 } else { mol.order(e) } {
         2 => out.push('='),
         3 => out.push('#'),
         _ if arom.atom[a] && arom.atom[b] => out.push('-'),
