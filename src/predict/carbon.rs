@@ -870,7 +870,10 @@ pub(crate) fn load(files: &[(&str, String)]) -> Result<CarbonTable> {
             pair.push((k, slot, row.increment));
         }
         for row in &f.group {
-            let entry = format!("group {} {} distance {}", row.centre, row.atom, row.distance);
+            let entry = format!(
+                "group {} {} distance {}",
+                row.centre, row.atom, row.distance
+            );
             need_source(file, &entry, &row.source)?;
             let k = key(file, &row.centre)?;
             let Some(g) = parse_group(&row.atom) else {
@@ -962,6 +965,33 @@ fn twice(file: &str, entry: &str) -> Error {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn group_names_read_back_to_their_keys() {
+        // Methyl acetate, pyridine-2-carbonitrile: every atom's group name
+        // is read back to the key computed from the structure.
+        for smiles in ["CC(=O)OC", "N#Cc1ccccn1"] {
+            let mol = crate::chem::smiles::parse_smiles(smiles).unwrap();
+            let v = View::new(&mol).unwrap();
+            let types: Vec<u8> = (0..v.n).map(|a| atom_type(&v, a)).collect();
+            for a in 0..v.n {
+                let name = group_name(&v, &types, a);
+                assert_eq!(parse_group(&name), Some(group_key(&v, &types, a)), "{name}");
+            }
+        }
+        // The ester carbonyl as the tables write it (neighbours in code order).
+        let mol = crate::chem::smiles::parse_smiles("CC(=O)OC").unwrap();
+        let v = View::new(&mol).unwrap();
+        let types: Vec<u8> = (0..v.n).map(|a| atom_type(&v, a)).collect();
+        assert_eq!(group_name(&v, &types, 1), "C.co(C.sp3.1,O.2,O.dbl=)");
+        // Neighbour order does not matter; unknown types and bad marks are refused.
+        assert_eq!(
+            parse_group("C.co(O.dbl=,O.2,C.sp3.1)"),
+            parse_group("C.co(C.sp3.1,O.2,O.dbl=)")
+        );
+        assert_eq!(parse_group("C.co(X,O.dbl=)"), None);
+        assert_eq!(parse_group("C.co O.dbl="), None);
+    }
 
     #[test]
     fn type_constants_match_their_names() {
