@@ -308,25 +308,14 @@ def hand_rows():
     return base
 
 
-def hand_increments():
-    """Hand-entered increment rows of the current files (source not
-    "refitted ..."): kept where the data hold no such term."""
+def hand_kept(kind):
+    """Hand-entered rows of one kind ("increment", "group") in the current
+    files (source not "refitted ..."): kept where the fit writes no such row."""
     out = []
     for f in sorted(set(FILES.values())):
         with open(f"{LIB}/{f}", "rb") as fh:
             t = tomllib.load(fh)
-        out += [r for r in t.get("increment", []) if not r["source"].startswith("refitted")]
-    return out
-
-
-def hand_groups():
-    """Hand-entered group rows of the current files (source not
-    "refitted ..."): kept where the fit writes no such row."""
-    out = []
-    for f in sorted(set(FILES.values())):
-        with open(f"{LIB}/{f}", "rb") as fh:
-            t = tomllib.load(fh)
-        out += [r for r in t.get("group", []) if not r["source"].startswith("refitted")]
+        out += [r for r in t.get(kind, []) if not r["source"].startswith("refitted")]
     return out
 
 
@@ -389,7 +378,7 @@ def write(model, theta, counts, rms, n_compounds, n_carbons):
             f'[[increment]]\ncentre = "{c}"\nneighbour = "{t}"\n'
             f'by_distance = [{", ".join(f"{x:.2f}" for x in v)}]\nsource = "{src(n)}"\n')
     written = {(c, t) for (c, t) in fam_terms} | {(c, t) for (c, t) in cls_terms}
-    for r in hand_increments():
+    for r in hand_kept("increment"):
         if (r["centre"], r["neighbour"]) not in written:
             files[FILES[family(r["centre"])]].append(
                 f'[[increment]]\ncentre = "{r["centre"]}"\nneighbour = "{r["neighbour"]}"\n'
@@ -415,7 +404,7 @@ def write(model, theta, counts, rms, n_compounds, n_carbons):
                 f'[[pair]]\ncentre = "{c}"\nvia = "{via}"\nbond = "{"multiple" if multiple else "single"}"\n'
                 f'neighbour = "{t}"\nincrement = {v:.2f}\nsource = "{src(cnt[k])}"\n')
     fitted = {(k[1], k[2], k[3]) for k in model.names if k[0] == "grp" and abs(val[k]) >= 0.05}
-    for r in hand_groups():
+    for r in hand_kept("group"):
         if (r["centre"], r["distance"], r["atom"]) not in fitted:
             files[FILES[family(r["centre"])]].append(
                 f'[[group]]\ncentre = "{r["centre"]}"\ndistance = {r["distance"]}\natom = "{r["atom"]}"\n'
