@@ -12,7 +12,7 @@
 mod carbon_dev;
 
 use isomerank::chem::smiles::parse_smiles;
-use isomerank::predict::carbon::environment;
+use isomerank::predict::carbon::{atom_type, environment, ATOM_TYPES};
 use isomerank::predict::view::View;
 use isomerank::predict::{PredictOptions, Predictor};
 use serde_json::json;
@@ -49,6 +49,8 @@ fn main() {
                     "pred": c.shift,
                     "terms": e.terms,
                     "paths": e.paths,
+                    "groups": e.groups,
+                    "atoms": c.atoms,
                 })
             })
             .collect();
@@ -56,7 +58,29 @@ fn main() {
             .iter()
             .map(|o| json!([o.shift, o.hydrogens, o.carbons]))
             .collect();
-        let line = json!({"id": case.id, "obs": obs, "classes": classes});
+        // The molecular graph as the predictor sees it, for exploring new
+        // terms in the fitting script: per atom (element, H count, atom
+        // type, aromatic, smallest ring, smallest aromatic ring size), and
+        // per bond (atom, atom, kind: 1 single, 2 double, 3 triple, 4 aromatic).
+        let atoms: Vec<_> = (0..v.n)
+            .map(|a| {
+                json!([
+                    v.element[a].symbol(),
+                    v.h[a],
+                    ATOM_TYPES[atom_type(&v, a) as usize],
+                    v.is_aromatic(a),
+                    v.ring_size[a],
+                    v.aromatic_ring_of(a).map_or(0, |r| r.count_ones()),
+                ])
+            })
+            .collect();
+        let bonds: Vec<_> = (0..v.n)
+            .flat_map(|a| v.neighbours(a).map(move |(b, k)| (a, b, k)))
+            .filter(|&(a, b, _)| a < b)
+            .map(|(a, b, k)| json!([a, b, k]))
+            .collect();
+        let line = json!({"id": case.id, "smiles": case.smiles, "obs": obs,
+            "classes": classes, "atoms": atoms, "bonds": bonds});
         writeln!(out, "{line}").expect("write");
     }
     eprintln!("{failed} compounds not read");

@@ -9,7 +9,9 @@ Input: the terms the predictor sums per carbon symmetry class, as written by
 Model (the predictor's, src/predict/carbon.rs): shift = base[centre class]
 + sum over atoms within four bonds of inc[family or class][atom type][distance]
 + sum over two-bond paths of pair[family][alpha type, bond][beta type]
-+ ring[family][smallest ring size]. It is linear in the table values, so the
++ ring[family][smallest ring size] + sum over the atom groups (an atom's
+type with its neighbours' types and bonds) at 0, 1 and 2 bonds of
+group[class (distance 0) or family][group][distance]. It is linear in the table values, so the
 fit is least squares with three refinements:
 
 * assignment: the data give no atom assignment, only shifts with H counts;
@@ -24,6 +26,10 @@ fit is least squares with three refinements:
   alpha atom's type, whether its bond to the centre is multiple, and the
   beta atom's type), so that a substituent on the neighbouring ring or
   double-bond carbon differs from the second atom of a substituent;
+* group terms: an increment per atom group (type plus neighbour types and
+  bonds) at 0 (the centre itself: carbonyl subtypes, branching), 1 and 2
+  bonds; a group term exists only where the fit data hold it on at least
+  MIN_GROUP_ROWS carbons, with ridge RIDGE_GROUP;
 * Huber weights (IRLS, k = HUBER ppm) so that a few wrong deposits do not
   drag the tables.
 
@@ -34,7 +40,8 @@ Usage:
     python3 scripts/fit_carbon.py TERMS.jsonl --validate   # fit even ids, measure odd (and back)
     python3 scripts/fit_carbon.py TERMS.jsonl --write      # fit all, write the TOML files
 
-Needs numpy. Deterministic (no random numbers).
+Needs numpy; uses scipy's sparse solver when installed (same result,
+minutes faster), else conjugate gradients. Deterministic (no random numbers).
 """
 import json
 import sys
@@ -52,6 +59,8 @@ RIDGE_PAIR = 10.0
 MIN_PAIR_ROWS = 10
 MIN_CLASS_ROWS = 30  # class-specific increment rows need this many carbons
 MIN_FAMILY_ROWS = 3
+RIDGE_GROUP = 5.0
+MIN_GROUP_ROWS = 3  # carbons carrying a group term in the fit data
 
 LIB = "fragment-library"
 FILES = {
@@ -86,9 +95,11 @@ class Model:
     """Parameter index: ('base', class), ('fam', fam, type, d), ('cls', class, type, d),
     ('ring', fam, size)."""
 
-    def __init__(self):
+    def __init__(self, groups=None):
         self.index = {}
         self.names = []
+        # group keys with enough carbons in the fit data (None: all)
+        self.groups = groups
 
     def col(self, key):
         i = self.index.get(key)
@@ -116,6 +127,13 @@ class Model:
                 c = get(key)
                 if c is not None:
                     cols[c] += 1.0
+        for g, d in cls.get("groups", []):
+            key = ("grp", cls["centre"] if d == 0 else fam, d, g)
+            if self.groups is not None and key not in self.groups:
+                continue
+            c = get(key)
+            if c is not None:
+                cols[c] += 1.0
         r = cls["ring"]
         if 3 <= r <= 8:
             c = get(("ring", fam, r))
@@ -152,14 +170,26 @@ def predict(model, theta, compound):
     return out
 
 
+def group_counts(compounds):
+    """Carbons per group key in `compounds`."""
+    n = defaultdict(int)
+    for c in compounds:
+        for cls in c["classes"]:
+            fam = family(cls["centre"])
+            for g, d in cls.get("groups", []):
+                n[("grp", cls["centre"] if d == 0 else fam, d, g)] += cls["n"]
+    return n
+
+
 def solve(model, rows, y, w):
-    """Weighted ridge least squares by Jacobi-preconditioned conjugate
-    gradients on the normal equations (the design matrix is sparse)."""
+    """Weighted ridge least squares on the normal equations (the design
+    matrix is sparse): scipy's sparse direct solver when installed, else
+    Jacobi-preconditioned conjugate gradients."""
     p = len(model.names)
     ridge = np.zeros(p)
     for i, k in enumerate(model.names):
         ridge[i] = {"base": RIDGE_BASE, "fam": RIDGE_FAMILY, "cls": RIDGE_CLASS, "ring": RIDGE_FAMILY,
-                    "pair": RIDGE_PAIR, "pcls": RIDGE_CLASS}[k[0]]
+                    "pair": RIDGE_PAIR, "pcls": RIDGE_CLASS, "grp": RIDGE_GROUP}[k[0]]
     ri, ci, vals = [], [], []
     for r, cols in enumerate(rows):
         for c, v in cols:
@@ -170,6 +200,15 @@ def solve(model, rows, y, w):
     ci = np.array(ci)
     vals = np.array(vals)
     n = len(rows)
+    try:
+        import scipy.sparse as sp
+        import scipy.sparse.linalg as spl
+
+        x = sp.csr_matrix((vals, (ri, ci)), shape=(n, p))
+        a = (x.T @ sp.diags(w) @ x + sp.diags(ridge)).tocsc()
+        return spl.spsolve(a, x.T @ (w * y))
+    except ImportError:
+        pass
 
     def xv(theta):
         return np.bincount(ri, weights=vals * theta[ci], minlength=n)
@@ -202,7 +241,7 @@ def solve(model, rows, y, w):
 
 
 def fit(compounds):
-    model = Model()
+    model = Model({k for k, n in group_counts(compounds).items() if n >= MIN_GROUP_ROWS})
     class_rows = [[model.row(cls) for cls in c["classes"]] for c in compounds]
     preds = [[cls["pred"] for cls in c["classes"]] for c in compounds]
     theta = None
@@ -269,6 +308,17 @@ def hand_rows():
     return base
 
 
+def hand_kept(kind):
+    """Hand-entered rows of one kind ("increment", "group") in the current
+    files (source not "refitted ..."): kept where the fit writes no such row."""
+    out = []
+    for f in sorted(set(FILES.values())):
+        with open(f"{LIB}/{f}", "rb") as fh:
+            t = tomllib.load(fh)
+        out += [r for r in t.get(kind, []) if not r["source"].startswith("refitted")]
+    return out
+
+
 def write(model, theta, counts, rms, n_compounds, n_carbons):
     hand = hand_rows()
     src = lambda n: (f"refitted on NMRShiftDB2 dev (n = {int(n)} carbons; Huber-weighted ridge least squares, "
@@ -327,6 +377,12 @@ def write(model, theta, counts, rms, n_compounds, n_carbons):
         files[fname].append(
             f'[[increment]]\ncentre = "{c}"\nneighbour = "{t}"\n'
             f'by_distance = [{", ".join(f"{x:.2f}" for x in v)}]\nsource = "{src(n)}"\n')
+    written = {(c, t) for (c, t) in fam_terms} | {(c, t) for (c, t) in cls_terms}
+    for r in hand_kept("increment"):
+        if (r["centre"], r["neighbour"]) not in written:
+            files[FILES[family(r["centre"])]].append(
+                f'[[increment]]\ncentre = "{r["centre"]}"\nneighbour = "{r["neighbour"]}"\n'
+                f'by_distance = [{", ".join(f"{x:.2f}" for x in r["by_distance"])}]\nsource = "{r["source"]}"\n')
     for k in model.names:
         if k[0] == "pair" and cnt[k] >= MIN_PAIR_ROWS and abs(val[k]) >= 0.05:
             _, fam, via, multiple, t = k
@@ -347,6 +403,22 @@ def write(model, theta, counts, rms, n_compounds, n_carbons):
             files[fname].append(
                 f'[[pair]]\ncentre = "{c}"\nvia = "{via}"\nbond = "{"multiple" if multiple else "single"}"\n'
                 f'neighbour = "{t}"\nincrement = {v:.2f}\nsource = "{src(cnt[k])}"\n')
+    fitted = {(k[1], k[2], k[3]) for k in model.names if k[0] == "grp" and abs(val[k]) >= 0.05}
+    for r in hand_kept("group"):
+        if (r["centre"], r["distance"], r["atom"]) not in fitted:
+            files[FILES[family(r["centre"])]].append(
+                f'[[group]]\ncentre = "{r["centre"]}"\ndistance = {r["distance"]}\natom = "{r["atom"]}"\n'
+                f'increment = {r["increment"]}\nsource = "{r["source"]}"\n')
+    for k in sorted((k for k in model.names if k[0] == "grp"), key=lambda k: (k[1], k[2], k[3])):
+        if abs(val[k]) < 0.05:
+            continue
+        _, centre, d, g = k
+        fname = FILES[family(centre)]
+        if family(centre) == "aro6" and any(t in g for t in HETERO_TYPES):
+            fname = "carbon-heteroaromatic.toml"
+        files[fname].append(
+            f'[[group]]\ncentre = "{centre}"\ndistance = {d}\natom = "{g}"\nincrement = {val[k]:.2f}\n'
+            f'source = "{src(cnt[k])}"\n')
     for k in model.names:
         if k[0] == "ring" and cnt[k] >= MIN_FAMILY_ROWS:
             files[FILES[k[1]]].append(

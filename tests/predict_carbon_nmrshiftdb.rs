@@ -16,12 +16,14 @@ use isomerank::predict::view::View;
 use isomerank::predict::{PredictOptions, Predictor};
 
 /// The goal of the 13C predictor on the dev compounds, ppm (project issue
-/// 9). NOT met yet: the refitted tables give 2.6 on all dev compounds and
-/// 2.8 on the half left out of a fit (fragment-library/README.md); the
-/// assertion below guards against a regression from the measured figure.
+/// 9). Met: the tables as committed (fitted on all dev compounds) give 2.03
+/// here, and the cross-validated figure (fit on one half, measured on the
+/// other, both ways) is 2.35 (fragment-library/README.md, "Refit of the
+/// 13C tables"); the assertion below guards against a regression from the
+/// measured figure.
 const GOAL_MAE: f64 = 2.5;
-/// The measured figure of the tables as committed, with some slack.
-const MEASURED_MAE: f64 = 2.7;
+/// The measured figure of the tables as committed (2.03), with some slack.
+const MEASURED_MAE: f64 = 2.1;
 
 #[test]
 fn carbon_shifts_on_nmrshiftdb2_dev() {

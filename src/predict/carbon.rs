@@ -23,6 +23,18 @@
 //!   same distance increments (a ring N at 1, 2 or 3 bonds gives pyridine's
 //!   C2, C3 and C4).
 //!
+//! - group terms, for every centre family: an increment per atom group
+//!   (an atom's type with the types of its neighbours and the bonds to
+//!   them, a one-bond HOSE-like sphere: Bremser, Anal. Chim. Acta 1978,
+//!   103, 355) at 0, 1 or 2 bonds from the centre. At distance 0 the group
+//!   is the centre itself, so the term tells carbonyl subtypes (ketone,
+//!   ester, amide, carbamate, urea, carbonate ...) apart and carries Grant
+//!   & Paul's branching corrections and the geminal non-additivity of
+//!   substituents (tert-butyl ethers, CF3, acetals); at 1 and 2 bonds it
+//!   tells substituents with the same first atom apart (OMe / OAc / OAr
+//!   on a ring, ketone / ester / amide / acid carbonyl next to a carbon,
+//!   NH2 / NHAc), the second-order terms the single-atom increments miss.
+//!
 //! The increments are per centre class (kind and H count, e.g. `sp3.CH2`),
 //! falling back to the centre's family (`sp3`) when a class has no row of
 //! its own, so a table can hold the published family-wide values and add a
@@ -120,6 +132,9 @@ pub const NC: usize = CENTRES.len();
 /// Distances with increments: alpha, beta, gamma, delta.
 pub const DIST: usize = 4;
 
+/// Group terms reach atoms at 0 (the centre itself) to this many bonds.
+pub const GROUP_DIST: usize = 2;
+
 /// The compiled carbon tables.
 pub struct CarbonTable {
     /// Base shift and sigma per centre class (family row when the class has none).
@@ -131,6 +146,11 @@ pub struct CarbonTable {
     /// Increment per two-bond path centre-via-atom (beta atom seen through
     /// its alpha atom and the bond to it), indexed by [`pair_index`].
     pub pair: Vec<f64>,
+    /// Group id per packed group key ([`group_key`]), for the groups the
+    /// tables name.
+    group_ids: std::collections::HashMap<u64, u32>,
+    /// Group increment per (centre class, distance 0..=GROUP_DIST, group id).
+    group: Vec<f64>,
     by_family_h: [[u8; 5]; FAMILIES.len()],
 }
 
@@ -144,6 +164,88 @@ impl CarbonTable {
     fn pair(&self, centre: u8, via: u8, multiple: bool, ty: u8) -> f64 {
         self.pair[pair_index(centre as usize, via as usize, multiple, ty as usize)]
     }
+
+    #[inline]
+    fn group(&self, centre: u8, d: usize, id: u32) -> f64 {
+        if id == NO_GROUP {
+            return 0.0;
+        }
+        let ng = self.group_ids.len();
+        self.group[(centre as usize * (GROUP_DIST + 1) + d) * ng + id as usize]
+    }
+}
+
+const NO_GROUP: u32 = u32::MAX;
+
+/// The group of atom `a`: its type and the sorted (type, bond) codes of its
+/// neighbours, packed (6 bits for the type, 7 per neighbour code).
+pub fn group_key(v: &View, types: &[u8], a: usize) -> u64 {
+    let mut codes = [0u64; super::view::MAX_DEGREE];
+    let d = v.deg[a] as usize;
+    for (k, code) in codes.iter_mut().enumerate().take(d) {
+        let x = v.nbr[a][k] as usize;
+        *code = neighbour_code(types[x], v.bond[a][k]);
+    }
+    pack_group(types[a], &mut codes[..d])
+}
+
+/// A neighbour's code: 1 + 4 * type + bond kind (0 single, 1 double, 2
+/// triple, 3 aromatic).
+#[inline]
+fn neighbour_code(ty: u8, bond: u8) -> u64 {
+    1 + 4 * ty as u64 + (bond.clamp(1, 4) - 1) as u64
+}
+
+fn pack_group(ty: u8, codes: &mut [u64]) -> u64 {
+    codes.sort_unstable();
+    let mut key = ty as u64;
+    for &c in codes.iter() {
+        key = key << 7 | c;
+    }
+    key
+}
+
+const BOND_MARKS: [&str; 4] = ["", "=", "#", ":"];
+
+/// The name of a group as the tables write it: `TYPE(N1,N2,...)`, each
+/// neighbour its type and a bond mark (none single, `=`, `#`, `:`
+/// aromatic), in code order.
+pub fn group_name(v: &View, types: &[u8], a: usize) -> String {
+    let mut codes: Vec<u64> = (0..v.deg[a] as usize)
+        .map(|k| neighbour_code(types[v.nbr[a][k] as usize], v.bond[a][k]))
+        .collect();
+    codes.sort_unstable();
+    let nbrs: Vec<String> = codes
+        .iter()
+        .map(|c| {
+            let ty = ((c - 1) / 4) as usize;
+            format!("{}{}", ATOM_TYPES[ty], BOND_MARKS[((c - 1) % 4) as usize])
+        })
+        .collect();
+    format!("{}({})", ATOM_TYPES[types[a] as usize], nbrs.join(","))
+}
+
+/// Read a group name (`C.co(N.h0,O.2,O.dbl=)`) into its packed key.
+fn parse_group(name: &str) -> Option<u64> {
+    let (ty, rest) = name.split_once('(')?;
+    let inner = rest.strip_suffix(')')?;
+    let ty = type_index(ty)? as u8;
+    let mut codes = Vec::new();
+    if !inner.is_empty() {
+        for item in inner.split(',') {
+            let (name, bond) = match item.char_indices().last()? {
+                (i, '=') => (&item[..i], 2),
+                (i, '#') => (&item[..i], 3),
+                (i, ':') => (&item[..i], 4),
+                _ => (item, 1),
+            };
+            codes.push(neighbour_code(type_index(name)? as u8, bond));
+        }
+    }
+    if codes.len() > super::view::MAX_DEGREE {
+        return None;
+    }
+    Some(pack_group(ty, &mut codes))
 }
 
 pub fn centre_index(name: &str) -> Option<usize> {
@@ -364,6 +466,8 @@ pub(crate) struct CarbonCtx<'a> {
     t: &'a CarbonTable,
     v: &'a View,
     types: [u8; super::view::MAX_ATOMS],
+    /// Group id per atom ([`NO_GROUP`] where the tables have none).
+    groups: [u32; super::view::MAX_ATOMS],
 }
 
 impl<'a> CarbonCtx<'a> {
@@ -372,17 +476,40 @@ impl<'a> CarbonCtx<'a> {
         for (a, x) in types.iter_mut().enumerate().take(v.n) {
             *x = atom_type(v, a);
         }
-        CarbonCtx { t, v, types }
+        let mut groups = [NO_GROUP; super::view::MAX_ATOMS];
+        if !t.group_ids.is_empty() {
+            for (a, g) in groups.iter_mut().enumerate().take(v.n) {
+                *g = t
+                    .group_ids
+                    .get(&group_key(v, &types, a))
+                    .copied()
+                    .unwrap_or(NO_GROUP);
+            }
+        }
+        CarbonCtx {
+            t,
+            v,
+            types,
+            groups,
+        }
     }
 
     /// Shift and sigma of carbon `c`: base of its class, the increment of
-    /// every atom within four bonds by its distance (shortest path), and the
-    /// ring correction of the smallest ring through `c`.
+    /// every atom within four bonds by its distance (shortest path), the
+    /// two-bond paths, the groups within [`GROUP_DIST`] bonds (the centre's
+    /// own included), and the ring correction of the smallest ring through
+    /// `c`.
     pub fn shift(&self, c: usize) -> (f64, f64) {
         let v = self.v;
         let centre = self.t.centre_class(v, c);
         let (mut s, sigma) = self.t.base[centre as usize];
-        walk(v, c, |d, y| s += self.t.inc(centre, self.types[y])[d]);
+        s += self.t.group(centre, 0, self.groups[c]);
+        walk(v, c, |d, y| {
+            s += self.t.inc(centre, self.types[y])[d];
+            if d < GROUP_DIST {
+                s += self.t.group(centre, d + 1, self.groups[y]);
+            }
+        });
         paths(v, c, |x, multiple, y| {
             s += self.t.pair(centre, self.types[x], multiple, self.types[y]);
         });
@@ -503,11 +630,19 @@ pub fn environment(t: &CarbonTable, v: &View, c: usize) -> Environment {
     paths(v, c, |x, multiple, y| {
         path_terms.push((name(x), multiple, name(y)))
     });
+    let types: Vec<u8> = (0..v.n).map(|a| atom_type(v, a)).collect();
+    let mut groups = vec![(group_name(v, &types, c), 0u8)];
+    walk(v, c, |d, y| {
+        if d < GROUP_DIST {
+            groups.push((group_name(v, &types, y), d as u8 + 1));
+        }
+    });
     Environment {
         centre: CENTRES[t.centre_class(v, c) as usize].0,
         ring: v.ring_size[c],
         terms,
         paths: path_terms,
+        groups,
     }
 }
 
@@ -519,6 +654,8 @@ pub struct Environment {
     pub terms: Vec<(&'static str, u8)>,
     /// (alpha atom type, c-alpha bond multiple, beta atom type)
     pub paths: Vec<(&'static str, bool, &'static str)>,
+    /// (group name, distance 0..=GROUP_DIST)
+    pub groups: Vec<(String, u8)>,
 }
 
 /// 13C shifts are reported to 0.1 ppm. The sum is first snapped to 1e-6
@@ -551,6 +688,20 @@ struct CarbonFile {
     ring: Vec<RingRow>,
     #[serde(default)]
     pair: Vec<PairRow>,
+    #[serde(default)]
+    group: Vec<GroupRow>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct GroupRow {
+    centre: String,
+    /// Bonds from the centre, 0 (the centre itself) to [`GROUP_DIST`].
+    distance: usize,
+    /// The group: `TYPE(NEIGHBOUR,...)`, see [`group_name`].
+    atom: String,
+    increment: f64,
+    source: String,
 }
 
 #[derive(Deserialize)]
@@ -634,6 +785,8 @@ pub(crate) fn load(files: &[(&str, String)]) -> Result<CarbonTable> {
     let mut inc: Vec<Vec<(Key, [f64; DIST])>> = vec![Vec::new(); NT];
     let mut ring: Vec<Vec<(Key, f64)>> = vec![Vec::new(); 9];
     let mut pair: Vec<(Key, usize, f64)> = Vec::new();
+    let mut group_ids: std::collections::HashMap<u64, u32> = Default::default();
+    let mut group: Vec<(Key, usize, u32, f64)> = Vec::new();
     for (file, text) in files {
         let f: CarbonFile = toml::from_str(text)
             .map_err(|e| Error::input(format!("fragment library {file}: {e}")))?;
@@ -716,14 +869,57 @@ pub(crate) fn load(files: &[(&str, String)]) -> Result<CarbonTable> {
             }
             pair.push((k, slot, row.increment));
         }
+        for row in &f.group {
+            let entry = format!(
+                "group {} {} distance {}",
+                row.centre, row.atom, row.distance
+            );
+            need_source(file, &entry, &row.source)?;
+            let k = key(file, &row.centre)?;
+            let Some(g) = parse_group(&row.atom) else {
+                return Err(Error::input(format!(
+                    "fragment library {file}: {entry}: a group is TYPE(NEIGHBOUR,...) with \
+                     atom types (known: {}) and bond marks = # : after a neighbour",
+                    ATOM_TYPES.join(", ")
+                )));
+            };
+            if row.distance > GROUP_DIST || !row.increment.is_finite() {
+                return Err(Error::input(format!(
+                    "fragment library {file}: {entry}: distance 0-{GROUP_DIST} and a number needed"
+                )));
+            }
+            let next = group_ids.len() as u32;
+            let id = *group_ids.entry(g).or_insert(next);
+            if group
+                .iter()
+                .any(|&(x, d, i, _)| x == k && d == row.distance && i == id)
+            {
+                return Err(twice(file, &entry));
+            }
+            group.push((k, row.distance, id, row.increment));
+        }
     }
     let mut t = CarbonTable {
         base: [(0.0, 1.0); NC],
         inc: vec![[0.0; DIST]; NC * NT],
         ring: [[0.0; 9]; NC],
         pair: vec![0.0; NC * 2 * NT * NT],
+        group: vec![0.0; NC * (GROUP_DIST + 1) * group_ids.len()],
+        group_ids,
         by_family_h: centre_by_family_h(),
     };
+    // Group rows: the class's own, else its family's.
+    let ng = t.group_ids.len();
+    for (c, (_, family)) in CENTRES.iter().enumerate() {
+        let fam = Key::Family(family_index(family).expect("family listed"));
+        for pass in [fam, Key::Class(c)] {
+            for &(k, d, id, x) in &group {
+                if k == pass {
+                    t.group[(c * (GROUP_DIST + 1) + d) * ng + id as usize] = x;
+                }
+            }
+        }
+    }
     // Path rows: the class's own, else its family's.
     let stride = 2 * NT * NT;
     for (c, (_, family)) in CENTRES.iter().enumerate() {
@@ -769,6 +965,33 @@ fn twice(file: &str, entry: &str) -> Error {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn group_names_read_back_to_their_keys() {
+        // Methyl acetate, pyridine-2-carbonitrile: every atom's group name
+        // is read back to the key computed from the structure.
+        for smiles in ["CC(=O)OC", "N#Cc1ccccn1"] {
+            let mol = crate::chem::smiles::parse_smiles(smiles).unwrap();
+            let v = View::new(&mol).unwrap();
+            let types: Vec<u8> = (0..v.n).map(|a| atom_type(&v, a)).collect();
+            for a in 0..v.n {
+                let name = group_name(&v, &types, a);
+                assert_eq!(parse_group(&name), Some(group_key(&v, &types, a)), "{name}");
+            }
+        }
+        // The ester carbonyl as the tables write it (neighbours in code order).
+        let mol = crate::chem::smiles::parse_smiles("CC(=O)OC").unwrap();
+        let v = View::new(&mol).unwrap();
+        let types: Vec<u8> = (0..v.n).map(|a| atom_type(&v, a)).collect();
+        assert_eq!(group_name(&v, &types, 1), "C.co(C.sp3.1,O.2,O.dbl=)");
+        // Neighbour order does not matter; unknown types and bad marks are refused.
+        assert_eq!(
+            parse_group("C.co(O.dbl=,O.2,C.sp3.1)"),
+            parse_group("C.co(C.sp3.1,O.2,O.dbl=)")
+        );
+        assert_eq!(parse_group("C.co(X,O.dbl=)"), None);
+        assert_eq!(parse_group("C.co O.dbl="), None);
+    }
 
     #[test]
     fn type_constants_match_their_names() {
