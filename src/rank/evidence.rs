@@ -367,10 +367,17 @@ fn hmbc(m: &Member) -> Vec<Peak> {
 }
 
 /// The 2D experiments that tell `b` from `a`: a COSY or HMBC cross peak one
-/// predicts and the other does not (the first such, from either side).
+/// predicts and the other does not, between kinds of 1H signal both
+/// predict (the first such, from either side).
 pub fn two_d(a: &Member, b: &Member) -> Vec<String> {
-    let lone = |x: &[Peak], y: &[Peak]| {
+    // A cross peak decides only between signals both candidates predict:
+    // the other candidate has the same kinds of signal but not the peak.
+    let keys = |m: &Member| -> Vec<Key> { m.predicted.iter().map(Key::of).collect() };
+    let (ka, kb) = (keys(a), keys(b));
+    let lone = |x: &[Peak], y: &[Peak], other: &[Key]| {
+        let has = |k: &Key| other.iter().any(|o| o.same(k));
         x.iter()
+            .filter(|p| has(&p.h) && p.partner.as_ref().is_none_or(has))
             .find(|p| !y.iter().any(|q| q.same(p)))
             .map(|p| p.text.clone())
     };
@@ -379,9 +386,9 @@ pub fn two_d(a: &Member, b: &Member) -> Vec<String> {
         ("COSY", "between", cosy(a), cosy(b)),
         ("HMBC", "", hmbc(a), hmbc(b)),
     ] {
-        let found = match lone(&pa, &pb) {
+        let found = match lone(&pa, &pb, &kb) {
             Some(t) => Some((t, a, b)),
-            None => lone(&pb, &pa).map(|t| (t, b, a)),
+            None => lone(&pb, &pa, &ka).map(|t| (t, b, a)),
         };
         if let Some((t, has, lacks)) = found {
             let tail = if name == "HMBC" { " (2-3 bonds)" } else { "" };
@@ -626,18 +633,21 @@ mod tests {
     }
 
     #[test]
-    fn cosy_and_the_carbonyl_region() {
-        // Butanal against butan-2-one (common practice): the aldehyde's
-        // CHO H (9-10 ppm) couples with its CH2 in COSY; the ketone has no
-        // H on its carbonyl carbon. Pentan-3-one against pent-4-en-2-ol
-        // differ in C=O carbons (1 against 0).
-        let v = predicted(&["CCCC=O", "CCC(C)=O"]);
+    fn hmbc_between_like_signals_and_the_carbonyl_region() {
+        // Methyl butanoate against propyl acetate (common practice): the
+        // same kinds of 1H signal (3H t, 2H sext, 2H t, 3H s); the middle
+        // CH2 (sext) is three bonds from the C=O carbon in the first and
+        // four in the second, so only the first shows that HMBC peak.
+        let v = predicted(&["CCCC(=O)OC", "CCCOC(C)=O"]);
         let ev = separating_evidence(&members(&v));
         assert!(
-            ev.iter()
-                .any(|e| e.starts_with("COSY: #1 predicts a cross peak between the 1H t near")),
+            ev.iter().any(|e| e
+                .starts_with("HMBC: #1 predicts a cross peak from the 2H sext near")
+                && e.ends_with("to a C=O carbon (2-3 bonds); #2 does not")),
             "{ev:?}"
         );
+        // Pentan-3-one against pent-4-en-2-ol differ in C=O carbons (1
+        // against 0).
         let v = predicted(&["CCC(=O)CC", "C=CCC(C)O"]);
         let ev = separating_evidence(&members(&v));
         assert!(
