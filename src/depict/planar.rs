@@ -406,20 +406,10 @@ mod tests {
             (2, 5),
         ];
         assert!(is_planar(&graph(6, &prism)));
-        let cube = [
-            (0, 1),
-            (1, 2),
-            (2, 3),
-            (3, 0),
-            (4, 5),
-            (5, 6),
-            (6, 7),
-            (7, 4),
-            (0, 4),
-            (1, 5),
-            (2, 6),
-            (3, 7),
-        ];
+        // The cube: two squares 0-3 and 4-7 and the four edges joining them.
+        let cube: Vec<(usize, usize)> = (0..4)
+            .flat_map(|i| [(i, (i + 1) % 4), (4 + i, 4 + (i + 1) % 4), (i, i + 4)])
+            .collect();
         let f = faces(&graph(8, &cube)).unwrap();
         // Euler's formula: F = E - V + 2 = 12 - 8 + 2 = 6 faces, all squares.
         assert_eq!(f.len(), 6);
