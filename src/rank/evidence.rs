@@ -294,6 +294,9 @@ struct Peak {
     h: Key,
     partner: Option<Key>,
     carbon: &'static str,
+    /// HMBC: how many carbons of that kind, as seen from one atom of the
+    /// group.
+    carbons: usize,
     text: String,
 }
 
@@ -306,7 +309,7 @@ impl Peak {
             (None, None) => self.h.same(&o.h),
             _ => false,
         };
-        pair && self.carbon == o.carbon
+        pair && self.carbon == o.carbon && self.carbons == o.carbons
     }
 }
 
@@ -329,6 +332,7 @@ fn cosy(m: &Member) -> Vec<Peak> {
                     h: Key::of(a),
                     partner: Some(Key::of(b)),
                     carbon: "",
+                    carbons: 0,
                     text: format!("the {} and the {}", signal_name(a), signal_name(b)),
                 });
             }
@@ -339,7 +343,8 @@ fn cosy(m: &Member) -> Vec<Peak> {
 
 /// HMBC cross peaks of a candidate: from each predicted 1H signal to the
 /// carbons without H, and the C=O carbons, two or three bonds from its H
-/// (one or two bonds from the atom carrying them), by carbon kind.
+/// (one or two bonds from the atom carrying them), by carbon kind and
+/// number (a CH3 next to two ring carbons without H, or one).
 fn hmbc(m: &Member) -> Vec<Peak> {
     let Some(mol) = m.molecule else {
         return Vec::new();
@@ -353,14 +358,31 @@ fn hmbc(m: &Member) -> Vec<Peak> {
             .map(|c| carbon_kind(mol, c))
             .collect();
         kinds.sort_unstable();
-        kinds.dedup();
-        for k in kinds {
+        let mut k = 0;
+        while k < kinds.len() {
+            let kind = kinds[k];
+            // Atoms of one signal's group are equivalent: the carbons seen
+            // from one of them count (a CH3's peaks, not three times).
+            let n = within(mol, &s.atoms[..1], 2)
+                .into_iter()
+                .filter(|&c| mol.atom(c).element == Element::C)
+                .filter(|&c| mol.atom(c).hydrogens == 0 || carbon_kind(mol, c) == "C=O")
+                .filter(|&c| carbon_kind(mol, c) == kind)
+                .count();
             out.push(Peak {
                 h: Key::of(s),
                 partner: None,
-                carbon: k,
-                text: format!("from the {} to a {k} carbon", signal_name(s)),
+                carbon: kind,
+                carbons: n,
+                text: format!(
+                    "from the {} to {n} {kind} carbon{}",
+                    signal_name(s),
+                    if n == 1 { "" } else { "s" }
+                ),
             });
+            while k < kinds.len() && kinds[k] == kind {
+                k += 1;
+            }
         }
     }
     out
@@ -394,7 +416,7 @@ pub fn two_d(a: &Member, b: &Member) -> Vec<String> {
             let tail = if name == "HMBC" { " (2-3 bonds)" } else { "" };
             let sep = if what.is_empty() { "" } else { " " };
             out.push(format!(
-                "{name}: {} predicts a cross peak {what}{sep}{t}{tail}; {} does not",
+                "{name}: {} predicts cross peaks {what}{sep}{t}{tail}; {} does not",
                 has.label, lacks.label
             ));
         }
@@ -624,8 +646,8 @@ mod tests {
         let hmbc: Vec<&String> = ev.iter().filter(|e| e.starts_with("HMBC")).collect();
         assert_eq!(hmbc.len(), 1, "{ev:?}");
         assert!(
-            hmbc[0].starts_with("HMBC: #2 predicts a cross peak from the 3H t near")
-                && hmbc[0].ends_with("to a C=O carbon (2-3 bonds); #1 does not"),
+            hmbc[0].starts_with("HMBC: #2 predicts cross peaks from the 3H t near")
+                && hmbc[0].ends_with("to 1 C=O carbon (2-3 bonds); #1 does not"),
             "{ev:?}"
         );
         // Both have one C=O carbon: the carbonyl region does not separate.
@@ -641,9 +663,10 @@ mod tests {
         let v = predicted(&["CCCC(=O)OC", "CCCOC(C)=O"]);
         let ev = separating_evidence(&members(&v));
         assert!(
-            ev.iter().any(|e| e
-                .starts_with("HMBC: #1 predicts a cross peak from the 2H sext near")
-                && e.ends_with("to a C=O carbon (2-3 bonds); #2 does not")),
+            ev.iter().any(
+                |e| e.starts_with("HMBC: #1 predicts cross peaks from the 2H sext near")
+                    && e.ends_with("to 1 C=O carbon (2-3 bonds); #2 does not")
+            ),
             "{ev:?}"
         );
         // Pentan-3-one against pent-4-en-2-ol differ in C=O carbons (1
