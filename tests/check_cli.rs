@@ -51,7 +51,10 @@ fn isopropyl_exercise_is_unique() {
 // 2- and 3-chlorotoluene: both show four aromatic H as a multiplet near
 // 7.1-7.3 ppm and a methyl singlet near 2.35 ppm (common practice): the 1H
 // list cannot separate them, and neither can the 13C signal count (7 each)
-// or DEPT (4 CH each); 4-chlorotoluene (5 signals, two 2H d) can be told.
+// or DEPT (4 CH each); HMBC can: the methyl H are two and three bonds from
+// two ring carbons without H in 2-chlorotoluene (C1 and C-Cl) and from one
+// in 3-chlorotoluene (C1; its C2 and C6 carry H) (common practice).
+// 4-chlorotoluene (5 signals, two 2H d) can be told by the 13C count.
 #[test]
 fn chlorotoluene_regioisomers_tie() {
     let (code, out, err) = check(&[
@@ -71,7 +74,14 @@ fn chlorotoluene_regioisomers_tie() {
         .iter()
         .find(|r| r["smiles"] == "Cc1cccc(c1)Cl")
         .unwrap_or_else(|| panic!("3-chlorotoluene is a rival: {out}"));
-    assert_eq!(meta["separated_by"], serde_json::json!([]));
+    let seps = meta["separated_by"].as_array().unwrap();
+    assert_eq!(seps.len(), 1, "{out}");
+    let hmbc = seps[0].as_str().unwrap();
+    assert!(
+        hmbc.starts_with("HMBC: the answer predicts cross peaks from the 3H s near")
+            && hmbc.ends_with("to 2 C=C or aromatic carbons (2-3 bonds); this one does not"),
+        "{out}"
+    );
     if let Some(para) = rivals.iter().find(|r| r["smiles"] == "Cc1ccc(cc1)Cl") {
         let seps = para["separated_by"].as_array().unwrap();
         assert!(

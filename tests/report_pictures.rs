@@ -96,6 +96,33 @@ fn chromium() -> PathBuf {
     panic!("headless Chromium not found: run scripts/test (it installs Debian's package chromium) or set ISOMERANK_CHROMIUM");
 }
 
+/// Render a page with headless Chromium into a PNG screenshot (1000 x 1400
+/// pixels); returns the page's console messages.
+fn render(page: &std::path::Path, png: &std::path::Path, profile: &std::path::Path) -> Vec<String> {
+    let shot = Command::new(chromium())
+        .args([
+            "--headless",
+            "--no-sandbox",
+            "--disable-gpu",
+            "--hide-scrollbars",
+            "--enable-logging=stderr",
+            "--v=0",
+            "--window-size=1000,1400",
+        ])
+        .arg(format!("--user-data-dir={}", profile.display()))
+        .arg(format!("--screenshot={}", png.display()))
+        .arg(format!("file://{}", page.display()))
+        .output()
+        .expect("start chromium");
+    let log = String::from_utf8_lossy(&shot.stderr).to_string();
+    assert!(shot.status.success(), "chromium failed: {log}");
+    assert!(png.exists(), "no screenshot: {log}");
+    log.lines()
+        .filter(|l| l.contains(":CONSOLE"))
+        .map(str::to_string)
+        .collect()
+}
+
 #[test]
 fn html_report_renders_in_a_browser() {
     let dir = scratch("html");
@@ -127,29 +154,24 @@ fn html_report_renders_in_a_browser() {
     assert!(page.contains("A ranking is a hypothesis, not an identification"));
     assert!(page.contains("Plausibility rules applied"));
     assert!(page.contains("bredt"));
-    // Render it and look at the picture.
+    // Render it and look at the picture; the page's console must stay
+    // empty (no error, no warning, no message at all).
     let png = dir.join("report.png");
-    let profile = dir.join("profile");
-    let shot = Command::new(chromium())
-        .args([
-            "--headless",
-            "--no-sandbox",
-            "--disable-gpu",
-            "--hide-scrollbars",
-            "--enable-logging=stderr",
-            "--v=0",
-            "--window-size=1000,1400",
-        ])
-        .arg(format!("--user-data-dir={}", profile.display()))
-        .arg(format!("--screenshot={}", png.display()))
-        .arg(format!("file://{}", html.display()))
-        .output()
-        .expect("start chromium");
-    let log = String::from_utf8_lossy(&shot.stderr);
-    assert!(shot.status.success(), "chromium failed: {log}");
-    // Console messages of the page are logged as CONSOLE lines.
-    let console: Vec<&str> = log.lines().filter(|l| l.contains("CONSOLE")).collect();
+    let console = render(&html, &png, &dir.join("profile"));
     assert!(console.is_empty(), "console messages: {console:?}");
+    // The console check itself works: a page that logs an error and throws
+    // one shows both (Chromium writes the page's console to its log as
+    // CONSOLE lines under --enable-logging=stderr).
+    let control = dir.join("control.html");
+    std::fs::write(
+        &control,
+        "<!DOCTYPE html><html><body><p>x</p><script>console.error('control-error'); undefinedName();</script></body></html>",
+    )
+    .unwrap();
+    let seen = render(&control, &dir.join("control.png"), &dir.join("profile2"));
+    assert_eq!(seen.len(), 2, "{seen:?}");
+    assert!(seen[0].contains("control-error"), "{seen:?}");
+    assert!(seen[1].contains("undefinedName"), "{seen:?}");
     let facts = run_reference_script("check_screenshot.py", &[png.to_str().unwrap()], "");
     let v: serde_json::Value = serde_json::from_str(&facts).unwrap();
     assert_eq!(v["width"], 1000);

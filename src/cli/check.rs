@@ -10,7 +10,8 @@
 //! signal count (carbon symmetry classes), the DEPT counts of CH3, CH2, CH
 //! and quaternary C classes, a 1H multiplicity (only when the data give an
 //! unresolved m where the two predictions differ), a J (only when the data
-//! give no J).
+//! give no J), and a COSY or HMBC cross peak one predicts and the other
+//! does not (`rank::evidence::two_d`).
 //!
 //! Exit codes: 0 unique, 3 not unique, 2 bad input, 1 internal fault.
 
@@ -19,6 +20,7 @@ use crate::chem::smiles::{canonical_smiles, parse_smiles};
 use crate::chem::{Element, Formula, Molecule};
 use crate::error::{Error, Result};
 use crate::predict::{PredictedSignal, Predictor};
+use crate::rank::evidence::{two_d, Member};
 use crate::rank::Ranked;
 use crate::report::SAFETY;
 use serde::Serialize;
@@ -227,8 +229,8 @@ pub fn judge(
                     delta: c.cost - a.cost,
                     probability: c.probability,
                     separated_by: separating(
-                        (&ao, &a.predicted),
-                        (&co, &c.predicted),
+                        (&ao, &a.predicted, &a.molecule),
+                        (&co, &c.predicted, &c.molecule),
                         data_j,
                         data_m,
                     ),
@@ -256,7 +258,14 @@ pub fn judge(
     let separates_all = if rivals.is_empty() || found.is_none() {
         Vec::new()
     } else {
-        let kinds = ["13C signal count", "DEPT", "multiplicity", "J"];
+        let kinds = [
+            "13C signal count",
+            "DEPT",
+            "multiplicity",
+            "J",
+            "COSY",
+            "HMBC",
+        ];
         kinds
             .iter()
             .filter(|k| {
@@ -288,8 +297,8 @@ pub fn judge(
 
 /// Extra observations that tell candidate b from a (empty: none of these).
 fn separating(
-    (ao, ap): (&Observables, &[PredictedSignal]),
-    (bo, bp): (&Observables, &[PredictedSignal]),
+    (ao, ap, am): (&Observables, &[PredictedSignal], &Molecule),
+    (bo, bp, bm): (&Observables, &[PredictedSignal], &Molecule),
     data_j: bool,
     data_m: bool,
 ) -> Vec<String> {
@@ -351,6 +360,17 @@ fn separating(
             out.push(format!("J: about {j:.0} Hz expected for this one only"));
         }
     }
+    // 2D experiments (the report's wording, `rank::evidence::two_d`).
+    let member = |label: &str, predicted, molecule| Member {
+        label: label.to_string(),
+        predicted,
+        carbon_signals: None,
+        molecule: Some(molecule),
+    };
+    out.extend(two_d(
+        &member("the answer", ap, am),
+        &member("this one", bp, bm),
+    ));
     out
 }
 
@@ -419,7 +439,7 @@ fn render(v: &Verdict) -> String {
             if rv.separated_by.is_empty() && !rv.delta.is_nan() {
                 let _ = writeln!(
                     t,
-                    "      no 13C count, DEPT count, multiplicity or J separates it: 13C shifts or 2D NMR (HMBC, COSY) are needed"
+                    "      no 13C count, DEPT count, multiplicity, J, COSY or HMBC cross peak separates it: 13C shifts or other data are needed"
                 );
             }
             for s in &rv.separated_by {

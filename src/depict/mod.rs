@@ -4,5 +4,6 @@
 
 pub mod geom;
 pub mod layout;
+pub mod planar;
 
 pub use layout::{layout, quality, Point, Quality};

@@ -13,19 +13,29 @@ use crate::chem::{Element, Molecule};
 /// decoupling, ignoring accidental overlap). Above the canonical labeller's
 /// atom limit every carbon counts as its own class.
 pub fn carbon_signals(mol: &Molecule) -> usize {
+    carbon_classes(mol).len()
+}
+
+/// One carbon atom of each carbon symmetry class (the lowest numbered), in
+/// atom order; the classes of [`carbon_signals`].
+pub fn carbon_classes(mol: &Molecule) -> Vec<usize> {
     let n = mol.atom_count();
     let carbons = (0..n).filter(|&i| mol.atom(i).element == Element::C);
     if n > MAX_ATOMS {
-        return carbons.count();
+        return carbons.collect();
     }
     let arom = perceive(mol);
     let mut c = Canonizer::new();
     c.run(&canon_graph(mol, Some(&arom)));
     let orbits = c.orbits();
-    let mut ids: Vec<usize> = carbons.map(|i| orbits[i]).collect();
-    ids.sort_unstable();
-    ids.dedup();
-    ids.len()
+    let mut seen = Vec::new();
+    carbons
+        .filter(|&i| {
+            let new = !seen.contains(&orbits[i]);
+            seen.push(orbits[i]);
+            new
+        })
+        .collect()
 }
 
 #[cfg(test)]

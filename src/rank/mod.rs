@@ -541,11 +541,12 @@ fn finish(
                     label: format!("#{pos}"),
                     predicted: &c.predicted,
                     carbon_signals: Some(c.carbon_signals),
+                    molecule: Some(&c.molecule),
                 }
             })
             .collect();
-        g.evidence =
-            evidence::separating_evidence_given(&members, evidence::Given::of(settings.spectrum));
+        let given = evidence::Given::of(settings.spectrum).with_carbon(settings.carbon.is_some());
+        g.evidence = evidence::separating_evidence_given(&members, given);
     }
     Ranking {
         candidates,

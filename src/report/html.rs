@@ -232,6 +232,24 @@ pub fn render(cx: &Context) -> String {
         reasons.push(reason);
     }
     h.push_str("</table>\n");
+    // What would separate the leading candidates.
+    let (lead, lead_evidence) = super::leading(cx);
+    if !lead.is_empty() {
+        let _ = writeln!(
+            h,
+            "<h2>Next experiments</h2><p>{}</p>",
+            esc(&super::leading_heading(cx, &lead))
+        );
+        if lead_evidence.is_empty() {
+            h.push_str("<p>None of the observations considered (13C count, DEPT, C=O region, multiplicity, J, COSY, HMBC) separates them.</p>\n");
+        } else {
+            h.push_str("<ul>\n");
+            for ev in &lead_evidence {
+                let _ = writeln!(h, "<li>{}</li>", esc(ev));
+            }
+            h.push_str("</ul>\n");
+        }
+    }
     // Groups the data cannot separate.
     let shared: Vec<_> = r
         .groups

@@ -33,7 +33,8 @@
 //! `unexplained_observed` (entries no group explains); at the top level
 //! `source` (`all isomers`, `constrained isomers`, `shortlist`),
 //! `constraints` (their names), `plausibility_rules`, `skipped`, `notes`, `groups` (with
-//! `evidence`), `safety`, `complete` (false when a cap stopped the run) and
+//! `evidence`), `leading` (the first candidates that together hold most of the
+//! probability, `members`, with the `evidence` that would separate them), `safety`, `complete` (false when a cap stopped the run) and
 //! `coverage` (`share` of the search covered, `stopped_by`: the option or
 //! null), and `fit`, the absolute verdict on the first candidate (null
 //! without candidates or observed lines):
@@ -122,6 +123,7 @@ pub fn render(cx: &Context) -> String {
             v
         })
         .collect();
+    let lead = super::leading(cx);
     let groups: Vec<Value> = r
         .groups
         .iter()
@@ -177,6 +179,7 @@ pub fn render(cx: &Context) -> String {
                 "message": warning.unwrap_or(line),
             })
         }),
+        "leading": {"members": lead.0, "evidence": lead.1},
         "safety": SAFETY,
     });
     let mut text = serde_json::to_string_pretty(&doc).expect("JSON of plain values");

@@ -36,6 +36,30 @@ pub struct Context<'a> {
     pub explain: Option<usize>,
 }
 
+/// The leading candidates (positions: the first ones that together hold
+/// most of the probability) and the extra observations that would separate
+/// them, leaving out what the data already give (see
+/// `rank::evidence::leading_evidence`). Empty when the first alone leads.
+pub fn leading(cx: &Context) -> (Vec<usize>, Vec<String>) {
+    use crate::rank::evidence::{leading_evidence, Given};
+    let given = Given::of(cx.spectrum).with_carbon(cx.carbon.is_some());
+    leading_evidence(&cx.ranking.candidates, given)
+}
+
+/// The sentence that opens the leading candidates' evidence.
+pub fn leading_heading(cx: &Context, members: &[usize]) -> String {
+    let share: f64 = members
+        .iter()
+        .map(|&p| cx.ranking.candidates[p - 1].probability)
+        .sum();
+    let names: Vec<String> = members.iter().map(|p| format!("#{p}")).collect();
+    format!(
+        "To separate the leading candidates {} (together {:.0} % of the probability):",
+        names.join(", "),
+        100.0 * share
+    )
+}
+
 /// Which candidates an enumeration considered, in words: every isomer, or
 /// those meeting the named constraints (text and HTML reports).
 pub fn candidate_set(formula: &Formula, constraints: &[String]) -> String {

@@ -140,6 +140,14 @@ pub fn render(cx: &Context) -> String {
             reason
         );
     }
+    let (lead, lead_evidence) = super::leading(cx);
+    if !lead.is_empty() && !lead_evidence.is_empty() {
+        let _ = writeln!(out);
+        let _ = writeln!(out, "{}", super::leading_heading(cx, &lead));
+        for ev in &lead_evidence {
+            let _ = writeln!(out, "  {ev}");
+        }
+    }
     let shared: Vec<_> = r
         .groups
         .iter()
