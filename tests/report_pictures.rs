@@ -48,6 +48,25 @@ fn predict_writes_a_drawing() {
     assert_eq!(svg.matches("<line").count(), 8 + 4 + 1, "{svg}");
     assert!(svg.contains(">O</text>"), "{svg}");
     assert!(svg.contains(">H</text>"), "aldehyde H drawn (CHO): {svg}");
+    // A nitro group and a pyridine N-oxide as chemists draw them: N+ and O-
+    // with a single N-O bond (common practice).
+    for (name, smiles, doubles) in [
+        ("nitro", "Cc1ccc(cc1)[N+](=O)[O-]", 3 + 1),
+        ("noxide", "[O-][n+]1ccccc1", 3),
+    ] {
+        let path = dir.join(format!("{name}.svg"));
+        let out = isomerank(&["predict", smiles, "--svg", path.to_str().unwrap()], None);
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let svg = std::fs::read_to_string(&path).unwrap();
+        assert_eq!(svg.matches(">+</text>").count(), 1, "{svg}");
+        assert_eq!(svg.matches(">\u{2212}</text>").count(), 1, "{svg}");
+        let bonds = if name == "nitro" { 10 } else { 7 };
+        assert_eq!(svg.matches("<line").count(), bonds + doubles, "{svg}");
+    }
     // Hydroxy and amino groups are written with their H.
     let path = dir.join("aminophenol.svg");
     let out = isomerank(
@@ -194,8 +213,14 @@ fn rdkit_reads(sdf: &str, fields: &str) -> serde_json::Value {
 #[test]
 fn sdf_files_read_back_in_rdkit() {
     // Every isomer of C4H8O (rings, C=O, C=C, ethers) and the plausible
-    // isomers of C5H5N (pyridine and other aromatic rings in Kekulé form).
-    for (formula, extra) in [("C4H8O", vec![]), ("C5H5N", vec!["--plausible"])] {
+    // isomers of C5H5N (pyridine and other aromatic rings in Kekulé form),
+    // and C2H5NO2 with the charge-separated groups (nitroethane, ethyl
+    // nitrate's relatives, N-oxides: written with M  CHG charges).
+    for (formula, extra) in [
+        ("C4H8O", vec![]),
+        ("C5H5N", vec!["--plausible"]),
+        ("C2H5NO2", vec!["--charge-separated"]),
+    ] {
         let mut args = vec!["isomers", formula, "--format", "sdf"];
         args.extend(extra.iter().copied());
         let out = isomerank(&args, None);

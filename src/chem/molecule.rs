@@ -105,6 +105,36 @@ impl Molecule {
         self.neighbours(i).map(|(_, o)| o).sum()
     }
 
+    /// The charge-separated form of the N(V) groups (nitro, N-oxides, built
+    /// as an N whose bond orders and H add up to 5): that N takes +1 and one
+    /// O on a double bond to it (the highest-numbered) takes -1, the bond
+    /// between them drawn or written single. Returns each atom's formal
+    /// charge and the (N, O) pairs whose bond becomes single.
+    pub fn charge_separation(&self) -> (Vec<i8>, Vec<(usize, usize)>) {
+        let n = self.atom_count();
+        let mut charge = vec![0i8; n];
+        let mut single = Vec::new();
+        for v in 0..n {
+            let atom = self.atom(v);
+            if atom.element != Element::N
+                || self.bond_order_sum(v) as u32 + atom.hydrogens as u32 != 5
+            {
+                continue;
+            }
+            let oxo = self
+                .neighbours(v)
+                .filter(|&(u, o)| o == 2 && self.atom(u).element == Element::O)
+                .map(|(u, _)| u)
+                .max();
+            if let Some(u) = oxo {
+                charge[v] = 1;
+                charge[u] = -1;
+                single.push((v, u));
+            }
+        }
+        (charge, single)
+    }
+
     /// Bond order between atoms `a` and `b`, 0 when not bonded.
     pub fn bond_order(&self, a: usize, b: usize) -> u8 {
         self.graph

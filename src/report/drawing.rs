@@ -105,6 +105,13 @@ pub fn structure_svg_at(mol: &Molecule, pos: &[Point], opts: &DrawOptions) -> St
         r#"<rect x="0" y="0" width="{w:.1}" height="{h:.1}" fill="white"/>"#
     );
     let labelled: Vec<bool> = (0..n).map(|i| needs_label(mol, i)).collect();
+    // Nitro groups and N-oxides drawn as chemists draw them: N+ and O-.
+    let (charge, single) = mol.charge_separation();
+    let demoted = |a: usize, b: usize| {
+        single
+            .iter()
+            .any(|&(v, u)| (v, u) == (a, b) || (u, v) == (a, b))
+    };
     let exterior: Vec<Point> = (0..n).map(|i| exterior(mol, pos, i)).collect();
 
     // Highlights under everything.
@@ -158,6 +165,7 @@ pub fn structure_svg_at(mol: &Molecule, pos: &[Point], opts: &DrawOptions) -> St
             }
             let perp = [-dir[1], dir[0]];
             let mut lines: Vec<(Point, Point)> = Vec::new();
+            let order = if demoted(a, b) { 1 } else { order };
             match order {
                 2 => {
                     let inner = double_side(mol, pos, &ring_list, &labelled, a, b);
@@ -247,6 +255,16 @@ pub fn structure_svg_at(mol: &Molecule, pos: &[Point], opts: &DrawOptions) -> St
             s,
             r#"<text x="{x:.1}" y="{baseline:.1}" font-size="{FONT_PX:.0}" text-anchor="middle" fill="{colour}">{sym}</text>"#
         );
+        if charge[a] != 0 {
+            // The charge as a superscript at the label's upper right.
+            let sign = if charge[a] > 0 { "+" } else { "\u{2212}" };
+            let cx = x + FONT_PX * (0.36 * sym.len() as f64 + 0.2);
+            let cy = baseline - FONT_PX * 0.55;
+            let _ = writeln!(
+                s,
+                r#"<text x="{cx:.1}" y="{cy:.1}" font-size="{sub_size:.0}" text-anchor="middle" fill="{colour}">{sign}</text>"#
+            );
+        }
         if hs > 0 {
             let half = FONT_PX * 0.36 * sym.len() as f64;
             if h_left {

@@ -26,11 +26,14 @@ pub fn molfile(mol: &Molecule, name: &str) -> String {
     let _ = writeln!(s, "  isomrank          2D");
     let _ = writeln!(s);
     let n = mol.atom_count();
+    // Nitro groups and N-oxides in the charged form readers expect.
+    let (charge, single) = mol.charge_separation();
     let mut bonds = Vec::new();
     for a in 0..n {
         for (b, o) in mol.neighbours(a) {
             if a < b {
-                bonds.push((a, b, o));
+                let demoted = single.contains(&(a, b)) || single.contains(&(b, a));
+                bonds.push((a, b, if demoted { 1 } else { o }));
             }
         }
     }
@@ -42,16 +45,24 @@ pub fn molfile(mol: &Molecule, name: &str) -> String {
     );
     for (a, p) in pos.iter().enumerate() {
         let atom = mol.atom(a);
-        let valence = mol.bond_order_sum(a) as u32 + atom.hydrogens as u32;
+        let valence = (mol.bond_order_sum(a) as i32 + atom.hydrogens as i32
+            - charge[a].unsigned_abs() as i32) as u32;
+        // Charge field: 3 is +1, 5 is -1 (repeated in the M  CHG line).
+        let ccc = match charge[a] {
+            1 => 3,
+            -1 => 5,
+            _ => 0,
+        };
         // 15 means a valence of zero in this field.
         let vvv = if valence == 0 { 15 } else { valence };
         let _ = writeln!(
             s,
-            "{:>10.4}{:>10.4}{:>10.4} {:<3} 0  0  0  0  0{:>3}  0  0  0  0  0  0",
+            "{:>10.4}{:>10.4}{:>10.4} {:<3} 0{:>3}  0  0  0{:>3}  0  0  0  0  0  0",
             p[0] * BOND_ANGSTROM,
             p[1] * BOND_ANGSTROM,
             0.0,
             symbol(atom.element),
+            ccc,
             vvv
         );
     }
@@ -67,6 +78,17 @@ pub fn molfile(mol: &Molecule, name: &str) -> String {
         let small_ring = e.is_some_and(|e| rings.bond_in_ring_smaller_than(e, 8));
         let stereo = if o == 2 && !small_ring { 3 } else { 0 };
         let _ = writeln!(s, "{:>3}{:>3}{:>3}{:>3}", a + 1, b + 1, o, stereo);
+    }
+    let charged: Vec<(usize, i8)> = (0..n)
+        .filter(|&a| charge[a] != 0)
+        .map(|a| (a, charge[a]))
+        .collect();
+    for chunk in charged.chunks(8) {
+        let _ = write!(s, "M  CHG{:>3}", chunk.len());
+        for &(a, c) in chunk {
+            let _ = write!(s, " {:>3} {:>3}", a + 1, c);
+        }
+        s.push('\n');
     }
     s.push_str("M  END\n");
     s
