@@ -222,8 +222,13 @@ fn carbon_instance(m: usize, st: &mut u64) -> (CarbonSpectrum, Vec<PredictedCarb
         });
     }
     let raw = carbon::parse(&lines.join(", ")).expect("13C list");
-    let spectrum =
-        carbon::build(raw, &Formula::parse("C90H182").unwrap(), "CDCl3").expect("13C spectrum");
+    let spectrum = carbon::build(
+        raw,
+        &Formula::parse("C90H182").unwrap(),
+        &SolventTable::embedded(),
+        "CDCl3",
+    )
+    .expect("13C spectrum");
     (spectrum, predicted)
 }
 

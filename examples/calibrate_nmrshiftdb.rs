@@ -28,7 +28,7 @@ mod nmrshiftdb;
 
 use isomerank::predict::Predictor;
 use isomerank::score::ScoringModel;
-use nmrshiftdb::{calibration_markdown, cases, rank_case, Case, Outcome};
+use nmrshiftdb::{calibration_markdown, cases, log_loss, rank_case, Case, Outcome};
 use rayon::prelude::*;
 use std::fmt::Write as _;
 
@@ -43,21 +43,6 @@ fn run(cases: &[Case], predictor: &Predictor, model: &ScoringModel) -> Vec<Outco
         .map(|c| rank_case(c, predictor, model, 10, None))
         .filter(|o| o.refused.is_none())
         .collect()
-}
-
-/// Summed log loss of the first candidate's stated probability.
-fn log_loss(outcomes: &[Outcome]) -> f64 {
-    outcomes
-        .iter()
-        .map(|o| {
-            let p = o.first_probability.clamp(1e-12, 1.0 - 1e-12);
-            if o.position == Some(1) {
-                -p.ln()
-            } else {
-                -(1.0 - p).ln()
-            }
-        })
-        .sum()
 }
 
 fn per_line(o: &Outcome) -> f64 {

@@ -20,7 +20,7 @@ mod nmrshiftdb;
 
 use isomerank::predict::Predictor;
 use isomerank::score::ScoringModel;
-use nmrshiftdb::{cases, rank_case, Case};
+use nmrshiftdb::{cases, log_loss, rank_case, Case};
 use rayon::prelude::*;
 
 const FACTORS: [f64; 4] = [0.5, 0.75, 1.33, 2.0];
@@ -56,18 +56,7 @@ fn measure(cases: &[Case], predictor: &Predictor, model: &ScoringModel) -> (usiz
         .filter(|o| o.refused.is_none())
         .collect();
     let first = outcomes.iter().filter(|o| o.position == Some(1)).count();
-    let loss = outcomes
-        .iter()
-        .map(|o| {
-            let p = o.first_probability.clamp(1e-12, 1.0 - 1e-12);
-            if o.position == Some(1) {
-                -p.ln()
-            } else {
-                -(1.0 - p).ln()
-            }
-        })
-        .sum();
-    (first, loss)
+    (first, log_loss(&outcomes))
 }
 
 fn better(a: (usize, f64), b: (usize, f64)) -> bool {

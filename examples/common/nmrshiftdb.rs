@@ -352,3 +352,19 @@ pub fn calibration_markdown(outcomes: &[Outcome]) -> String {
     }
     out
 }
+
+/// Summed log loss of the first candidate's stated probability (its
+/// probability when it is the truth, one minus it when it is not).
+pub fn log_loss(outcomes: &[Outcome]) -> f64 {
+    outcomes
+        .iter()
+        .map(|o| {
+            let p = o.first_probability.clamp(1e-12, 1.0 - 1e-12);
+            if o.position == Some(1) {
+                -p.ln()
+            } else {
+                -(1.0 - p).ln()
+            }
+        })
+        .sum()
+}
