@@ -111,6 +111,8 @@ fn dev_compounds_within_reach_rank_with_1h_and_13c() {
 /// command does by default): first 90.8 %, top 3 96.9 %, top 10 98.2 %
 /// (the first version of the 13C predictor and scorer gave 78.6 % / 87.3 %);
 /// with the thione, nh-imine and sulfur-ylide rules first 92.1 %, top 3
-/// 96.9 %, top 10 98.5 %.
-const FLOOR_FIRST: f64 = 91.5;
-const FLOOR_TOP3: f64 = 96.0;
+/// 96.9 %, top 10 98.5 %; with those rules, the strain rules and the 13C
+/// group terms (whose tables were fitted on all dev compounds, these
+/// included) first 95.2 %, top 3 98.0 %, top 10 99.5 %.
+const FLOOR_FIRST: f64 = 94.5;
+const FLOOR_TOP3: f64 = 97.5;
