@@ -218,30 +218,14 @@ fn write_sdf(
     out: &mut dyn Write,
     progress: &mut dyn FnMut(enumerate::Progress),
 ) -> crate::Result<enumerate::Summary> {
-    let mut write_error = None;
-    let summary = enumerate::for_each_ordered(
+    enumerate::write_records(
         formula,
         opts,
+        out,
         |iso| {
             let smiles = iso.smiles();
-            let mol = iso.molecule();
-            Some(crate::report::sdf::record(
-                &mol,
-                &smiles,
-                &[("smiles", smiles.clone())],
-            ))
-        },
-        |rec: String| match out.write_all(rec.as_bytes()) {
-            Ok(()) => true,
-            Err(e) => {
-                write_error = Some(e);
-                false
-            }
+            crate::report::sdf::record(&iso.molecule(), &smiles, &[("smiles", smiles.clone())])
         },
         progress,
-    )?;
-    match write_error {
-        Some(e) => Err(e.into()),
-        None => Ok(summary),
-    }
+    )
 }

@@ -987,15 +987,35 @@ pub fn write_smiles(
     out: &mut dyn std::io::Write,
     progress: &mut dyn FnMut(Progress),
 ) -> Result<Summary> {
+    write_records(
+        formula,
+        opts,
+        out,
+        |iso| {
+            let mut line = iso.smiles();
+            line.push('\n');
+            line
+        },
+        progress,
+    )
+}
+
+/// Write one text record per isomer to `out` (built in parallel by
+/// `record`, written in the deterministic order of [`for_each_ordered`]).
+/// Stops at the first write error and returns it.
+pub fn write_records(
+    formula: &Formula,
+    opts: &Options,
+    out: &mut dyn std::io::Write,
+    record: impl Fn(&Isomer) -> String + Sync,
+    progress: &mut dyn FnMut(Progress),
+) -> Result<Summary> {
     let mut write_error = None;
     let summary = for_each_ordered(
         formula,
         opts,
-        |iso| Some(iso.smiles()),
-        |s: String| match out
-            .write_all(s.as_bytes())
-            .and_then(|()| out.write_all(b"\n"))
-        {
+        |iso| Some(record(iso)),
+        |s: String| match out.write_all(s.as_bytes()) {
             Ok(()) => true,
             Err(e) => {
                 write_error = Some(e);

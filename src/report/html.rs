@@ -167,19 +167,9 @@ pub fn render(cx: &Context) -> String {
     let _ = writeln!(h, "<h2>Candidates considered</h2>");
     match &cx.source {
         Source::Enumeration { rules, constraints } => {
-            let which = super::candidate_set(cx.formula, constraints);
+            let which = super::candidate_set(cx, constraints);
             let which = format!("{}{}", which[..1].to_uppercase(), &which[1..]);
-            let _ = writeln!(
-                h,
-                "<p>{}: {} considered{}.</p>",
-                esc(&which),
-                r.considered,
-                if r.excluded > 0 {
-                    format!(", {} excluded by plausibility rules", r.excluded)
-                } else {
-                    String::new()
-                }
-            );
+            let _ = writeln!(h, "<p>{}.</p>", esc(&which));
             if rules.is_empty() {
                 h.push_str("<p>Plausibility rules: off (<code>--keep-all</code>).</p>\n");
             } else {

@@ -60,17 +60,26 @@ pub fn leading_heading(cx: &Context, members: &[usize]) -> String {
     )
 }
 
-/// Which candidates an enumeration considered, in words: every isomer, or
-/// those meeting the named constraints (text and HTML reports).
-pub fn candidate_set(formula: &Formula, constraints: &[String]) -> String {
-    if constraints.is_empty() {
+/// Which candidates an enumeration considered, in words, with the counts:
+/// every isomer, or those meeting the named constraints (text and HTML
+/// reports).
+pub fn candidate_set(cx: &Context, constraints: &[String]) -> String {
+    let formula = cx.formula;
+    let which = if constraints.is_empty() {
         format!("every constitutional isomer of {formula}")
     } else {
         format!(
             "the constitutional isomers of {formula} that meet {} (built inside the search)",
             constraints.join(", ")
         )
-    }
+    };
+    let r = cx.ranking;
+    let excluded = if r.excluded > 0 {
+        format!(", {} excluded by plausibility rules", r.excluded)
+    } else {
+        String::new()
+    };
+    format!("{which}: {} considered{excluded}", r.considered)
 }
 
 /// The absolute fit verdict on the first candidate (see

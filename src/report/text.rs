@@ -52,17 +52,10 @@ pub fn render(cx: &Context) -> String {
     );
     match &cx.source {
         Source::Enumeration { rules, constraints } => {
-            let which = super::candidate_set(cx.formula, constraints);
             let _ = writeln!(
                 out,
-                "Candidates: {}: {} considered{}.",
-                which,
-                r.considered,
-                if r.excluded > 0 {
-                    format!(", {} excluded by plausibility rules", r.excluded)
-                } else {
-                    String::new()
-                }
+                "Candidates: {}.",
+                super::candidate_set(cx, constraints)
             );
             if rules.is_empty() {
                 let _ = writeln!(out, "Plausibility rules: off (--keep-all).");

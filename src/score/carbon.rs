@@ -22,7 +22,7 @@
 //! Every term is >= 0 (the model refuses negative values), which the
 //! search's bounds need.
 
-use super::assign::{self, CostsRef, Workspace, NONE};
+use super::assign::{CostsRef, Workspace};
 use super::model::{shift_term, CarbonParams, ScoringModel};
 use super::Scored;
 use crate::predict::PredictedCarbon;
@@ -193,15 +193,7 @@ impl<'a> CarbonPrepared<'a> {
             abs_sigma: c.count_sigma,
             rel_sigma: 0.0,
         };
-        let cost = assign::solve_in(&view, cutoff, search)?;
-        Some(Scored {
-            cost,
-            assigned: search
-                .choice()
-                .iter()
-                .map(|&j| (j != NONE).then_some(j as usize))
-                .collect(),
-        })
+        Scored::solve(&view, cutoff, search)
     }
 }
 

@@ -36,6 +36,26 @@ pub struct Scored {
     pub assigned: Vec<Option<usize>>,
 }
 
+impl Scored {
+    /// The exact best assignment of `costs` below `cutoff` (see
+    /// [`assign::solve_in`]), with each group's line or `None`.
+    pub fn solve(
+        costs: &assign::CostsRef,
+        cutoff: f64,
+        search: &mut assign::Workspace,
+    ) -> Option<Scored> {
+        let cost = assign::solve_in(costs, cutoff, search)?;
+        Some(Scored {
+            cost,
+            assigned: search
+                .choice()
+                .iter()
+                .map(|&j| (j != NONE).then_some(j as usize))
+                .collect(),
+        })
+    }
+}
+
 /// Build the search's cost arrays for one candidate.
 pub fn costs(predicted: &[PredictedSignal], spectrum: &Spectrum, model: &ScoringModel) -> Costs {
     let m = spectrum.multiplets.len();

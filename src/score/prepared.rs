@@ -20,7 +20,7 @@
 //! rounding stays many orders below 1e-9, and a bound must clear the cutoff
 //! by `SLACK` (relative) before it rejects.
 
-use super::assign::{self, CostsRef, Workspace, NONE};
+use super::assign::{self, CostsRef, Workspace};
 use super::model::{shift_term, ScoringModel};
 use super::pattern_rows::PatternRows;
 use super::Scored;
@@ -265,15 +265,7 @@ impl<'a> Prepared<'a> {
             search,
             ..
         } = w;
-        let cost = assign::solve_in(&self.view(pair, unassigned, hydrogens), cutoff, search)?;
-        Some(Scored {
-            cost,
-            assigned: search
-                .choice()
-                .iter()
-                .map(|&j| (j != NONE).then_some(j as usize))
-                .collect(),
-        })
+        Scored::solve(&self.view(pair, unassigned, hydrogens), cutoff, search)
     }
 
     /// Lower-bound test for use before multiplicities are predicted.
