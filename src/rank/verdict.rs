@@ -4,7 +4,9 @@
 //! observed line (1H multiplets plus 13C lines) against the percentiles of
 //! the true structures' costs per line over the NMRShiftDB2 dev compounds,
 //! a table in `fragment-library/fit-percentiles.toml` (its header says how
-//! it was made: `examples/calibrate_nmrshiftdb.rs`). Above the table's
+//! it was made: `examples/calibrate_nmrshiftdb.rs`); data with a 1H list
+//! and no 13C list are judged against the table's own 1H-only rows (the true
+//! structures scored on their 1H lists alone). Above the table's
 //! warning level (the 99th percentile) the reports warn that the structure
 //! may be outside the search space, a constraint or rule may be wrong, or
 //! the data may hold an error.
@@ -33,6 +35,27 @@ pub struct FitTable {
     /// correct structures.
     pub warn_above_percentile: f64,
     pub percentile: Vec<Level>,
+    /// The same percentiles for data with a 1H list and no 13C list (the
+    /// true structure scored on its 1H list alone), when the table has them.
+    #[serde(default)]
+    pub proton_only: Option<Section>,
+    /// What the rows in use were made from, for the report's wording.
+    #[serde(skip)]
+    pub data: &'static str,
+}
+
+/// A second set of rows for another kind of data.
+#[derive(Clone, Debug, Deserialize)]
+pub struct Section {
+    pub n: usize,
+    pub percentile: Vec<Level>,
+}
+
+fn rows_rise(rows: &[Level]) -> bool {
+    !rows.is_empty()
+        && rows
+            .windows(2)
+            .all(|w| w[0].level < w[1].level && w[0].cost_per_line <= w[1].cost_per_line)
 }
 
 /// How the first candidate fits, on the scale of correct structures.
@@ -57,19 +80,35 @@ impl FitTable {
     }
 
     pub fn from_toml(text: &str) -> Result<FitTable> {
-        let t: FitTable = toml::from_str(text)
+        let mut t: FitTable = toml::from_str(text)
             .map_err(|e| Error::input(format!("fit percentile table: {}", e.message())))?;
-        let ordered = t
-            .percentile
-            .windows(2)
-            .all(|w| w[0].level < w[1].level && w[0].cost_per_line <= w[1].cost_per_line);
-        if t.percentile.is_empty() || !ordered || t.cost_scale.is_nan() || t.cost_scale <= 0.0 {
+        t.data = "1H + 13C";
+        let ordered = rows_rise(&t.percentile)
+            && t.proton_only
+                .as_ref()
+                .is_none_or(|p| rows_rise(&p.percentile));
+        if !ordered || t.cost_scale.is_nan() || t.cost_scale <= 0.0 {
             return Err(Error::input(
                 "fit percentile table: rows must rise in level and cost, and cost_scale be positive"
                     .to_string(),
             ));
         }
         Ok(t)
+    }
+
+    /// The rows for the data at hand: without a 13C list, the 1H-only rows
+    /// when the table has them (else the 1H + 13C rows, said so).
+    pub fn for_data(&self, carbon: bool) -> FitTable {
+        match (&self.proton_only, carbon) {
+            (Some(p), false) => FitTable {
+                n: p.n,
+                percentile: p.percentile.clone(),
+                proton_only: None,
+                data: "1H only",
+                ..self.clone()
+            },
+            _ => self.clone(),
+        }
     }
 
     /// The verdict on a candidate of `cost` (at `cost_scale`) against data
@@ -122,8 +161,8 @@ pub fn describe(v: &Verdict, table: &FitTable) -> (String, Option<String>) {
         format!("{:.0}", v.percentile)
     };
     let line = format!(
-        "Fit: the first candidate costs {:.2} per observed line; {share} % of the correct structures of {} NMRShiftDB2 dev compounds fit better (fragment-library/fit-percentiles.toml).",
-        v.cost_per_line, table.n
+        "Fit: the first candidate costs {:.2} per observed line; {share} % of the correct structures of {} NMRShiftDB2 dev compounds ({}) fit better (fragment-library/fit-percentiles.toml).",
+        v.cost_per_line, table.n, table.data
     );
     let warning = v.warning.then(|| {
         format!(
@@ -179,5 +218,39 @@ mod tests {
         let t = FitTable::embedded();
         assert!(t.n > 100);
         assert!(t.percentile.len() >= 5);
+        // Both kinds of data have their own rows.
+        let p = t.for_data(false);
+        assert_eq!(p.data, "1H only");
+        assert!(p.n > 100 && p.n != t.n);
+        assert_eq!(t.for_data(true).n, t.n);
+    }
+
+    #[test]
+    fn proton_only_rows_are_used_without_13c() {
+        let t = FitTable::from_toml(
+            "n = 100\ncost_scale = 1.0\nwarn_above_percentile = 99.0\n\
+             [[percentile]]\nlevel = 99.0\ncost_per_line = 3.0\n\
+             [proton_only]\nn = 50\n\
+             [[proton_only.percentile]]\nlevel = 99.0\ncost_per_line = 1.0\n",
+        )
+        .unwrap();
+        // 2.0 per line: fine against the 1H + 13C rows, beyond the 1H-only ones.
+        assert!(!t.for_data(true).verdict(20.0, 1.0, 10).unwrap().warning);
+        let p = t.for_data(false);
+        assert!(p.verdict(20.0, 1.0, 10).unwrap().warning);
+        let (line, _) = describe(&p.verdict(5.0, 1.0, 10).unwrap(), &p);
+        assert!(
+            line.contains("of 50 NMRShiftDB2 dev compounds (1H only)"),
+            "{line}"
+        );
+        // Falling rows are refused in either part.
+        assert!(FitTable::from_toml(
+            "n = 1\ncost_scale = 1.0\nwarn_above_percentile = 99.0\n\
+             [[percentile]]\nlevel = 99.0\ncost_per_line = 3.0\n\
+             [proton_only]\nn = 1\n\
+             [[proton_only.percentile]]\nlevel = 50.0\ncost_per_line = 2.0\n\
+             [[proton_only.percentile]]\nlevel = 99.0\ncost_per_line = 1.0\n",
+        )
+        .is_err());
     }
 }

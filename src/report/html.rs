@@ -5,7 +5,8 @@
 //! candidates (drawing with each H group marked, probability, cost, reason,
 //! simulated spectrum over the observed multiplets, signal-by-signal
 //! assignment), the groups the data cannot separate with the evidence that
-//! would separate them, and the safety wording.
+//! would separate them, the absolute fit verdict (and its warning), and the
+//! safety wording.
 
 use super::drawing::{structure_svg, DrawOptions, Highlight, GROUP_COLOURS};
 use super::spectrum_plot::{self, ObservedMark, SimSignal, Stick};
@@ -109,7 +110,7 @@ h1{font-size:1.5em}h2{font-size:1.2em;border-bottom:1px solid #ccc;padding-botto
 table{border-collapse:collapse;margin:.5em 0}td,th{border:1px solid #ccc;padding:.2em .5em;text-align:left;vertical-align:top;font-size:.92em}\
 th{background:#f2f2f2}.num{text-align:right}.cand{border:1px solid #bbb;border-radius:6px;padding:.8em;margin:1em 0}\
 .cand .top{display:flex;gap:1.5em;align-items:flex-start;flex-wrap:wrap}.smiles{font-family:DejaVu Sans Mono,monospace}\
-.safety{border:2px solid #b00;background:#fff4f4;padding:.8em;margin-top:2em}.swatch{display:inline-block;width:.9em;height:.9em;border-radius:50%;vertical-align:middle}\
+.warning{border:2px solid #b00;padding:.5em}.safety{border:2px solid #b00;background:#fff4f4;padding:.8em;margin-top:2em}.swatch{display:inline-block;width:.9em;height:.9em;border-radius:50%;vertical-align:middle}\
 svg{max-width:100%;height:auto}";
 
 /// The whole report as one HTML document.
@@ -222,6 +223,14 @@ pub fn render(cx: &Context) -> String {
         reasons.push(reason);
     }
     h.push_str("</table>\n");
+    // The absolute fit verdict on the first candidate.
+    if let Some((v, table)) = super::verdict(cx) {
+        let (line, warning) = crate::rank::verdict::describe(&v, &table);
+        let _ = writeln!(h, "<p class=\"fit\">{}</p>", esc(&line));
+        if let Some(w) = warning {
+            let _ = writeln!(h, "<p class=\"warning\"><b>{}</b></p>", esc(&w));
+        }
+    }
     // What would separate the leading candidates.
     let (lead, lead_evidence) = super::leading(cx);
     if !lead.is_empty() {

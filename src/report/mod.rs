@@ -92,7 +92,7 @@ pub fn verdict(
 )> {
     let first = cx.ranking.candidates.first()?;
     let lines = cx.spectrum.multiplets.len() + cx.carbon.map_or(0, |c| c.lines.len());
-    let table = crate::rank::verdict::FitTable::embedded();
+    let table = crate::rank::verdict::FitTable::embedded().for_data(cx.carbon.is_some());
     let v = table.verdict(first.cost, cx.model.ranking.cost_scale, lines)?;
     Some((v, table))
 }
