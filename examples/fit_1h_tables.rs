@@ -345,6 +345,64 @@ fn fusion_in_library(predictor: &Predictor) -> [f64; 3] {
         .unwrap_or([0.37, 0.20, 0.10])
 }
 
+/// `EXPORT=FILE`: one JSON line per compound for scripts/fit_1h_groups.py:
+/// its id, whether the spectrum is in DMSO-d6, the observed C-bound H
+/// shifts, and per predicted non-exchangeable group its H count, shift,
+/// the part of that shift the current h-groups.toml gives, whether it is
+/// aromatic, and its group terms (family, distance, group name).
+fn export(predictor: &Predictor, done: &[nmrshiftdb::Compared], path: &str) {
+    use isomerank::predict::{carbon, library, view::View};
+    use std::io::Write;
+    let solvent = |dmso: bool| {
+        let name = if dmso { "DMSO-d6" } else { "CDCl3" };
+        predictor.options(name, 400.0).unwrap().solvent
+    };
+    let mut out = std::io::BufWriter::new(std::fs::File::create(path).unwrap());
+    for c in done {
+        let v = View::new(&c.molecule).unwrap();
+        let types: Vec<u8> = (0..v.n).map(|a| carbon::atom_type(&v, a)).collect();
+        let dmso = c.pairs.first().is_some_and(|p| p.dmso);
+        let aro = aromaticity::perceive(&c.molecule).atom;
+        let mut groups = Vec::new();
+        for s in c.signals.iter().filter(|s| !s.exchangeable) {
+            let a = s.atoms[0];
+            let mut terms = Vec::new();
+            if v.element[a] == Element::C {
+                library::h_group_terms(&v, a, |f, d, x| {
+                    terms.push(serde_json::json!([
+                        carbon::FAMILIES[f as usize],
+                        d,
+                        carbon::group_name(&v, &types, x)
+                    ]))
+                });
+            }
+            let corr = if v.element[a] == Element::C {
+                predictor
+                    .library()
+                    .h_groups
+                    .correction(&v, &types, a, solvent(dmso))
+            } else {
+                0.0
+            };
+            groups.push(serde_json::json!({
+                "n": s.hydrogens,
+                "shift": s.shift,
+                "corr": corr,
+                "aromatic": s.atoms.iter().any(|&x| aro[x]),
+                "terms": terms,
+            }));
+        }
+        let observed: Vec<f64> = c.pairs.iter().map(|p| p.observed).collect();
+        let line = serde_json::json!({
+            "id": c.case.id,
+            "dmso": dmso,
+            "observed": observed,
+            "groups": groups,
+        });
+        writeln!(out, "{line}").unwrap();
+    }
+}
+
 fn mean(v: &[f64]) -> f64 {
     v.iter().sum::<f64>() / v.len().max(1) as f64
 }
@@ -361,6 +419,10 @@ fn main() {
         Err(_) => Predictor::embedded().unwrap(),
     };
     let (done, skipped) = compare_all(&predictor, &cases());
+    if let Ok(path) = std::env::var("EXPORT") {
+        export(&predictor, &done, &path);
+        return;
+    }
     let mut by_kind: BTreeMap<String, Acc> = BTreeMap::new();
     // Fusion fit: (counts, residual + current fusion increments) per half.
     let fusion_now = fusion_in_library(&predictor);

@@ -115,9 +115,12 @@ fn nmrshiftdb2_dev_1h_lists() {
     }
     // Floors: the figures measured when they were last set (see the header).
     assert!(skipped.is_empty(), "{} skipped", skipped.len());
-    assert!(all_h <= 0.157, "all-H {all_h:.3}");
-    assert!(aromatic <= 0.184, "aromatic {aromatic:.3}");
-    assert!(dmso <= 0.237, "DMSO-d6 {dmso:.3}");
-    assert!(within >= 0.865, "within 0.3 ppm {within:.3}");
+    // These are in-sample since the 1H group terms (h-groups.toml) were
+    // fitted on these compounds; the cross-validated figures (fit on even
+    // ids, measure on odd, and back) are in fragment-library/README.md.
+    assert!(all_h <= 0.095, "all-H {all_h:.3}");
+    assert!(aromatic <= 0.123, "aromatic {aromatic:.3}");
+    assert!(dmso <= 0.148, "DMSO-d6 {dmso:.3}");
+    assert!(within >= 0.940, "within 0.3 ppm {within:.3}");
     assert!(label_share >= 0.569, "labels {label_share:.3}");
 }

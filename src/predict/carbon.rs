@@ -226,7 +226,7 @@ pub fn group_name(v: &View, types: &[u8], a: usize) -> String {
 }
 
 /// Read a group name (`C.co(N.h0,O.2,O.dbl=)`) into its packed key.
-fn parse_group(name: &str) -> Option<u64> {
+pub fn parse_group(name: &str) -> Option<u64> {
     let (ty, rest) = name.split_once('(')?;
     let inner = rest.strip_suffix(')')?;
     let ty = type_index(ty)? as u8;

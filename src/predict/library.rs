@@ -19,7 +19,7 @@ use serde::Deserialize;
 use std::path::Path;
 
 /// The library files, by name, with their embedded text.
-pub const FILES: [(&str, &str); 14] = [
+pub const FILES: [(&str, &str); 15] = [
     (
         "substituents.toml",
         include_str!("../../fragment-library/substituents.toml"),
@@ -48,6 +48,10 @@ pub const FILES: [(&str, &str); 14] = [
     (
         "solvents.toml",
         include_str!("../../fragment-library/solvents.toml"),
+    ),
+    (
+        "h-groups.toml",
+        include_str!("../../fragment-library/h-groups.toml"),
     ),
     (
         "carbon-sp3.toml",
@@ -273,6 +277,78 @@ pub struct Library {
     pub solvents: Vec<Solvent>,
     /// 13C increment tables (`carbon-*.toml`).
     pub carbon: super::carbon::CarbonTable,
+    /// 1H group terms (`h-groups.toml`).
+    pub h_groups: HGroupTable,
+}
+
+/// Farthest distance (bonds from the H-bearing carbon) of a 1H group term.
+pub const H_GROUP_DIST: usize = 3;
+
+/// 1H group terms: a correction in ppm added to the shift of an H on a
+/// carbon for each atom group (an atom's 13C atom type with its neighbours'
+/// types and bonds, `carbon::group_name`) at 0 to [`H_GROUP_DIST`] bonds
+/// from that carbon, keyed by the carbon's family (`carbon::FAMILIES`); and
+/// the same kind of terms that apply only in one solvent.
+/// A term written with the atom type alone (`C.ar`, no parenthesis) holds
+/// for every group of that type: its key is the type with [`H_TYPE_ONLY`]
+/// set, so that it never equals a group key.
+#[derive(Default)]
+pub struct HGroupTable {
+    /// (family, distance, group key) -> ppm.
+    pub terms: HGroupTerms,
+    /// Per solvent (index into [`Library::solvents`]): its own terms.
+    pub solvent_terms: Vec<(usize, HGroupTerms)>,
+}
+
+/// (family, distance, group key or type key) -> ppm.
+pub type HGroupTerms = std::collections::HashMap<(u8, u8, u64), f64>;
+
+/// The bit that marks a type-only key (group keys use at most 6 + 7 x 6 bits).
+pub const H_TYPE_ONLY: u64 = 1 << 63;
+
+/// Every group term place of the H on carbon `c`: (family of `c`,
+/// distance, atom) for each atom within [`H_GROUP_DIST`] bonds
+/// (breadth-first levels, each atom at its shortest distance); the term's
+/// group is that atom's (`carbon::group_key`).
+pub fn h_group_terms(v: &View, c: usize, mut f: impl FnMut(u8, u8, usize)) {
+    let family = super::carbon::family_of(v, c) as u8;
+    let mut seen = 1u64 << c;
+    let mut level = 1u64 << c;
+    for d in 0..=H_GROUP_DIST {
+        for x in super::view::bits(level) {
+            f(family, d as u8, x);
+        }
+        let mut next = 0u64;
+        for x in super::view::bits(level) {
+            next |= v.adj[x];
+        }
+        level = next & !seen;
+        seen |= level;
+    }
+}
+
+impl HGroupTable {
+    /// The sum of the terms for the H on carbon `c` in solvent `solvent`
+    /// (`types`: the molecule's 13C atom types, `carbon::atom_type`).
+    pub fn correction(&self, v: &View, types: &[u8], c: usize, solvent: usize) -> f64 {
+        if self.terms.is_empty() && self.solvent_terms.is_empty() {
+            return 0.0;
+        }
+        let extra = self
+            .solvent_terms
+            .iter()
+            .find(|s| s.0 == solvent)
+            .map(|s| &s.1);
+        let mut sum = 0.0;
+        h_group_terms(v, c, |family, d, x| {
+            let group = (family, d, super::carbon::group_key(v, types, x));
+            let ty = (family, d, H_TYPE_ONLY | types[x] as u64);
+            for t in std::iter::once(&self.terms).chain(extra) {
+                sum += t.get(&group).copied().unwrap_or(0.0) + t.get(&ty).copied().unwrap_or(0.0);
+            }
+        });
+        sum
+    }
 }
 
 // ---- file schemas ----
@@ -566,6 +642,81 @@ struct ExchangeRow {
     shift: f64,
     sigma: f64,
     source: String,
+}
+
+/// h-groups.toml: one source for the whole fit, then rows
+/// `[family, distance, group, ppm, n]` (n: the H the fit saw the term on);
+/// a group is a full group name or an atom type alone.
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct HGroupFile {
+    source: String,
+    terms: Vec<HGroupRow>,
+    #[serde(default)]
+    solvent: Vec<HGroupSolvent>,
+}
+
+type HGroupRow = (String, u8, String, f64, u32);
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct HGroupSolvent {
+    name: String,
+    terms: Vec<HGroupRow>,
+}
+
+fn load_h_groups(r: &Reader, solvents: &[Solvent]) -> Result<HGroupTable> {
+    let file = "h-groups.toml";
+    let f: HGroupFile = r.parse(file)?;
+    need_source(file, "source", &f.source)?;
+    let read = |rows: &[HGroupRow], what: &str| {
+        let mut map = std::collections::HashMap::new();
+        for (i, (family, d, group, ppm, _)) in rows.iter().enumerate() {
+            let bad = |why: String| {
+                Error::input(format!(
+                    "fragment library {file}: {what} row {} ({family} {d} {group}): {why}",
+                    i + 1
+                ))
+            };
+            let fam = super::carbon::family_index(family)
+                .ok_or_else(|| bad(format!("unknown family \"{family}\"")))?;
+            if *d as usize > H_GROUP_DIST {
+                return Err(bad(format!("distance above {H_GROUP_DIST}")));
+            }
+            let key = if group.contains('(') {
+                super::carbon::parse_group(group)
+            } else {
+                super::carbon::type_index(group).map(|t| H_TYPE_ONLY | t as u64)
+            }
+            .ok_or_else(|| bad("the group does not parse".to_string()))?;
+            if !ppm.is_finite() {
+                return Err(bad("the shift is not a number".to_string()));
+            }
+            if map.insert((fam as u8, *d, key), *ppm).is_some() {
+                return Err(bad("given twice".to_string()));
+            }
+        }
+        Ok(map)
+    };
+    let mut table = HGroupTable {
+        terms: read(&f.terms, "terms")?,
+        solvent_terms: Vec::new(),
+    };
+    for s in &f.solvent {
+        let i = solvents
+            .iter()
+            .position(|x| x.name == s.name)
+            .ok_or_else(|| {
+                Error::input(format!(
+                    "fragment library {file}: unknown solvent \"{}\" (see solvents.toml)",
+                    s.name
+                ))
+            })?;
+        table
+            .solvent_terms
+            .push((i, read(&s.terms, &format!("solvent {}", s.name))?));
+    }
+    Ok(table)
 }
 
 /// Reads library files: the embedded copy, or a replacement from a folder.
@@ -1018,6 +1169,7 @@ impl Library {
             .map(|&name| Ok((name, r.text(name)?)))
             .collect::<Result<Vec<_>>>()?;
         let carbon = super::carbon::load(&carbon_texts)?;
+        let h_groups = load_h_groups(&r, &solvents)?;
 
         let class_index = RootIndex::build(
             &classes.iter().map(|c| &c.pattern).collect::<Vec<_>>(),
@@ -1041,6 +1193,7 @@ impl Library {
             settings,
             solvents,
             carbon,
+            h_groups,
         })
     }
 

@@ -13,7 +13,15 @@
 //! - sp3 C-H: Beauchamp & Marquez, J. Chem. Educ. 1997, 74, 1483 (base +
 //!   alpha, beta, gamma constants), Shoolery's rule (0.23 + sum S) when two
 //!   or more functional groups sit on the carbon, handbook CH3-X values for
-//!   methyl groups on a functional group, and a ring-size correction.
+//!   methyl groups on a functional group, and a ring-size correction;
+//! - then, for every H on carbon, the 1H group terms of
+//!   `fragment-library/h-groups.toml`: a correction per atom group (an
+//!   atom's type with its neighbours' types and bonds, the one-sphere
+//!   HOSE-like code of Bremser, Anal. Chim. Acta 1978, 103, 355, as
+//!   `carbon::group_name` writes it) at 0 to 3 bonds from the carbon, and
+//!   per solvent where the table has solvent terms; refitted on the
+//!   NMRShiftDB2 dev lists by `scripts/fit_1h_groups.py` (the
+//!   non-additivity and the environments the increment tables miss).
 
 use super::view::{bits, DOUBLE};
 use super::{note, Ctx, Group, Method};
@@ -28,6 +36,15 @@ pub(super) enum Place {
 
 impl Ctx<'_> {
     pub(super) fn shifts(&mut self, groups: &mut [Group]) {
+        // 13C atom types, for the 1H group terms (h-groups.toml).
+        let hg = &self.lib.h_groups;
+        let use_groups = !hg.terms.is_empty() || !hg.solvent_terms.is_empty();
+        let mut types = [0u8; super::view::MAX_ATOMS];
+        if use_groups {
+            for (a, t) in types.iter_mut().enumerate().take(self.v.n) {
+                *t = super::carbon::atom_type(self.v, a);
+            }
+        }
         for g in groups.iter_mut() {
             let a = g.rep;
             let (shift, sigma, notes, method) = match g.method {
@@ -65,7 +82,15 @@ impl Ctx<'_> {
                     (s, sg, note::FALLBACK, Method::Fallback)
                 }
             };
+            let exchangeable =
+                matches!(method, Method::Special(i) if self.lib.environments[i].exchangeable);
             g.shift = shift;
+            if use_groups && self.v.element[a] == Element::C && !exchangeable {
+                g.shift += self
+                    .lib
+                    .h_groups
+                    .correction(self.v, &types, a, self.opts.solvent);
+            }
             g.sigma = sigma;
             g.notes |= notes;
             g.method = method;
