@@ -67,10 +67,11 @@ impl Ctx<'_> {
             }
         }
         let set = &self.lib.settings;
-        let (resolved, similar, min_ratio) = (
+        let (resolved, similar, min_ratio, min_ratio_sp2) = (
             set.resolved_min_hz,
             set.similar_j_hz,
             set.first_order_min_ratio,
+            set.first_order_min_ratio_sp2,
         );
         let mut out = Vec::with_capacity(groups.len());
         // Each group's couplings to F and P, for the para-pair doublets.
@@ -105,7 +106,14 @@ impl Ctx<'_> {
                 }
                 let p = &groups[c.group as usize];
                 let dv = (g.shift - p.shift).abs() * self.opts.mhz;
-                if dv < min_ratio * c.j {
+                // AB-type pairs (both H on sp2 or aromatic carbons) stay
+                // first order down to smaller shift differences.
+                let ratio = if self.v.hyb[g.rep] == 2 && self.v.hyb[c.atom as usize] == 2 {
+                    min_ratio_sp2
+                } else {
+                    min_ratio
+                };
+                if dv < ratio * c.j {
                     second_order = true;
                 }
                 kept[nk] = *c;
@@ -195,11 +203,18 @@ impl Ctx<'_> {
             if !inequivalent {
                 continue;
             }
+            // The two H of each group meta to each other (para-disubstituted);
+            // a symmetric ortho-disubstituted ring (AA'BB' with the pairs
+            // para and ortho) is m.
             let para_pair = r.count_ones() == 6
                 && members.len() == 2
-                && members
-                    .iter()
-                    .all(|&i| (groups[i].atoms & r).count_ones() == 2)
+                && members.iter().all(|&i| {
+                    let mut x = bits(groups[i].atoms & r);
+                    match (x.next(), x.next(), x.next()) {
+                        (Some(p), Some(q), None) => self.v.ring_distance(r, p, q) == 2,
+                        _ => false,
+                    }
+                })
                 && ring_h.count_ones() == 4;
             if para_pair {
                 let (g1, g2) = (&groups[members[0]], &groups[members[1]]);
@@ -273,10 +288,18 @@ impl Ctx<'_> {
         }
         match d {
             1 => self.lib.j(CouplingKind::AromaticOrtho),
+            2 if self.meta_through_ch(r, a, y) => self.lib.j(CouplingKind::AromaticMetaCh),
             2 => self.lib.j(CouplingKind::AromaticMeta),
             3 => self.lib.j(CouplingKind::AromaticPara),
             _ => 0.0,
         }
+    }
+
+    /// Does the ring atom between meta atoms `a` and `y` of ring `r` carry an H?
+    fn meta_through_ch(&self, r: u64, a: usize, y: usize) -> bool {
+        self.v.neighbours(a).any(|(m, _)| {
+            r >> m & 1 == 1 && self.v.h[m] > 0 && self.v.neighbours(m).any(|(z, _)| z == y)
+        })
     }
 
     /// Couplings of one H of atom `a` (slot as in [`Group::slot`]).
@@ -421,12 +444,24 @@ impl Ctx<'_> {
                 continue;
             }
             if let Some(kind) = self.vicinal_kind(a, b) {
-                push(b, gid[b][0], self.v.h[b], self.lib.j(kind), n);
+                let j = self.lib.j(kind);
+                if gid[b][0] != gid[b][1] {
+                    // A partner CH2 given as two signals: one H in each.
+                    push(b, gid[b][0], 1, j, n);
+                    push(b, gid[b][1], 1, j, n);
+                } else {
+                    push(b, gid[b][0], self.v.h[b], j, n);
+                }
             }
         }
         if slot != 0 {
             let other = gid[a][2 - slot as usize];
-            push(a, other, 1, self.lib.j(CouplingKind::GeminalSp2), n);
+            let kind = if self.v.hyb[a] == 3 {
+                CouplingKind::GeminalSp3
+            } else {
+                CouplingKind::GeminalSp2
+            };
+            push(a, other, 1, self.lib.j(kind), n);
         }
     }
 

@@ -85,8 +85,12 @@ pub enum CouplingKind {
     VinylTrans,
     VinylCisRing,
     GeminalSp2,
+    /// The two H of a CH2 on an sp3 carbon, when they give two signals.
+    GeminalSp3,
     AromaticOrtho,
     AromaticMeta,
+    /// Meta H on a benzene-type ring whose atom between them carries an H.
+    AromaticMetaCh,
     AromaticPara,
     AromaticOther,
     AldehydeSp3,
@@ -116,7 +120,7 @@ pub enum CouplingKind {
 }
 
 /// Number of coupling kinds (the rows couplings.toml must have).
-pub const COUPLING_KINDS: usize = 29;
+pub const COUPLING_KINDS: usize = 31;
 
 impl CouplingKind {
     pub const ALL: [(CouplingKind, &'static str); COUPLING_KINDS] = [
@@ -127,8 +131,10 @@ impl CouplingKind {
         (CouplingKind::VinylTrans, "vinyl_trans"),
         (CouplingKind::VinylCisRing, "vinyl_cis_ring"),
         (CouplingKind::GeminalSp2, "geminal_sp2"),
+        (CouplingKind::GeminalSp3, "geminal_sp3"),
         (CouplingKind::AromaticOrtho, "aromatic_ortho"),
         (CouplingKind::AromaticMeta, "aromatic_meta"),
+        (CouplingKind::AromaticMetaCh, "aromatic_meta_ch"),
         (CouplingKind::AromaticPara, "aromatic_para"),
         (CouplingKind::AromaticOther, "aromatic_other"),
         (CouplingKind::AldehydeSp3, "aldehyde_sp3"),
@@ -252,6 +258,8 @@ pub struct CouplingSettings {
     pub resolved_min_hz: f64,
     pub similar_j_hz: f64,
     pub first_order_min_ratio: f64,
+    /// The same for a coupling between two H on sp2 or aromatic carbons.
+    pub first_order_min_ratio_sp2: f64,
     pub para_pair_min_ratio: f64,
 }
 
@@ -526,6 +534,7 @@ struct SettingsRows {
     resolved_min_hz: Sourced<f64>,
     similar_j_hz: Sourced<f64>,
     first_order_min_ratio: Sourced<f64>,
+    first_order_min_ratio_sp2: Sourced<f64>,
     para_pair_min_ratio: Sourced<f64>,
 }
 
@@ -966,6 +975,10 @@ impl Library {
             ("resolved_min_hz", &s.resolved_min_hz.source),
             ("similar_j_hz", &s.similar_j_hz.source),
             ("first_order_min_ratio", &s.first_order_min_ratio.source),
+            (
+                "first_order_min_ratio_sp2",
+                &s.first_order_min_ratio_sp2.source,
+            ),
             ("para_pair_min_ratio", &s.para_pair_min_ratio.source),
         ] {
             need_source(file, k, src)?;
@@ -974,6 +987,7 @@ impl Library {
             resolved_min_hz: s.resolved_min_hz.value,
             similar_j_hz: s.similar_j_hz.value,
             first_order_min_ratio: s.first_order_min_ratio.value,
+            first_order_min_ratio_sp2: s.first_order_min_ratio_sp2.value,
             para_pair_min_ratio: s.para_pair_min_ratio.value,
         };
 
