@@ -38,6 +38,9 @@ struct Cpl {
     group: u8,
     count: u8,
     j: f64,
+    /// Never merged with another coupling of similar J (a ring partner
+    /// whose cis/trans J is not known but differs from the others').
+    distinct: bool,
 }
 
 const MAX_CPL: usize = 32;
@@ -67,11 +70,11 @@ impl Ctx<'_> {
             }
         }
         let set = &self.lib.settings;
-        let (resolved, similar, min_ratio, min_ratio_sp2) = (
+        let (resolved, similar, min_ratio, min_ratio_ab) = (
             set.resolved_min_hz,
             set.similar_j_hz,
             set.first_order_min_ratio,
-            set.first_order_min_ratio_sp2,
+            set.first_order_min_ratio_ab,
         );
         let mut out = Vec::with_capacity(groups.len());
         // Each group's couplings to F and P, for the para-pair doublets.
@@ -82,6 +85,7 @@ impl Ctx<'_> {
                 group: 0,
                 count: 0,
                 j: 0.0,
+                distinct: false,
             }; MAX_CPL];
             let mut nc = 0;
             self.couplings(g.rep, g.slot, &gid, &mut cpl, &mut nc);
@@ -93,6 +97,7 @@ impl Ctx<'_> {
                 group: 0,
                 count: 0,
                 j: 0.0,
+                distinct: false,
             }; MAX_CPL];
             let mut nk = 0;
             for c in &cpl[..nc] {
@@ -106,10 +111,10 @@ impl Ctx<'_> {
                 }
                 let p = &groups[c.group as usize];
                 let dv = (g.shift - p.shift).abs() * self.opts.mhz;
-                // AB-type pairs (both H on sp2 or aromatic carbons) stay
+                // AB-type pairs (one H on each side of the coupling) stay
                 // first order down to smaller shift differences.
-                let ratio = if self.v.hyb[g.rep] == 2 && self.v.hyb[c.atom as usize] == 2 {
-                    min_ratio_sp2
+                let ratio = if g.hs == 1 && c.count == 1 {
+                    min_ratio_ab
                 } else {
                     min_ratio
                 };
@@ -122,17 +127,35 @@ impl Ctx<'_> {
             if second_order {
                 notes |= note::SECOND_ORDER;
             }
-            // Saturated ring H coupled to other ring H.
+            // Saturated ring H coupled to other ring H: m, unless the H is
+            // a ring CH whose ring partners are all CH. Such an H has one
+            // J per ring partner, each cis or trans and so unlike the
+            // others (d, dd, ddd ...); a ring CH2 partner gives it a cis
+            // and a trans J at once, and a ring CH2 group is itself two
+            // unlike H: those are m.
             let a = g.rep;
             if self.v.hyb[a] == 3 && self.v.in_ring(a) {
-                let ring_partner = kept[..nk].iter().any(|c| {
+                let on_ring = |c: &Cpl| {
                     let b = c.atom as usize;
-                    self.v.hyb[b] == 3
+                    !heteronuclear(c.group)
+                        && self.v.hyb[b] == 3
                         && self.v.rings[..self.v.nrings]
                             .iter()
                             .any(|&r| r >> a & 1 == 1 && r >> b & 1 == 1)
-                });
-                if ring_partner {
+                };
+                let ring_partner = kept[..nk].iter().any(on_ring);
+                let methines = self.v.h[a] == 1
+                    && kept[..nk]
+                        .iter()
+                        .filter(|c| on_ring(c))
+                        .all(|c| self.v.h[c.atom as usize] == 1);
+                if ring_partner && methines {
+                    for c in kept[..nk].iter_mut() {
+                        if on_ring(c) {
+                            c.distinct = true;
+                        }
+                    }
+                } else if ring_partner {
                     notes |= note::RING_SP3;
                 }
             }
@@ -237,6 +260,7 @@ impl Ctx<'_> {
                             group: 0,
                             count: 1,
                             j,
+                            distinct: false,
                         });
                         let (mult, js) = merge(&mut c, self.lib.settings.similar_j_hz);
                         m.multiplicity = mult;
@@ -318,6 +342,7 @@ impl Ctx<'_> {
                     group,
                     count,
                     j,
+                    distinct: false,
                 };
                 *n += 1;
             }
@@ -522,8 +547,9 @@ fn merge(c: &mut [Cpl], similar: f64) -> (Multiplicity, Vec<f64>) {
     let mut first = f64::NAN;
     let mut sum = 0.0;
     let mut cnt = 0u32;
+    let mut distinct = false;
     for x in c.iter() {
-        if cnt > 0 && first - x.j <= similar {
+        if cnt > 0 && !distinct && !x.distinct && first - x.j <= similar {
             sum += x.j * x.count as f64;
             cnt += x.count as u32;
             continue;
@@ -535,6 +561,7 @@ fn merge(c: &mut [Cpl], similar: f64) -> (Multiplicity, Vec<f64>) {
         first = x.j;
         sum = x.j * x.count as f64;
         cnt = x.count as u32;
+        distinct = x.distinct;
     }
     if cnt > 0 {
         ns.push(cnt.min(255) as u8);

@@ -258,8 +258,8 @@ pub struct CouplingSettings {
     pub resolved_min_hz: f64,
     pub similar_j_hz: f64,
     pub first_order_min_ratio: f64,
-    /// The same for a coupling between two H on sp2 or aromatic carbons.
-    pub first_order_min_ratio_sp2: f64,
+    /// The same for an AB-type coupling: one H on each side.
+    pub first_order_min_ratio_ab: f64,
     pub para_pair_min_ratio: f64,
 }
 
@@ -534,7 +534,7 @@ struct SettingsRows {
     resolved_min_hz: Sourced<f64>,
     similar_j_hz: Sourced<f64>,
     first_order_min_ratio: Sourced<f64>,
-    first_order_min_ratio_sp2: Sourced<f64>,
+    first_order_min_ratio_ab: Sourced<f64>,
     para_pair_min_ratio: Sourced<f64>,
 }
 
@@ -976,8 +976,8 @@ impl Library {
             ("similar_j_hz", &s.similar_j_hz.source),
             ("first_order_min_ratio", &s.first_order_min_ratio.source),
             (
-                "first_order_min_ratio_sp2",
-                &s.first_order_min_ratio_sp2.source,
+                "first_order_min_ratio_ab",
+                &s.first_order_min_ratio_ab.source,
             ),
             ("para_pair_min_ratio", &s.para_pair_min_ratio.source),
         ] {
@@ -987,7 +987,7 @@ impl Library {
             resolved_min_hz: s.resolved_min_hz.value,
             similar_j_hz: s.similar_j_hz.value,
             first_order_min_ratio: s.first_order_min_ratio.value,
-            first_order_min_ratio_sp2: s.first_order_min_ratio_sp2.value,
+            first_order_min_ratio_ab: s.first_order_min_ratio_ab.value,
             para_pair_min_ratio: s.para_pair_min_ratio.value,
         };
 
