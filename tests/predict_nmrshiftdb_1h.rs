@@ -96,6 +96,34 @@ fn nmrshiftdb2_dev_1h_lists() {
         }
         counts.sort_by_key(|c| std::cmp::Reverse(c.1));
         if std::env::var_os("NMRSHIFTDB_LABELS").is_some() {
+            // Every label, tab-separated, for tabulating elsewhere.
+            for c in &done {
+                let arom = isomerank::chem::aromaticity::perceive(&c.molecule);
+                for l in &c.labels {
+                    let s = &c.signals[l.signal];
+                    let atom = c.molecule.atom(s.atoms[0]);
+                    let double = s
+                        .atoms
+                        .iter()
+                        .any(|&a| c.molecule.neighbours(a).any(|(_, o)| o == 2));
+                    let aromatic = s.atoms.iter().any(|&a| arom.atom[a]);
+                    println!(
+                        "L\t{}\t{}\t{}\t{}\t{}\t{}\t{:.2}\t{:?}\t{}\t{}\t{:?}\t{}",
+                        l.id,
+                        c.case.mhz.unwrap_or(400.0),
+                        l.observed,
+                        l.predicted,
+                        labels_agree(l) as u8,
+                        s.hydrogens,
+                        l.shift,
+                        atom.element,
+                        double as u8,
+                        aromatic as u8,
+                        s.j_hz,
+                        l.notes.join(" | ")
+                    );
+                }
+            }
             for l in labels.iter().filter(|l| !labels_agree(l)) {
                 println!(
                     "  disagree {}: predicted {}, reported {}; {}",

@@ -38,6 +38,9 @@ struct Cpl {
     group: u8,
     count: u8,
     j: f64,
+    /// Never merged with another coupling of similar J (a ring partner
+    /// whose cis/trans J is not known but differs from the others').
+    distinct: bool,
 }
 
 const MAX_CPL: usize = 32;
@@ -67,10 +70,11 @@ impl Ctx<'_> {
             }
         }
         let set = &self.lib.settings;
-        let (resolved, similar, min_ratio) = (
+        let (resolved, similar, min_ratio, min_ratio_ab) = (
             set.resolved_min_hz,
             set.similar_j_hz,
             set.first_order_min_ratio,
+            set.first_order_min_ratio_ab,
         );
         let mut out = Vec::with_capacity(groups.len());
         // Each group's couplings to F and P, for the para-pair doublets.
@@ -81,6 +85,7 @@ impl Ctx<'_> {
                 group: 0,
                 count: 0,
                 j: 0.0,
+                distinct: false,
             }; MAX_CPL];
             let mut nc = 0;
             self.couplings(g.rep, g.slot, &gid, &mut cpl, &mut nc);
@@ -92,6 +97,7 @@ impl Ctx<'_> {
                 group: 0,
                 count: 0,
                 j: 0.0,
+                distinct: false,
             }; MAX_CPL];
             let mut nk = 0;
             for c in &cpl[..nc] {
@@ -105,7 +111,14 @@ impl Ctx<'_> {
                 }
                 let p = &groups[c.group as usize];
                 let dv = (g.shift - p.shift).abs() * self.opts.mhz;
-                if dv < min_ratio * c.j {
+                // AB-type pairs (one H on each side of the coupling) stay
+                // first order down to smaller shift differences.
+                let ratio = if g.hs == 1 && c.count == 1 {
+                    min_ratio_ab
+                } else {
+                    min_ratio
+                };
+                if dv < ratio * c.j {
                     second_order = true;
                 }
                 kept[nk] = *c;
@@ -114,17 +127,35 @@ impl Ctx<'_> {
             if second_order {
                 notes |= note::SECOND_ORDER;
             }
-            // Saturated ring H coupled to other ring H.
+            // Saturated ring H coupled to other ring H: m, unless the H is
+            // a ring CH whose ring partners are all CH. Such an H has one
+            // J per ring partner, each cis or trans and so unlike the
+            // others (d, dd, ddd ...); a ring CH2 partner gives it a cis
+            // and a trans J at once, and a ring CH2 group is itself two
+            // unlike H: those are m.
             let a = g.rep;
             if self.v.hyb[a] == 3 && self.v.in_ring(a) {
-                let ring_partner = kept[..nk].iter().any(|c| {
+                let on_ring = |c: &Cpl| {
                     let b = c.atom as usize;
-                    self.v.hyb[b] == 3
+                    !heteronuclear(c.group)
+                        && self.v.hyb[b] == 3
                         && self.v.rings[..self.v.nrings]
                             .iter()
                             .any(|&r| r >> a & 1 == 1 && r >> b & 1 == 1)
-                });
-                if ring_partner {
+                };
+                let ring_partner = kept[..nk].iter().any(on_ring);
+                let methines = self.v.h[a] == 1
+                    && kept[..nk]
+                        .iter()
+                        .filter(|c| on_ring(c))
+                        .all(|c| self.v.h[c.atom as usize] == 1);
+                if ring_partner && methines {
+                    for c in kept[..nk].iter_mut() {
+                        if on_ring(c) {
+                            c.distinct = true;
+                        }
+                    }
+                } else if ring_partner {
                     notes |= note::RING_SP3;
                 }
             }
@@ -195,11 +226,18 @@ impl Ctx<'_> {
             if !inequivalent {
                 continue;
             }
+            // The two H of each group meta to each other (para-disubstituted);
+            // a symmetric ortho-disubstituted ring (AA'BB' with the pairs
+            // para and ortho) is m.
             let para_pair = r.count_ones() == 6
                 && members.len() == 2
-                && members
-                    .iter()
-                    .all(|&i| (groups[i].atoms & r).count_ones() == 2)
+                && members.iter().all(|&i| {
+                    let mut x = bits(groups[i].atoms & r);
+                    match (x.next(), x.next(), x.next()) {
+                        (Some(p), Some(q), None) => self.v.ring_distance(r, p, q) == 2,
+                        _ => false,
+                    }
+                })
                 && ring_h.count_ones() == 4;
             if para_pair {
                 let (g1, g2) = (&groups[members[0]], &groups[members[1]]);
@@ -222,6 +260,7 @@ impl Ctx<'_> {
                             group: 0,
                             count: 1,
                             j,
+                            distinct: false,
                         });
                         let (mult, js) = merge(&mut c, self.lib.settings.similar_j_hz);
                         m.multiplicity = mult;
@@ -273,10 +312,18 @@ impl Ctx<'_> {
         }
         match d {
             1 => self.lib.j(CouplingKind::AromaticOrtho),
+            2 if self.meta_through_ch(r, a, y) => self.lib.j(CouplingKind::AromaticMetaCh),
             2 => self.lib.j(CouplingKind::AromaticMeta),
             3 => self.lib.j(CouplingKind::AromaticPara),
             _ => 0.0,
         }
+    }
+
+    /// Does the ring atom between meta atoms `a` and `y` of ring `r` carry an H?
+    fn meta_through_ch(&self, r: u64, a: usize, y: usize) -> bool {
+        self.v.neighbours(a).any(|(m, _)| {
+            r >> m & 1 == 1 && self.v.h[m] > 0 && self.v.neighbours(m).any(|(z, _)| z == y)
+        })
     }
 
     /// Couplings of one H of atom `a` (slot as in [`Group::slot`]).
@@ -295,6 +342,7 @@ impl Ctx<'_> {
                     group,
                     count,
                     j,
+                    distinct: false,
                 };
                 *n += 1;
             }
@@ -421,12 +469,24 @@ impl Ctx<'_> {
                 continue;
             }
             if let Some(kind) = self.vicinal_kind(a, b) {
-                push(b, gid[b][0], self.v.h[b], self.lib.j(kind), n);
+                let j = self.lib.j(kind);
+                if gid[b][0] != gid[b][1] {
+                    // A partner CH2 given as two signals: one H in each.
+                    push(b, gid[b][0], 1, j, n);
+                    push(b, gid[b][1], 1, j, n);
+                } else {
+                    push(b, gid[b][0], self.v.h[b], j, n);
+                }
             }
         }
         if slot != 0 {
             let other = gid[a][2 - slot as usize];
-            push(a, other, 1, self.lib.j(CouplingKind::GeminalSp2), n);
+            let kind = if self.v.hyb[a] == 3 {
+                CouplingKind::GeminalSp3
+            } else {
+                CouplingKind::GeminalSp2
+            };
+            push(a, other, 1, self.lib.j(kind), n);
         }
     }
 
@@ -487,8 +547,9 @@ fn merge(c: &mut [Cpl], similar: f64) -> (Multiplicity, Vec<f64>) {
     let mut first = f64::NAN;
     let mut sum = 0.0;
     let mut cnt = 0u32;
+    let mut distinct = false;
     for x in c.iter() {
-        if cnt > 0 && first - x.j <= similar {
+        if cnt > 0 && !distinct && !x.distinct && first - x.j <= similar {
             sum += x.j * x.count as f64;
             cnt += x.count as u32;
             continue;
@@ -500,6 +561,7 @@ fn merge(c: &mut [Cpl], similar: f64) -> (Multiplicity, Vec<f64>) {
         first = x.j;
         sum = x.j * x.count as f64;
         cnt = x.count as u32;
+        distinct = x.distinct;
     }
     if cnt > 0 {
         ns.push(cnt.min(255) as u8);

@@ -89,8 +89,12 @@ pub enum CouplingKind {
     VinylTrans,
     VinylCisRing,
     GeminalSp2,
+    /// The two H of a CH2 on an sp3 carbon, when they give two signals.
+    GeminalSp3,
     AromaticOrtho,
     AromaticMeta,
+    /// Meta H on a benzene-type ring whose atom between them carries an H.
+    AromaticMetaCh,
     AromaticPara,
     AromaticOther,
     AldehydeSp3,
@@ -120,7 +124,7 @@ pub enum CouplingKind {
 }
 
 /// Number of coupling kinds (the rows couplings.toml must have).
-pub const COUPLING_KINDS: usize = 29;
+pub const COUPLING_KINDS: usize = 31;
 
 impl CouplingKind {
     pub const ALL: [(CouplingKind, &'static str); COUPLING_KINDS] = [
@@ -131,8 +135,10 @@ impl CouplingKind {
         (CouplingKind::VinylTrans, "vinyl_trans"),
         (CouplingKind::VinylCisRing, "vinyl_cis_ring"),
         (CouplingKind::GeminalSp2, "geminal_sp2"),
+        (CouplingKind::GeminalSp3, "geminal_sp3"),
         (CouplingKind::AromaticOrtho, "aromatic_ortho"),
         (CouplingKind::AromaticMeta, "aromatic_meta"),
+        (CouplingKind::AromaticMetaCh, "aromatic_meta_ch"),
         (CouplingKind::AromaticPara, "aromatic_para"),
         (CouplingKind::AromaticOther, "aromatic_other"),
         (CouplingKind::AldehydeSp3, "aldehyde_sp3"),
@@ -256,6 +262,8 @@ pub struct CouplingSettings {
     pub resolved_min_hz: f64,
     pub similar_j_hz: f64,
     pub first_order_min_ratio: f64,
+    /// The same for an AB-type coupling: one H on each side.
+    pub first_order_min_ratio_ab: f64,
     pub para_pair_min_ratio: f64,
 }
 
@@ -602,6 +610,7 @@ struct SettingsRows {
     resolved_min_hz: Sourced<f64>,
     similar_j_hz: Sourced<f64>,
     first_order_min_ratio: Sourced<f64>,
+    first_order_min_ratio_ab: Sourced<f64>,
     para_pair_min_ratio: Sourced<f64>,
 }
 
@@ -1117,6 +1126,10 @@ impl Library {
             ("resolved_min_hz", &s.resolved_min_hz.source),
             ("similar_j_hz", &s.similar_j_hz.source),
             ("first_order_min_ratio", &s.first_order_min_ratio.source),
+            (
+                "first_order_min_ratio_ab",
+                &s.first_order_min_ratio_ab.source,
+            ),
             ("para_pair_min_ratio", &s.para_pair_min_ratio.source),
         ] {
             need_source(file, k, src)?;
@@ -1125,6 +1138,7 @@ impl Library {
             resolved_min_hz: s.resolved_min_hz.value,
             similar_j_hz: s.similar_j_hz.value,
             first_order_min_ratio: s.first_order_min_ratio.value,
+            first_order_min_ratio_ab: s.first_order_min_ratio_ab.value,
             para_pair_min_ratio: s.para_pair_min_ratio.value,
         };
 

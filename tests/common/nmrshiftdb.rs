@@ -77,6 +77,10 @@ pub struct Label {
     pub predicted: String,
     /// The predicted group's notes (why it is m, ...).
     pub notes: Vec<String>,
+    /// Index of the predicted signal in [`Compared::signals`].
+    pub signal: usize,
+    /// The observed entry's shift, ppm.
+    pub shift: f64,
 }
 
 /// One compound compared.
@@ -184,6 +188,8 @@ pub fn compare(predictor: &Predictor, c: &Case) -> Result<Compared, String> {
                 observed: bare_label(&e.pattern.label()),
                 predicted: bare_label(&signals[i].label()),
                 notes: signals[i].notes.clone(),
+                signal: i,
+                shift: e.shift,
             });
         }
     }
