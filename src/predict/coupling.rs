@@ -149,7 +149,31 @@ impl Ctx<'_> {
                         .iter()
                         .filter(|c| on_ring(c))
                         .all(|c| self.v.h[c.atom as usize] == 1);
-                if ring_partner && methines {
+                // A ring CH2 whose only ring partner is a CH2, in a ring of
+                // five or more atoms of a molecule without stereocentre: the
+                // ring's conformers interconvert fast, the two H of each CH2
+                // average to equivalence and the pair reads as a first-order
+                // t (X-CH2-CH2-Y of tetralones, chromanes, lactams). Not when
+                // either CH2 has a symmetry-equivalent twin (tetralin's
+                // AA'XX' chain: m).
+                let mut partners = kept[..nk].iter().filter(|c| on_ring(c));
+                let averaged = g.notes & note::DIASTEREOTOPIC == 0
+                    && self.v.h[a] == 2
+                    && g.atoms.count_ones() == 1
+                    && match (partners.next(), partners.next()) {
+                        (Some(c), None) => {
+                            let b = c.atom as usize;
+                            self.v.h[b] == 2
+                                && groups[c.group as usize].atoms.count_ones() == 1
+                                && self.v.rings[..self.v.nrings]
+                                    .iter()
+                                    .filter(|&&r| r >> a & 1 == 1 && r >> b & 1 == 1)
+                                    .all(|&r| r.count_ones() >= 5)
+                        }
+                        _ => false,
+                    };
+                if averaged {
+                } else if ring_partner && methines {
                     for c in kept[..nk].iter_mut() {
                         if on_ring(c) {
                             c.distinct = true;
