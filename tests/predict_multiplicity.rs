@@ -48,3 +48,55 @@ fn first_order_multiplicities() {
     );
     assert!(share >= 0.95, "{}", wrong.join("\n"));
 }
+
+/// Labels as depositors wrote them in NMRShiftDB2 dev records
+/// (tests/data/nmrshiftdb2-dev.toml and nmrshiftdb2-v2-dev.toml; Steinbeck,
+/// Krause & Kuhn, J. Chem. Inf. Comput. Sci. 2003, 43, 1733), one check per
+/// reporting rule of src/predict/coupling.rs: (record, SMILES, MHz, heavy
+/// atom carrying the H, reported label).
+const DEPOSITED: &[(u64, &str, f64, usize, &str)] = &[
+    // A run of four ring H: the 1.4 Hz meta J through a ring CH is not
+    // written (7.87 d, 7.45 t, 6.97 d, 6.87 t at 500 MHz).
+    (40093506, "COCOC(=O)c1ccccc1O", 500.0, 7, "d"),
+    (40093506, "COCOC(=O)c1ccccc1O", 500.0, 8, "t"),
+    (40093506, "COCOC(=O)c1ccccc1O", 500.0, 9, "t"),
+    (40093506, "COCOC(=O)c1ccccc1O", 500.0, 10, "d"),
+    // Meta J through a substituted ring carbon is written (6.95 t,
+    // 6.12 dd, 6.01 t at 600 MHz).
+    (10005696, "Nc1cccc(N)c1", 600.0, 2, "dd"),
+    (10005696, "Nc1cccc(N)c1", 600.0, 3, "t"),
+    (10005696, "Nc1cccc(N)c1", 600.0, 7, "t"),
+    // Ring CH whose ring partners are CH: one J per partner (5.96 d,
+    // 4.73 dd, 4.31 dd at 600 MHz).
+    (10016342, "Nc1ncnc2c1ncn2C1OC(CO)C(O)C1O", 600.0, 10, "d"),
+    (10016342, "Nc1ncnc2c1ncn2C1OC(CO)C(O)C1O", 600.0, 17, "dd"),
+    (10016342, "Nc1ncnc2c1ncn2C1OC(CO)C(O)C1O", 600.0, 15, "dd"),
+    // Ring N-CH2 whose only ring partner is a CH2, no stereocentre: t
+    // (3.97 t at 300 MHz).
+    (40022455, "COC(=O)C1=CCCN1C(=O)OC", 300.0, 7, "t"),
+    // Tetralin: the symmetric ortho-disubstituted ring (AA'BB') and the
+    // symmetric CH2 chain are m (7.12 m, 7.10 m, 2.81 m, 1.84 m at 600 MHz).
+    (10016526, "c1ccc2c(c1)CCCC2", 600.0, 0, "m"),
+    (10016526, "c1ccc2c(c1)CCCC2", 600.0, 1, "m"),
+    (10016526, "c1ccc2c(c1)CCCC2", 600.0, 6, "m"),
+    (10016526, "c1ccc2c(c1)CCCC2", 600.0, 7, "m"),
+];
+
+#[test]
+fn labels_as_deposited() {
+    let p = Predictor::embedded().unwrap();
+    let mut wrong = Vec::new();
+    for &(id, smiles, mhz, atom, reported) in DEPOSITED {
+        let opts = p.options("CDCl3", mhz).unwrap();
+        let sig = p.predict(&parse_smiles(smiles).unwrap(), &opts);
+        let s = sig.iter().find(|s| s.atoms.contains(&atom)).unwrap();
+        // The depositor's label (NMRShiftDB2 record `id`).
+        if s.label() != reported {
+            wrong.push(format!(
+                "record {id} atom {atom}: predicted {}, reported {reported}",
+                s.label()
+            ));
+        }
+    }
+    assert!(wrong.is_empty(), "{}", wrong.join("\n"));
+}

@@ -108,7 +108,7 @@ fn nmrshiftdb2_dev_1h_lists() {
                         .any(|&a| c.molecule.neighbours(a).any(|(_, o)| o == 2));
                     let aromatic = s.atoms.iter().any(|&a| arom.atom[a]);
                     println!(
-                        "L\t{}\t{}\t{}\t{}\t{}\t{}\t{:.2}\t{:?}\t{}\t{}\t{:?}\t{}",
+                        "L\t{}\t{}\t{}\t{}\t{}\t{}\t{:.2}\t{:?}\t{}\t{}\t{:?}\t{}\t{:?}",
                         l.id,
                         c.case.mhz.unwrap_or(400.0),
                         l.observed,
@@ -120,7 +120,8 @@ fn nmrshiftdb2_dev_1h_lists() {
                         double as u8,
                         aromatic as u8,
                         s.j_hz,
-                        l.notes.join(" | ")
+                        l.notes.join(" | "),
+                        s.atoms
                     );
                 }
             }
@@ -150,5 +151,5 @@ fn nmrshiftdb2_dev_1h_lists() {
     assert!(aromatic <= 0.123, "aromatic {aromatic:.3}");
     assert!(dmso <= 0.148, "DMSO-d6 {dmso:.3}");
     assert!(within >= 0.940, "within 0.3 ppm {within:.3}");
-    assert!(label_share >= 0.569, "labels {label_share:.3}");
+    assert!(label_share >= 0.641, "labels {label_share:.3}");
 }

@@ -13,17 +13,29 @@
 //! and meta; always first order (heteronuclear). Couplings to 31P the same
 //! way: H-C-P (large on P(V), a P=O or P=S bond; small on P(III)), H-C-C-P,
 //! H-C-O-P, H-C-N-P and ring H next to a P-bearing ring carbon. Allylic and
-//! other long-range couplings are below the usual resolution and left out.
+//! other long-range couplings are below the usual resolution and left out,
+//! as is every coupling under `resolved_min_hz` (1.5 Hz): among them the
+//! benzene-type meta J through a ring CH (1.4 Hz; benzene's J meta 1.37 Hz),
+//! so a run of four ring H reads d, t, t, d as it is reported, while the
+//! meta J through a substituted ring carbon (about 2 Hz) shows (dd).
 //! The two doublets of a para-disubstituted ring keep their couplings to F
 //! or P (a 4-fluorophenyl ring: dd and an apparent t).
 //!
 //! Not first order, reported as m (common practice):
 //! - the shift difference in Hz to a coupled group is under
-//!   `first_order_min_ratio` times J at the given spectrometer frequency;
+//!   `first_order_min_ratio` times J at the given spectrometer frequency,
+//!   or under `first_order_min_ratio_ab` times J for an AB-type coupling
+//!   (one H on each side: its two doublets stay recognisable, roofed, down
+//!   to a shift difference of about J);
 //! - a ring whose symmetry-equivalent H couple unequally to a partner
-//!   (magnetic inequivalence: monosubstituted benzene, pyridine, o-xylene),
-//!   except the para-disubstituted AA'BB' ring, reported as two 2H doublets;
-//! - H on a saturated ring coupled to other ring H (unequal cis/trans J).
+//!   (magnetic inequivalence: monosubstituted benzene, pyridine, o-xylene,
+//!   the symmetric ortho-disubstituted ring of tetralin), except the
+//!   para-disubstituted AA'BB' ring, reported as two 2H doublets;
+//! - H on a saturated ring coupled to other ring H (unequal cis/trans J),
+//!   except a ring CH whose ring partners are all CH (one cis or trans J
+//!   per partner, each kept apart: d, dd, ddd) and a ring CH2 whose only
+//!   ring partner is a CH2 in a molecule without stereocentre (the ring's
+//!   conformers average each CH2's two H: t).
 
 use super::library::CouplingKind;
 use super::shift::Place;
@@ -149,13 +161,36 @@ impl Ctx<'_> {
                         .iter()
                         .filter(|c| on_ring(c))
                         .all(|c| self.v.h[c.atom as usize] == 1);
-                if ring_partner && methines {
+                // A ring CH2 whose only ring partner is a CH2, in a ring of
+                // five or more atoms of a molecule without stereocentre: the
+                // ring's conformers interconvert fast, the two H of each CH2
+                // average to equivalence and the pair reads as a first-order
+                // t (X-CH2-CH2-Y of tetralones, chromanes, lactams). Not when
+                // either CH2 has a symmetry-equivalent twin (tetralin's
+                // AA'XX' chain: m).
+                let mut partners = kept[..nk].iter().filter(|c| on_ring(c));
+                let averaged = g.notes & note::DIASTEREOTOPIC == 0
+                    && self.v.h[a] == 2
+                    && g.atoms.count_ones() == 1
+                    && match (partners.next(), partners.next()) {
+                        (Some(c), None) => {
+                            let b = c.atom as usize;
+                            self.v.h[b] == 2
+                                && groups[c.group as usize].atoms.count_ones() == 1
+                                && self.v.rings[..self.v.nrings]
+                                    .iter()
+                                    .filter(|&&r| r >> a & 1 == 1 && r >> b & 1 == 1)
+                                    .all(|&r| r.count_ones() >= 5)
+                        }
+                        _ => false,
+                    };
+                if ring_partner && methines && !averaged {
                     for c in kept[..nk].iter_mut() {
                         if on_ring(c) {
                             c.distinct = true;
                         }
                     }
-                } else if ring_partner {
+                } else if ring_partner && !averaged {
                     notes |= note::RING_SP3;
                 }
             }
