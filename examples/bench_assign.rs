@@ -99,6 +99,7 @@ fn realistic(m: usize, st: &mut u64, model: &ScoringModel) -> Costs {
             atoms: vec![i],
             exchangeable: false,
             notes: vec![],
+            halves: false,
         });
     }
     let spectrum = spectrum(&lines.join(", "));
@@ -219,6 +220,7 @@ fn carbon_instance(m: usize, st: &mut u64) -> (CarbonSpectrum, Vec<PredictedCarb
             carbons,
             hydrogens: predicted_h,
             atoms: vec![i],
+            halves: false,
         });
     }
     let raw = carbon::parse(&lines.join(", ")).expect("13C list");

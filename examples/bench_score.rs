@@ -131,6 +131,7 @@ fn main() {
             sigma: s.sigma,
             hydrogens: s.hydrogens,
             exchangeable: s.exchangeable,
+            halves: s.halves,
         })
         .collect();
     let groups = |i: usize| &shifts[starts[i]..starts[i + 1]];

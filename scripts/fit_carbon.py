@@ -38,8 +38,12 @@ scorer reads sigma as the typical error).
 
 Usage:
     python3 scripts/fit_carbon.py TERMS.jsonl --validate   # fit even ids, measure odd (and back)
+    python3 scripts/fit_carbon.py TERMS.jsonl --validate --set RIDGE_GROUP=10 --set MIN_GROUP_ROWS=5
+        # the same with other settings (how the committed ones were chosen)
     python3 scripts/fit_carbon.py TERMS.jsonl --write      # fit all, write the TOML files
     python3 scripts/fit_carbon.py TERMS.jsonl --write --half even   # fit even ids only (held-out ranking of odd ids)
+    python3 scripts/fit_carbon.py TERMS.jsonl --write --half even --out /tmp/lib-even
+        # the same, written to a folder for LIBRARY=/tmp/lib-even (no rebuild)
 
 Needs numpy; uses scipy's sparse solver when installed (same result,
 minutes faster), else conjugate gradients. Deterministic (no random numbers).
@@ -320,7 +324,7 @@ def hand_kept(kind):
     return out
 
 
-def write(model, theta, counts, rms, n_compounds, n_carbons):
+def write(model, theta, counts, rms, n_compounds, n_carbons, out=LIB):
     hand = hand_rows()
     src = lambda n: (f"refitted on NMRShiftDB2 dev (n = {int(n)} carbons; Huber-weighted ridge least squares, "
                      f"scripts/fit_carbon.py)")
@@ -441,12 +445,29 @@ def write(model, theta, counts, rms, n_compounds, n_carbons):
                 f"# gives the method, the data and the residuals. Rows not reached by the data keep their\n"
                 f"# hand-entered value and source.\n\n")
         text += "\n".join(files[fname])
-        with open(f"{LIB}/{fname}", "w") as f:
+        with open(f"{out}/{fname}", "w") as f:
             f.write(text)
+
+
+TUNABLE = ("RIDGE_FAMILY", "RIDGE_CLASS", "RIDGE_PAIR", "RIDGE_GROUP",
+           "MIN_PAIR_ROWS", "MIN_CLASS_ROWS", "MIN_FAMILY_ROWS", "MIN_GROUP_ROWS")
+
+
+def apply_settings(argv):
+    """--set NAME=VALUE (repeatable): override one of TUNABLE for this run
+    (to choose them by the cross-validated figure, see --validate)."""
+    for i, a in enumerate(argv):
+        if a == "--set":
+            name, value = argv[i + 1].split("=")
+            if name not in TUNABLE:
+                sys.exit(f"fit_carbon.py: --set {name}: not one of {', '.join(TUNABLE)}")
+            globals()[name] = type(globals()[name])(float(value))
+            print(f"setting {name} = {globals()[name]}", file=sys.stderr)
 
 
 def main():
     path = sys.argv[1]
+    apply_settings(sys.argv)
     compounds = load(path)
     kinds = ["C=O/C=N/C=S", "aromatic/alkene sp2", "sp", "sp3-O/N/halogen", "plain sp3"]
     if "--validate" in sys.argv:
@@ -472,7 +493,15 @@ def main():
         print("  by type: " + ", ".join(f"{kinds[k]} {v:.2f}" for k, v in by.items()))
         for c, (s, k) in sorted(rms.items()):
             print(f"  sigma {c}: {s:.2f} (n = {int(k)})")
-        write(model, theta, counts, rms, len(compounds), n)
+        # --out DIR: write the files there (for LIBRARY=DIR) instead of
+        # over the committed tables (hand rows are still read from those).
+        out = LIB
+        if "--out" in sys.argv:
+            import os
+
+            out = sys.argv[sys.argv.index("--out") + 1]
+            os.makedirs(out, exist_ok=True)
+        write(model, theta, counts, rms, len(compounds), n, out)
 
 
 if __name__ == "__main__":

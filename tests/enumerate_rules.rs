@@ -12,7 +12,7 @@ mod common;
 use common::{canonical, isomers_ok, run_reference_script};
 use std::collections::{BTreeMap, BTreeSet};
 
-const RULES: [&str; 13] = [
+const RULES: [&str; 14] = [
     "small-ring-triple",
     "small-ring-cumulated",
     "bredt",
@@ -24,6 +24,7 @@ const RULES: [&str; 13] = [
     "thione",
     "nh-imine",
     "sulfur-ylide",
+    "sulfur-multiple",
     "small-ring-cage",
     "fused-small-rings",
 ];
@@ -57,7 +58,7 @@ fn each_rule_removes_exactly_what_an_independent_check_flags() {
     // C6H6 and C8H8 hold prismane, cubane and the other cages and fused
     // small rings; C5H5NO and C3H5NO2 with --charge-separated hold ring
     // N-oxides and nitrones (the N=O of [N+][O-] is no double bond).
-    let formulas: [(&str, &[&str]); 14] = [
+    let formulas: [(&str, &[&str]); 15] = [
         ("C6H6O", &[]),
         ("C7H8O", &[]),
         ("C6H6O2", &[]),
@@ -69,6 +70,7 @@ fn each_rule_removes_exactly_what_an_independent_check_flags() {
         ("C3H5NOS", &[]),
         ("C4H4N2S", &[]),
         ("C2H5NS", &["--expanded-valence"]),
+        ("C2H6S2", &["--expanded-valence"]),
         ("C8H8", &[]),
         ("C5H5NO", &["--charge-separated"]),
         ("C3H5NO2", &["--charge-separated"]),
@@ -211,6 +213,22 @@ fn sulfur_ylide_keeps_sulfoxides_and_removes_s_c_double_bonds() {
     assert!(has(&kept, "CS(C)=O"));
     assert!(has(&kept, "CSOC"));
     for gone in ["C=S(C)O", "C=S(C)=O", "C#S(C)O"] {
+        assert!(has(&all, gone) && !has(&kept, gone), "{gone}");
+    }
+}
+
+#[test]
+fn sulfur_multiple_keeps_disulfides_and_removes_s_s_multiple_bonds() {
+    // Common practice: dimethyl disulfide and dimethyl sulfoxide's sulfur
+    // analogues without S=S stay; the S-S triple bond CS#SC and the
+    // thiosulfoxide CS(C)=S are not stable neutral compounds.
+    let formula = "C2H6S2";
+    let all = isomers_ok(&[formula, "--expanded-valence"]);
+    let kept = isomers_ok(&[formula, "--expanded-valence", "--plausible=sulfur-multiple"]);
+    let has = |text: &str, smiles: &str| text.lines().any(|l| l == canonical(smiles));
+    assert!(has(&kept, "CSSC"));
+    assert!(has(&kept, "CCSS"));
+    for gone in ["CS#SC", "CS(C)=S"] {
         assert!(has(&all, gone) && !has(&kept, gone), "{gone}");
     }
 }

@@ -113,6 +113,10 @@ fn dev_compounds_within_reach_rank_with_1h_and_13c() {
 /// with the thione, nh-imine and sulfur-ylide rules first 92.1 %, top 3
 /// 96.9 %, top 10 98.5 %; with those rules, the strain rules and the 13C
 /// group terms (whose tables were fitted on all dev compounds, these
-/// included) first 95.2 %, top 3 98.0 %, top 10 99.5 %.
-const FLOOR_FIRST: f64 = 94.5;
-const FLOOR_TOP3: f64 = 97.5;
+/// included) first 95.2 %, top 3 98.0 %, top 10 99.5 %; with the
+/// sulfur-multiple rule and diastereotopic pairs read whole or as halves
+/// (src/score/halves.rs) first 96.4 %, top 3 98.2 %, top 10 99.5 %. Held
+/// out (13C tables fitted on the other half of the ids): odd ids 93.5 %
+/// first, even ids 96.6 %.
+const FLOOR_FIRST: f64 = 96.0;
+const FLOOR_TOP3: f64 = 98.0;

@@ -29,13 +29,14 @@ pub enum Rule {
     Thione,
     NhImine,
     SulfurYlide,
+    SulfurMultiple,
     // Strained small-ring skeletons (see `small_rings`).
     SmallRingCage,
     FusedSmallRings,
 }
 
 impl Rule {
-    pub const ALL: [Rule; 13] = [
+    pub const ALL: [Rule; 14] = [
         Rule::SmallRingTriple,
         Rule::SmallRingCumulated,
         Rule::Bredt,
@@ -47,6 +48,7 @@ impl Rule {
         Rule::Thione,
         Rule::NhImine,
         Rule::SulfurYlide,
+        Rule::SulfurMultiple,
         Rule::SmallRingCage,
         Rule::FusedSmallRings,
     ];
@@ -64,6 +66,7 @@ impl Rule {
             Rule::Thione => "thione",
             Rule::NhImine => "nh-imine",
             Rule::SulfurYlide => "sulfur-ylide",
+            Rule::SulfurMultiple => "sulfur-multiple",
             Rule::SmallRingCage => "small-ring-cage",
             Rule::FusedSmallRings => "fused-small-rings",
         }
@@ -128,6 +131,12 @@ impl Rule {
                  written as ylenes, sulfines, S-C triple bonds): reactive species, isolable only when strongly stabilised; \
                  sulfoxides, sulfones and sulfilimines are kept (only with the expanded \
                  valences) (common practice)"
+            }
+            Rule::SulfurMultiple => {
+                "no double or triple bond between two sulfur atoms (S=S, S#S) and no triple bond \
+                 at sulfur (S#N, S#S): thiosulfoxides and disulfur multiple bonds are transient \
+                 species, not stable neutral compounds; disulfides R-S-S-R are kept (only with \
+                 the expanded valences) (common practice)"
             }
             Rule::SmallRingCage => {
                 "no atom in three or more rings of 3 or 4 atoms (tetrahedrane, prismane, cubane, \
@@ -273,6 +282,7 @@ impl Checker {
             Rule::Thione => self.thione(iso),
             Rule::NhImine => nh_imine(iso),
             Rule::SulfurYlide => sulfur_ylide(iso),
+            Rule::SulfurMultiple => sulfur_multiple(iso),
             Rule::SmallRingCage => self.small_ring_verdicts(iso).0,
             Rule::FusedSmallRings => self.small_ring_verdicts(iso).1,
         }
@@ -650,6 +660,15 @@ fn sulfur_ylide(iso: &Isomer) -> bool {
                 .sum::<u32>()
                 + u32::from(iso.hydrogens(s))
                 > 2
+    })
+}
+
+/// A double or triple bond between two S, or a triple bond at an S.
+fn sulfur_multiple(iso: &Isomer) -> bool {
+    let adj = &iso.node.g.adj;
+    (0..iso.atoms()).any(|s| {
+        iso.element(s) == Element::S
+            && (adj[2][s] != 0 || bits(adj[1][s]).any(|y| iso.element(y) == Element::S))
     })
 }
 

@@ -541,6 +541,7 @@ impl<'a> CarbonCtx<'a> {
                     carbons: 0,
                     hydrogens: v.h[a],
                     atoms: Vec::new(),
+                    halves: false,
                 };
                 if used < out.len() {
                     let q = &mut out[used];
@@ -549,6 +550,7 @@ impl<'a> CarbonCtx<'a> {
                     q.sigma = p.sigma;
                     q.carbons = 0;
                     q.hydrogens = p.hydrogens;
+                    q.halves = false;
                 } else {
                     out.push(p);
                 }
@@ -559,6 +561,25 @@ impl<'a> CarbonCtx<'a> {
             q.atoms.push(a);
         }
         out.truncate(used);
+        // Diastereotopic methyl pairs (src/predict/groups.rs): the class
+        // may be read as two, the first half of its atoms one methyl of
+        // each pair.
+        if super::groups::has_stereocentre(v, orb) {
+            let mut marked = 0;
+            for q in out.iter_mut() {
+                if marked == super::groups::MAX_HALVES || q.hydrogens != 3 {
+                    continue;
+                }
+                let atoms = q.atoms.iter().fold(0u64, |m, &a| m | 1u64 << a);
+                let half = super::groups::methyl_pair_half(v, orb, atoms);
+                if half != 0 {
+                    q.atoms.clear();
+                    q.atoms.extend(bits(half).chain(bits(atoms & !half)));
+                    q.halves = true;
+                    marked += 1;
+                }
+            }
+        }
         out.sort_by(|a, b| {
             b.shift
                 .partial_cmp(&a.shift)

@@ -8,11 +8,25 @@
 //!   different substituents (cis/trans to them);
 //! - a CH2 in a molecule with a stereocentre (an sp3 atom with four
 //!   different substituents, decided by the orbits of its neighbours) is
-//!   diastereotopic: flagged, kept as one group.
+//!   diastereotopic: flagged, kept as one group;
+//! - in such a molecule, two methyls on a prochiral carbon (isopropyl,
+//!   gem-dimethyl: the carbon's other two places differ) and the two H of
+//!   a CH2 whose two neighbours differ are diastereotopic pairs, which are
+//!   anisochronous and usually resolved, though not always (common
+//!   practice). Such a group stays one group with `half` set (at most
+//!   [`MAX_HALVES`] per molecule, methyl pairs first); the scorer reads it
+//!   either as one group or as two halves, whichever explains the data
+//!   better (src/score/halves.rs). The 13C list marks the methyl pairs'
+//!   carbon classes the same way (src/predict/carbon.rs).
 
-use super::view::{bits, DOUBLE};
+use super::view::{bits, View, DOUBLE};
 use super::{note, Ctx, Group, Method};
 use crate::chem::Element;
+
+/// At most this many groups (and 13C classes) of one molecule are marked
+/// as diastereotopic pairs: the scorer tries every way of reading them
+/// (2^k assignments), so k stays small.
+pub const MAX_HALVES: usize = 3;
 
 impl Ctx<'_> {
     pub(super) fn build_groups(&mut self, groups: &mut Vec<Group>) {
@@ -42,6 +56,7 @@ impl Ctx<'_> {
                 sigma: 0.0,
                 exchangeable: false,
                 notes: 0,
+                half: 0,
             });
         }
         // Environment of each group's atoms (same for the whole orbit).
@@ -79,6 +94,26 @@ impl Ctx<'_> {
                     g.notes |= note::DIASTEREOTOPIC;
                 }
             }
+            // Diastereotopic pairs: methyl pairs first, then CH2.
+            let mut marked = 0;
+            for g in groups.iter_mut() {
+                if marked < MAX_HALVES && g.hs == 3 && g.slot == 0 {
+                    g.half = methyl_pair_half(self.v, &self.orb, g.atoms);
+                    marked += usize::from(g.half != 0);
+                }
+            }
+            for g in groups.iter_mut() {
+                if marked < MAX_HALVES
+                    && g.notes & note::DIASTEREOTOPIC != 0
+                    && bits(g.atoms).all(|a| {
+                        let mut nb = self.v.neighbours(a).map(|(x, _)| self.orb[x]);
+                        matches!((nb.next(), nb.next(), nb.next()), (Some(x), Some(y), None) if x != y)
+                    })
+                {
+                    g.half = g.atoms;
+                    marked += 1;
+                }
+            }
         }
     }
 
@@ -110,25 +145,8 @@ impl Ctx<'_> {
         }
     }
 
-    /// Is there an sp3 atom with four different substituents? Neighbours in
-    /// different orbits head different branches (an automorphism fixing the
-    /// centre would map one onto the other), so distinct orbits suffice.
     fn find_stereocentre(&self) -> bool {
-        let v = self.v;
-        (0..v.n).any(|x| {
-            if v.hyb[x] != 3 || v.element[x] != Element::C || v.deg[x] + v.h[x] != 4 || v.h[x] > 1 {
-                return false;
-            }
-            let mut seen = [u8::MAX; 4];
-            for (k, (b, _)) in v.neighbours(x).enumerate() {
-                let o = self.orb[b];
-                if seen[..k].contains(&o) {
-                    return false;
-                }
-                seen[k] = o;
-            }
-            true
-        })
+        has_stereocentre(self.v, &self.orb)
     }
 
     /// Tertiary amides: give the branch on one N-substituent fresh orbit ids
@@ -181,4 +199,68 @@ impl Ctx<'_> {
             self.rotamer |= branch | self.v.branch(r1, nn);
         }
     }
+}
+
+/// Is there an sp3 carbon with four different substituents? Neighbours in
+/// different orbits head different branches (an automorphism fixing the
+/// centre would map one onto the other), so distinct orbits suffice.
+pub(super) fn has_stereocentre(v: &View, orb: &[u8]) -> bool {
+    (0..v.n).any(|x| {
+        if v.hyb[x] != 3 || v.element[x] != Element::C || v.deg[x] + v.h[x] != 4 || v.h[x] > 1 {
+            return false;
+        }
+        let mut seen = [u8::MAX; 4];
+        for (k, (b, _)) in v.neighbours(x).enumerate() {
+            let o = orb[b];
+            if seen[..k].contains(&o) {
+                return false;
+            }
+            seen[k] = o;
+        }
+        true
+    })
+}
+
+/// For an orbit `atoms` of methyl carbons: when every methyl sits on a
+/// prochiral sp3 carbon that carries exactly two of them and whose other
+/// two places differ (an H and a heavy atom, or two heavy atoms in
+/// different orbits), the first methyl of each such pair (a half of the
+/// orbit); else 0. The caller checks for a stereocentre: only then are the
+/// two methyls diastereotopic.
+pub(super) fn methyl_pair_half(v: &View, orb: &[u8], atoms: u64) -> u64 {
+    let mut half = 0u64;
+    for m in bits(atoms) {
+        if v.element[m] != Element::C || v.h[m] != 3 || v.deg[m] != 1 {
+            return 0;
+        }
+        let Some((p, _)) = v.neighbours(m).next() else {
+            return 0;
+        };
+        if v.element[p] != Element::C || v.hyb[p] != 3 || v.deg[p] + v.h[p] != 4 {
+            return 0;
+        }
+        let mut pair = 0u64;
+        let mut others = [u8::MAX; 2];
+        let mut k = 0;
+        for (x, _) in v.neighbours(p) {
+            if atoms >> x & 1 == 1 {
+                pair |= 1u64 << x;
+            } else if k < 2 {
+                others[k] = orb[x];
+                k += 1;
+            } else {
+                return 0;
+            }
+        }
+        let differ = match (v.h[p], k) {
+            (1, 1) => true,
+            (0, 2) => others[0] != others[1],
+            _ => false,
+        };
+        if pair.count_ones() != 2 || !differ {
+            return 0;
+        }
+        half |= pair & pair.wrapping_neg();
+    }
+    half
 }

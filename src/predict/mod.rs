@@ -296,6 +296,7 @@ impl Predictor {
                 sigma: round2(g.sigma),
                 hydrogens: g.hydrogens(),
                 exchangeable: g.exchangeable,
+                halves: g.half != 0,
             }));
         if !gate(&scratch.estimates, &scratch.carbons) {
             return Ok(None);
@@ -334,6 +335,9 @@ pub struct ShiftEstimate {
     pub sigma: f64,
     pub hydrogens: u32,
     pub exchangeable: bool,
+    /// The group is a diastereotopic pair that may be read as two halves
+    /// (see [`PredictedSignal::halves`]).
+    pub halves: bool,
 }
 
 /// Shifts and sigmas are reported to 0.01 ppm.
@@ -389,6 +393,11 @@ pub(crate) struct Group {
     pub sigma: f64,
     pub exchangeable: bool,
     pub notes: u32,
+    /// A diastereotopic pair that may be read as two halves: the atoms of
+    /// the first half (two methyls per prochiral carbon: one of each
+    /// pair), or all the atoms (a CH2's two H: one H of each atom per
+    /// half); 0 when the group is no such pair.
+    pub half: u64,
 }
 
 impl Group {
@@ -587,8 +596,16 @@ impl<'a> Ctx<'a> {
                 hydrogens: g.hydrogens(),
                 multiplicity: m.multiplicity,
                 j_hz: m.j,
-                atoms: view::bits(g.atoms).collect(),
+                // A methyl pair's first half first (PredictedSignal::halves).
+                atoms: if g.half != 0 && g.half != g.atoms {
+                    view::bits(g.half)
+                        .chain(view::bits(g.atoms & !g.half))
+                        .collect()
+                } else {
+                    view::bits(g.atoms).collect()
+                },
                 exchangeable: g.exchangeable,
+                halves: g.half != 0,
                 notes: if self.opts.notes {
                     self.note_words(g, g.notes | m.notes)
                 } else {

@@ -100,6 +100,15 @@ pub struct PredictedSignal {
     /// OH, NH, SH, COOH: exchangeable H, often broad or missing.
     pub exchangeable: bool,
     pub notes: Vec<String>,
+    /// A diastereotopic pair (the molecule has a stereocentre): two methyls
+    /// on a prochiral carbon, or the two H of a CH2. The scorer reads it
+    /// either as one group or as two halves of `hydrogens / 2` H, whichever
+    /// explains the data better (src/score/halves.rs). For two methyls per
+    /// prochiral carbon the first half of `atoms` holds one methyl of each
+    /// pair and the second half the others; a CH2 pair's halves are both on
+    /// all of `atoms`. Not written to JSON.
+    #[serde(skip)]
+    pub halves: bool,
 }
 
 impl PredictedSignal {
@@ -129,4 +138,10 @@ pub struct PredictedCarbon {
     pub hydrogens: u8,
     /// Heavy atoms (indices into the molecule) of the class.
     pub atoms: Vec<usize>,
+    /// The class is two diastereotopic methyls per prochiral carbon (the
+    /// molecule has a stereocentre): the scorer reads it either as one
+    /// class or as two classes of `carbons / 2`, the first half of `atoms`
+    /// holding one methyl of each pair. Not written to JSON.
+    #[serde(skip)]
+    pub halves: bool,
 }

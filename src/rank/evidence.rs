@@ -513,6 +513,7 @@ mod tests {
             atoms: vec![],
             exchangeable: false,
             notes: vec![],
+            halves: false,
         }
     }
 

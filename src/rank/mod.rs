@@ -260,6 +260,9 @@ fn evaluate(
     let cutoff = cutoff / scorers.scale;
     let has_h = !scorers.hydrogen.spectrum().multiplets.is_empty();
     let mut carbon_scored: Option<Scored> = None;
+    // The 13C reading that won when a diastereotopic methyl pair was split
+    // (src/score/halves.rs); the 1H likewise below.
+    let mut carbon_split: Option<Vec<PredictedCarbon>> = None;
     let mut gate = |est: &[ShiftEstimate], carbons: &[PredictedCarbon]| {
         // The 1H bound first, against the whole cutoff (the 13C part is
         // never negative): it is the cheaper test and stops most candidates.
@@ -269,30 +272,35 @@ fn evaluate(
         let Some(cp) = &scorers.carbon else {
             return true;
         };
-        let Some(s) = cp.score(carbons, cutoff) else {
+        let Some((s, split)) = cp.score_halves(carbons, cutoff) else {
             return false;
         };
         let rest = cutoff - s.cost;
         carbon_scored = Some(s);
+        carbon_split = split;
         !has_h || rest == cutoff || scorers.hydrogen.may_beat(est, rest)
     };
     let prediction = (steps.predict)(molecule, symmetry, &mut gate)?;
     let carbon_cost = carbon_scored.as_ref().map_or(0.0, |s| s.cost);
-    let scored = if has_h {
+    let (scored, split) = if has_h {
         scorers
             .hydrogen
-            .score(&prediction.signals, cutoff - carbon_cost)?
+            .score_halves(&prediction.signals, cutoff - carbon_cost)?
     } else {
-        Scored {
-            cost: 0.0,
-            assigned: vec![None; prediction.signals.len()],
-        }
+        let none = vec![None; prediction.signals.len()];
+        (
+            Scored {
+                cost: 0.0,
+                assigned: none,
+            },
+            None,
+        )
     };
     Some(Evaluated {
         cost: scorers.scale * (scored.cost + carbon_cost),
-        predicted: prediction.signals,
+        predicted: split.unwrap_or(prediction.signals),
         scored,
-        carbons: prediction.carbons,
+        carbons: carbon_split.unwrap_or(prediction.carbons),
         carbon_scored,
     })
 }

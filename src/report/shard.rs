@@ -405,6 +405,9 @@ impl Reader<'_> {
                         .iter()
                         .map(|n| self.string(n, "predicted.notes"))
                         .collect::<Result<Vec<String>>>()?,
+                    // Not stored: a ranked candidate's list is already the
+                    // reading that won (src/score/halves.rs).
+                    halves: false,
                 })
             })
             .collect::<Result<Vec<_>>>()?;
@@ -418,6 +421,7 @@ impl Reader<'_> {
                     carbons: self.u64(self.field(p, "carbons")?, "carbons.carbons")? as u32,
                     hydrogens: self.small(self.field(p, "hydrogens")?, "carbons.hydrogens")?,
                     atoms: self.usizes(self.field(p, "atoms")?, "carbons.atoms")?,
+                    halves: false,
                 })
             })
             .collect::<Result<Vec<_>>>()?;

@@ -159,6 +159,18 @@ impl<'a> CarbonPrepared<'a> {
         })
     }
 
+    /// The best reading of `predicted`'s diastereotopic methyl pairs (each
+    /// class whole or as two, src/score/halves.rs), each scored exactly:
+    /// the least cost and its assignment, with the list that reading gives
+    /// when some class was split.
+    pub fn score_halves(
+        &self,
+        predicted: &[PredictedCarbon],
+        cutoff: f64,
+    ) -> Option<(Scored, Option<Vec<PredictedCarbon>>)> {
+        super::halves::best(predicted, cutoff, |list, cut| self.score(list, cut))
+    }
+
     fn score_in(&self, w: &mut Work, predicted: &[PredictedCarbon], cutoff: f64) -> Option<Scored> {
         let c = &self.model.carbon;
         w.pair.clear();
@@ -380,6 +392,7 @@ mod tests {
             carbons,
             hydrogens,
             atoms: vec![0],
+            halves: false,
         }
     }
 

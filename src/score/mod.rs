@@ -12,6 +12,7 @@
 pub mod assign;
 pub mod assign_reference;
 pub mod carbon;
+pub mod halves;
 mod line_bound;
 pub mod model;
 mod pattern_rows;
@@ -359,6 +360,7 @@ mod tests {
             atoms: vec![0],
             exchangeable: false,
             notes: vec![],
+            halves: false,
         }
     }
     fn q() -> Multiplicity {

@@ -520,6 +520,7 @@ mod tests {
             atoms: vec![0],
             exchangeable: false,
             notes: vec![],
+            halves: false,
         }
     }
 

@@ -21,6 +21,7 @@
 //! by `SLACK` (relative) before it rejects.
 
 use super::assign::{self, CostsRef, Workspace};
+use super::halves;
 use super::model::{shift_term, ScoringModel};
 use super::pattern_rows::PatternRows;
 use super::Scored;
@@ -224,6 +225,18 @@ impl<'a> Prepared<'a> {
         with_work(|w| self.score_in(w, predicted, cutoff))
     }
 
+    /// The best reading of `predicted`'s diastereotopic pairs (each whole
+    /// or as two halves, src/score/halves.rs), each scored as
+    /// [`Prepared::score`] does: the least cost and its assignment, with
+    /// the list that reading gives when some group was split.
+    pub fn score_halves(
+        &self,
+        predicted: &[PredictedSignal],
+        cutoff: f64,
+    ) -> Option<(Scored, Option<Vec<PredictedSignal>>)> {
+        halves::best(predicted, cutoff, |list, cut| self.score(list, cut))
+    }
+
     fn score_in(&self, w: &mut Work, predicted: &[PredictedSignal], cutoff: f64) -> Option<Scored> {
         w.claim(self);
         let m = self.empty.len();
@@ -281,15 +294,19 @@ impl<'a> Prepared<'a> {
     /// raised by the rounding slack, stopping at the first assignment below
     /// it and answering true when it would take more than
     /// `MAY_BEAT_NODES` nodes.
+    ///
+    /// A group marked as a diastereotopic pair is tried whole and as two
+    /// halves (every reading, as [`Prepared::score_halves`] scores them):
+    /// false only when no reading may beat the cutoff.
     pub fn may_beat(&self, groups: &[GroupShift], cutoff: f64) -> bool {
-        self.may_beat_with(groups, cutoff, true)
+        halves::any_reading(groups, |g| self.may_beat_with(g, cutoff, true))
     }
 
     /// [`Prepared::may_beat`] with the root bound only (no search, so no
     /// integral terms): less than half its cost, but on the C9H10O benchmark
     /// it lets through about 4.6 times as many candidates.
     pub fn may_beat_quick(&self, groups: &[GroupShift], cutoff: f64) -> bool {
-        self.may_beat_with(groups, cutoff, false)
+        halves::any_reading(groups, |g| self.may_beat_with(g, cutoff, false))
     }
 
     fn may_beat_with(&self, groups: &[GroupShift], cutoff: f64, search_too: bool) -> bool {
@@ -341,6 +358,7 @@ mod tests {
                 sigma: s.sigma,
                 hydrogens: s.hydrogens,
                 exchangeable: s.exchangeable,
+                halves: s.halves,
             })
             .collect()
     }
@@ -481,6 +499,7 @@ mod tests {
             sigma: 0.2,
             hydrogens: 3,
             exchangeable: false,
+            halves: false,
         }];
         let ln4 = (0.2f64 / 0.05).ln();
         assert!(p.may_beat(&g, ln4 + 1e-6));

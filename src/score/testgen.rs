@@ -124,6 +124,7 @@ pub(crate) fn prediction(st: &mut u64, spectrum: &Spectrum) -> Vec<PredictedSign
                 atoms: vec![0],
                 exchangeable: rng(st) < 0.15,
                 notes: vec![],
+                halves: false,
             }
         })
         .collect()

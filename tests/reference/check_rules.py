@@ -34,6 +34,8 @@ README states them:
   atom, the carbon having no N, O or S neighbour besides;
 - sulfur-ylide: an S with a double or triple bond to carbon and a valence
   (bond orders plus H) above 2.
+- sulfur-multiple: a double or triple bond between two S, or a triple bond
+  at an S.
 - small-ring-cage: an atom in three or more small rings, a small ring being
   a chordless cycle of 3 or 4 atoms (3 atoms pairwise bonded; 4 atoms each
   bonded to exactly two of the others), found here by trying every 3- and
@@ -265,6 +267,16 @@ def sulfur_ylide(mol, aromatic):
     return False
 
 
+def sulfur_multiple(mol, aromatic):
+    for b in mol.GetBonds():
+        ends = (b.GetBeginAtom().GetSymbol(), b.GetEndAtom().GetSymbol())
+        if b.GetBondType() == Chem.BondType.TRIPLE and "S" in ends:
+            return True
+        if b.GetBondType() == Chem.BondType.DOUBLE and ends == ("S", "S"):
+            return True
+    return False
+
+
 def small_rings(mol):
     """Chordless cycles of 3 or 4 atoms, as frozensets of atom indices."""
     adj = {a.GetIdx(): {n.GetIdx() for n in a.GetNeighbors()} for a in mol.GetAtoms()}
@@ -308,6 +320,7 @@ RULES = {
     "thione": thione,
     "nh-imine": nh_imine,
     "sulfur-ylide": sulfur_ylide,
+    "sulfur-multiple": sulfur_multiple,
     "small-ring-cage": small_ring_cage,
     "fused-small-rings": fused_small_rings,
 }
