@@ -1342,4 +1342,49 @@ mod tests {
             .unwrap();
         assert!(e.to_string().contains("not a folder"));
     }
+
+    #[test]
+    fn bad_h_group_rows_are_named() {
+        let dir = std::env::temp_dir().join(format!("isomerank-h-groups-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let row = |r: &str| format!("source = \"x\"\nterms = [{r}]\n");
+        let cases = [
+            (
+                row(r#"["sp9", 0, "C.sp3.1", 0.1, 1]"#),
+                "row 1 (sp9 0 C.sp3.1): unknown family",
+            ),
+            (row(r#"["sp3", 4, "C.sp3.1", 0.1, 1]"#), "distance above 3"),
+            (
+                row(r#"["sp3", 0, "C.sp3.1(Q)", 0.1, 1]"#),
+                "the group does not parse",
+            ),
+            (
+                row(r#"["sp3", 1, "C.sp3.1", 0.1, 1], ["sp3", 1, "C.sp3.1", 0.2, 1]"#),
+                "row 2 (sp3 1 C.sp3.1): given twice",
+            ),
+            ("source = \"\"\nterms = []\n".to_string(), "empty source"),
+            (
+                "source = \"x\"\nterms = []\n[[solvent]]\nname = \"XYZ\"\nterms = []\n".to_string(),
+                "unknown solvent \"XYZ\"",
+            ),
+        ];
+        for (text, want) in &cases {
+            std::fs::write(dir.join("h-groups.toml"), text).unwrap();
+            let e = Library::from_dir(&dir).err().expect(want).to_string();
+            assert!(e.contains("h-groups.toml") && e.contains(want), "{e}");
+        }
+        // The same distance of one group in two rows is refused, two
+        // distances of one group are two terms.
+        std::fs::write(
+            dir.join("h-groups.toml"),
+            row(r#"["sp3", 1, "C.sp3.1", 0.1, 1], ["sp3", 2, "C.sp3.1", 0.2, 1]"#),
+        )
+        .unwrap();
+        let lib = Library::from_dir(&dir).unwrap();
+        let key = 0u64 << H_FAMILY_SHIFT
+            | H_TYPE_ONLY
+            | super::super::carbon::type_index("C.sp3.1").unwrap() as u64;
+        assert_eq!(lib.h_groups.terms[&key], [0.0, 0.1, 0.2, 0.0]);
+        std::fs::remove_dir_all(&dir).ok();
+    }
 }
