@@ -367,23 +367,21 @@ fn export(predictor: &Predictor, done: &[nmrshiftdb::Compared], path: &str) {
         for s in c.signals.iter().filter(|s| !s.exchangeable) {
             let a = s.atoms[0];
             let mut terms = Vec::new();
+            let mut corr = 0.0;
             if v.element[a] == Element::C {
-                library::h_group_terms(&v, a, |f, d, x| {
+                let family = carbon::family_of(&v, a);
+                library::h_group_terms(&v, a, |d, x| {
                     terms.push(serde_json::json!([
-                        carbon::FAMILIES[f as usize],
+                        carbon::FAMILIES[family],
                         d,
                         carbon::group_name(&v, &types, x)
                     ]))
                 });
+                let mut rows = vec![[0.0; library::H_GROUP_DIST + 1]; v.n];
+                let table = &predictor.library().h_groups;
+                table.atom_rows(&v, &types, family, solvent(dmso), &mut rows);
+                corr = library::HGroupTable::correction(&v, a, &rows);
             }
-            let corr = if v.element[a] == Element::C {
-                predictor
-                    .library()
-                    .h_groups
-                    .correction(&v, &types, a, solvent(dmso))
-            } else {
-                0.0
-            };
             groups.push(serde_json::json!({
                 "n": s.hydrogens,
                 "shift": s.shift,

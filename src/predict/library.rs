@@ -16,6 +16,7 @@ use super::root_index::RootIndex;
 use super::view::View;
 use crate::error::{Error, Result};
 use serde::Deserialize;
+use std::hash::BuildHasherDefault;
 use std::path::Path;
 
 /// The library files, by name, with their embedded text.
@@ -302,29 +303,49 @@ pub const H_GROUP_DIST: usize = 3;
 /// set, so that it never equals a group key.
 #[derive(Default)]
 pub struct HGroupTable {
-    /// (family, distance, group key) -> ppm.
     pub terms: HGroupTerms,
     /// Per solvent (index into [`Library::solvents`]): its own terms.
     pub solvent_terms: Vec<(usize, HGroupTerms)>,
 }
 
-/// (family, distance, group key or type key) -> ppm.
-pub type HGroupTerms = std::collections::HashMap<(u8, u8, u64), f64>;
+/// (family << [`H_FAMILY_SHIFT`] | group key or type key) -> ppm by
+/// distance: one lookup gives an atom's terms at every distance.
+pub type HGroupTerms =
+    std::collections::HashMap<u64, [f64; H_GROUP_DIST + 1], BuildHasherDefault<KeyHasher>>;
 
 /// The bit that marks a type-only key (group keys use at most 6 + 7 x 6 bits).
 pub const H_TYPE_ONLY: u64 = 1 << 63;
+/// Where the family sits in a term key.
+pub const H_FAMILY_SHIFT: u32 = 56;
 
-/// Every group term place of the H on carbon `c`: (family of `c`,
-/// distance, atom) for each atom within [`H_GROUP_DIST`] bonds
-/// (breadth-first levels, each atom at its shortest distance); the term's
-/// group is that atom's (`carbon::group_key`).
-pub fn h_group_terms(v: &View, c: usize, mut f: impl FnMut(u8, u8, usize)) {
-    let family = super::carbon::family_of(v, c) as u8;
+/// A hasher for keys that are already well spread u64 (one multiply and a
+/// shift; the table's keys are packed codes, not user input).
+#[derive(Default)]
+pub struct KeyHasher(u64);
+
+impl std::hash::Hasher for KeyHasher {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+    fn write(&mut self, bytes: &[u8]) {
+        for &b in bytes {
+            self.write_u64(b as u64);
+        }
+    }
+    fn write_u64(&mut self, x: u64) {
+        let h = (self.0 ^ x).wrapping_mul(0x9e37_79b9_7f4a_7c15);
+        self.0 = h ^ h >> 29;
+    }
+}
+
+/// Every atom within [`H_GROUP_DIST`] bonds of carbon `c`, with its distance
+/// (breadth-first levels, each atom at its shortest distance; 0 is `c`).
+pub fn h_group_terms(v: &View, c: usize, mut f: impl FnMut(usize, usize)) {
     let mut seen = 1u64 << c;
     let mut level = 1u64 << c;
     for d in 0..=H_GROUP_DIST {
         for x in super::view::bits(level) {
-            f(family, d as u8, x);
+            f(d, x);
         }
         let mut next = 0u64;
         for x in super::view::bits(level) {
@@ -336,25 +357,48 @@ pub fn h_group_terms(v: &View, c: usize, mut f: impl FnMut(u8, u8, usize)) {
 }
 
 impl HGroupTable {
-    /// The sum of the terms for the H on carbon `c` in solvent `solvent`
-    /// (`types`: the molecule's 13C atom types, `carbon::atom_type`).
-    pub fn correction(&self, v: &View, types: &[u8], c: usize, solvent: usize) -> f64 {
-        if self.terms.is_empty() && self.solvent_terms.is_empty() {
-            return 0.0;
-        }
+    pub fn is_empty(&self) -> bool {
+        self.terms.is_empty() && self.solvent_terms.is_empty()
+    }
+
+    /// Per atom of the molecule, the terms (group and type-only, general
+    /// and for `solvent`) it gives, by distance, to an H on a carbon of
+    /// family `family`. `types`: the 13C atom types (`carbon::atom_type`).
+    pub fn atom_rows(
+        &self,
+        v: &View,
+        types: &[u8],
+        family: usize,
+        solvent: usize,
+        rows: &mut [[f64; H_GROUP_DIST + 1]],
+    ) {
         let extra = self
             .solvent_terms
             .iter()
             .find(|s| s.0 == solvent)
             .map(|s| &s.1);
-        let mut sum = 0.0;
-        h_group_terms(v, c, |family, d, x| {
-            let group = (family, d, super::carbon::group_key(v, types, x));
-            let ty = (family, d, H_TYPE_ONLY | types[x] as u64);
+        let fam = (family as u64) << H_FAMILY_SHIFT;
+        for (x, row) in rows.iter_mut().enumerate().take(v.n) {
+            *row = [0.0; H_GROUP_DIST + 1];
+            let group = fam | super::carbon::group_key(v, types, x);
+            let ty = fam | H_TYPE_ONLY | types[x] as u64;
             for t in std::iter::once(&self.terms).chain(extra) {
-                sum += t.get(&group).copied().unwrap_or(0.0) + t.get(&ty).copied().unwrap_or(0.0);
+                for key in [group, ty] {
+                    if let Some(r) = t.get(&key) {
+                        for (a, b) in row.iter_mut().zip(r) {
+                            *a += b;
+                        }
+                    }
+                }
             }
-        });
+        }
+    }
+
+    /// The correction for the H on carbon `c` from the atom rows of its
+    /// family ([`HGroupTable::atom_rows`]).
+    pub fn correction(v: &View, c: usize, rows: &[[f64; H_GROUP_DIST + 1]]) -> f64 {
+        let mut sum = 0.0;
+        h_group_terms(v, c, |d, x| sum += rows[x][d]);
         sum
     }
 }
@@ -679,7 +723,7 @@ fn load_h_groups(r: &Reader, solvents: &[Solvent]) -> Result<HGroupTable> {
     let f: HGroupFile = r.parse(file)?;
     need_source(file, "source", &f.source)?;
     let read = |rows: &[HGroupRow], what: &str| {
-        let mut map = std::collections::HashMap::new();
+        let mut map = HGroupTerms::default();
         for (i, (family, d, group, ppm, _)) in rows.iter().enumerate() {
             let bad = |why: String| {
                 Error::input(format!(
@@ -701,8 +745,18 @@ fn load_h_groups(r: &Reader, solvents: &[Solvent]) -> Result<HGroupTable> {
             if !ppm.is_finite() {
                 return Err(bad("the shift is not a number".to_string()));
             }
-            if map.insert((fam as u8, *d, key), *ppm).is_some() {
+            let row = map
+                .entry((fam as u64) << H_FAMILY_SHIFT | key)
+                .or_insert([f64::NAN; H_GROUP_DIST + 1]);
+            if !row[*d as usize].is_nan() {
                 return Err(bad("given twice".to_string()));
+            }
+            row[*d as usize] = *ppm;
+        }
+        // Distances a group has no row for add nothing.
+        for row in map.values_mut() {
+            for x in row.iter_mut().filter(|x| x.is_nan()) {
+                *x = 0.0;
             }
         }
         Ok(map)
@@ -1301,5 +1355,50 @@ mod tests {
             .err()
             .unwrap();
         assert!(e.to_string().contains("not a folder"));
+    }
+
+    #[test]
+    fn bad_h_group_rows_are_named() {
+        let dir = std::env::temp_dir().join(format!("isomerank-h-groups-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let row = |r: &str| format!("source = \"x\"\nterms = [{r}]\n");
+        let cases = [
+            (
+                row(r#"["sp9", 0, "C.sp3.1", 0.1, 1]"#),
+                "row 1 (sp9 0 C.sp3.1): unknown family",
+            ),
+            (row(r#"["sp3", 4, "C.sp3.1", 0.1, 1]"#), "distance above 3"),
+            (
+                row(r#"["sp3", 0, "C.sp3.1(Q)", 0.1, 1]"#),
+                "the group does not parse",
+            ),
+            (
+                row(r#"["sp3", 1, "C.sp3.1", 0.1, 1], ["sp3", 1, "C.sp3.1", 0.2, 1]"#),
+                "row 2 (sp3 1 C.sp3.1): given twice",
+            ),
+            ("source = \"\"\nterms = []\n".to_string(), "empty source"),
+            (
+                "source = \"x\"\nterms = []\n[[solvent]]\nname = \"XYZ\"\nterms = []\n".to_string(),
+                "unknown solvent \"XYZ\"",
+            ),
+        ];
+        for (text, want) in &cases {
+            std::fs::write(dir.join("h-groups.toml"), text).unwrap();
+            let e = Library::from_dir(&dir).err().expect(want).to_string();
+            assert!(e.contains("h-groups.toml") && e.contains(want), "{e}");
+        }
+        // The same distance of one group in two rows is refused, two
+        // distances of one group are two terms.
+        std::fs::write(
+            dir.join("h-groups.toml"),
+            row(r#"["sp3", 1, "C.sp3.1", 0.1, 1], ["sp3", 2, "C.sp3.1", 0.2, 1]"#),
+        )
+        .unwrap();
+        let lib = Library::from_dir(&dir).unwrap();
+        let key = 0u64 << H_FAMILY_SHIFT
+            | H_TYPE_ONLY
+            | super::super::carbon::type_index("C.sp3.1").unwrap() as u64;
+        assert_eq!(lib.h_groups.terms[&key], [0.0, 0.1, 0.2, 0.0]);
+        std::fs::remove_dir_all(&dir).ok();
     }
 }

@@ -23,6 +23,7 @@
 //!   NMRShiftDB2 dev lists by `scripts/fit_1h_groups.py` (the
 //!   non-additivity and the environments the increment tables miss).
 
+use super::library::{HGroupTable, H_GROUP_DIST};
 use super::view::{bits, DOUBLE};
 use super::{note, Ctx, Group, Method};
 use crate::chem::Element;
@@ -37,14 +38,18 @@ pub(super) enum Place {
 impl Ctx<'_> {
     pub(super) fn shifts(&mut self, groups: &mut [Group]) {
         // 13C atom types, for the 1H group terms (h-groups.toml).
-        let hg = &self.lib.h_groups;
-        let use_groups = !hg.terms.is_empty() || !hg.solvent_terms.is_empty();
+        // Per atom, for the family `rows_family`, its terms by distance.
+        let use_groups = !self.lib.h_groups.is_empty();
         let mut types = [0u8; super::view::MAX_ATOMS];
         if use_groups {
             for (a, t) in types.iter_mut().enumerate().take(self.v.n) {
                 *t = super::carbon::atom_type(self.v, a);
             }
         }
+        // Up to four families' rows at once (a molecule's C-H groups rarely
+        // span more; a fifth reuses the last slot).
+        let mut rows = [[[0.0; H_GROUP_DIST + 1]; super::view::MAX_ATOMS]; 4];
+        let mut rows_family = [usize::MAX; 4];
         for g in groups.iter_mut() {
             let a = g.rep;
             let (shift, sigma, notes, method) = match g.method {
@@ -86,10 +91,23 @@ impl Ctx<'_> {
                 matches!(method, Method::Special(i) if self.lib.environments[i].exchangeable);
             g.shift = shift;
             if use_groups && self.v.element[a] == Element::C && !exchangeable {
-                g.shift += self
-                    .lib
-                    .h_groups
-                    .correction(self.v, &types, a, self.opts.solvent);
+                let family = super::carbon::family_of(self.v, a);
+                let slot = match rows_family.iter().position(|&f| f == family) {
+                    Some(k) => k,
+                    None => {
+                        let k = rows_family
+                            .iter()
+                            .position(|&f| f == usize::MAX)
+                            .unwrap_or(3);
+                        let (v, solvent) = (self.v, self.opts.solvent);
+                        self.lib
+                            .h_groups
+                            .atom_rows(v, &types, family, solvent, &mut rows[k]);
+                        rows_family[k] = family;
+                        k
+                    }
+                };
+                g.shift += HGroupTable::correction(self.v, a, &rows[slot]);
             }
             g.sigma = sigma;
             g.notes |= notes;
