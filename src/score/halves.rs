@@ -23,63 +23,79 @@ use crate::predict::{PredictedCarbon, PredictedSignal, ShiftEstimate};
 pub trait Halves: Clone {
     /// Whether the item may be read as two halves.
     fn halves(&self) -> bool;
-    /// The two halves (each unmarked).
-    fn split(&self) -> (Self, Self);
-}
-
-/// The first and the second half of `atoms` (one methyl of each pair
-/// first, as the predictor orders them).
-fn split_atoms(atoms: &[usize]) -> (Vec<usize>, Vec<usize>) {
-    let (a, b) = atoms.split_at(atoms.len() / 2);
-    (a.to_vec(), b.to_vec())
-}
-
-impl Halves for PredictedSignal {
-    fn halves(&self) -> bool {
-        self.halves
+    /// A copy with half the H (or carbons), unmarked.
+    fn halved(&self) -> Self;
+    /// The atoms of the two halves when the halves lie on different atoms
+    /// (one methyl of each pair first, as the predictor orders them).
+    fn split_atoms(&self) -> Option<(Vec<usize>, Vec<usize>)> {
+        None
     }
+    fn set_atoms(&mut self, _atoms: Vec<usize>) {}
 
-    /// Half the H each; two methyls per prochiral carbon (3 H per atom)
-    /// split their atoms, a CH2 pair keeps all its atoms in both halves.
+    /// The two halves (each unmarked).
     fn split(&self) -> (Self, Self) {
-        let mut a = self.clone();
-        a.halves = false;
-        a.hydrogens /= 2;
+        let mut a = self.halved();
         let mut b = a.clone();
-        if self.hydrogens as usize == 3 * self.atoms.len() {
-            (a.atoms, b.atoms) = split_atoms(&self.atoms);
+        if let Some((x, y)) = self.split_atoms() {
+            a.set_atoms(x);
+            b.set_atoms(y);
         }
         (a, b)
     }
 }
 
-impl Halves for PredictedCarbon {
-    fn halves(&self) -> bool {
-        self.halves
-    }
-
-    fn split(&self) -> (Self, Self) {
-        let mut a = self.clone();
-        a.halves = false;
-        a.carbons /= 2;
-        let mut b = a.clone();
-        (a.atoms, b.atoms) = split_atoms(&self.atoms);
-        (a, b)
-    }
+/// The first and the second half of `atoms`.
+fn halves_of(atoms: &[usize]) -> (Vec<usize>, Vec<usize>) {
+    let (a, b) = atoms.split_at(atoms.len() / 2);
+    (a.to_vec(), b.to_vec())
 }
+
+/// `Halves` for a predicted list item with `atoms` and a count field
+/// (`hydrogens`, `carbons`); `$apart` says whether its halves lie on
+/// different atoms.
+macro_rules! listed_item {
+    ($t:ty, $count:ident, $apart:expr) => {
+        impl Halves for $t {
+            fn halves(&self) -> bool {
+                self.halves
+            }
+
+            fn halved(&self) -> Self {
+                let mut x = self.clone();
+                x.halves = false;
+                x.$count /= 2;
+                x
+            }
+
+            fn split_atoms(&self) -> Option<(Vec<usize>, Vec<usize>)> {
+                let apart: fn(&$t) -> bool = $apart;
+                apart(self).then(|| halves_of(&self.atoms))
+            }
+
+            fn set_atoms(&mut self, atoms: Vec<usize>) {
+                self.atoms = atoms;
+            }
+        }
+    };
+}
+
+// Two methyls per prochiral carbon (3 H per atom) split their atoms; a CH2
+// pair keeps all its atoms in both halves. A 13C pair is always two methyls.
+listed_item!(PredictedSignal, hydrogens, |s| s.hydrogens as usize
+    == 3 * s.atoms.len());
+listed_item!(PredictedCarbon, carbons, |_| true);
 
 impl Halves for ShiftEstimate {
     fn halves(&self) -> bool {
         self.halves
     }
 
-    fn split(&self) -> (Self, Self) {
-        let a = ShiftEstimate {
+    fn halved(&self) -> Self {
+        ShiftEstimate {
             hydrogens: self.hydrogens / 2,
             halves: false,
             ..*self
-        };
-        (a, a)
+        }
     }
 }
 
