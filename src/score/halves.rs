@@ -226,6 +226,24 @@ mod tests {
         ]
     }
 
+    /// The best reading costs the least of the whole (`a`) and the split
+    /// (`b`) list's scores, comes back split exactly when `want_split`, and
+    /// the reading that fits beats the other by a margin; its cost.
+    fn least_of_two<T>(
+        text: &str,
+        a: Option<Scored>,
+        b: Option<Scored>,
+        best: Option<(Scored, Option<Vec<T>>)>,
+        want_split: bool,
+    ) -> f64 {
+        let (a, b) = (a.unwrap().cost, b.unwrap().cost);
+        let (best, list) = best.unwrap();
+        assert_eq!(best.cost, a.min(b), "{text}");
+        assert_eq!(list.is_some(), want_split, "{text}: {a} {b}");
+        assert!((a - b).abs() > 1.0, "{text}: {a} {b}");
+        best.cost
+    }
+
     // Common practice: an isopropyl next to a stereocentre is reported as
     // two 3H doublets when resolved and as one 6H doublet when not; the
     // score takes whichever reading fits, with no penalty for either: the
@@ -259,17 +277,17 @@ mod tests {
         ] {
             let obs = hydrogen(text, "C5H12O");
             let p = Prepared::new(&obs, &m);
-            let a = p.score(&whole, f64::INFINITY).unwrap().cost;
-            let b = p.score(&split, f64::INFINITY).unwrap().cost;
-            let (best, list) = p.score_halves(&marked, f64::INFINITY).unwrap();
-            assert_eq!(best.cost, a.min(b), "{text}");
-            assert_eq!(list.is_some(), want_split, "{text}: {a} {b}");
-            // The reading that fits costs less than the other by a margin.
-            assert!((a - b).abs() > 1.0, "{text}: {a} {b}");
+            let best = least_of_two(
+                text,
+                p.score(&whole, f64::INFINITY),
+                p.score(&split, f64::INFINITY),
+                p.score_halves(&marked, f64::INFINITY),
+                want_split,
+            );
             // Unmarked lists score as before.
             assert!(p.score_halves(&whole, f64::INFINITY).unwrap().1.is_none());
             // A cutoff at the best cost finds nothing (strictly below).
-            assert!(p.score_halves(&marked, best.cost).is_none());
+            assert!(p.score_halves(&marked, best).is_none());
         }
     }
 
@@ -306,12 +324,13 @@ mod tests {
         ] {
             let obs = carbon13(text, "C5H12O");
             let p = CarbonPrepared::new(&obs, &m);
-            let a = p.score(&whole, f64::INFINITY).unwrap().cost;
-            let b = p.score(&split, f64::INFINITY).unwrap().cost;
-            let (best, list) = p.score_halves(&marked, f64::INFINITY).unwrap();
-            assert_eq!(best.cost, a.min(b), "{text}");
-            assert_eq!(list.is_some(), want_split, "{text}: {a} {b}");
-            assert!((a - b).abs() > 1.0, "{text}: {a} {b}");
+            least_of_two(
+                text,
+                p.score(&whole, f64::INFINITY),
+                p.score(&split, f64::INFINITY),
+                p.score_halves(&marked, f64::INFINITY),
+                want_split,
+            );
         }
     }
 
@@ -333,16 +352,7 @@ mod tests {
                     x.halves = true;
                 }
             }
-            let g: Vec<ShiftEstimate> = predicted
-                .iter()
-                .map(|x| ShiftEstimate {
-                    shift: x.shift,
-                    sigma: x.sigma,
-                    hydrogens: x.hydrogens,
-                    exchangeable: x.exchangeable,
-                    halves: x.halves,
-                })
-                .collect();
+            let g: Vec<ShiftEstimate> = predicted.iter().map(ShiftEstimate::of).collect();
             let (best, list) = p.score_halves(&predicted, f64::INFINITY).unwrap();
             split_won += list.is_some() as usize;
             // Every reading costs at least the best one.
