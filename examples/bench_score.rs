@@ -124,16 +124,7 @@ fn main() {
     .expect("enumeration");
     let n = starts.len() - 1;
     let cand = |i: usize| &signals[starts[i]..starts[i + 1]];
-    let shifts: Vec<GroupShift> = signals
-        .iter()
-        .map(|s| GroupShift {
-            shift: s.shift,
-            sigma: s.sigma,
-            hydrogens: s.hydrogens,
-            exchangeable: s.exchangeable,
-            halves: s.halves,
-        })
-        .collect();
+    let shifts: Vec<GroupShift> = signals.iter().map(GroupShift::of).collect();
     let groups = |i: usize| &shifts[starts[i]..starts[i + 1]];
     println!(
         "formula {formula}: {n} candidates, {} predicted groups, predicted in {:.1} s ({} threads)",

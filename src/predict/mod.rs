@@ -340,6 +340,20 @@ pub struct ShiftEstimate {
     pub halves: bool,
 }
 
+impl ShiftEstimate {
+    /// What the gate saw of a finished signal (its shift, sigma, H count
+    /// and flags).
+    pub fn of(s: &PredictedSignal) -> ShiftEstimate {
+        ShiftEstimate {
+            shift: s.shift,
+            sigma: s.sigma,
+            hydrogens: s.hydrogens,
+            exchangeable: s.exchangeable,
+            halves: s.halves,
+        }
+    }
+}
+
 /// Shifts and sigmas are reported to 0.01 ppm.
 fn round2(x: f64) -> f64 {
     (x * 100.0).round() / 100.0

@@ -23,63 +23,79 @@ use crate::predict::{PredictedCarbon, PredictedSignal, ShiftEstimate};
 pub trait Halves: Clone {
     /// Whether the item may be read as two halves.
     fn halves(&self) -> bool;
-    /// The two halves (each unmarked).
-    fn split(&self) -> (Self, Self);
-}
-
-/// The first and the second half of `atoms` (one methyl of each pair
-/// first, as the predictor orders them).
-fn split_atoms(atoms: &[usize]) -> (Vec<usize>, Vec<usize>) {
-    let (a, b) = atoms.split_at(atoms.len() / 2);
-    (a.to_vec(), b.to_vec())
-}
-
-impl Halves for PredictedSignal {
-    fn halves(&self) -> bool {
-        self.halves
+    /// A copy with half the H (or carbons), unmarked.
+    fn halved(&self) -> Self;
+    /// The atoms of the two halves when the halves lie on different atoms
+    /// (one methyl of each pair first, as the predictor orders them).
+    fn split_atoms(&self) -> Option<(Vec<usize>, Vec<usize>)> {
+        None
     }
+    fn set_atoms(&mut self, _atoms: Vec<usize>) {}
 
-    /// Half the H each; two methyls per prochiral carbon (3 H per atom)
-    /// split their atoms, a CH2 pair keeps all its atoms in both halves.
+    /// The two halves (each unmarked).
     fn split(&self) -> (Self, Self) {
-        let mut a = self.clone();
-        a.halves = false;
-        a.hydrogens /= 2;
+        let mut a = self.halved();
         let mut b = a.clone();
-        if self.hydrogens as usize == 3 * self.atoms.len() {
-            (a.atoms, b.atoms) = split_atoms(&self.atoms);
+        if let Some((x, y)) = self.split_atoms() {
+            a.set_atoms(x);
+            b.set_atoms(y);
         }
         (a, b)
     }
 }
 
-impl Halves for PredictedCarbon {
-    fn halves(&self) -> bool {
-        self.halves
-    }
-
-    fn split(&self) -> (Self, Self) {
-        let mut a = self.clone();
-        a.halves = false;
-        a.carbons /= 2;
-        let mut b = a.clone();
-        (a.atoms, b.atoms) = split_atoms(&self.atoms);
-        (a, b)
-    }
+/// The first and the second half of `atoms`.
+fn halves_of(atoms: &[usize]) -> (Vec<usize>, Vec<usize>) {
+    let (a, b) = atoms.split_at(atoms.len() / 2);
+    (a.to_vec(), b.to_vec())
 }
+
+/// `Halves` for a predicted list item with `atoms` and a count field
+/// (`hydrogens`, `carbons`); `$apart` says whether its halves lie on
+/// different atoms.
+macro_rules! listed_item {
+    ($t:ty, $count:ident, $apart:expr) => {
+        impl Halves for $t {
+            fn halves(&self) -> bool {
+                self.halves
+            }
+
+            fn halved(&self) -> Self {
+                let mut x = self.clone();
+                x.halves = false;
+                x.$count /= 2;
+                x
+            }
+
+            fn split_atoms(&self) -> Option<(Vec<usize>, Vec<usize>)> {
+                let apart: fn(&$t) -> bool = $apart;
+                apart(self).then(|| halves_of(&self.atoms))
+            }
+
+            fn set_atoms(&mut self, atoms: Vec<usize>) {
+                self.atoms = atoms;
+            }
+        }
+    };
+}
+
+// Two methyls per prochiral carbon (3 H per atom) split their atoms; a CH2
+// pair keeps all its atoms in both halves. A 13C pair is always two methyls.
+listed_item!(PredictedSignal, hydrogens, |s| s.hydrogens as usize
+    == 3 * s.atoms.len());
+listed_item!(PredictedCarbon, carbons, |_| true);
 
 impl Halves for ShiftEstimate {
     fn halves(&self) -> bool {
         self.halves
     }
 
-    fn split(&self) -> (Self, Self) {
-        let a = ShiftEstimate {
+    fn halved(&self) -> Self {
+        ShiftEstimate {
             hydrogens: self.hydrogens / 2,
             halves: false,
             ..*self
-        };
-        (a, a)
+        }
     }
 }
 
@@ -210,6 +226,24 @@ mod tests {
         ]
     }
 
+    /// The best reading costs the least of the whole (`a`) and the split
+    /// (`b`) list's scores, comes back split exactly when `want_split`, and
+    /// the reading that fits beats the other by a margin; its cost.
+    fn least_of_two<T>(
+        text: &str,
+        a: Option<Scored>,
+        b: Option<Scored>,
+        best: Option<(Scored, Option<Vec<T>>)>,
+        want_split: bool,
+    ) -> f64 {
+        let (a, b) = (a.unwrap().cost, b.unwrap().cost);
+        let (best, list) = best.unwrap();
+        assert_eq!(best.cost, a.min(b), "{text}");
+        assert_eq!(list.is_some(), want_split, "{text}: {a} {b}");
+        assert!((a - b).abs() > 1.0, "{text}: {a} {b}");
+        best.cost
+    }
+
     // Common practice: an isopropyl next to a stereocentre is reported as
     // two 3H doublets when resolved and as one 6H doublet when not; the
     // score takes whichever reading fits, with no penalty for either: the
@@ -243,17 +277,17 @@ mod tests {
         ] {
             let obs = hydrogen(text, "C5H12O");
             let p = Prepared::new(&obs, &m);
-            let a = p.score(&whole, f64::INFINITY).unwrap().cost;
-            let b = p.score(&split, f64::INFINITY).unwrap().cost;
-            let (best, list) = p.score_halves(&marked, f64::INFINITY).unwrap();
-            assert_eq!(best.cost, a.min(b), "{text}");
-            assert_eq!(list.is_some(), want_split, "{text}: {a} {b}");
-            // The reading that fits costs less than the other by a margin.
-            assert!((a - b).abs() > 1.0, "{text}: {a} {b}");
+            let best = least_of_two(
+                text,
+                p.score(&whole, f64::INFINITY),
+                p.score(&split, f64::INFINITY),
+                p.score_halves(&marked, f64::INFINITY),
+                want_split,
+            );
             // Unmarked lists score as before.
             assert!(p.score_halves(&whole, f64::INFINITY).unwrap().1.is_none());
             // A cutoff at the best cost finds nothing (strictly below).
-            assert!(p.score_halves(&marked, best.cost).is_none());
+            assert!(p.score_halves(&marked, best).is_none());
         }
     }
 
@@ -290,12 +324,13 @@ mod tests {
         ] {
             let obs = carbon13(text, "C5H12O");
             let p = CarbonPrepared::new(&obs, &m);
-            let a = p.score(&whole, f64::INFINITY).unwrap().cost;
-            let b = p.score(&split, f64::INFINITY).unwrap().cost;
-            let (best, list) = p.score_halves(&marked, f64::INFINITY).unwrap();
-            assert_eq!(best.cost, a.min(b), "{text}");
-            assert_eq!(list.is_some(), want_split, "{text}: {a} {b}");
-            assert!((a - b).abs() > 1.0, "{text}: {a} {b}");
+            least_of_two(
+                text,
+                p.score(&whole, f64::INFINITY),
+                p.score(&split, f64::INFINITY),
+                p.score_halves(&marked, f64::INFINITY),
+                want_split,
+            );
         }
     }
 
@@ -317,16 +352,7 @@ mod tests {
                     x.halves = true;
                 }
             }
-            let g: Vec<ShiftEstimate> = predicted
-                .iter()
-                .map(|x| ShiftEstimate {
-                    shift: x.shift,
-                    sigma: x.sigma,
-                    hydrogens: x.hydrogens,
-                    exchangeable: x.exchangeable,
-                    halves: x.halves,
-                })
-                .collect();
+            let g: Vec<ShiftEstimate> = predicted.iter().map(ShiftEstimate::of).collect();
             let (best, list) = p.score_halves(&predicted, f64::INFINITY).unwrap();
             split_won += list.is_some() as usize;
             // Every reading costs at least the best one.

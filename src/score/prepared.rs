@@ -352,15 +352,7 @@ mod tests {
     }
 
     fn groups(p: &[PredictedSignal]) -> Vec<GroupShift> {
-        p.iter()
-            .map(|s| GroupShift {
-                shift: s.shift,
-                sigma: s.sigma,
-                hydrogens: s.hydrogens,
-                exchangeable: s.exchangeable,
-                halves: s.halves,
-            })
-            .collect()
+        p.iter().map(GroupShift::of).collect()
     }
 
     #[test]
