@@ -65,7 +65,7 @@ def num(text):
 def classify(row):
     position = int(row["position"]) if row["position"] else None
     complete = row["complete"] == "true"
-    if row["first"] == "" and row["considered"] == "0":
+    if math.isnan(num(row["truth_cost"])):
         return "refused"
     if position == 1:
         return None if complete else "first, limit hit"
@@ -81,6 +81,10 @@ def classify(row):
             return "bounds:" + part
     truth = num(row["truth_cost"])
     first = num(row["first_cost"])
+    # No first candidate (the limit came before the first task was
+    # covered) compares as an infinitely bad one.
+    if math.isnan(first):
+        first = math.inf
     if position is None and truth <= first + 1e-9:
         return "time" if not complete else "not built"
     lose_1h = num(row["truth_alone_1h"]) - num(row["first_1h"])

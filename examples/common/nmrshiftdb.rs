@@ -241,13 +241,18 @@ pub fn rank_case(
         position,
         considered: r.considered,
         seconds: start.elapsed().as_secs_f64(),
-        first: r.candidates[0].smiles.clone(),
-        first_cost: r.candidates[0].cost,
+        // No candidate at all when the time limit came before the first
+        // task was covered.
+        first: r
+            .candidates
+            .first()
+            .map_or(String::new(), |c| c.smiles.clone()),
+        first_cost: r.candidates.first().map_or(f64::NAN, |c| c.cost),
         true_cost: position.map(|p| r.candidates[p - 1].cost),
         refused: None,
         complete: r.coverage.stopped.is_none(),
-        first_parts: parts(&r.candidates[0]),
-        first_probability: r.candidates[0].probability,
+        first_parts: r.candidates.first().map_or((f64::NAN, f64::NAN), parts),
+        first_probability: r.candidates.first().map_or(f64::NAN, |c| c.probability),
         true_parts: position.map(|p| parts(&r.candidates[p - 1])),
         true_probability: position.map(|p| r.candidates[p - 1].probability),
         observed_lines,
