@@ -77,8 +77,10 @@ pub struct Outcome {
     pub true_probability: Option<f64>,
     /// Observed 1H multiplets plus 13C lines (the data's size).
     pub observed_lines: usize,
-    /// The true structure's cost, scored alone (whatever its position).
+    /// The true structure's cost, scored alone (whatever its position),
+    /// and its 1H and 13C parts.
     pub truth_cost: f64,
+    pub truth_parts: (f64, f64),
 }
 
 impl Outcome {
@@ -150,6 +152,7 @@ pub fn rank_case(
         true_probability: None,
         observed_lines: 0,
         truth_cost: f64::NAN,
+        truth_parts: (f64::NAN, f64::NAN),
     };
     let hydrogen = if case.peaks.is_empty() {
         None
@@ -211,11 +214,11 @@ pub fn rank_case(
             name: None,
         };
         let mut one = std::iter::once(Ok(vec![item]));
-        let truth = rank::rank_shortlist_chunks(&mut one, steps, &settings)?;
+        let mut truth = rank::rank_shortlist_chunks(&mut one, steps, &settings)?;
         let r = rank::rank_formula(&formula, &options, steps, &settings, &mut |_, _| {})?;
-        Ok::<_, isomerank::error::Error>((r, truth.candidates[0].cost))
+        Ok::<_, isomerank::error::Error>((r, truth.candidates.swap_remove(0)))
     });
-    let (r, truth_cost) = match r {
+    let (r, truth) = match r {
         Ok(r) => r,
         Err(e) => return refused(e.to_string()),
     };
@@ -238,17 +241,23 @@ pub fn rank_case(
         position,
         considered: r.considered,
         seconds: start.elapsed().as_secs_f64(),
-        first: r.candidates[0].smiles.clone(),
-        first_cost: r.candidates[0].cost,
+        // No candidate at all when the time limit came before the first
+        // task was covered.
+        first: r
+            .candidates
+            .first()
+            .map_or(String::new(), |c| c.smiles.clone()),
+        first_cost: r.candidates.first().map_or(f64::NAN, |c| c.cost),
         true_cost: position.map(|p| r.candidates[p - 1].cost),
         refused: None,
         complete: r.coverage.stopped.is_none(),
-        first_parts: parts(&r.candidates[0]),
-        first_probability: r.candidates[0].probability,
+        first_parts: r.candidates.first().map_or((f64::NAN, f64::NAN), parts),
+        first_probability: r.candidates.first().map_or(f64::NAN, |c| c.probability),
         true_parts: position.map(|p| parts(&r.candidates[p - 1])),
         true_probability: position.map(|p| r.candidates[p - 1].probability),
         observed_lines,
-        truth_cost,
+        truth_cost: truth.cost,
+        truth_parts: parts(&truth),
     }
 }
 
