@@ -109,10 +109,9 @@ impl Split {
         }
         let h_min = c.hydrogens.iter().copied().min().unwrap_or(0);
         refill(&mut self.extra, m, f64::INFINITY);
-        for gi in 0..g {
-            let row = &c.pair[gi * m..(gi + 1) * m];
+        for (row, &least) in c.pair.chunks_exact(m).zip(cheapest) {
             for (e, &p) in self.extra.iter_mut().zip(row) {
-                *e = e.min(p - cheapest[gi]);
+                *e = e.min(p - least);
             }
         }
         self.slack.clear();
@@ -184,8 +183,8 @@ impl Split {
         self.parent.clear();
         self.parent.extend(0..(g + m) as u32);
         let known_cost = known_cost + MARGIN * (1.0 + known_cost.abs());
-        for gi in 0..g {
-            let fixed = root - cheapest[gi];
+        for (gi, &least) in cheapest.iter().enumerate() {
+            let fixed = root - least;
             for &j in &self.list[self.start[gi] as usize..self.start[gi + 1] as usize] {
                 let ju = j as usize;
                 let p = c.pair[gi * m + ju];
