@@ -697,20 +697,37 @@ fn run_split(
     let slack = 1e-9 * (1.0 + cutoff.abs());
     let (mut left, mut spent) = (root, 0.0);
     for p in 0..parts {
-        if split.members(p).0.is_empty() {
+        let (gs, ls) = split.members(p);
+        if gs.is_empty() {
             continue;
         }
         left -= split.lower(c, min_choice, p);
+        let below = cutoff - spent - left + slack;
+        if let [one] = *gs {
+            // One group: its options side by side (none first, then the
+            // multiplets in order; the first of equal costs stays).
+            let gi = one as usize;
+            let empty: f64 = ls.iter().map(|&j| c.empty[j as usize]).sum();
+            let mut best = (c.unassigned[gi] + empty, NONE);
+            for &j in ls {
+                let ju = j as usize;
+                let cost =
+                    c.pair[gi * m + ju] + c.multiplet(ju, c.hydrogens[gi], 1) + empty - c.empty[ju];
+                if cost < best.0 {
+                    best = (cost, j as u16);
+                }
+            }
+            *nodes += 1;
+            if best.0 >= below {
+                return Some(Outcome::Nothing);
+            }
+            spent += best.0;
+            best_choice[gi] = best.1;
+            continue;
+        }
         let out = {
             let view = split.view(c, p);
-            run(
-                &view,
-                cutoff - spent - left + slack,
-                part,
-                false,
-                max_nodes,
-                tuning,
-            )
+            run(&view, below, part, false, max_nodes, tuning)
         };
         *nodes += part.nodes;
         let Outcome::Below(cost) = out else {

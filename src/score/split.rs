@@ -104,7 +104,7 @@ impl Split {
     /// number of components, or `None` when one of them holds every group.
     pub fn parts(&mut self, c: &CostsRef, cheapest: &[f64], root: f64) -> Option<usize> {
         let (g, m) = (c.groups, c.multiplets);
-        if g < 2 {
+        if g < 2 || m == 0 {
             return None;
         }
         let h_min = c.hydrogens.iter().copied().min().unwrap_or(0);
