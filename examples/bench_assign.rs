@@ -134,8 +134,12 @@ fn time(instances: &[Costs], solve: impl Fn(&Costs) -> (f64, u64)) -> (f64, u64,
 
 /// When the stronger bounds join: `TUNING=S,L`, else the default.
 fn tuning() -> Tuning {
+    let split = std::env::var_os("WHOLE").is_none();
     let Ok(text) = std::env::var("TUNING") else {
-        return Tuning::default();
+        return Tuning {
+            split,
+            ..Tuning::default()
+        };
     };
     let v: Vec<u64> = text
         .split(',')
@@ -145,6 +149,7 @@ fn tuning() -> Tuning {
     Tuning {
         strong_after: v[0],
         lines_after: v[1],
+        split,
     }
 }
 

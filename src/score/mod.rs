@@ -17,6 +17,7 @@ mod line_bound;
 pub mod model;
 mod pattern_rows;
 pub mod prepared;
+mod split;
 #[cfg(test)]
 mod testgen;
 

@@ -1,0 +1,309 @@
+//! Splitting one assignment problem ([`super::assign`]) into independent
+//! parts before the search: most (group, multiplet) pairs of a long
+//! spectrum can be shown absent from every assignment that beats a known
+//! one, and once they are set aside the groups and multiplets fall into
+//! small connected parts that are solved one by one.
+//!
+//! A pair (g, j) is set aside when either test holds:
+//!
+//! 1. **Dominance.** Taking g off multiplet j (to no multiplet) changes j's
+//!    term by at most D_j = max(empty_j, integral_j(h_min) - overlap_j):
+//!    when g was alone there, the term drops from integral_j(h_g) >= 0 to
+//!    empty_j; when others stay, the overlap falls by overlap_j and the
+//!    integral rises by at most integral_j(h_min) (the term falls with H up
+//!    to the observed integral and rises beyond it, and the others keep at
+//!    least h_min H). So when pair(g, j) > unassigned_g + D_j, every
+//!    assignment using the pair costs more than the same one with g left
+//!    out, and no optimum uses it.
+//! 2. **Reduced-cost fixing** against the root bound (the bound the search
+//!    starts from, `assign::root_bound`: every group on its cheapest option
+//!    plus, per multiplet, the cheaper of staying empty and the least extra
+//!    a group pays to go there). With g forced onto j the same argument
+//!    gives root - min(empty_j, extra_j) + pair(g, j) - cheapest_g; when that
+//!    reaches the cost of a known assignment, no assignment using the pair
+//!    is cheaper than it. This is the classical use of reduced costs against
+//!    an incumbent to fix variables in branch and bound (Dantzig, Fulkerson
+//!    & Johnson, Operations Research 1954, 2, 393; from memory).
+//!
+//! The pairs of the known assignment itself are always kept, so it stays
+//! feasible. Every assignment cheaper than it then uses kept pairs only,
+//! so the optimum over kept pairs is the optimum. The kept pairs make a
+//! bipartite graph of groups and multiplets; its connected components
+//! (union-find: Galler & Fischer, CACM 1964, 7, 301) share no kept pair, so
+//! the optimum is the sum of each component's optimum (the cost is
+//! separable per group plus per multiplet, and a component holds its
+//! multiplets' every group). A group with no kept pair stays unassigned; a
+//! multiplet with none stays empty.
+//!
+//! Each component goes through the search on its own numbers; the
+//! combined assignment is evaluated once on the whole problem, so the cost
+//! does not depend on how the parts were summed. The split is skipped (the
+//! caller searches the whole problem) when one component would hold every
+//! group.
+
+use super::assign::{improve, marginal, refill, CostsRef, Targets, NONE};
+
+/// Relative margin by which a test must hold before a pair is set aside
+/// (against rounding in the sums that compare).
+const MARGIN: f64 = 1e-9;
+
+/// The split's buffers, kept between calls.
+#[derive(Clone, Debug, Default)]
+pub(crate) struct Split {
+    /// Union-find parents: groups 0..g, multiplets g..g + m.
+    parent: Vec<u32>,
+    /// Per multiplet: the least extra a group pays to go there instead of
+    /// to its cheapest option.
+    extra: Vec<f64>,
+    /// Per multiplet: D_j of the dominance test.
+    slack: Vec<f64>,
+    /// Per node: its component's index (after `label`).
+    part: Vec<u32>,
+    /// Component c's groups are `groups[group_start[c]..group_start[c + 1]]`
+    /// (ascending), and likewise its multiplets.
+    group_start: Vec<u32>,
+    groups: Vec<u32>,
+    line_start: Vec<u32>,
+    lines: Vec<u32>,
+    /// Scratch of the counting sort.
+    fill: Vec<u32>,
+    /// Per group, the multiplets the dominance test leaves:
+    /// `list[start[g]..start[g + 1]]`.
+    start: Vec<u32>,
+    list: Vec<u16>,
+    /// The best known assignment, and scratch of the heuristics.
+    known: Vec<u16>,
+    trial: Vec<u16>,
+    order: Vec<usize>,
+    h: Vec<u32>,
+    k: Vec<u32>,
+    /// The current part's numbers.
+    pub pair: Vec<f64>,
+    pub unassigned: Vec<f64>,
+    pub hydrogens: Vec<u32>,
+    pub observed_h: Vec<Option<f64>>,
+    pub empty: Vec<f64>,
+    pub overlap: Vec<f64>,
+}
+
+fn find(parent: &mut [u32], mut x: u32) -> u32 {
+    while parent[x as usize] != x {
+        let p = parent[x as usize];
+        parent[x as usize] = parent[p as usize];
+        x = p;
+    }
+    x
+}
+
+impl Split {
+    /// Set pairs aside (the dominance test, then reduced-cost fixing
+    /// against the best of three assignments found on the pairs left: each
+    /// group on its cheapest option, the marginal one, and the better of
+    /// the two after local search) and label the components; `cheapest` is
+    /// each group's cheapest option and `root` the root bound. Returns the
+    /// number of components, or `None` when one of them holds every group.
+    pub fn parts(&mut self, c: &CostsRef, cheapest: &[f64], root: f64) -> Option<usize> {
+        let (g, m) = (c.groups, c.multiplets);
+        if g < 2 || m == 0 {
+            return None;
+        }
+        let h_min = c.hydrogens.iter().copied().min().unwrap_or(0);
+        refill(&mut self.extra, m, f64::INFINITY);
+        for (row, &least) in c.pair.chunks_exact(m).zip(cheapest) {
+            for (e, &p) in self.extra.iter_mut().zip(row) {
+                *e = e.min(p - least);
+            }
+        }
+        self.slack.clear();
+        self.slack.extend((0..m).map(|j| {
+            let fill = c.integral(j, h_min) - c.overlap[j];
+            c.empty[j].max(fill)
+        }));
+        // Dominance: per group the multiplets it may take, and its
+        // cheapest option (the search's first: lowest index among equals,
+        // none last).
+        self.start.clear();
+        self.start.push(0);
+        self.list.clear();
+        refill(&mut self.known, g, NONE);
+        for gi in 0..g {
+            let row = &c.pair[gi * m..(gi + 1) * m];
+            let dominated = c.unassigned[gi] + MARGIN * (1.0 + c.unassigned[gi].abs());
+            let mut best = (c.unassigned[gi], NONE);
+            for (j, &p) in row.iter().enumerate() {
+                if p <= dominated + self.slack[j] {
+                    self.list.push(j as u16);
+                }
+                if p < best.0 || p == best.0 && best.1 == NONE {
+                    best = (p, j as u16);
+                }
+            }
+            self.known[gi] = best.1;
+            self.start.push(self.list.len() as u32);
+        }
+        let targets = Targets::Listed {
+            start: &self.start,
+            lines: &self.list,
+        };
+        refill(&mut self.h, m, 0);
+        refill(&mut self.k, m, 0);
+        let mut known_cost = c.evaluate_in(&self.known, &mut self.h, &mut self.k);
+        self.order.clear();
+        self.order.extend(0..g);
+        self.order
+            .sort_by(|&a, &b| c.hydrogens[b].cmp(&c.hydrogens[a]).then(a.cmp(&b)));
+        refill(&mut self.trial, g, NONE);
+        refill(&mut self.h, m, 0);
+        refill(&mut self.k, m, 0);
+        marginal(
+            c,
+            &self.order,
+            targets,
+            &mut self.h,
+            &mut self.k,
+            &mut self.trial,
+        );
+        refill(&mut self.h, m, 0);
+        refill(&mut self.k, m, 0);
+        let cost = c.evaluate_in(&self.trial, &mut self.h, &mut self.k);
+        if cost < known_cost {
+            self.known.copy_from_slice(&self.trial);
+            known_cost = cost;
+        }
+        self.trial.copy_from_slice(&self.known);
+        refill(&mut self.h, m, 0);
+        refill(&mut self.k, m, 0);
+        let cost = improve(c, &mut self.trial, &mut self.h, &mut self.k, targets);
+        if cost < known_cost {
+            self.known.copy_from_slice(&self.trial);
+            known_cost = cost;
+        }
+        // Reduced-cost fixing on the pairs left; the known assignment's
+        // own pairs stay.
+        self.parent.clear();
+        self.parent.extend(0..(g + m) as u32);
+        let known_cost = known_cost + MARGIN * (1.0 + known_cost.abs());
+        for (gi, &least) in cheapest.iter().enumerate() {
+            let fixed = root - least;
+            for &j in &self.list[self.start[gi] as usize..self.start[gi + 1] as usize] {
+                let ju = j as usize;
+                let p = c.pair[gi * m + ju];
+                if self.known[gi] == j || fixed - c.empty[ju].min(self.extra[ju]) + p < known_cost {
+                    let a = find(&mut self.parent, gi as u32);
+                    let b = find(&mut self.parent, (g + ju) as u32);
+                    if a != b {
+                        self.parent[a.max(b) as usize] = a.min(b);
+                    }
+                }
+            }
+        }
+        // Components numbered by their first node (a group, or a multiplet
+        // no group reaches), groups and multiplets listed ascending.
+        refill(&mut self.part, g + m, u32::MAX);
+        let mut parts = 0u32;
+        for x in 0..g + m {
+            let r = find(&mut self.parent, x as u32) as usize;
+            if self.part[r] == u32::MAX {
+                self.part[r] = parts;
+                parts += 1;
+            }
+            self.part[x] = self.part[r];
+        }
+        let parts = parts as usize;
+        if (0..g).all(|x| self.part[x] == 0) {
+            return None;
+        }
+        let counting =
+            |start: &mut Vec<u32>, out: &mut Vec<u32>, fill: &mut Vec<u32>, of: &[u32]| {
+                refill(start, parts + 1, 0);
+                for &p in of {
+                    start[p as usize + 1] += 1;
+                }
+                for p in 0..parts {
+                    start[p + 1] += start[p];
+                }
+                fill.clear();
+                fill.extend_from_slice(&start[..parts]);
+                refill(out, of.len(), 0);
+                for (x, &p) in of.iter().enumerate() {
+                    out[fill[p as usize] as usize] = x as u32;
+                    fill[p as usize] += 1;
+                }
+            };
+        let (of_groups, of_lines) = self.part.split_at(g);
+        counting(
+            &mut self.group_start,
+            &mut self.groups,
+            &mut self.fill,
+            of_groups,
+        );
+        counting(
+            &mut self.line_start,
+            &mut self.lines,
+            &mut self.fill,
+            of_lines,
+        );
+        Some(parts)
+    }
+
+    /// Component `p`'s groups and multiplets (indices into the whole
+    /// problem, ascending).
+    pub fn members(&self, p: usize) -> (&[u32], &[u32]) {
+        let gs = &self.groups[self.group_start[p] as usize..self.group_start[p + 1] as usize];
+        let ls = &self.lines[self.line_start[p] as usize..self.line_start[p + 1] as usize];
+        (gs, ls)
+    }
+
+    /// Component `p`'s share of the root bound: its groups' cheapest
+    /// options and, per multiplet, the cheaper of staying empty and the
+    /// least extra of a group going there.
+    pub fn lower(&self, c: &CostsRef, cheapest: &[f64], p: usize) -> f64 {
+        let (gs, ls) = self.members(p);
+        gs.iter().map(|&x| cheapest[x as usize]).sum::<f64>()
+            + ls.iter()
+                .map(|&j| c.empty[j as usize].min(self.extra[j as usize]))
+                .sum::<f64>()
+    }
+
+    /// Copy component `p`'s numbers into the part buffers and view them.
+    pub fn view<'s>(&'s mut self, c: &CostsRef, p: usize) -> CostsRef<'s> {
+        let (g0, g1) = (
+            self.group_start[p] as usize,
+            self.group_start[p + 1] as usize,
+        );
+        let (l0, l1) = (self.line_start[p] as usize, self.line_start[p + 1] as usize);
+        let m = c.multiplets;
+        self.pair.clear();
+        self.unassigned.clear();
+        self.hydrogens.clear();
+        for &gi in &self.groups[g0..g1] {
+            let row = &c.pair[gi as usize * m..];
+            self.pair
+                .extend(self.lines[l0..l1].iter().map(|&j| row[j as usize]));
+            self.unassigned.push(c.unassigned[gi as usize]);
+            self.hydrogens.push(c.hydrogens[gi as usize]);
+        }
+        let lines = &self.lines[l0..l1];
+        self.observed_h.clear();
+        self.observed_h
+            .extend(lines.iter().map(|&j| c.observed_h[j as usize]));
+        self.empty.clear();
+        self.empty
+            .extend(lines.iter().map(|&j| c.empty[j as usize]));
+        self.overlap.clear();
+        self.overlap
+            .extend(lines.iter().map(|&j| c.overlap[j as usize]));
+        CostsRef {
+            groups: g1 - g0,
+            multiplets: l1 - l0,
+            pair: &self.pair,
+            unassigned: &self.unassigned,
+            hydrogens: &self.hydrogens,
+            observed_h: &self.observed_h,
+            empty: &self.empty,
+            overlap: &self.overlap,
+            abs_sigma: c.abs_sigma,
+            rel_sigma: c.rel_sigma,
+        }
+    }
+}
