@@ -53,7 +53,8 @@ fn each_rule_removes_exactly_what_an_independent_check_flags() {
     // Formulas with small rings, bridged polycycles, triple bonds, allenes,
     // enols, phenols, hydroxy heteroarenes, O-O bonds, carbonyl hydrates
     // and adducts, imidic acids, thiols on C=C and C=N, hypohalites,
-    // mercapto heteroarenes, NH imines and (with the expanded valences)
+    // mercapto heteroarenes, NH imines, peroxy acids, peresters and
+    // hydroperoxides (C3H6O3) and (with the expanded valences)
     // S=C at S(IV) and S(VI) among their isomers.
     // C6H6 and C8H8 hold prismane, cubane and the other cages and fused
     // small rings; C5H5NO and C3H5NO2 with --charge-separated hold ring
@@ -64,6 +65,7 @@ fn each_rule_removes_exactly_what_an_independent_check_flags() {
         ("C6H6O2", &[]),
         ("C8H10", &[]),
         ("C6H8O2", &[]),
+        ("C3H6O3", &[]),
         ("C7H10", &[]),
         ("C5H5NO", &[]),
         ("C3H5ClO", &[]),
@@ -137,6 +139,16 @@ fn common_practice_cases() {
     assert!(keeps("C5H5NO", "enol", "Oc1ccncc1"));
     // A carboxylic acid's OH is on a C=O, not a C=C.
     assert!(keeps("C3H4O2", "enol", "C=CC(=O)O"));
+    // Enols conjugated with a C=O are kept: the enol of acetylacetone
+    // (predominant in CDCl3), of cyclohexane-1,3-dione, and a 1,2-dione
+    // enol (2-hydroxycyclopent-2-enone); an isolated enol, a dienol without
+    // an acceptor and an ynol are not.
+    assert!(keeps("C5H8O2", "enol", "CC(O)=CC(C)=O"));
+    assert!(keeps("C6H8O2", "enol", "OC1=CC(=O)CCC1"));
+    assert!(keeps("C5H6O2", "enol", "OC1=CCCC1=O"));
+    assert!(!keeps("C4H8O", "enol", "CC(O)=CC"));
+    assert!(!keeps("C4H6O", "enol", "OC=CC=C"));
+    assert!(!keeps("C3H4O", "enol", "CC#CO"));
     // Cyclohexyne is not isolable; cyclooctyne is the smallest that is.
     assert!(!keeps("C6H8", "small-ring-triple", "C1CCC#CC1"));
     assert!(keeps("C8H12", "small-ring-triple", "C1CCCC#CCC1"));
@@ -148,9 +160,19 @@ fn common_practice_cases() {
     assert!(!keeps("C7H10", "bredt", "C12=CCC(CC1)C2"));
     assert!(keeps("C9H14", "bredt", "C12=CCCC(C1)CCC2"));
     assert!(keeps("C7H10", "bredt", "C1=CC2CCC1C2"));
-    // Peroxides.
+    // Peroxides: an open-chain dialkyl peroxide, a hydroperoxide on an sp2
+    // carbon and an O-O-O chain go; peracetic acid, methyl peracetate,
+    // tert-butyl hydroperoxide and 1,2-dioxolane (a cyclic peroxide) stay.
     assert!(!keeps("C2H6O2", "peroxide", "COOC"));
     assert!(keeps("C2H6O2", "peroxide", "OCCO"));
+    assert!(!keeps("C2H4O2", "peroxide", "C=COO"));
+    assert!(!keeps("C2H6O3", "peroxide", "COOOC"));
+    assert!(keeps("C2H4O3", "peroxide", "CC(=O)OO"));
+    assert!(keeps("C3H6O3", "peroxide", "CC(=O)OOC"));
+    assert!(keeps("C4H10O2", "peroxide", "CC(C)(C)OO"));
+    assert!(keeps("C3H6O2", "peroxide", "C1COOC1"));
+    // Dimethyldioxirane is made and used in solution.
+    assert!(!keeps("C3H6O2", "peroxide", "CC1(C)OO1"));
     // Carbonyl hydrates and adducts: propane-1,1-diol, 1-chloroethanol and
     // 1-methoxyethanol give way to the carbonyl compound; a glycol, a
     // cyclic hemiacetal (tetrahydropyran-2-ol, a lactol) and an ester stay.

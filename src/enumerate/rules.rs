@@ -90,10 +90,18 @@ impl Rule {
             Rule::Enol => {
                 "no enol or ynol (OH on a non-aromatic C=C or C#C carbon): these tautomerise to \
                  the carbonyl compound, which is enumerated separately; phenols and other \
-                 hydroxy arenes are aromatic and kept (common practice)"
+                 hydroxy arenes are aromatic and kept, and so are enols whose C=C carries a \
+                 C=O, C=S, C=N or C#N next to it (1,3-dicarbonyl and 1,2-dione enols, \
+                 tetronic acids, reductones, aryl pyruvic acids), which conjugation and an \
+                 internal hydrogen bond stabilise (common practice)"
             }
             Rule::Peroxide => {
-                "no O-O bond: peroxides are rare, unstable and hazardous as unknowns (common practice)"
+                "no O-O bond except in a hydroperoxide on an sp3 carbon, a peroxy acid, \
+                 perester or diacyl peroxide (an O-O next to a C=O) and a cyclic peroxide \
+                 of 4 or more ring atoms (dioxetanes, 1,2-dioxolanes, endoperoxides, \
+                 trioxanes): other peroxides (open-chain dialkyl peroxides, dioxiranes, \
+                 O-O-O chains, O-O bonded to N, S, P or a halogen, hydroperoxides on sp2 \
+                 carbon) are rare, unstable and hazardous as unknowns (common practice)"
             }
             Rule::Hydrate => {
                 "no carbonyl hydrate or adduct at an sp3 carbon: two OH, an OH and a halogen, or \
@@ -275,7 +283,7 @@ impl Checker {
             Rule::SmallRingCumulated => self.small_ring_cumulated(iso),
             Rule::Bredt => self.bredt(iso),
             Rule::Enol => self.enol(iso),
-            Rule::Peroxide => peroxide(iso),
+            Rule::Peroxide => self.peroxide(iso),
             Rule::Hydrate => self.hydrate(iso),
             Rule::Iminol => self.iminol(iso),
             Rule::Hypohalite => hypohalite(iso),
@@ -392,12 +400,84 @@ impl Checker {
         self.bridgehead >> x & 1 == 1
     }
 
-    /// OH on a carbon with a double or triple bond to carbon, unless that
-    /// carbon is aromatic (a phenol or a hydroxy heteroarene is no enol).
+    /// OH on a carbon with a triple bond to carbon, or with a double bond
+    /// to carbon that no acceptor conjugates (see [`enol_acceptors`]; an
+    /// aromatic acceptor carbon does not count), unless that carbon is
+    /// aromatic (a phenol or a hydroxy heteroarene is no enol).
     fn enol(&mut self, iso: &Isomer) -> bool {
         let adj = &iso.node.g.adj;
-        let carbons = tautomer_carbons(iso, Element::O, |y| (adj[1][y] | adj[2][y], Element::C));
-        self.any_not_aromatic(iso, carbons)
+        let mut plain = tautomer_carbons(iso, Element::O, |y| (adj[2][y], Element::C));
+        // Enol carbons whose acceptors are all ring atoms: they count as
+        // conjugated only when some acceptor is not aromatic.
+        let mut pending: Vec<(usize, u64)> = Vec::new();
+        for x in 0..iso.atoms() {
+            if iso.element(x) != Element::O || iso.hydrogens(x) != 1 {
+                continue;
+            }
+            for a in bits(iso.node.nb[x]).filter(|&a| iso.element(a) == Element::C) {
+                for b in bits(adj[1][a]).filter(|&b| iso.element(b) == Element::C) {
+                    let acceptors = enol_acceptors(iso, x, a, b);
+                    if acceptors == 0 {
+                        plain |= 1u64 << a;
+                    } else if bits(acceptors).all(|c| self.rings_of(iso, c).0 != 0) {
+                        pending.push((a, acceptors));
+                    }
+                }
+            }
+        }
+        if pending.is_empty() {
+            return self.any_not_aromatic(iso, plain);
+        }
+        self.perceive_aromatic(iso);
+        let aromatic = &self.aromatic.atom;
+        bits(plain).any(|c| !aromatic[c])
+            || pending
+                .iter()
+                .any(|&(a, acc)| !aromatic[a] && bits(acc).all(|c| aromatic[c]))
+    }
+
+    /// An O-O bond, unless it is single, neither O has another O or an
+    /// atom other than C as its other neighbour, and the bond is on a
+    /// ring of 4 or more atoms, or one O's other neighbour is a carbon with a double bond to
+    /// O (peroxy acid, perester, diacyl peroxide), or one O carries the H
+    /// and the other's neighbour is a carbon with single bonds only (a
+    /// hydroperoxide on an sp3 carbon).
+    fn peroxide(&mut self, iso: &Isomer) -> bool {
+        let adj = &iso.node.g.adj;
+        let pairs: Vec<(usize, usize)> = bonds(iso)
+            .filter(|&(a, b, _)| iso.element(a) == Element::O && iso.element(b) == Element::O)
+            .map(|(a, b, _)| (a, b))
+            .collect();
+        for (a, b) in pairs {
+            if iso.order(a, b) != 1 {
+                return true;
+            }
+            // Each O's other heavy neighbour (an O has at most one more).
+            let other = |o: usize, p: usize| bits(iso.node.nb[o] & !(1u64 << p)).next();
+            let ends = [other(a, b), other(b, a)];
+            if ends.iter().flatten().any(|&y| iso.element(y) != Element::C) {
+                return true;
+            }
+            if self.rings_of(iso, a).0 >> b & 1 == 1 {
+                // A dioxirane (O-O in a 3-ring) is a reagent made and used
+                // in solution, not an isolable unknown.
+                if smallest_ring_with_bond(iso, a, b) == Some(3) {
+                    return true;
+                }
+                continue;
+            }
+            let acyl = |c: usize| bits(adj[1][c]).any(|y| iso.element(y) == Element::O);
+            let saturated = |c: usize| (adj[1][c] | adj[2][c]) == 0;
+            let kept = match ends {
+                [Some(c), Some(d)] => acyl(c) || acyl(d),
+                [Some(c), None] | [None, Some(c)] => acyl(c) || saturated(c),
+                [None, None] => false,
+            };
+            if !kept {
+                return true;
+            }
+        }
+        false
     }
 
     /// OH or SH on a carbon with a double bond to N, or SH on a carbon with
@@ -441,11 +521,7 @@ impl Checker {
         if pairs.is_empty() {
             return false;
         }
-        if self.flat.set_heavy_atoms(iso) {
-            self.rings.perceive_ring_bonds(&self.flat);
-        }
-        self.perceiver
-            .perceive(&self.flat, &mut self.rings, &mut self.aromatic);
+        self.perceive_aromatic(iso);
         pairs
             .iter()
             .any(|&(c, n)| self.aromatic.atom[c] && self.aromatic.atom[n])
@@ -466,13 +542,18 @@ impl Checker {
         if on_ring != carbons {
             return true;
         }
+        self.perceive_aromatic(iso);
+        bits(carbons).any(|c| !self.aromatic.atom[c])
+    }
+
+    /// Perceive the aromatic atoms of `iso` into `self.aromatic`.
+    fn perceive_aromatic(&mut self, iso: &Isomer) {
         // Ring bonds depend on the skeleton alone (as in the SMILES writer).
         if self.flat.set_heavy_atoms(iso) {
             self.rings.perceive_ring_bonds(&self.flat);
         }
         self.perceiver
             .perceive(&self.flat, &mut self.rings, &mut self.aromatic);
-        bits(carbons).any(|c| !self.aromatic.atom[c])
     }
 
     /// An sp3 carbon with two OH, an OH and a halogen, or, when the carbon
@@ -629,8 +710,24 @@ fn bonds<'a>(iso: &'a Isomer<'a>) -> impl Iterator<Item = (usize, usize, u8)> + 
     })
 }
 
-fn peroxide(iso: &Isomer) -> bool {
-    bonds(iso).any(|(a, b, _)| iso.element(a) == Element::O && iso.element(b) == Element::O)
+/// The acceptors that conjugate the enol O-H at `o` on carbon `a`,
+/// double-bonded to carbon `b`: the neighbours of `a` or `b` (other than
+/// `o`, `a`, `b`) that are carbons with a double bond to O, S or N or a
+/// triple bond to N (to an atom other than those three): the C=C-C=O of a
+/// 1,3-dicarbonyl enol or a vinylogous acid, the HO-C-C=O of a 1,2-dione
+/// enol, reductone or pyruvic acid enol, the C=C-C#N of a cyano enol.
+fn enol_acceptors(iso: &Isomer, o: usize, a: usize, b: usize) -> u64 {
+    let adj = &iso.node.g.adj;
+    let own = 1u64 << o | 1u64 << a | 1u64 << b;
+    let acceptor = |c: usize| {
+        iso.element(c) == Element::C
+            && (bits(adj[1][c] & !own)
+                .any(|y| matches!(iso.element(y), Element::O | Element::S | Element::N))
+                || bits(adj[2][c] & !own).any(|y| iso.element(y) == Element::N))
+    };
+    bits((iso.node.nb[a] | iso.node.nb[b]) & !own)
+        .filter(|&c| acceptor(c))
+        .fold(0, |m, c| m | 1u64 << c)
 }
 
 /// A carbon double-bonded to an N that carries one H and nothing else,

@@ -18,10 +18,18 @@ README states them:
   disjoint paths whose inner atoms number S in all. Searched here by brute
   force: every simple path of at most 5 bonds from x to z (a bridge of a
   system with S < 7 has at most 4 atoms), every triple of them;
-- enol: OH on a carbon that has a double or triple bond to carbon and is
-  not aromatic (RDKit's aromaticity of the parsed SMILES): a phenol is not
-  an enol;
-- peroxide: an O-O bond;
+- enol: OH on a carbon that is not aromatic (RDKit's aromaticity of the
+  parsed SMILES: a phenol is not an enol) and has a triple bond to carbon,
+  or a double bond to a carbon b where neither it nor b has another
+  neighbour that is a non-aromatic carbon with a double bond to O, S or N
+  or a triple bond to N (bonds to the OH oxygen, the carbon or b aside):
+  an enol conjugated with such an acceptor is kept;
+- peroxide: an O-O bond that is not single, or whose O has a second
+  neighbour other than C, or that is in a 3-ring (RDKit's smallest ring
+  through the bond: a dioxirane), or that is on no ring and has neither a carbon
+  with a double bond to O on one side (peroxy acid, perester, diacyl
+  peroxide) nor an OH on one side with a carbon of single bonds only on the
+  other (hydroperoxide on an sp3 carbon);
 - hydrate: a carbon with four single bonds carrying two OH, or an OH and a
   halogen, or (when RDKit puts the carbon in no ring) an OH and another O,
   N or S neighbour;
@@ -92,6 +100,22 @@ def small_ring_cumulated(mol, aromatic):
     return False
 
 
+def enol_acceptor(atom, own, aromatic):
+    """A non-aromatic carbon with a double bond to O, S or N or a triple
+    bond to N, to an atom outside `own`."""
+    if atom.GetSymbol() != "C" or atom.GetIdx() in aromatic:
+        return False
+    for b in atom.GetBonds():
+        y = b.GetOtherAtom(atom)
+        if y.GetIdx() in own:
+            continue
+        if b.GetBondType() == Chem.BondType.DOUBLE and y.GetSymbol() in ("O", "S", "N"):
+            return True
+        if b.GetBondType() == Chem.BondType.TRIPLE and y.GetSymbol() == "N":
+            return True
+    return False
+
+
 def enol(mol, aromatic):
     for o in mol.GetAtoms():
         if o.GetSymbol() != "O" or o.GetTotalNumHs() != 1:
@@ -101,20 +125,57 @@ def enol(mol, aromatic):
                 continue
             for b in c.GetBonds():
                 y = b.GetOtherAtom(c)
-                if (
-                    y.GetIdx() != o.GetIdx()
-                    and y.GetSymbol() == "C"
-                    and b.GetBondType() in (Chem.BondType.DOUBLE, Chem.BondType.TRIPLE)
-                ):
+                if y.GetIdx() == o.GetIdx() or y.GetSymbol() != "C":
+                    continue
+                if b.GetBondType() == Chem.BondType.TRIPLE:
+                    return True
+                if b.GetBondType() != Chem.BondType.DOUBLE:
+                    continue
+                own = {o.GetIdx(), c.GetIdx(), y.GetIdx()}
+                conjugated = any(
+                    enol_acceptor(n, own, aromatic)
+                    for end in (c, y)
+                    for n in end.GetNeighbors()
+                    if n.GetIdx() not in own
+                )
+                if not conjugated:
                     return True
     return False
 
 
 def peroxide(mol, aromatic):
-    return any(
-        b.GetBeginAtom().GetSymbol() == "O" and b.GetEndAtom().GetSymbol() == "O"
-        for b in mol.GetBonds()
-    )
+    def double_to_o(c):
+        return any(
+            b.GetBondType() == Chem.BondType.DOUBLE and b.GetOtherAtom(c).GetSymbol() == "O"
+            for b in c.GetBonds()
+        )
+
+    def single_only(c):
+        return all(b.GetBondType() == Chem.BondType.SINGLE for b in c.GetBonds())
+
+    for b in mol.GetBonds():
+        x, y = b.GetBeginAtom(), b.GetEndAtom()
+        if x.GetSymbol() != "O" or y.GetSymbol() != "O":
+            continue
+        if b.GetBondType() != Chem.BondType.SINGLE:
+            return True
+        ends = []
+        for p, q in ((x, y), (y, x)):
+            others = [n for n in p.GetNeighbors() if n.GetIdx() != q.GetIdx()]
+            if any(n.GetSymbol() != "C" for n in others):
+                return True
+            ends.append(others[0] if others else None)
+        if b.IsInRing():
+            if mol.GetRingInfo().MinBondRingSize(b.GetIdx()) == 3:
+                return True
+            continue
+        if any(e is not None and double_to_o(e) for e in ends):
+            continue
+        carbons = [e for e in ends if e is not None]
+        if len(carbons) == 1 and single_only(carbons[0]):
+            continue
+        return True
+    return False
 
 
 def paths(adj, x, z, max_bonds):
