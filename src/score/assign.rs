@@ -1303,10 +1303,11 @@ pub(crate) fn improve(
 pub(crate) enum Targets<'a> {
     All,
     /// Group g's multiplets are `lines[start[g]..start[g + 1]]`, ascending,
-    /// followed by [`NONE`].
+    /// followed by [`NONE`]; `allowed[g * m + j]` says whether j is listed.
     Listed {
         start: &'a [u32],
         lines: &'a [u16],
+        allowed: &'a [bool],
     },
 }
 
@@ -1315,7 +1316,8 @@ impl Targets<'_> {
     fn each(&self, gi: usize, m: usize, mut f: impl FnMut(u16)) {
         match self {
             Targets::All => (0..m as u16).for_each(&mut f),
-            Targets::Listed { start, lines } => lines[start[gi] as usize..start[gi + 1] as usize]
+            Targets::Listed { start, lines, .. } => lines
+                [start[gi] as usize..start[gi + 1] as usize]
                 .iter()
                 .for_each(|&j| f(j)),
         }
@@ -1325,8 +1327,9 @@ impl Targets<'_> {
     fn allows(&self, gi: usize, j: u16) -> bool {
         match self {
             Targets::All => true,
-            Targets::Listed { start, lines } => {
-                j == NONE || lines[start[gi] as usize..start[gi + 1] as usize].contains(&j)
+            Targets::Listed { allowed, start, .. } => {
+                let m = allowed.len() / (start.len() - 1);
+                j == NONE || allowed[gi * m + j as usize]
             }
         }
     }

@@ -71,6 +71,8 @@ pub(crate) struct Split {
     /// `list[start[g]..start[g + 1]]`.
     start: Vec<u32>,
     list: Vec<u16>,
+    /// `allowed[g * m + j]`: j is in group g's list.
+    allowed: Vec<bool>,
     /// The best known assignment, and scratch of the heuristics.
     known: Vec<u16>,
     trial: Vec<u16>,
@@ -109,11 +111,6 @@ impl Split {
         }
         let h_min = c.hydrogens.iter().copied().min().unwrap_or(0);
         refill(&mut self.extra, m, f64::INFINITY);
-        for (row, &least) in c.pair.chunks_exact(m).zip(cheapest) {
-            for (e, &p) in self.extra.iter_mut().zip(row) {
-                *e = e.min(p - least);
-            }
-        }
         self.slack.clear();
         self.slack.extend((0..m).map(|j| {
             let fill = c.integral(j, h_min) - c.overlap[j];
@@ -126,13 +123,16 @@ impl Split {
         self.start.push(0);
         self.list.clear();
         refill(&mut self.known, g, NONE);
-        for gi in 0..g {
+        refill(&mut self.allowed, g * m, false);
+        for (gi, &least) in cheapest.iter().enumerate().take(g) {
             let row = &c.pair[gi * m..(gi + 1) * m];
             let dominated = c.unassigned[gi] + MARGIN * (1.0 + c.unassigned[gi].abs());
             let mut best = (c.unassigned[gi], NONE);
             for (j, &p) in row.iter().enumerate() {
+                self.extra[j] = self.extra[j].min(p - least);
                 if p <= dominated + self.slack[j] {
                     self.list.push(j as u16);
+                    self.allowed[gi * m + j] = true;
                 }
                 if p < best.0 || p == best.0 && best.1 == NONE {
                     best = (p, j as u16);
@@ -144,6 +144,7 @@ impl Split {
         let targets = Targets::Listed {
             start: &self.start,
             lines: &self.list,
+            allowed: &self.allowed,
         };
         refill(&mut self.h, m, 0);
         refill(&mut self.k, m, 0);
