@@ -87,6 +87,7 @@ use super::split::Split;
 pub const NONE: u16 = u16::MAX;
 
 /// The numbers the search needs, precomputed for one candidate.
+#[derive(Clone, Debug, Default)]
 pub struct Costs {
     pub groups: usize,
     pub multiplets: usize,
@@ -1693,6 +1694,21 @@ mod tests {
         split: false,
     };
 
+    /// The default search (with the split) finds `exact`, its assignment
+    /// costs that, nothing below it passes a cutoff just under it and the
+    /// optimum passes one just above; whether the problem split.
+    fn split_finds(c: &Costs, exact: f64) -> bool {
+        let mut ws = Workspace::default();
+        let cost = solve_in(&c.view(), f64::INFINITY, &mut ws).unwrap();
+        assert!((cost - exact).abs() < 1e-9, "{cost} vs {exact}");
+        assert!((c.evaluate(ws.choice()) - cost).abs() < 1e-9);
+        let split = ws.parts() > 1;
+        assert!(solve_in(&c.view(), exact - 1e-6, &mut ws).is_none());
+        let near = solve_in(&c.view(), exact + 1e-6, &mut ws).unwrap();
+        assert!((near - exact).abs() < 1e-9);
+        split
+    }
+
     // Reference: exhaustive enumeration, on spectrum-shaped instances that
     // the split cuts into parts (1H-like and 13C-like terms).
     #[test]
@@ -1702,15 +1718,7 @@ mod tests {
         for i in 0..400 {
             let (g, m) = (2 + i % 5, 1 + (i / 5) % 5);
             let c = spread(&mut st, g, m, 3.0, i % 2 == 1);
-            let exact = brute(&c);
-            let mut ws = Workspace::default();
-            let cost = solve_in(&c.view(), f64::INFINITY, &mut ws).unwrap();
-            assert!((cost - exact).abs() < 1e-9, "{i}: {cost} vs {exact}");
-            assert!((c.evaluate(ws.choice()) - cost).abs() < 1e-9);
-            split += (ws.parts() > 1) as usize;
-            assert!(solve_in(&c.view(), exact - 1e-6, &mut ws).is_none());
-            let near = solve_in(&c.view(), exact + 1e-6, &mut ws).unwrap();
-            assert!((near - exact).abs() < 1e-9);
+            split += split_finds(&c, brute(&c)) as usize;
         }
         assert!(split > 200, "split {split} of 400");
     }
@@ -1728,14 +1736,7 @@ mod tests {
             let (g, m) = (3 + i % 7, 2 + (i / 7) % 8);
             let c = spread(&mut st, g, m, 4.0, i % 2 == 1);
             let old = assign_reference::solve(&c, f64::INFINITY).unwrap();
-            let mut ws = Workspace::default();
-            let cost = solve_in(&c.view(), f64::INFINITY, &mut ws).unwrap();
-            assert!(
-                (cost - old.cost).abs() < 1e-9,
-                "{i}: {cost} vs {}",
-                old.cost
-            );
-            split += (ws.parts() > 1) as usize;
+            split += split_finds(&c, old.cost) as usize;
         }
         assert!(split > 100, "split {split} of 200");
         let mut split = 0;
@@ -1746,14 +1747,7 @@ mod tests {
             let c = spread(&mut st, g, m, span, i % 2 == 1);
             let mut whole = Workspace::default();
             let exact = solve_tuned(&c.view(), f64::INFINITY, &mut whole, WHOLE).unwrap();
-            let mut ws = Workspace::default();
-            let cost = solve_in(&c.view(), f64::INFINITY, &mut ws).unwrap();
-            assert!((cost - exact).abs() < 1e-9, "{i}: {cost} vs {exact}");
-            assert!((c.evaluate(ws.choice()) - cost).abs() < 1e-9);
-            split += (ws.parts() > 1) as usize;
-            assert!(solve_in(&c.view(), exact - 1e-6, &mut ws).is_none());
-            let near = solve_in(&c.view(), exact + 1e-6, &mut ws).unwrap();
-            assert!((near - exact).abs() < 1e-9);
+            split += split_finds(&c, exact) as usize;
         }
         assert!(split > 80, "split {split} of 120");
     }
