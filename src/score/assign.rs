@@ -57,6 +57,12 @@
 //!    wanting one line, a second group on a full line, and the integral
 //!    deficit, at O(M x H) per node (a child changes one multiplet's term).
 //!
+//! Before all of this, a problem is split into independent parts
+//! ([`super::split`]: pairs that no assignment cheaper than a known one can
+//! use are set aside, and the connected components of the rest are
+//! searched one by one), which keeps long spectra whose lines are spread
+//! out at a cost about linear in their length.
+//!
 //! The cheap bound of every node (kept from the earlier search, which
 //! remains in `assign_reference.rs` for the tests and the benchmark) adds to
 //! the cost so far:
