@@ -16,8 +16,11 @@
 //!
 //! The previous search runs only while its time per candidate stayed below
 //! `OLD_CAP_S` at the smaller sizes (it grows too fast to wait for). Each
-//! figure is the mean over the instances (and repeats) of one size; each
-//! series ends with the ratio of the time at M = 30 to the time at M = 5.
+//! figure is the time per candidate over all instances of one size, the
+//! median of five rounds of at least 0.1 s (a shared machine's load moves
+//! single rounds by 2x); each series ends with the ratio of the time at
+//! M = 30 to the time at M = 5. `WHOLE=1` searches every problem whole
+//! (without the split into independent parts, `score::split`).
 //!
 //! Run: `cargo run --release --example bench_assign`. `NEW_ONLY=1` skips
 //! the previous search; `TUNING=S,L` makes the Lagrangian bound join after
@@ -112,13 +115,13 @@ fn adversarial(m: usize, predicted: &[PredictedSignal], model: &ScoringModel) ->
     score::costs(predicted, &spectrum(&text), model)
 }
 
-/// Mean seconds per solve over `instances`, repeated until 0.2 s passed
-/// (at least once each), the total search nodes of one pass, and the costs.
+/// Seconds per solve over `instances`: the median of five rounds, each
+/// repeated until 0.1 s passed (at least once each; the median keeps other
+/// programs' load on a shared machine out of the figure), the total search
+/// nodes of one pass, and the costs.
 fn time(instances: &[Costs], solve: impl Fn(&Costs) -> (f64, u64)) -> (f64, u64, Vec<f64>) {
-    let start = Instant::now();
-    let mut passes = 0;
     let (mut nodes, mut costs) = (0, vec![]);
-    while passes == 0 || start.elapsed().as_secs_f64() < 0.2 {
+    let per = median_of_rounds(|| {
         nodes = 0;
         costs.clear();
         for c in instances {
@@ -126,10 +129,27 @@ fn time(instances: &[Costs], solve: impl Fn(&Costs) -> (f64, u64)) -> (f64, u64,
             nodes += n;
             costs.push(cost);
         }
-        passes += 1;
-    }
-    let per = start.elapsed().as_secs_f64() / (passes * instances.len()) as f64;
+        instances.len()
+    });
     (per, nodes, costs)
+}
+
+/// The median over five rounds of the seconds per item of `pass` (which
+/// returns how many items it did), each round repeating it until 0.1 s
+/// passed.
+fn median_of_rounds(mut pass: impl FnMut() -> usize) -> f64 {
+    let mut rounds: Vec<f64> = (0..5)
+        .map(|_| {
+            let start = Instant::now();
+            let mut items = 0;
+            while items == 0 || start.elapsed().as_secs_f64() < 0.1 {
+                items += pass();
+            }
+            start.elapsed().as_secs_f64() / items as f64
+        })
+        .collect();
+    rounds.sort_by(f64::total_cmp);
+    rounds[2]
 }
 
 /// When the stronger bounds join: `TUNING=S,L`, else the default.
@@ -274,22 +294,19 @@ fn carbon_costs(
     }
 }
 
-/// Mean seconds per 13C candidate (the ranking's scorer: pair costs and
-/// search) over the instances, repeated until 0.2 s passed.
+/// Seconds per 13C candidate (the ranking's scorer: pair costs and
+/// search) over the instances, the median of five rounds.
 fn time_carbon(instances: &[(CarbonSpectrum, Vec<PredictedCarbon>)], model: &ScoringModel) -> f64 {
     let prepared: Vec<CarbonPrepared> = instances
         .iter()
         .map(|(s, _)| CarbonPrepared::new(s, model))
         .collect();
-    let start = Instant::now();
-    let mut passes = 0;
-    while passes == 0 || start.elapsed().as_secs_f64() < 0.2 {
+    median_of_rounds(|| {
         for (p, (_, predicted)) in prepared.iter().zip(instances) {
             p.score(predicted, f64::INFINITY).expect("optimum");
         }
-        passes += 1;
-    }
-    start.elapsed().as_secs_f64() / (passes * instances.len()) as f64
+        instances.len()
+    })
 }
 
 fn main() {

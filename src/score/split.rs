@@ -41,7 +41,7 @@
 //! caller searches the whole problem) when one component would hold every
 //! group.
 
-use super::assign::{improve, marginal, refill, CostsRef, Targets, NONE};
+use super::assign::{improve, marginal, refill, Costs, CostsRef, Targets, NONE};
 
 /// Relative margin by which a test must hold before a pair is set aside
 /// (against rounding in the sums that compare).
@@ -71,6 +71,8 @@ pub(crate) struct Split {
     /// `list[start[g]..start[g + 1]]`.
     start: Vec<u32>,
     list: Vec<u16>,
+    /// `allowed[g * m + j]`: j is in group g's list.
+    allowed: Vec<bool>,
     /// The best known assignment, and scratch of the heuristics.
     known: Vec<u16>,
     trial: Vec<u16>,
@@ -78,12 +80,13 @@ pub(crate) struct Split {
     h: Vec<u32>,
     k: Vec<u32>,
     /// The current part's numbers.
-    pub pair: Vec<f64>,
-    pub unassigned: Vec<f64>,
-    pub hydrogens: Vec<u32>,
-    pub observed_h: Vec<Option<f64>>,
-    pub empty: Vec<f64>,
-    pub overlap: Vec<f64>,
+    costs: Costs,
+}
+
+/// `from` at the indices `of`, into `v`.
+fn pick<T: Copy>(v: &mut Vec<T>, of: &[u32], from: &[T]) {
+    v.clear();
+    v.extend(of.iter().map(|&x| from[x as usize]));
 }
 
 fn find(parent: &mut [u32], mut x: u32) -> u32 {
@@ -109,11 +112,6 @@ impl Split {
         }
         let h_min = c.hydrogens.iter().copied().min().unwrap_or(0);
         refill(&mut self.extra, m, f64::INFINITY);
-        for (row, &least) in c.pair.chunks_exact(m).zip(cheapest) {
-            for (e, &p) in self.extra.iter_mut().zip(row) {
-                *e = e.min(p - least);
-            }
-        }
         self.slack.clear();
         self.slack.extend((0..m).map(|j| {
             let fill = c.integral(j, h_min) - c.overlap[j];
@@ -126,13 +124,16 @@ impl Split {
         self.start.push(0);
         self.list.clear();
         refill(&mut self.known, g, NONE);
-        for gi in 0..g {
+        refill(&mut self.allowed, g * m, false);
+        for (gi, &least) in cheapest.iter().enumerate().take(g) {
             let row = &c.pair[gi * m..(gi + 1) * m];
             let dominated = c.unassigned[gi] + MARGIN * (1.0 + c.unassigned[gi].abs());
             let mut best = (c.unassigned[gi], NONE);
             for (j, &p) in row.iter().enumerate() {
+                self.extra[j] = self.extra[j].min(p - least);
                 if p <= dominated + self.slack[j] {
                     self.list.push(j as u16);
+                    self.allowed[gi * m + j] = true;
                 }
                 if p < best.0 || p == best.0 && best.1 == NONE {
                     best = (p, j as u16);
@@ -144,6 +145,7 @@ impl Split {
         let targets = Targets::Listed {
             start: &self.start,
             lines: &self.list,
+            allowed: &self.allowed,
         };
         refill(&mut self.h, m, 0);
         refill(&mut self.k, m, 0);
@@ -273,37 +275,22 @@ impl Split {
         );
         let (l0, l1) = (self.line_start[p] as usize, self.line_start[p + 1] as usize);
         let m = c.multiplets;
-        self.pair.clear();
-        self.unassigned.clear();
-        self.hydrogens.clear();
-        for &gi in &self.groups[g0..g1] {
+        let (groups, lines) = (&self.groups[g0..g1], &self.lines[l0..l1]);
+        let part = &mut self.costs;
+        part.groups = g1 - g0;
+        part.multiplets = l1 - l0;
+        part.pair.clear();
+        for &gi in groups {
             let row = &c.pair[gi as usize * m..];
-            self.pair
-                .extend(self.lines[l0..l1].iter().map(|&j| row[j as usize]));
-            self.unassigned.push(c.unassigned[gi as usize]);
-            self.hydrogens.push(c.hydrogens[gi as usize]);
+            part.pair.extend(lines.iter().map(|&j| row[j as usize]));
         }
-        let lines = &self.lines[l0..l1];
-        self.observed_h.clear();
-        self.observed_h
-            .extend(lines.iter().map(|&j| c.observed_h[j as usize]));
-        self.empty.clear();
-        self.empty
-            .extend(lines.iter().map(|&j| c.empty[j as usize]));
-        self.overlap.clear();
-        self.overlap
-            .extend(lines.iter().map(|&j| c.overlap[j as usize]));
-        CostsRef {
-            groups: g1 - g0,
-            multiplets: l1 - l0,
-            pair: &self.pair,
-            unassigned: &self.unassigned,
-            hydrogens: &self.hydrogens,
-            observed_h: &self.observed_h,
-            empty: &self.empty,
-            overlap: &self.overlap,
-            abs_sigma: c.abs_sigma,
-            rel_sigma: c.rel_sigma,
-        }
+        pick(&mut part.unassigned, groups, c.unassigned);
+        pick(&mut part.hydrogens, groups, c.hydrogens);
+        pick(&mut part.observed_h, lines, c.observed_h);
+        pick(&mut part.empty, lines, c.empty);
+        pick(&mut part.overlap, lines, c.overlap);
+        part.abs_sigma = c.abs_sigma;
+        part.rel_sigma = c.rel_sigma;
+        part.view()
     }
 }
