@@ -143,7 +143,9 @@ fn long_chain_against_equal_shift_one_proton_lines() {
 // first OC1(CCC1)O at 181.26, then OC1C(CC1)O at 186.90 and OC1CC(C1)O at
 // 187.16. The gem-diol OC1(CCC1)O has since been removed by the default
 // `hydrate` plausibility rule, so the two after it are now first and second
-// with the same costs.
+// with the same costs. Since the 1H group terms (fragment-library/
+// h-groups.toml) moved the predicted shifts, the same two come first at
+// 186.82 and 186.86 (measured with the new tables; same order).
 #[test]
 fn forty_copies_of_one_line_rank_as_before() {
     let peaks = vec!["2.35 (t)"; 40].join(", ");
@@ -170,7 +172,7 @@ fn forty_copies_of_one_line_rank_as_before() {
             )
         })
         .collect();
-    let expect = [("OC1C(CC1)O", 186.90), ("OC1CC(C1)O", 187.16)];
+    let expect = [("OC1C(CC1)O", 186.818), ("OC1CC(C1)O", 186.856)];
     assert_eq!(got.len(), 3);
     for ((smiles, cost), (s, c)) in got.iter().zip(expect) {
         assert_eq!(smiles, s);
