@@ -101,10 +101,11 @@ fn alike_lines_optimum(c: &Costs) -> f64 {
 /// Predicted by the increment methods alone (h-groups.toml emptied), which
 /// give the 14 chain CH2 one shift, the alike groups this case is about:
 /// the 1H group terms spread them over 1.19-1.32 ppm, and then this test
-/// did not end within 6 minutes for 10 and 12 lines (its reference, the
-/// dynamic programme over alike classes, grows with the number of distinct
-/// classes; the ranking itself, `rank C20H42 --candidates -` with 10 such
-/// lines, took 0.27 s with the group terms).
+/// did not end within 6 minutes for 10 and 12 lines (not measured which of
+/// the unbounded search and the dynamic-programme reference, whose states
+/// grow with the number of distinct classes, took the time; the ranking,
+/// `rank C20H42 --candidates -` with 10 such lines, took 0.27 s with the
+/// group terms).
 fn chain_costs(lines: usize) -> Costs {
     let dir = std::env::temp_dir().join(format!("isomerank-chain-{lines}-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
