@@ -116,9 +116,14 @@ fn xylene_is_separated_by_carbon_count() {
         out.contains("13C signal count: 5 for the answer, 3 for this one"),
         "{out}"
     );
+    // 6,6-dimethylfulvene (ring H predicted 6.84 / 6.68 since the 1H group
+    // terms, 6.02 before; about 6.5 observed, from memory) is now a rival
+    // within 1 that has the answer's 13C signal count: DEPT or the
+    // multiplicities separate it.
+    assert!(out.contains("CC(=C1C=CC=C1)C"), "{out}");
     assert!(
         out.contains(
-            "One extra observation separates the answer from every rival: 13C signal count"
+            "One extra observation separates the answer from every rival: DEPT or multiplicity"
         ),
         "{out}"
     );
