@@ -708,8 +708,10 @@ impl<'a> Ctx<'a> {
         add(
             note::SECOND_ORDER,
             format!(
-                "shift difference to a coupled group is under {:.0} x J at {:.0} MHz: not first order, reported as m",
-                self.lib.settings.first_order_min_ratio, self.opts.mhz
+                "shift difference to a coupled group is under {:.0} x J ({:.0} x J for a pair of single H) at {:.0} MHz: not first order, reported as m",
+                self.lib.settings.first_order_min_ratio,
+                self.lib.settings.first_order_min_ratio_ab,
+                self.opts.mhz
             ),
         );
         add(
