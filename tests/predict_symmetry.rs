@@ -147,6 +147,7 @@ fn generator_symmetry_gives_the_same_prediction_as_a_canonical_labelling() {
         let formula = Formula::parse(f).unwrap();
         let mut checked = 0u64;
         let mut with_symmetry = 0u64;
+        let mut mismatches: Vec<String> = Vec::new();
         enumerate::for_each_ordered(
             &formula,
             &Options::default(),
@@ -171,18 +172,30 @@ fn generator_symmetry_gives_the_same_prediction_as_a_canonical_labelling() {
                     out.sort();
                     out
                 };
-                assert_eq!(fast, plain, "{f}: {}", iso.smiles());
-                assert_eq!(strip(&fast), strip(&again), "{f}: {}", iso.smiles());
-                Some(auts.is_some())
+                // Mismatches are collected, not asserted here: a panic
+                // inside the generator's workers would stall the search.
+                if fast != plain || strip(&fast) != strip(&again) {
+                    return Some((auts.is_some(), Some(iso.smiles())));
+                }
+                Some((auts.is_some(), None))
             },
-            |had| {
+            |(had, bad): (bool, Option<String>)| {
                 checked += 1;
                 with_symmetry += had as u64;
+                if let Some(b) = bad {
+                    mismatches.push(b);
+                }
                 true
             },
             &mut |_| {},
         )
         .unwrap();
+        assert!(
+            mismatches.is_empty(),
+            "{f}: {} isomers predicted differently by the two numberings, e.g. {:?}",
+            mismatches.len(),
+            &mismatches[..mismatches.len().min(5)]
+        );
         // The generator hands over its automorphisms for most isomers.
         assert!(
             with_symmetry * 2 > checked,

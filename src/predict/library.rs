@@ -396,10 +396,15 @@ impl HGroupTable {
 
     /// The correction for the H on carbon `c` from the atom rows of its
     /// family ([`HGroupTable::atom_rows`]).
+    ///
+    /// Summed in whole nano-ppm, so that the result does not depend on the
+    /// order the atoms are numbered in (a float sum does, and the signals are
+    /// rounded afterwards: the generator's numbering and a SMILES's must give
+    /// the same shifts).
     pub fn correction(v: &View, c: usize, rows: &[[f64; H_GROUP_DIST + 1]]) -> f64 {
-        let mut sum = 0.0;
-        h_group_terms(v, c, |d, x| sum += rows[x][d]);
-        sum
+        let mut sum = 0i64;
+        h_group_terms(v, c, |d, x| sum += (rows[x][d] * 1e9).round() as i64);
+        sum as f64 * 1e-9
     }
 }
 
