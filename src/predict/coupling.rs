@@ -177,10 +177,7 @@ impl Ctx<'_> {
                             let b = c.atom as usize;
                             self.v.h[b] == 2
                                 && groups[c.group as usize].atoms.count_ones() == 1
-                                && self.v.rings[..self.v.nrings]
-                                    .iter()
-                                    .filter(|&&r| r >> a & 1 == 1 && r >> b & 1 == 1)
-                                    .all(|&r| r.count_ones() >= 5)
+                                && self.v.smallest_ring_through(a, b).is_some_and(|n| n >= 5)
                         }
                         _ => false,
                     };
@@ -576,7 +573,13 @@ impl Ctx<'_> {
 /// Merge couplings with similar J (within `similar` Hz of the cluster's
 /// largest J) and build the multiplicity, largest J first.
 fn merge(c: &mut [Cpl], similar: f64) -> (Multiplicity, Vec<f64>) {
-    c.sort_by(|x, y| y.j.partial_cmp(&x.j).unwrap_or(std::cmp::Ordering::Equal));
+    // Equal J: more H first, then the mergeable ones, so that the result
+    // does not depend on the atom numbering (which orders `c`).
+    c.sort_by(|x, y| {
+        y.j.total_cmp(&x.j)
+            .then(y.count.cmp(&x.count))
+            .then(x.distinct.cmp(&y.distinct))
+    });
     let mut ns: Vec<u8> = Vec::new();
     let mut js: Vec<f64> = Vec::new();
     let mut first = f64::NAN;

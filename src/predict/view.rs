@@ -296,6 +296,28 @@ impl View {
         seen & !(1u64 << cut)
     }
 
+    /// The size of the smallest ring through the bond a-b (None: no ring
+    /// bond). Unlike a look at `rings`, which hold one ring basis of several
+    /// possible in a polycycle, this does not depend on the atom numbering.
+    pub fn smallest_ring_through(&self, a: usize, b: usize) -> Option<usize> {
+        let mut level = self.adj[a] & !(1u64 << b);
+        let mut seen = level | 1u64 << a | 1u64 << b;
+        let mut steps = 1;
+        while level != 0 {
+            if level & self.adj[b] != 0 {
+                return Some(steps + 2);
+            }
+            let mut next = 0u64;
+            for x in bits(level) {
+                next |= self.adj[x];
+            }
+            level = next & !seen;
+            seen |= level;
+            steps += 1;
+        }
+        None
+    }
+
     /// Ring distance (bonds along the ring) between two atoms of ring `r`.
     pub fn ring_distance(&self, r: u64, a: usize, b: usize) -> usize {
         let size = r.count_ones() as usize;
