@@ -528,6 +528,7 @@ where
     let state: Mutex<(std::collections::BTreeMap<usize, TaskOut<A>>, usize)> =
         Mutex::new((Default::default(), 0));
     let cond = Condvar::new();
+    let panicked: Mutex<Option<Box<dyn std::any::Any + Send>>> = Mutex::new(None);
     let run = |w: &mut Worker, at: usize, limit: Option<u64>| -> TaskOut<A> {
         let (index, task) = mine[at];
         w.run(
@@ -564,7 +565,23 @@ where
                             g = cond.wait(g).expect("driver state");
                         }
                     };
-                    let out = run(&mut w, at, None);
+                    // A panic in a task (a bug in `visit`) would leave its
+                    // result missing and the emitter waiting for it: keep
+                    // the panic, stop everyone, and raise it after the scope.
+                    let out = match std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+                        run(&mut w, at, None)
+                    })) {
+                        Ok(out) => out,
+                        Err(payload) => {
+                            let mut p = panicked.lock().unwrap_or_else(|e| e.into_inner());
+                            p.get_or_insert(payload);
+                            stop.store(true, Relaxed);
+                            drop(p);
+                            let _g = state.lock().unwrap_or_else(|e| e.into_inner());
+                            cond.notify_all();
+                            return;
+                        }
+                    };
                     state.lock().expect("driver state").0.insert(at, out);
                     cond.notify_all();
                 }
@@ -582,7 +599,10 @@ where
                         g.1 = at + 1;
                         break Some(o);
                     }
-                    if stop.load(Relaxed) && at >= next.load(Relaxed) {
+                    if stop.load(Relaxed)
+                        && (at >= next.load(Relaxed)
+                            || panicked.lock().map_or(true, |p| p.is_some()))
+                    {
                         break None;
                     }
                     if limits
@@ -705,6 +725,9 @@ where
         stop.store(true, Relaxed);
         cond.notify_all();
     });
+    if let Some(payload) = panicked.into_inner().unwrap_or_else(|e| e.into_inner()) {
+        std::panic::resume_unwind(payload);
+    }
     if summary.stopped.is_none() {
         summary.share = 1.0;
     }
@@ -1072,4 +1095,38 @@ pub(crate) fn molecules_of(formula: &str) -> Vec<crate::chem::Molecule> {
     )
     .expect("test enumeration");
     out
+}
+
+#[cfg(test)]
+mod driver_tests {
+    use super::*;
+
+    /// A panic inside a worker's map reaches the caller (it used to leave
+    /// the emitter waiting for the lost task's result forever).
+    #[test]
+    fn a_panic_in_a_worker_reaches_the_caller() {
+        let formula = Formula::parse("C6H14").unwrap();
+        let seen = std::sync::atomic::AtomicUsize::new(0);
+        let result = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+            for_each_ordered(
+                &formula,
+                &Options::default(),
+                |iso| {
+                    // C6H14 has 5 isomers (OEIS A000602): panic on the third.
+                    if seen.fetch_add(1, std::sync::atomic::Ordering::Relaxed) == 2 {
+                        panic!("planted panic for {}", iso.smiles());
+                    }
+                    Some(())
+                },
+                |_| true,
+                &mut |_| {},
+            )
+        }));
+        let payload = result.expect_err("the planted panic must reach the caller");
+        let text = payload
+            .downcast_ref::<String>()
+            .cloned()
+            .unwrap_or_default();
+        assert!(text.starts_with("planted panic for C"), "{text}");
+    }
 }

@@ -122,7 +122,10 @@ impl Ctx<'_> {
                     continue;
                 }
                 let p = &groups[c.group as usize];
-                let dv = (g.shift - p.shift).abs() * self.opts.mhz;
+                // On the shifts as shown (rounded to 0.01 ppm): unrounded,
+                // they differ in the last bits with the atom numbering, and
+                // a difference near the threshold went either way.
+                let dv = (super::round2(g.shift) - super::round2(p.shift)).abs() * self.opts.mhz;
                 // AB-type pairs (one H on each side of the coupling) stay
                 // first order down to smaller shift differences.
                 let ratio = if g.hs == 1 && c.count == 1 {
@@ -278,7 +281,7 @@ impl Ctx<'_> {
                     .map(|y| self.aromatic_j(r, g1.rep, y))
                     .fold(0.0, f64::max)
                     .max(f64::MIN_POSITIVE);
-                let dv = (g1.shift - g2.shift).abs() * self.opts.mhz;
+                let dv = (super::round2(g1.shift) - super::round2(g2.shift)).abs() * self.opts.mhz;
                 let j = if jpair > 0.0 { jpair } else { jo };
                 let ok = dv >= self.lib.settings.para_pair_min_ratio * j;
                 for &i in &members {

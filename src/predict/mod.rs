@@ -359,7 +359,7 @@ impl ShiftEstimate {
 /// sums in another atom order differ in the last bits and would round that
 /// half either way. Snapping to 1e-7 ppm first makes the result independent
 /// of the atom numbering.
-fn round2(x: f64) -> f64 {
+pub(super) fn round2(x: f64) -> f64 {
     let snapped = (x * 1e7).round();
     (snapped / 1e5).round() / 100.0
 }
