@@ -47,6 +47,11 @@ pub struct MultiplicityParams {
     pub merged: f64,
     pub as_m: f64,
     pub predicted_m_as_m: f64,
+    /// Any predicted pattern inside a reported m whose integral holds more
+    /// H than the group (several groups overlap there, so the label says
+    /// nothing about this one's pattern); absent: `predicted_m_as_m`.
+    #[serde(default)]
+    pub in_shared_m: Option<f64>,
     pub predicted_m_as_other: f64,
     pub other: f64,
     pub broad_exchangeable: f64,
@@ -220,6 +225,36 @@ impl ScoringModel {
         p * broad
     }
 
+    /// Multiplicity term of a pair, -ln(probability): the label table of
+    /// [`ScoringModel::compatibility`], except in a reported m whose
+    /// integral holds more H than this group (by more than half an H): that
+    /// m covers other groups as well, and overlapping patterns make an m
+    /// whatever each one's own pattern is (common practice: a 4H aromatic
+    /// m of a disubstituted ring, a 5H m of a phenyl group), so every
+    /// predicted pattern gets `in_shared_m`.
+    pub fn multiplicity_cost(&self, signal: &PredictedSignal, obs: &ObservedMultiplet) -> f64 {
+        let p = &obs.pattern;
+        let shared = p.reported
+            && !p.apparent
+            && p.multiplicity == Multiplicity::Multiplet
+            && obs
+                .hydrogens
+                .is_some_and(|h| h > signal.hydrogens as f64 + 0.5);
+        if shared {
+            let mp = &self.multiplicity;
+            let broad = if !p.broad {
+                1.0
+            } else if signal.exchangeable {
+                mp.broad_exchangeable
+            } else {
+                mp.broad_other
+            };
+            -(mp.in_shared_m.unwrap_or(mp.predicted_m_as_m) * broad).ln()
+        } else {
+            -self.compatibility(signal, p).ln()
+        }
+    }
+
     fn row(&self, pc: u64, oc: u64, apparent: bool) -> Option<f64> {
         self.table
             .iter()
@@ -305,7 +340,7 @@ impl ScoringModel {
     ) -> PairCost {
         PairCost {
             shift: shift_term(obs.distance(signal.shift), sigma, ln_sigma),
-            multiplicity: -self.compatibility(signal, &obs.pattern).ln(),
+            multiplicity: self.multiplicity_cost(signal, obs),
             coupling: self.coupling_cost(&signal.j_hz, &obs.j_hz),
         }
     }
@@ -425,6 +460,7 @@ fn validate(f: &ModelFile) -> Result<()> {
         ("merged", m.merged),
         ("as_m", m.as_m),
         ("predicted_m_as_m", m.predicted_m_as_m),
+        ("in_shared_m", m.in_shared_m.unwrap_or(m.predicted_m_as_m)),
         ("predicted_m_as_other", m.predicted_m_as_other),
         ("other", m.other),
         ("broad_exchangeable", m.broad_exchangeable),

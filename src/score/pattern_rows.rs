@@ -29,12 +29,17 @@ fn pack(p: &PredictedSignal) -> Option<Key> {
     if p.j_hz.len() > 3 {
         return None;
     }
-    let mut w0 = p.exchangeable as u64 | (p.j_hz.len() as u64) << 1;
+    // The H count decides the multiplicity term in a shared m
+    // (`ScoringModel::multiplicity_cost`).
+    if p.hydrogens > 255 {
+        return None;
+    }
+    let mut w0 = p.exchangeable as u64 | (p.j_hz.len() as u64) << 1 | (p.hydrogens as u64) << 56;
     match &p.multiplicity {
         Multiplicity::Singlet => w0 |= 1 << 4,
         Multiplicity::Multiplet => w0 |= 2 << 4,
         Multiplicity::Coupled(ns) => {
-            if ns.len() > 6 {
+            if ns.len() > 5 {
                 return None;
             }
             w0 |= 3 << 4 | (ns.len() as u64) << 8;
@@ -154,7 +159,7 @@ fn fill(
     out.extend(
         multiplets
             .iter()
-            .map(|o| -model.compatibility(p, &o.pattern).ln()),
+            .map(|o| model.multiplicity_cost(p, o)),
     );
     out.extend(
         multiplets
