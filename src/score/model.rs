@@ -215,14 +215,19 @@ impl ScoringModel {
         } else {
             mp.other
         };
-        let broad = if !obs.broad {
+        p * self.broad_factor(signal, obs)
+    }
+
+    /// The factor a "br" on the observed label puts on the probability.
+    fn broad_factor(&self, signal: &PredictedSignal, obs: &ObservedPattern) -> f64 {
+        let mp = &self.multiplicity;
+        if !obs.broad {
             1.0
         } else if signal.exchangeable {
             mp.broad_exchangeable
         } else {
             mp.broad_other
-        };
-        p * broad
+        }
     }
 
     /// Multiplicity term of a pair, -ln(probability): the label table of
@@ -242,14 +247,7 @@ impl ScoringModel {
                 .is_some_and(|h| h > signal.hydrogens as f64 + 0.5);
         if shared {
             let mp = &self.multiplicity;
-            let broad = if !p.broad {
-                1.0
-            } else if signal.exchangeable {
-                mp.broad_exchangeable
-            } else {
-                mp.broad_other
-            };
-            -(mp.in_shared_m.unwrap_or(mp.predicted_m_as_m) * broad).ln()
+            -(mp.in_shared_m.unwrap_or(mp.predicted_m_as_m) * self.broad_factor(signal, p)).ln()
         } else {
             -self.compatibility(signal, p).ln()
         }
@@ -587,6 +585,32 @@ mod tests {
         // dd with two similar J merges into a t.
         let dd = sig(Multiplicity::Coupled(vec![1, 1]), vec![7.2, 6.8]);
         assert!(m.compatibility(&dd, &obs("t")) >= 0.4);
+    }
+
+    /// A d of 2H inside a reported 4H m shares it with other groups: its
+    /// own pattern is not seen (scoring.toml `in_shared_m`); inside a 2H m
+    /// (or one without an integral) the label table applies.
+    #[test]
+    fn any_pattern_fits_an_m_shared_with_other_groups() {
+        let m = ScoringModel::embedded();
+        let d = sig(Multiplicity::Coupled(vec![1]), vec![8.0]);
+        let mut line = ObservedMultiplet {
+            entry: 1,
+            shift: 7.2,
+            range: Some((7.1, 7.3)),
+            pattern: obs("m"),
+            j_hz: vec![],
+            integral: Some(4.0),
+            hydrogens: Some(4.0),
+            solvent: None,
+        };
+        assert!((m.multiplicity_cost(&d, &line) + 0.8f64.ln()).abs() < 1e-12);
+        let alone = -m.compatibility(&d, &obs("m")).ln();
+        assert!(alone > -0.5f64.ln(), "{alone}");
+        line.hydrogens = Some(2.0);
+        assert_eq!(m.multiplicity_cost(&d, &line), alone);
+        line.hydrogens = None;
+        assert_eq!(m.multiplicity_cost(&d, &line), alone);
     }
 
     #[test]
