@@ -103,6 +103,7 @@ fn realistic(m: usize, st: &mut u64, model: &ScoringModel) -> Costs {
             exchangeable: false,
             notes: vec![],
             halves: false,
+            geminal_hz: 0.0,
         });
     }
     let spectrum = spectrum(&lines.join(", "));

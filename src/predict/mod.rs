@@ -625,6 +625,13 @@ impl<'a> Ctx<'a> {
                 },
                 exchangeable: g.exchangeable,
                 halves: g.half != 0,
+                // A CH2 pair (g.half == g.atoms; a methyl pair splits its
+                // atoms): each H of it split by the other when read apart.
+                geminal_hz: if g.half != 0 && g.half == g.atoms && g.hs == 2 {
+                    self.lib.j(library::CouplingKind::GeminalSp3)
+                } else {
+                    0.0
+                },
                 notes: if self.opts.notes {
                     self.note_words(g, g.notes | m.notes)
                 } else {

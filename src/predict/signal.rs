@@ -109,6 +109,12 @@ pub struct PredictedSignal {
     /// all of `atoms`. Not written to JSON.
     #[serde(skip)]
     pub halves: bool,
+    /// For a diastereotopic CH2 pair (`halves` on the same atoms): the
+    /// geminal J each H shows when the pair is read as two signals (each H
+    /// split by the other, couplings.toml `geminal_sp3`); 0 otherwise. Not
+    /// written to JSON.
+    #[serde(skip)]
+    pub geminal_hz: f64,
 }
 
 impl PredictedSignal {

@@ -514,6 +514,7 @@ mod tests {
             exchangeable: false,
             notes: vec![],
             halves: false,
+            geminal_hz: 0.0,
         }
     }
 

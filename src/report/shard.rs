@@ -408,6 +408,7 @@ impl Reader<'_> {
                     // Not stored: a ranked candidate's list is already the
                     // reading that won (src/score/halves.rs).
                     halves: false,
+                    geminal_hz: 0.0,
                 })
             })
             .collect::<Result<Vec<_>>>()?;

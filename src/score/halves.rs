@@ -79,11 +79,76 @@ macro_rules! listed_item {
     };
 }
 
-// Two methyls per prochiral carbon (3 H per atom) split their atoms; a CH2
-// pair keeps all its atoms in both halves. A 13C pair is always two methyls.
-listed_item!(PredictedSignal, hydrogens, |s| s.hydrogens as usize
-    == 3 * s.atoms.len());
+// A 13C pair is always two methyls.
 listed_item!(PredictedCarbon, carbons, |_| true);
+
+// Two methyls per prochiral carbon (3 H per atom) split their atoms; a CH2
+// pair keeps all its atoms in both halves, and each of its H is split by
+// the other (the geminal J) and by every vicinal H on its own.
+impl Halves for PredictedSignal {
+    fn halves(&self) -> bool {
+        self.halves
+    }
+
+    fn halved(&self) -> Self {
+        let mut x = self.clone();
+        x.halves = false;
+        x.hydrogens /= 2;
+        if self.geminal_hz > 0.0 && !self.methyl_pair() {
+            with_geminal(&mut x, self.geminal_hz);
+        }
+        x.geminal_hz = 0.0;
+        x
+    }
+
+    fn split_atoms(&self) -> Option<(Vec<usize>, Vec<usize>)> {
+        self.methyl_pair().then(|| halves_of(&self.atoms))
+    }
+
+    fn set_atoms(&mut self, atoms: Vec<usize>) {
+        self.atoms = atoms;
+    }
+}
+
+impl PredictedSignal {
+    fn methyl_pair(&self) -> bool {
+        self.hydrogens as usize == 3 * self.atoms.len()
+    }
+}
+
+/// The pattern of one H of a diastereotopic CH2 read as its own signal:
+/// the whole group's couplings plus the geminal J to the other H, and the
+/// H of a partner CH2 or of two CH coupled apart (two diastereotopic or
+/// unlike H have unlike J: a whole-group t becomes d d, written ddd or dt
+/// as they come out; a methyl's three H stay together). Largest J first;
+/// patterns without a trade name (more than four J, or a quintet or more
+/// beside others) are m, as the predictor writes them (src/predict/coupling.rs).
+fn with_geminal(x: &mut PredictedSignal, geminal: f64) {
+    use crate::predict::Multiplicity;
+    let mut parts: Vec<(u8, f64)> = vec![(1, geminal)];
+    match &x.multiplicity {
+        Multiplicity::Multiplet => return,
+        Multiplicity::Singlet => {}
+        Multiplicity::Coupled(ns) => {
+            for (&n, &j) in ns.iter().zip(&x.j_hz) {
+                if n <= 2 {
+                    parts.extend(std::iter::repeat_n((1, j), n as usize));
+                } else {
+                    parts.push((n, j));
+                }
+            }
+        }
+    }
+    parts.sort_by(|a, b| b.1.total_cmp(&a.1).then(b.0.cmp(&a.0)));
+    let unnamed = parts.len() > 4 || (parts.len() > 1 && parts.iter().any(|p| p.0 > 3));
+    if unnamed {
+        x.multiplicity = Multiplicity::Multiplet;
+        x.j_hz.clear();
+    } else {
+        x.multiplicity = Multiplicity::Coupled(parts.iter().map(|p| p.0).collect());
+        x.j_hz = parts.iter().map(|p| p.1).collect();
+    }
+}
 
 impl Halves for ShiftEstimate {
     fn halves(&self) -> bool {
@@ -173,6 +238,57 @@ mod tests {
     use crate::score::{CarbonPrepared, Prepared, ScoringModel};
     use crate::spectrum::{carbon, integrals, journal, CarbonSpectrum, SolventTable, Spectrum};
 
+    /// The halves of a diastereotopic CH2 gain the geminal J and their
+    /// vicinal partners one by one (common practice: the two H of such a
+    /// CH2 next to a CH are each a dd, next to a CH2 each a ddd or dt);
+    /// a methyl pair's halves keep the whole group's pattern.
+    #[test]
+    fn a_ch2_pair_read_apart_shows_the_geminal_j() {
+        let labels = |m: Multiplicity, j: Vec<f64>, h: u32, atoms: Vec<usize>| {
+            let mut s = sig(2.0, h, m, atoms, true);
+            s.j_hz = j;
+            s.geminal_hz = 13.0;
+            let (a, b) = s.split();
+            assert_eq!(a, b);
+            (a.label(), a.j_hz, a.hydrogens)
+        };
+        let c = Multiplicity::Coupled;
+        assert_eq!(
+            labels(Multiplicity::Singlet, vec![], 2, vec![4]),
+            ("d".into(), vec![13.0], 1)
+        );
+        assert_eq!(
+            labels(c(vec![1]), vec![7.0], 2, vec![4]),
+            ("dd".into(), vec![13.0, 7.0], 1)
+        );
+        assert_eq!(
+            labels(c(vec![2]), vec![7.0], 2, vec![4]),
+            ("ddd".into(), vec![13.0, 7.0, 7.0], 1)
+        );
+        assert_eq!(
+            labels(c(vec![3]), vec![7.0], 2, vec![4]),
+            ("dq".into(), vec![13.0, 7.0], 1)
+        );
+        assert_eq!(
+            labels(c(vec![2, 2]), vec![7.0, 5.0], 2, vec![4]),
+            ("m".into(), vec![], 1)
+        );
+        assert_eq!(
+            labels(Multiplicity::Multiplet, vec![], 2, vec![4]),
+            ("m".into(), vec![], 1)
+        );
+        // Two CH2 atoms of one symmetry class: one H of each per half.
+        assert_eq!(
+            labels(c(vec![1]), vec![7.0], 4, vec![4, 9]),
+            ("dd".into(), vec![13.0, 7.0], 2)
+        );
+        // Two methyls (3 H per atom): no geminal J between them.
+        let mut pair = sig(0.9, 6, c(vec![1]), vec![3, 7], true);
+        pair.geminal_hz = 0.0;
+        let (a, b) = pair.split();
+        assert_eq!((a.label(), a.atoms, b.atoms), ("d".into(), vec![3], vec![7]));
+    }
+
     fn hydrogen(text: &str, formula: &str) -> Spectrum {
         integrals::build(
             journal::parse(text).unwrap(),
@@ -209,6 +325,7 @@ mod tests {
             exchangeable: false,
             notes: vec![],
             halves,
+            geminal_hz: 0.0,
         }
     }
 

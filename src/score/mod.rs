@@ -362,6 +362,7 @@ mod tests {
             exchangeable: false,
             notes: vec![],
             halves: false,
+            geminal_hz: 0.0,
         }
     }
     fn q() -> Multiplicity {

@@ -555,6 +555,7 @@ mod tests {
             exchangeable: false,
             notes: vec![],
             halves: false,
+            geminal_hz: 0.0,
         }
     }
 

@@ -125,6 +125,7 @@ pub(crate) fn prediction(st: &mut u64, spectrum: &Spectrum) -> Vec<PredictedSign
                 exchangeable: rng(st) < 0.15,
                 notes: vec![],
                 halves: false,
+                geminal_hz: 0.0,
             }
         })
         .collect()

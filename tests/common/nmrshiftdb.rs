@@ -12,6 +12,7 @@ use isomerank::chem::aromaticity;
 use isomerank::chem::smiles::parse_smiles;
 use isomerank::chem::Molecule;
 use isomerank::predict::{PredictedSignal, Predictor};
+use isomerank::score::halves::Halves;
 use isomerank::spectrum::journal;
 use serde::Deserialize;
 use std::path::PathBuf;
@@ -183,10 +184,23 @@ pub fn compare(predictor: &Predictor, c: &Case) -> Result<Compared, String> {
             .filter(|&i| share[k][i] > 0)
             .max_by(|&a, &b| share[k][a].cmp(&share[k][b]).then(b.cmp(&a)));
         if let Some(i) = best {
+            // A diastereotopic pair whose H the sorted pairing put in two
+            // entries is read as two signals, each with the label of one
+            // half (the scorer reads it that way too, src/score/halves.rs).
+            let s = &signals[i];
+            let apart = s.halves
+                && s.hydrogens % 2 == 0
+                && share[k][i] == s.hydrogens as usize / 2
+                && (0..raw.entries.len()).any(|x| x != k && share[x][i] > 0);
+            let predicted = if apart {
+                s.split().0.label()
+            } else {
+                s.label()
+            };
             labels.push(Label {
                 id: c.id,
                 observed: bare_label(&e.pattern.label()),
-                predicted: bare_label(&signals[i].label()),
+                predicted: bare_label(&predicted),
                 notes: signals[i].notes.clone(),
                 signal: i,
                 shift: e.shift,
