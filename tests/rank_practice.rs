@@ -139,3 +139,28 @@ fn a_solvent_peak_in_the_list_is_set_aside() {
 fn canonical(smiles: &str) -> String {
     canonical_smiles(&parse_smiles(smiles).expect("test SMILES"))
 }
+
+#[test]
+fn a_diastereotopic_och2_reported_as_two_dd_is_read_as_two_signals() {
+    // Common practice: the CH2 next to a stereocentre gives two signals,
+    // each a dd (geminal J about 10-11 Hz next to O, and the vicinal J to
+    // the CH). Shifts of 2-methylbutan-1-ol from memory. The predicted
+    // list read as halves carries the two dd (src/score/halves.rs).
+    let r = rank_all(
+        "C5H12O",
+        "3.50 (dd, J = 10.6, 5.9 Hz, 1H), 3.41 (dd, J = 10.6, 6.5 Hz, 1H), \
+         1.62 (m, 1H), 1.46 (m, 1H), 1.41 (br s, 1H), 1.15 (m, 1H), \
+         0.91 (d, J = 6.7 Hz, 3H), 0.90 (t, J = 7.4 Hz, 3H)",
+    );
+    let first = &r.candidates[0];
+    assert_eq!(first.smiles, canonical("CCC(C)CO"));
+    assert!(first.probability > 0.99, "{}", first.probability);
+    // Both dd entries hold a 1H dd of the split CH2 (J 13 and 7 Hz).
+    let dd: Vec<_> = first
+        .predicted
+        .iter()
+        .filter(|s| s.hydrogens == 1 && s.label() == "dd")
+        .collect();
+    assert_eq!(dd.len(), 2, "{:?}", first.predicted);
+    assert_eq!(dd[0].j_hz, vec![13.0, 7.0]);
+}
