@@ -12,7 +12,7 @@ mod common;
 use common::{canonical, isomers_ok, run_reference_script};
 use std::collections::{BTreeMap, BTreeSet};
 
-const RULES: [&str; 14] = [
+const RULES: [&str; 15] = [
     "small-ring-triple",
     "small-ring-cumulated",
     "bredt",
@@ -27,6 +27,7 @@ const RULES: [&str; 14] = [
     "sulfur-multiple",
     "small-ring-cage",
     "fused-small-rings",
+    "antiaromatic-three-ring",
 ];
 
 #[derive(serde::Deserialize)]
@@ -182,6 +183,18 @@ fn common_practice_cases() {
     assert!(keeps("C3H8O2", "hydrate", "OCCCO"));
     assert!(keeps("C5H10O2", "hydrate", "OC1CCCCO1"));
     assert!(keeps("C3H6O2", "hydrate", "CC(=O)OC"));
+    // Hemi-ortho-esters (an OH and two more O on one carbon) give the
+    // ester or lactone, rings or not: 2-hydroxy-1,3-dioxolane and the
+    // bicyclic cage HO-C(O)2 of C4H4O4 go; the orthoester
+    // 2-methoxy-1,3-dioxolane (no OH) stays.
+    assert!(!keeps("C3H6O3", "hydrate", "OC1OCCO1"));
+    assert!(!keeps("C4H4O4", "hydrate", "OC12C=CC(O1)(O2)O"));
+    assert!(keeps("C4H8O3", "hydrate", "COC1OCCO1"));
+    // A ring carbon whose OH partner is off the ring is no cyclic
+    // hemiacetal: 1-methoxycyclobutanol gives cyclobutanone and methanol,
+    // 1-hydroxycyclopropyl formate the ketone and formic acid.
+    assert!(!keeps("C5H10O2", "hydrate", "COC1(O)CCC1"));
+    assert!(!keeps("C4H4O3", "hydrate", "O=COC1(O)C=C1"));
     // Imidic acid against acetamide; thioenol against thioacetaldehyde's
     // enethiol partner; 2-hydroxypyridine is aromatic and stays.
     assert!(!keeps("C2H5NO", "iminol", "CC(O)=N"));
@@ -221,6 +234,15 @@ fn common_practice_cases() {
     assert!(!keeps("C3H7N", "nh-imine", "CCC=N"));
     assert!(keeps("C2H6N2", "nh-imine", "CC(N)=N"));
     assert!(keeps("C3H7NO", "nh-imine", "COC(C)=N"));
+    // 4-pi three-rings: oxirene, thiirene and 1H-azirine go; cyclopropene,
+    // cyclopropenone, 2H-azirine and 3H-diazirine stay.
+    assert!(!keeps("C2H2O", "antiaromatic-three-ring", "C1=CO1"));
+    assert!(!keeps("C2H2S", "antiaromatic-three-ring", "C1=CS1"));
+    assert!(!keeps("C3H5N", "antiaromatic-three-ring", "CN1C=C1"));
+    assert!(keeps("C3H4", "antiaromatic-three-ring", "C1=CC1"));
+    assert!(keeps("C3H2O", "antiaromatic-three-ring", "O=C1C=C1"));
+    assert!(keeps("C2H3N", "antiaromatic-three-ring", "C1C=N1"));
+    assert!(keeps("CH2N2", "antiaromatic-three-ring", "C1N=N1"));
 }
 
 #[test]

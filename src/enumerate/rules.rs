@@ -33,10 +33,11 @@ pub enum Rule {
     // Strained small-ring skeletons (see `small_rings`).
     SmallRingCage,
     FusedSmallRings,
+    AntiaromaticThreeRing,
 }
 
 impl Rule {
-    pub const ALL: [Rule; 14] = [
+    pub const ALL: [Rule; 15] = [
         Rule::SmallRingTriple,
         Rule::SmallRingCumulated,
         Rule::Bredt,
@@ -51,6 +52,7 @@ impl Rule {
         Rule::SulfurMultiple,
         Rule::SmallRingCage,
         Rule::FusedSmallRings,
+        Rule::AntiaromaticThreeRing,
     ];
 
     pub fn name(self) -> &'static str {
@@ -69,6 +71,7 @@ impl Rule {
             Rule::SulfurMultiple => "sulfur-multiple",
             Rule::SmallRingCage => "small-ring-cage",
             Rule::FusedSmallRings => "fused-small-rings",
+            Rule::AntiaromaticThreeRing => "antiaromatic-three-ring",
         }
     }
 
@@ -104,10 +107,13 @@ impl Rule {
                  carbon) are rare, unstable and hazardous as unknowns (common practice)"
             }
             Rule::Hydrate => {
-                "no carbonyl hydrate or adduct at an sp3 carbon: two OH, an OH and a halogen, or \
-                 (off any ring) an OH and an O, N or S on one carbon lose water, HX or an alcohol \
-                 to give the carbonyl compound, which is enumerated; cyclic hemiacetals (sugars, \
-                 lactols) are kept (common practice)"
+                "no carbonyl hydrate or adduct at an sp3 carbon: two OH, an OH and a halogen, \
+                 an OH and an O, N or S over a bond on no ring, or an OH and two more O on one \
+                 carbon lose water, HX or an alcohol to give the carbonyl compound, which is \
+                 enumerated; the last is a hemi-ortho-ester, the tetrahedral intermediate of \
+                 ester hydrolysis, which gives the ester, lactone or carbonate even when its O \
+                 are ring atoms; cyclic hemiacetals and hemiaminals (sugars, lactols), whose \
+                 O or N shares a ring with the carbon, are kept (common practice)"
             }
             Rule::Iminol => {
                 "no imidic acid or thiol tautomer: OH or SH on a non-aromatic C=N carbon, or SH on \
@@ -158,6 +164,15 @@ impl Rule {
                  strain energies of about 51-66 kcal/mol for the bicycles alone (Wiberg, Angew. \
                  Chem. Int. Ed. Engl. 1986, 25, 312, values from memory); rare, reactive \
                  targets of synthesis, not likely unknowns (common practice)"
+            }
+            Rule::AntiaromaticThreeRing => {
+                "no ring of 3 atoms holding a double bond and, as its third atom, an O, an N \
+                 with single bonds only, or an S with no double bond (oxirenes, 1H-azirines, \
+                 thiirenes, oxazirines, 1H-diazirines): the lone pair and the pi bond make a \
+                 4-pi-electron antiaromatic ring, known only as a transient or matrix-isolated \
+                 species (common practice); cyclopropenes, cyclopropenones, 2H-azirines, \
+                 3H-diazirines and thiirene S-oxides and S,S-dioxides (the S bears a double \
+                 bond) are kept"
             }
         }
     }
@@ -293,6 +308,7 @@ impl Checker {
             Rule::SulfurMultiple => sulfur_multiple(iso),
             Rule::SmallRingCage => self.small_ring_verdicts(iso).0,
             Rule::FusedSmallRings => self.small_ring_verdicts(iso).1,
+            Rule::AntiaromaticThreeRing => antiaromatic_three_ring(iso),
         }
     }
 
@@ -556,25 +572,35 @@ impl Checker {
             .perceive(&self.flat, &mut self.rings, &mut self.aromatic);
     }
 
-    /// An sp3 carbon with two OH, an OH and a halogen, or, when the carbon
-    /// is on no ring, an OH and another O, N or S.
+    /// An sp3 carbon with two OH, an OH and a halogen, an OH and two more O
+    /// (a hemi-ortho-ester, ring or not), or an OH and another O, N or S
+    /// bonded to it by a bond on no ring (a cyclic hemiacetal has its O on
+    /// the ring with the carbon; 1-methoxycyclobutanol has not).
     fn hydrate(&mut self, iso: &Isomer) -> bool {
         let adj = &iso.node.g.adj;
         let sp3_carbons = (0..iso.atoms())
             .filter(|&c| iso.element(c) == Element::C && adj[1][c] | adj[2][c] == 0);
         for c in sp3_carbons {
-            let (mut oh, mut halogen, mut hetero) = (0, 0, 0);
+            let (mut oh, mut halogen, mut hetero, mut ether) = (0, 0, 0u64, 0);
             for y in bits(iso.node.nb[c]) {
                 match iso.element(y) {
                     Element::O if iso.hydrogens(y) == 1 => oh += 1,
                     Element::F | Element::Cl | Element::Br | Element::I => halogen += 1,
-                    Element::O | Element::N | Element::S => hetero += 1,
+                    Element::O => {
+                        hetero |= 1u64 << y;
+                        ether += 1;
+                    }
+                    Element::N | Element::S => hetero |= 1u64 << y,
                     _ => {}
                 }
             }
+            if oh == 0 {
+                continue;
+            }
             if oh >= 2
-                || oh >= 1 && halogen >= 1
-                || oh >= 1 && hetero >= 1 && self.rings_of(iso, c).0 == 0
+                || halogen >= 1
+                || ether >= 2
+                || hetero != 0 && hetero & !self.rings_of(iso, c).0 != 0
             {
                 return true;
             }
@@ -766,6 +792,23 @@ fn sulfur_multiple(iso: &Isomer) -> bool {
     (0..iso.atoms()).any(|s| {
         iso.element(s) == Element::S
             && (adj[2][s] != 0 || bits(adj[1][s]).any(|y| iso.element(y) == Element::S))
+    })
+}
+
+/// A triangle x-y-z with a double bond y=z whose third atom x is an O, an
+/// N with single bonds only, or an S with no double or triple bond (its
+/// lone pair joins the pi bond: 4 pi electrons in a 3-ring). The N of a
+/// charge-separated N-oxide holds its O by a double bond here (see
+/// [`pi_doubles`]) and has no lone pair: not flagged.
+fn antiaromatic_three_ring(iso: &Isomer) -> bool {
+    let adj = &iso.node.g.adj;
+    (0..iso.atoms()).any(|x| {
+        let donor = match iso.element(x) {
+            Element::O => true,
+            Element::N | Element::S => adj[1][x] | adj[2][x] == 0,
+            _ => false,
+        };
+        donor && bits(iso.node.nb[x]).any(|y| adj[1][y] & iso.node.nb[x] & !(1u64 << y) != 0)
     })
 }
 

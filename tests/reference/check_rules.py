@@ -31,8 +31,9 @@ README states them:
   peroxide) nor an OH on one side with a carbon of single bonds only on the
   other (hydroperoxide on an sp3 carbon);
 - hydrate: a carbon with four single bonds carrying two OH, or an OH and a
-  halogen, or (when RDKit puts the carbon in no ring) an OH and another O,
-  N or S neighbour;
+  halogen, or an OH and two more O neighbours (a hemi-ortho-ester, ring or
+  not), or an OH and another O, N or S neighbour over a bond RDKit puts in
+  no ring;
 - iminol: OH or SH on a non-aromatic carbon with a double bond to N, or SH
   on a non-aromatic carbon with a double or triple bond to carbon;
 - hypohalite: a bond between O and F, Cl, Br or I;
@@ -49,6 +50,10 @@ README states them:
   bonded to exactly two of the others), found here by trying every 3- and
   4-subset of the atoms near each atom;
 - fused-small-rings: two such small rings sharing a bond.
+- antiaromatic-three-ring: a 3-membered ring (RDKit's ring perception) with a
+  double bond between two of its atoms whose third atom is an uncharged O,
+  N with single bonds only, or S with single bonds only (the N+ of a
+  charge-separated N-oxide has no lone pair and is not flagged).
 
 With --count FILE.toml, the rules are applied instead to every `smiles =`
 of that file (the NMRShiftDB2 dev structures) and the number of structures
@@ -232,15 +237,22 @@ def hydrate(mol, aromatic):
             continue
         if any(b.GetBondType() != Chem.BondType.SINGLE for b in c.GetBonds()):
             continue
-        oh = halogen = hetero = 0
-        for y in c.GetNeighbors():
+        oh = halogen = exocyclic = ether = 0
+        for b in c.GetBonds():
+            y = b.GetOtherAtom(c)
             if y.GetSymbol() == "O" and y.GetTotalNumHs() == 1:
                 oh += 1
             elif y.GetSymbol() in HALOGENS:
                 halogen += 1
             elif y.GetSymbol() in ("O", "N", "S"):
-                hetero += 1
-        if oh >= 2 or (oh and halogen) or (oh and hetero and not c.IsInRing()):
+                exocyclic += not b.IsInRing()
+                ether += y.GetSymbol() == "O"
+        if (
+            oh >= 2
+            or (oh and halogen)
+            or (oh and ether >= 2)
+            or (oh and exocyclic)
+        ):
             return True
     return False
 
@@ -369,6 +381,22 @@ def fused_small_rings(mol, aromatic):
     return False
 
 
+def antiaromatic_three_ring(mol, aromatic):
+    for ring in mol.GetRingInfo().AtomRings():
+        if len(ring) != 3:
+            continue
+        for x in ring:
+            y, z = [a for a in ring if a != x]
+            if mol.GetBondBetweenAtoms(y, z).GetBondType() != Chem.BondType.DOUBLE:
+                continue
+            third = mol.GetAtomWithIdx(x)
+            single = all(b.GetBondType() == Chem.BondType.SINGLE for b in third.GetBonds())
+            lone_pair = third.GetFormalCharge() == 0
+            if lone_pair and (third.GetSymbol() == "O" or (third.GetSymbol() in ("N", "S") and single)):
+                return True
+    return False
+
+
 RULES = {
     "small-ring-triple": small_ring_triple,
     "small-ring-cumulated": small_ring_cumulated,
@@ -384,6 +412,7 @@ RULES = {
     "sulfur-multiple": sulfur_multiple,
     "small-ring-cage": small_ring_cage,
     "fused-small-rings": fused_small_rings,
+    "antiaromatic-three-ring": antiaromatic_three_ring,
 }
 
 
