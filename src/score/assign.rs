@@ -1787,7 +1787,7 @@ mod tests {
             observed_h: (0..m)
                 .map(|_| {
                     let x = rng(st);
-                    (x > 0.15).then(|| 1.0 + (x > 0.85) as u32 as f64)
+                    (x > 0.15).then_some(1.0 + (x > 0.85) as u32 as f64)
                 })
                 .collect(),
             empty: vec![4.0; m],

@@ -25,6 +25,14 @@
 //!    an incumbent to fix variables in branch and bound (Dantzig, Fulkerson
 //!    & Johnson, Operations Research 1954, 2, 393; from memory).
 //!
+//! The known assignment is the best of three heuristics (each group on its
+//! cheapest option, the marginal one, local search from the better). When
+//! the largest part then still holds more than [`RETRY_ABOVE`] groups, the
+//! cheapest one-to-one assignment over the listed pairs
+//! ([`super::matching`]), improved by the local search, replaces it when
+//! cheaper and the fixing runs again: a chain of groups each predicted one
+//! line off needs a cyclic shift that the local search cannot make.
+//!
 //! The pairs of the known assignment itself are always kept, so it stays
 //! feasible. Every assignment cheaper than it then uses kept pairs only,
 //! so the optimum over kept pairs is the optimum. The kept pairs make a
