@@ -14,6 +14,7 @@ pub mod assign_reference;
 pub mod carbon;
 pub mod halves;
 mod line_bound;
+mod matching;
 pub mod model;
 mod pattern_rows;
 pub mod prepared;

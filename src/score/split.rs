@@ -25,6 +25,14 @@
 //!    an incumbent to fix variables in branch and bound (Dantzig, Fulkerson
 //!    & Johnson, Operations Research 1954, 2, 393; from memory).
 //!
+//! The known assignment is the best of three heuristics (each group on its
+//! cheapest option, the marginal one, local search from the better). When
+//! the largest part then still holds more than [`RETRY_ABOVE`] groups, the
+//! cheapest one-to-one assignment over the listed pairs
+//! ([`super::matching`]), improved by the local search, replaces it when
+//! cheaper and the fixing runs again: a chain of groups each predicted one
+//! line off needs a cyclic shift that the local search cannot make.
+//!
 //! The pairs of the known assignment itself are always kept, so it stays
 //! feasible. Every assignment cheaper than it then uses kept pairs only,
 //! so the optimum over kept pairs is the optimum. The kept pairs make a
@@ -42,10 +50,16 @@
 //! group.
 
 use super::assign::{improve, marginal, refill, Costs, CostsRef, Targets, NONE};
+use super::matching::Matching;
 
 /// Relative margin by which a test must hold before a pair is set aside
 /// (against rounding in the sums that compare).
 const MARGIN: f64 = 1e-9;
+
+/// When the largest part holds more groups than this, the cheapest
+/// one-to-one assignment ([`super::matching`]) is tried as a better known
+/// assignment (parts this small search in a few dozen nodes anyway).
+const RETRY_ABOVE: usize = 8;
 
 /// The split's buffers, kept between calls.
 #[derive(Clone, Debug, Default)]
@@ -81,6 +95,7 @@ pub(crate) struct Split {
     k: Vec<u32>,
     /// The current part's numbers.
     costs: Costs,
+    matching: Matching,
 }
 
 /// `from` at the indices `of`, into `v`.
@@ -146,6 +161,7 @@ impl Split {
             start: &self.start,
             lines: &self.list,
             allowed: &self.allowed,
+            m,
         };
         refill(&mut self.h, m, 0);
         refill(&mut self.k, m, 0);
@@ -180,38 +196,30 @@ impl Split {
             self.known.copy_from_slice(&self.trial);
             known_cost = cost;
         }
-        // Reduced-cost fixing on the pairs left; the known assignment's
-        // own pairs stay.
-        self.parent.clear();
-        self.parent.extend(0..(g + m) as u32);
-        let known_cost = known_cost + MARGIN * (1.0 + known_cost.abs());
-        for (gi, &least) in cheapest.iter().enumerate() {
-            let fixed = root - least;
-            for &j in &self.list[self.start[gi] as usize..self.start[gi + 1] as usize] {
-                let ju = j as usize;
-                let p = c.pair[gi * m + ju];
-                if self.known[gi] == j || fixed - c.empty[ju].min(self.extra[ju]) + p < known_cost {
-                    let a = find(&mut self.parent, gi as u32);
-                    let b = find(&mut self.parent, (g + ju) as u32);
-                    if a != b {
-                        self.parent[a.max(b) as usize] = a.min(b);
-                    }
-                }
+        let mut parts = self.label(c, cheapest, root, known_cost);
+        if self.largest(parts) > RETRY_ABOVE {
+            // One large part: the heuristics may have missed a chain of
+            // groups each one line off; the cheapest one-to-one assignment
+            // (then the local search) is a second chance at a known
+            // assignment good enough to cut the part.
+            let mut trial = std::mem::take(&mut self.trial);
+            self.matching.solve(c, &self.start, &self.list, &mut trial);
+            refill(&mut self.h, m, 0);
+            refill(&mut self.k, m, 0);
+            let targets = Targets::Listed {
+                start: &self.start,
+                lines: &self.list,
+                allowed: &self.allowed,
+                m,
+            };
+            let cost = improve(c, &mut trial, &mut self.h, &mut self.k, targets);
+            if cost < known_cost {
+                self.known.copy_from_slice(&trial);
+                known_cost = cost;
+                parts = self.label(c, cheapest, root, known_cost);
             }
+            self.trial = trial;
         }
-        // Components numbered by their first node (a group, or a multiplet
-        // no group reaches), groups and multiplets listed ascending.
-        refill(&mut self.part, g + m, u32::MAX);
-        let mut parts = 0u32;
-        for x in 0..g + m {
-            let r = find(&mut self.parent, x as u32) as usize;
-            if self.part[r] == u32::MAX {
-                self.part[r] = parts;
-                parts += 1;
-            }
-            self.part[x] = self.part[r];
-        }
-        let parts = parts as usize;
         if (0..g).all(|x| self.part[x] == 0) {
             return None;
         }
@@ -246,6 +254,54 @@ impl Split {
             of_lines,
         );
         Some(parts)
+    }
+
+    /// Reduced-cost fixing on the listed pairs against an assignment of
+    /// cost `known_cost` (its own pairs stay), and the components of the
+    /// pairs kept (`part` per node); returns their number.
+    fn label(&mut self, c: &CostsRef, cheapest: &[f64], root: f64, known_cost: f64) -> usize {
+        let (g, m) = (c.groups, c.multiplets);
+        // Reduced-cost fixing on the pairs left; the known assignment's
+        // own pairs stay.
+        self.parent.clear();
+        self.parent.extend(0..(g + m) as u32);
+        let known_cost = known_cost + MARGIN * (1.0 + known_cost.abs());
+        for (gi, &least) in cheapest.iter().enumerate() {
+            let fixed = root - least;
+            for &j in &self.list[self.start[gi] as usize..self.start[gi + 1] as usize] {
+                let ju = j as usize;
+                let p = c.pair[gi * m + ju];
+                if self.known[gi] == j || fixed - c.empty[ju].min(self.extra[ju]) + p < known_cost {
+                    let a = find(&mut self.parent, gi as u32);
+                    let b = find(&mut self.parent, (g + ju) as u32);
+                    if a != b {
+                        self.parent[a.max(b) as usize] = a.min(b);
+                    }
+                }
+            }
+        }
+        // Components numbered by their first node (a group, or a multiplet
+        // no group reaches), groups and multiplets listed ascending.
+        refill(&mut self.part, g + m, u32::MAX);
+        let mut parts = 0u32;
+        for x in 0..g + m {
+            let r = find(&mut self.parent, x as u32) as usize;
+            if self.part[r] == u32::MAX {
+                self.part[r] = parts;
+                parts += 1;
+            }
+            self.part[x] = self.part[r];
+        }
+        parts as usize
+    }
+
+    /// The most groups in one component (after `label`).
+    fn largest(&mut self, parts: usize) -> usize {
+        refill(&mut self.fill, parts, 0);
+        for &p in &self.part[..self.known.len()] {
+            self.fill[p as usize] += 1;
+        }
+        self.fill.iter().copied().max().unwrap_or(0) as usize
     }
 
     /// Component `p`'s groups and multiplets (indices into the whole
