@@ -49,17 +49,31 @@ pub struct Region {
     /// elements (empty: always).
     #[serde(default)]
     pub needs: Vec<String>,
+    /// How many atoms of `needs` the formula must hold in all (a carbon
+    /// with two heteroatom neighbours needs two heteroatoms).
+    #[serde(default = "one")]
+    pub min_atoms: u32,
     pub source: String,
+}
+
+fn one() -> u32 {
+    1
 }
 
 impl Region {
     /// Whether a formula can hold a carbon of this region at all.
     fn allowed_in(&self, formula: &Formula) -> bool {
         self.needs.is_empty()
-            || self.needs.iter().any(|e| {
-                let e = Element::from_symbol(e).expect("a known element in carbon-regions.toml");
-                formula.count(e) > 0
-            })
+            || self
+                .needs
+                .iter()
+                .map(|e| {
+                    let e =
+                        Element::from_symbol(e).expect("a known element in carbon-regions.toml");
+                    formula.count(e)
+                })
+                .sum::<u32>()
+                >= self.min_atoms
     }
 }
 
@@ -322,16 +336,22 @@ mod tests {
             ["triple", "sp2", "sp3"]
         );
         // An aromatic CH at 128 ppm: no sp3-hetero CH reaches it without
-        // fluorine (orthoformate CH ~113 at most); CHF2 groups do (~105-122).
+        // fluorine (orthoformate CH ~113 at most); CHF2 groups do (~105-122)
+        // when the formula has their two F.
         let oxygen = Formula::parse("C8H8O").unwrap();
-        let fluorine = Formula::parse("C8H7F").unwrap();
+        let fluorine = Formula::parse("C8H6F2").unwrap();
         assert_eq!(
             classes(possible_classes(128.0, Some(1), &oxygen)),
             ["carbonyl", "triple", "sp2"]
         );
         assert!(classes(possible_classes(128.0, Some(1), &fluorine)).contains(&"sp3-hetero"));
-        // A quaternary C at 128 may still be CF3 or an orthocarbonate.
-        assert!(classes(possible_classes(128.0, Some(0), &oxygen)).contains(&"sp3-hetero"));
+        // A quaternary C at 128 may still be CF3 or an orthocarbonate, but
+        // only where the formula holds two heteroatoms for its neighbours.
+        let two_o = Formula::parse("C8H8O2").unwrap();
+        assert!(classes(possible_classes(128.0, Some(0), &two_o)).contains(&"sp3-hetero"));
+        assert!(!classes(possible_classes(128.0, Some(0), &oxygen)).contains(&"sp3-hetero"));
+        // A tertiary C-O at 80 ppm needs one.
+        assert!(classes(possible_classes(80.0, Some(0), &oxygen)).contains(&"sp3-hetero"));
     }
 
     #[test]
