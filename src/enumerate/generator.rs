@@ -872,6 +872,15 @@ impl<'p> Generator<'p> {
         if o.cap[0] < extra {
             return;
         }
+        o.done.clear();
+        o.done.resize(ne + 1, 0);
+        let mut touched = 0u64;
+        o.done[ne] = (1u64 << node.n) - 1;
+        for i in (0..ne).rev() {
+            let (a, b) = o.edges[i];
+            touched |= 1u64 << a | 1u64 << b;
+            o.done[i] = o.done[ne] & !touched;
+        }
         o.group = if canon_fresh {
             GroupState::Ready
         } else {
@@ -921,6 +930,9 @@ enum GroupState {
 struct Orders {
     edges: Vec<(u8, u8)>,
     cap: Vec<i32>,
+    /// done[i]: the atoms no edge i.. touches, whose H count is final once
+    /// the orders of edges ..i are placed.
+    done: Vec<u64>,
     /// (edge index, extra order) of the edges given extra order so far, in
     /// increasing edge index.
     chosen: Vec<(u8, u8)>,
@@ -1018,14 +1030,15 @@ impl Orders {
                 node.free[a] -= x;
                 node.free[b] -= x;
                 // Constraints: free valences only fall as orders are
-                // raised, and end as the H counts.
+                // raised, and end as the H counts. Atoms no later edge
+                // touches have their final H count now (forward check).
                 let pruned = match cons {
                     Some(w) if w.orders_test => {
                         let ok = w.bounds.orders_ok(
                             &w.order_slots,
                             &node.kind[..node.n],
                             &node.free[..node.n],
-                        );
+                        ) && w.finished_ok(node, self.done[j + 1]);
                         if !ok {
                             w.cuts[0][1] += 1;
                         }

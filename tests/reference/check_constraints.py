@@ -3,10 +3,15 @@
 isomerank with RDKit (PyPI rdkit).
 
 Usage: check_constraints.py SPEC_JSON < smiles-one-per-line
+       check_constraints.py --each < json-one-per-line
 
 SPEC_JSON: {"require": [smiles], "forbid": [smiles],
             "hydrogens": {"C": [[lo, hi] for h = 0..4], "O": [...]},
-            "classes": {"carbonyl": [lo, hi], ...}}   (every key optional)
+            "classes": {"carbonyl": [lo, hi], ..., "single": [lo, hi]},
+            "max_rings": n}   (every key optional)
+
+With --each every input line is {"smiles": ..., "spec": SPEC_JSON}, one
+spec per structure.
 
 Prints one JSON object: {"lines": N, "fits": [0-based line indices]}.
 
@@ -74,9 +79,14 @@ def fits(mol, spec, require, forbid):
         for a in mol.GetAtoms():
             if a.GetSymbol() == "C":
                 counts[carbon_class(a)] += 1
+        counts["single"] = counts["sp3"] + counts["sp3-hetero"]
         for c, (lo, hi) in spec["classes"].items():
             if not (lo <= counts[c] <= hi):
                 return False
+    if "max_rings" in spec:
+        rings = mol.GetNumBonds() - mol.GetNumAtoms() + 1
+        if rings > spec["max_rings"]:
+            return False
     if any(not mol.HasSubstructMatch(q) for q in require):
         return False
     if any(mol.HasSubstructMatch(q) for q in forbid):
@@ -84,15 +94,26 @@ def fits(mol, spec, require, forbid):
     return True
 
 
-def main():
-    spec = json.loads(sys.argv[1])
+def queries(spec):
     require = [Chem.MolFromSmiles(s) for s in spec.get("require", [])]
     forbid = [Chem.MolFromSmiles(s) for s in spec.get("forbid", [])]
     if any(q is None for q in require + forbid):
         sys.exit("check_constraints: RDKit cannot read a fragment")
+    return require, forbid
+
+
+def main():
+    each = sys.argv[1] == "--each"
+    if not each:
+        spec = json.loads(sys.argv[1])
+        require, forbid = queries(spec)
     lines = [l.strip() for l in sys.stdin if l.strip()]
     out = []
     for i, s in enumerate(lines):
+        if each:
+            item = json.loads(s)
+            s, spec = item["smiles"], item["spec"]
+            require, forbid = queries(spec)
         mol = Chem.MolFromSmiles(s)
         if mol is None:
             sys.exit(f"check_constraints: RDKit cannot read {s!r}")

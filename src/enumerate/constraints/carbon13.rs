@@ -14,13 +14,19 @@
 //!   one carbon, which never is).
 //! * **Carbon types.** Each class has deliberately wide shift regions and
 //!   the H counts it can carry (`fragment-library/carbon-regions.toml`,
-//!   common practice, values from memory). A line counts towards a class's
+//!   common practice, values from memory), some only for formulas that
+//!   hold the partner they need (no carbonyl without N, O or S, no
+//!   sp3-hetero carbon without N, O, S, P or a halogen). A line counts towards a class's
 //!   lower bound only when that class alone fits its shift and H count; it
 //!   counts towards the upper bound of every class that fits. Where regions
 //!   overlap (a quaternary carbon at 120 ppm could be aromatic, nitrile,
 //!   isocyanate or CF3; 50-90 ppm could be sp3 C-O or an alkyne) the line
 //!   constrains nothing beyond those upper bounds. The uncounted carbons
 //!   raise every upper bound.
+//! * **Carbons with a pi bond.** A line that neither single-bond class
+//!   (sp3, sp3-hetero) fits stands for carbons with a double or triple
+//!   bond; the rest are at most `single_hi` ([`ClassCounts::single_hi`]),
+//!   from which [`super::Constraints::compile`] bounds the rings.
 //!
 //! A line no region holds, or more carbons than the formula has, is an
 //! input error naming the line.
@@ -39,7 +45,36 @@ pub struct Region {
     pub class: String,
     pub ranges: Vec<[f64; 2]>,
     pub hydrogens: Vec<u8>,
+    /// The region applies only when the formula holds one of these
+    /// elements (empty: always).
+    #[serde(default)]
+    pub needs: Vec<String>,
+    /// How many atoms of `needs` the formula must hold in all (a carbon
+    /// with two heteroatom neighbours needs two heteroatoms).
+    #[serde(default = "one")]
+    pub min_atoms: u32,
     pub source: String,
+}
+
+fn one() -> u32 {
+    1
+}
+
+impl Region {
+    /// Whether a formula can hold a carbon of this region at all.
+    fn allowed_in(&self, formula: &Formula) -> bool {
+        self.needs.is_empty()
+            || self
+                .needs
+                .iter()
+                .map(|e| {
+                    let e =
+                        Element::from_symbol(e).expect("a known element in carbon-regions.toml");
+                    formula.count(e)
+                })
+                .sum::<u32>()
+                >= self.min_atoms
+    }
 }
 
 #[derive(Deserialize)]
@@ -47,7 +82,8 @@ struct RegionFile {
     region: Vec<Region>,
 }
 
-/// The embedded region table, one entry per [`CarbonClass`] in its order.
+/// The embedded region table, sorted by [`CarbonClass`] (a class may have
+/// several regions).
 pub fn regions() -> &'static [(CarbonClass, Region)] {
     static TABLE: OnceLock<Vec<(CarbonClass, Region)>> = OnceLock::new();
     TABLE.get_or_init(|| {
@@ -67,10 +103,13 @@ pub fn regions() -> &'static [(CarbonClass, Region)] {
 }
 
 /// The classes a line at `shift` with `hydrogens` (when known) may belong
-/// to, as a bit set over [`CarbonClass::index`].
-pub fn possible_classes(shift: f64, hydrogens: Option<u8>) -> u8 {
+/// to in a structure of `formula`, as a bit set over [`CarbonClass::index`].
+pub fn possible_classes(shift: f64, hydrogens: Option<u8>, formula: &Formula) -> u8 {
     let mut set = 0u8;
     for (c, r) in regions() {
+        if !r.allowed_in(formula) {
+            continue;
+        }
         let in_range = r.ranges.iter().any(|&[lo, hi]| shift >= lo && shift <= hi);
         let h_fits = hydrogens.is_none_or(|h| r.hydrogens.contains(&h));
         if in_range && h_fits {
@@ -107,6 +146,9 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
     let mut h_unknown = unknown;
     let mut class_lo = [0u32; 6];
     let mut class_hi = [unknown; 6];
+    // Carbons of lines that no single-bond class fits have a pi bond.
+    let mut pi_carbons = 0u32;
+    let single = 1 << CarbonClass::Sp3.index() | 1 << CarbonClass::Sp3Hetero.index();
     let mut notes = Vec::new();
     for (i, &(shift, h, count)) in lines.iter().enumerate() {
         let label = match h {
@@ -127,7 +169,7 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
             Some(h) => h_lo[h as usize] += count,
             None => h_unknown += count,
         }
-        let set = possible_classes(shift, h);
+        let set = possible_classes(shift, h, formula);
         if set == 0 {
             return Err(Error::input(format!(
                 "13C {label}: no carbon type has a shift there{}",
@@ -147,6 +189,9 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
             if set >> c.index() & 1 == 1 {
                 class_hi[c.index()] += count;
             }
+        }
+        if set & single == 0 {
+            pi_carbons += count;
         }
         if set.count_ones() == 1 {
             class_lo[set.trailing_zeros() as usize] += count;
@@ -173,6 +218,7 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
     let classes = narrows.then_some(ClassCounts {
         lo: class_lo,
         hi: class_hi.map(|x| x.min(carbons)),
+        single_hi: carbons - pi_carbons,
     });
     Ok(CarbonFacts {
         hydrogens,
@@ -198,6 +244,7 @@ impl Constraints {
                 Some(have) => ClassCounts {
                     lo: std::array::from_fn(|i| have.lo[i].max(c.lo[i])),
                     hi: std::array::from_fn(|i| have.hi[i].min(c.hi[i])),
+                    single_hi: have.single_hi.min(c.single_hi),
                 },
                 None => c,
             });
@@ -220,27 +267,28 @@ mod tests {
 
     #[test]
     fn overlapping_regions_are_declined() {
+        let f = Formula::parse("C6H9NOSCl").unwrap();
         // Common practice (FIELD-GUIDE section 7, from memory): 100-125 ppm
         // could be a nitrile or an aromatic carbon; 50-90 an sp3 C-O or an
         // alkyne.
-        assert!(possible_classes(118.0, Some(0)).count_ones() > 1);
-        assert!(classes(possible_classes(118.0, Some(0))).contains(&"triple"));
-        assert!(classes(possible_classes(118.0, Some(0))).contains(&"sp2"));
-        let at_70 = classes(possible_classes(70.0, Some(0)));
+        assert!(possible_classes(118.0, Some(0), &f).count_ones() > 1);
+        assert!(classes(possible_classes(118.0, Some(0), &f)).contains(&"triple"));
+        assert!(classes(possible_classes(118.0, Some(0), &f)).contains(&"sp2"));
+        let at_70 = classes(possible_classes(70.0, Some(0), &f));
         assert!(
             at_70.contains(&"triple") && at_70.contains(&"sp3-hetero"),
             "{at_70:?}"
         );
         // An aldehyde CH at 200 ppm: only a carbonyl carbon has a shift
         // there with one H (an allene centre carries none).
-        assert_eq!(classes(possible_classes(200.0, Some(1))), ["carbonyl"]);
+        assert_eq!(classes(possible_classes(200.0, Some(1), &f)), ["carbonyl"]);
         // A methyl group at 20 ppm may be plain sp3 or C-S/C-I: declined.
         assert_eq!(
-            classes(possible_classes(20.0, Some(3))),
+            classes(possible_classes(20.0, Some(3), &f)),
             ["sp3-hetero", "sp3"]
         );
         // CH4-type carbon (4 H): only plain sp3.
-        assert_eq!(classes(possible_classes(-2.0, Some(4))), ["sp3"]);
+        assert_eq!(classes(possible_classes(-2.0, Some(4), &f)), ["sp3"]);
     }
 
     #[test]
@@ -272,5 +320,77 @@ mod tests {
         let nowhere = [(400.0, None, 1)];
         let e = carbon_facts(&nowhere, &f).unwrap_err().to_string();
         assert!(e.contains("line 1") && e.contains("no carbon type"), "{e}");
+    }
+
+    #[test]
+    fn classes_the_formula_cannot_hold_are_left_out() {
+        // Common practice (from memory): a carbonyl carbon needs its O, S or
+        // N; an sp3-hetero carbon a heteroatom neighbour.
+        let hydrocarbon = Formula::parse("C13H12").unwrap();
+        assert_eq!(
+            classes(possible_classes(200.0, Some(0), &hydrocarbon)),
+            ["cumulated"]
+        );
+        assert_eq!(
+            classes(possible_classes(70.0, Some(0), &hydrocarbon)),
+            ["triple", "sp2", "sp3"]
+        );
+        // An aromatic CH at 128 ppm: no sp3-hetero CH reaches it without
+        // fluorine (orthoformate CH ~113 at most); CHF2 groups do (~105-122)
+        // when the formula has their two F.
+        let oxygen = Formula::parse("C8H8O").unwrap();
+        let fluorine = Formula::parse("C8H6F2").unwrap();
+        assert_eq!(
+            classes(possible_classes(128.0, Some(1), &oxygen)),
+            ["carbonyl", "triple", "sp2"]
+        );
+        assert!(classes(possible_classes(128.0, Some(1), &fluorine)).contains(&"sp3-hetero"));
+        // A quaternary C at 128 may still be CF3 or an orthocarbonate, but
+        // only where the formula holds two heteroatoms for its neighbours.
+        let two_o = Formula::parse("C8H8O2").unwrap();
+        assert!(classes(possible_classes(128.0, Some(0), &two_o)).contains(&"sp3-hetero"));
+        assert!(!classes(possible_classes(128.0, Some(0), &oxygen)).contains(&"sp3-hetero"));
+        // A tertiary C-O at 80 ppm needs one.
+        assert!(classes(possible_classes(80.0, Some(0), &oxygen)).contains(&"sp3-hetero"));
+    }
+
+    #[test]
+    fn pi_carbons_bound_the_rings() {
+        // o-Xylene, 13C in CDCl3 (common practice, values from memory):
+        // 136.5 (C, 2C), 129.6 (CH, 2C), 125.8 (CH, 2C), 19.7 (CH3, 2C). Six
+        // carbons with a pi bond need 3 pi bonds: of DBE 4 at most 1 ring.
+        let f = Formula::parse("C8H10").unwrap();
+        let lines = [
+            (136.5, Some(0), 2),
+            (129.6, Some(1), 2),
+            (125.8, Some(1), 2),
+            (19.7, Some(3), 2),
+        ];
+        let c = carbon_facts(&lines, &f).unwrap().classes.unwrap();
+        assert_eq!(c.single_hi, 2);
+        assert_eq!(c.least_pi(8), 3);
+        let mut k = Constraints::default();
+        k.add_carbon_lines(&lines, &f).unwrap();
+        let b = k.compile(&f, 4).unwrap().unwrap();
+        assert_eq!(b.pi_needed, 3);
+        assert_eq!(b.pi_owner, b.classes_at);
+        // Benzaldehyde (from memory): 192.3 (CH), 136.4 (C), 134.4 (CH),
+        // 129.7 (CH, 2C), 129.0 (CH, 2C). The aldehyde carbon's C=O serves
+        // it alone: (7 + 1) / 2 = 4 pi bonds, so of DBE 5 at most 1 ring.
+        let f = Formula::parse("C7H6O").unwrap();
+        let lines = [
+            (192.3, Some(1), 1),
+            (136.4, Some(0), 1),
+            (134.4, Some(1), 1),
+            (129.7, Some(1), 2),
+            (129.0, Some(1), 2),
+        ];
+        let c = carbon_facts(&lines, &f).unwrap().classes.unwrap();
+        assert_eq!(c.lo[CarbonClass::Carbonyl.index()], 1);
+        assert_eq!((c.single_hi, c.least_pi(7)), (0, 4));
+        // Lines that a single-bond class may hold bound nothing: an
+        // unannotated 70 ppm line in an O compound.
+        let c = carbon_facts(&[(70.0, None, 1)], &f).unwrap().classes;
+        assert!(c.is_none_or(|c| c.least_pi(7) == 0));
     }
 }

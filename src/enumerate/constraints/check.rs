@@ -133,6 +133,27 @@ impl Work {
         true
     }
 
+    /// Forward check of the exact H counts during bond-order placement:
+    /// the atoms of `done` take no further order, so their free valence is
+    /// their final H count. Sound: if they already hold more atoms with h H
+    /// than `hi[h]` allows (or more than MAX_H H), every completion fails
+    /// [`Work::hydrogens_ok`], whatever the other atoms end with.
+    pub fn finished_ok(&self, node: &Node, done: u64) -> bool {
+        let b = &self.bounds;
+        if b.exact.is_empty() || done == 0 {
+            return true;
+        }
+        let mut hist = [[0u32; MAX_H + 2]; 9];
+        for x in bits(done) {
+            let s = self.slot_of_kind[node.kind[x] as usize];
+            hist[s][(node.free[x] as usize).min(MAX_H + 1)] += 1;
+        }
+        b.exact.iter().all(|(slot, _, hi)| {
+            let h = &hist[*slot];
+            h[MAX_H + 1] == 0 && (0..=MAX_H).all(|k| h[k] <= hi[k])
+        })
+    }
+
     /// The rest of [`Work::accepts`]: carbon classes and fragments, on a
     /// structure whose bond orders are written into `node.g`.
     pub fn structure_ok(&mut self, node: &Node, p: &Problem) -> bool {
@@ -143,7 +164,9 @@ impl Work {
         self.perceive(node, p);
         if let Some(cc) = &b.classes {
             let counts = self.class_counts(node);
-            if (0..6).any(|c| counts[c] < cc.lo[c] || counts[c] > cc.hi[c]) {
+            let single = counts[CarbonClass::Sp3.index()] + counts[CarbonClass::Sp3Hetero.index()];
+            if (0..6).any(|c| counts[c] < cc.lo[c] || counts[c] > cc.hi[c]) || single > cc.single_hi
+            {
                 self.cuts[b.classes_at][2] += 1;
                 return false;
             }

@@ -134,16 +134,56 @@ impl CarbonClass {
 }
 
 /// Bounds on how many carbons fall in each class: `lo[c]..=hi[c]`, indexed
-/// by [`CarbonClass::index`].
+/// by [`CarbonClass::index`], and on the single-bond classes together.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct ClassCounts {
     pub lo: [u32; 6],
     pub hi: [u32; 6],
+    /// At most this many carbons with single bonds only (sp3 and
+    /// sp3-hetero together); the others have a pi bond. `u32::MAX`: no
+    /// bound beyond `hi`.
+    pub single_hi: u32,
 }
 
 impl ClassCounts {
+    /// Class intervals only (no joint bound on the single-bond classes).
+    pub fn new(lo: [u32; 6], hi: [u32; 6]) -> ClassCounts {
+        ClassCounts {
+            lo,
+            hi,
+            single_hi: u32::MAX,
+        }
+    }
+
+    /// The least number of extra bond orders (pi bonds; a triple bond
+    /// counts 2) that the carbons of a structure of `carbons` carbons
+    /// within these bounds need. Sound because, in every Kekulé structure,
+    /// each carbon outside the single-bond classes has a double or triple
+    /// bond (an aromatic carbon of a neutral molecule has its double bond
+    /// in each Kekulé form); let each such carbon pick one: a carbonyl
+    /// carbon its bond to O, S or N, a triple-class carbon its triple bond.
+    /// Hand each bond's extra order out in equal shares to the carbons
+    /// that picked it (at most its two ends; a bond to O, S or N has one
+    /// carbon end): a carbonyl carbon then gets at least 1, a triple-class
+    /// carbon at least 2 / 2 = 1, any other at least 1/2, and the shares add
+    /// up to at most the structure's extra orders. So extra orders >=
+    /// ceil((P + K) / 2) with P the carbons with a pi bond and K the
+    /// carbonyl and triple ones, both at least their lower bounds here.
+    pub fn least_pi(&self, carbons: u32) -> i64 {
+        let lo = |c: CarbonClass| self.lo[c.index()];
+        let single = (self.hi[CarbonClass::Sp3.index()] as u64
+            + self.hi[CarbonClass::Sp3Hetero.index()] as u64)
+            .min(self.single_hi as u64)
+            .min(carbons as u64) as u32;
+        let k = lo(CarbonClass::Carbonyl) + lo(CarbonClass::Triple);
+        let p = (carbons - single)
+            .max(k + lo(CarbonClass::Cumulated) + lo(CarbonClass::Sp2))
+            .min(carbons);
+        (p as i64 + k.min(p) as i64 + 1) / 2
+    }
+
     pub fn describe(&self) -> String {
-        CarbonClass::ALL
+        let mut parts: Vec<String> = CarbonClass::ALL
             .iter()
             .filter(|c| self.lo[c.index()] > 0 || self.hi[c.index()] < u32::MAX)
             .map(|c| {
@@ -154,8 +194,11 @@ impl ClassCounts {
                     format!("{}={lo}..{hi}", c.name())
                 }
             })
-            .collect::<Vec<_>>()
-            .join(",")
+            .collect();
+        if self.single_hi < u32::MAX {
+            parts.push(format!("single-bonded<={}", self.single_hi));
+        }
+        parts.join(",")
     }
 }
 
@@ -371,8 +414,9 @@ impl Constraints {
             // need a free valence of at least 1, triple and cumulated ones
             // at least 2.
             let at = |c: CarbonClass| cc.lo[c.index()];
-            let single = cc.hi[CarbonClass::Sp3.index()] as u64
-                + cc.hi[CarbonClass::Sp3Hetero.index()] as u64;
+            let single = (cc.hi[CarbonClass::Sp3.index()] as u64
+                + cc.hi[CarbonClass::Sp3Hetero.index()] as u64)
+                .min(cc.single_hi as u64);
             let need1 = at(CarbonClass::Carbonyl)
                 + at(CarbonClass::Triple)
                 + at(CarbonClass::Cumulated)
@@ -402,9 +446,20 @@ impl Constraints {
                 }
             }
         }
-        let names = self.names();
         let classes_at = usize::from(!self.hydrogens.is_empty());
         let require_at = classes_at + usize::from(self.classes.is_some());
+        let mut pi_owner = require_at + pi_owner;
+        // The carbons' own pi bonds, from the carbon types
+        // ([`ClassCounts::least_pi`]): applied as a fragment's are (a
+        // skeleton keeps at most DBE - this many rings).
+        if let Some(cc) = &self.classes {
+            let need = cc.least_pi(formula.count(Element::C));
+            if need > pi_needed {
+                pi_needed = need;
+                pi_owner = classes_at;
+            }
+        }
+        let names = self.names();
         let forbid_at = require_at + self.require.len();
         let stats = (0..names.len())
             .map(|_| [AtomicU64::new(0), AtomicU64::new(0), AtomicU64::new(0)])
@@ -414,7 +469,7 @@ impl Constraints {
             h_below,
             skeleton_test: max_below.iter().any(|r| r.iter().any(|&x| x < u8::MAX)),
             pi_needed: pi_needed as i32,
-            pi_owner: require_at + pi_owner,
+            pi_owner,
             exact,
             classes: self.classes.clone(),
             require: self.require.clone(),
@@ -444,8 +499,9 @@ pub struct Bounds {
     pub h_below: [[u8; SLOTS]; 9],
     /// Whether `max_below` bounds anything.
     pub skeleton_test: bool,
-    /// The most pi bonds one required fragment needs: a skeleton may have
-    /// at most DBE - this many rings (rings only grow along a branch).
+    /// The most pi bonds one required fragment, or the carbons of the carbon
+    /// types, need: a skeleton may have at most DBE - this many rings
+    /// (rings only grow along a branch).
     pub pi_needed: i32,
     /// The constraint a ring-count cut is charged to.
     pub pi_owner: usize,
