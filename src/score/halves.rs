@@ -286,7 +286,10 @@ mod tests {
         let mut pair = sig(0.9, 6, c(vec![1]), vec![3, 7], true);
         pair.geminal_hz = 0.0;
         let (a, b) = pair.split();
-        assert_eq!((a.label(), a.atoms, b.atoms), ("d".into(), vec![3], vec![7]));
+        assert_eq!(
+            (a.label(), a.atoms, b.atoms),
+            ("d".into(), vec![3], vec![7])
+        );
     }
 
     fn hydrogen(text: &str, formula: &str) -> Spectrum {

@@ -156,11 +156,7 @@ fn fill(
     model: &ScoringModel,
     multiplets: &[ObservedMultiplet],
 ) {
-    out.extend(
-        multiplets
-            .iter()
-            .map(|o| model.multiplicity_cost(p, o)),
-    );
+    out.extend(multiplets.iter().map(|o| model.multiplicity_cost(p, o)));
     out.extend(
         multiplets
             .iter()
