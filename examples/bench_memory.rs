@@ -33,6 +33,7 @@ fn limits(secs: f64) -> Limits {
     Limits {
         max_candidates: None,
         deadline: Some(Instant::now() + Duration::from_secs_f64(secs)),
+        default_cap: false,
     }
 }
 

@@ -104,6 +104,7 @@ fn generation(formula: &Formula, constraints: &Constraints) -> (f64, u64, bool) 
         limits: enumerate::Limits {
             max_candidates: None,
             deadline: Some(start + LIMIT),
+            default_cap: false,
         },
         constraints: constraints.clone(),
         rules: RuleSet::all(),

@@ -200,6 +200,7 @@ pub fn rank_case(
         limits: enumerate::Limits {
             max_candidates: None,
             deadline: limit.map(|d| start + d),
+            default_cap: false,
         },
         constraints,
         rules: RuleSet::all(),

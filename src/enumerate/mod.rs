@@ -404,6 +404,21 @@ pub struct Limits {
     /// Stop when this moment has passed; the result covers the tasks
     /// finished in order by then.
     pub deadline: Option<std::time::Instant>,
+    /// `max_candidates` is the command's default cap, set because the user
+    /// gave no cap (the run's estimate was below it): a stop there is
+    /// reported as [`Stop::DefaultCap`].
+    pub default_cap: bool,
+}
+
+impl Limits {
+    /// How a stop at `max_candidates` is reported.
+    fn candidate_stop(&self) -> Stop {
+        if self.default_cap {
+            Stop::DefaultCap
+        } else {
+            Stop::Candidates
+        }
+    }
 }
 
 /// Why a run stopped before covering its whole search.
@@ -413,6 +428,9 @@ pub enum Stop {
     Candidates,
     /// `--time-limit` passed.
     Time,
+    /// No cap was given and the run reached the command's default cap (its
+    /// estimate before the run was too low).
+    DefaultCap,
 }
 
 /// Enumerate the isomers of `formula`, calling `map` on each (in parallel) and
@@ -656,7 +674,7 @@ where
                         &init,
                         &visit,
                     );
-                    summary.stopped = Some(Stop::Candidates);
+                    summary.stopped = Some(limits.candidate_stop());
                 }
             }
             candidates += out.candidates;
@@ -698,7 +716,7 @@ where
                 return;
             }
             if limits.max_candidates.is_some_and(|m| candidates >= m) && at < total {
-                summary.stopped = Some(Stop::Candidates);
+                summary.stopped = Some(limits.candidate_stop());
                 break;
             }
             if last_progress.elapsed().as_millis() >= 200 || at == total {
@@ -710,7 +728,7 @@ where
             summary.stopped = Some(if time_up.load(Relaxed) {
                 Stop::Time
             } else {
-                Stop::Candidates
+                limits.candidate_stop()
             });
             summary.share = share_of(
                 at,

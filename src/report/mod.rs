@@ -125,10 +125,22 @@ pub enum Source {
     Shortlist,
 }
 
-/// The option that stopped a partial run.
+/// The option that stopped a partial run (`default-cap`: no cap was given
+/// and the run outgrew its estimate, see `cli::limits`).
 pub fn stop_option(stop: crate::enumerate::Stop) -> &'static str {
     match stop {
         crate::enumerate::Stop::Candidates => "--max-candidates",
         crate::enumerate::Stop::Time => "--time-limit",
+        crate::enumerate::Stop::DefaultCap => "default-cap",
+    }
+}
+
+/// What stopped a partial run, in words for the text outputs.
+pub fn stop_words(stop: crate::enumerate::Stop) -> &'static str {
+    match stop {
+        crate::enumerate::Stop::DefaultCap => {
+            "the default cap (no --max-candidates or --time-limit was given, and the search outgrew the estimate made before the run; give one of them to go further)"
+        }
+        other => stop_option(other),
     }
 }

@@ -195,10 +195,11 @@ pub fn read(name: &str, text: &str) -> Result<ShardFile> {
         Value::Null => None,
         Value::String(s) if s == "--max-candidates" => Some(Stop::Candidates),
         Value::String(s) if s == "--time-limit" => Some(Stop::Time),
+        Value::String(s) if s == "default-cap" => Some(Stop::DefaultCap),
         _ => {
             return Err(r.bad(
                 "coverage.stopped_by",
-                "null, \"--max-candidates\" or \"--time-limit\"",
+                "null, \"--max-candidates\", \"--time-limit\" or \"default-cap\"",
             ))
         }
     };

@@ -86,7 +86,7 @@ pub fn render(cx: &Context) -> String {
         let _ = writeln!(
             out,
             "PARTIAL RESULT: the run stopped at {} after {} candidates, {:.2}% of the search; the ranking and the probabilities are over those candidates only, and a better candidate may be in the rest.",
-            super::stop_option(stop),
+            super::stop_words(stop),
             r.considered,
             r.coverage.share * 100.0
         );
