@@ -404,9 +404,9 @@ pub struct Limits {
     /// Stop when this moment has passed; the result covers the tasks
     /// finished in order by then.
     pub deadline: Option<std::time::Instant>,
-    /// `max_candidates` is the command's default cap, set because the user
-    /// gave no cap (the run's estimate was below it): a stop there is
-    /// reported as [`Stop::DefaultCap`].
+    /// `max_candidates` and `deadline` are the command's default caps, set
+    /// because the user gave no cap (the run's estimate was below the
+    /// default): a stop at either is reported as [`Stop::DefaultCap`].
     pub default_cap: bool,
 }
 
@@ -417,6 +417,15 @@ impl Limits {
             Stop::DefaultCap
         } else {
             Stop::Candidates
+        }
+    }
+
+    /// How a stop at `deadline` is reported.
+    fn time_stop(&self) -> Stop {
+        if self.default_cap {
+            Stop::DefaultCap
+        } else {
+            Stop::Time
         }
     }
 }
@@ -726,7 +735,7 @@ where
         }
         if at < total && summary.stopped.is_none() {
             summary.stopped = Some(if time_up.load(Relaxed) {
-                Stop::Time
+                limits.time_stop()
             } else {
                 limits.candidate_stop()
             });

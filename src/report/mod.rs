@@ -139,7 +139,7 @@ pub fn stop_option(stop: crate::enumerate::Stop) -> &'static str {
 pub fn stop_words(stop: crate::enumerate::Stop) -> &'static str {
     match stop {
         crate::enumerate::Stop::DefaultCap => {
-            "the default cap (no --max-candidates or --time-limit was given, and the search outgrew the estimate made before the run; give one of them to go further)"
+            "the default cap (no --max-candidates or --time-limit was given, and the search outgrew the estimate made before the run: the command's candidate cap or 20 minutes; give one of them to go further)"
         }
         other => stop_option(other),
     }
