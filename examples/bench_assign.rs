@@ -23,7 +23,8 @@
 //! (without the split into independent parts, `score::split`).
 //!
 //! Run: `cargo run --release --example bench_assign`. `NEW_ONLY=1` skips
-//! the previous search; `TUNING=S,L` makes the Lagrangian bound join after
+//! the previous search; `SERIES=realistic,adversarial,13C` picks series and
+//! `SIZES=5,30` sizes (for profiling one of them); `TUNING=S,L` makes the Lagrangian bound join after
 //! S nodes and the line bound after L (`assign::Tuning`; the result is the
 //! same, only the time differs).
 
@@ -41,6 +42,9 @@ use std::time::Instant;
 /// Stop timing the previous search once one size took this long per
 /// candidate.
 const OLD_CAP_S: f64 = 2.0;
+
+/// The sizes (observed multiplets) timed by default.
+const ALL_SIZES: [usize; 8] = [5, 10, 15, 20, 25, 30, 35, 40];
 
 /// Small deterministic pseudo-random numbers (xorshift) in [0, 1).
 fn rng(state: &mut u64) -> f64 {
@@ -318,56 +322,80 @@ fn main() {
         num_cpus()
     );
     println!("time per candidate (mean), new search beside the previous one (skipped once above {OLD_CAP_S} s)");
-    let sizes = [5, 10, 15, 20, 25, 30, 35, 40];
+    let sizes: Vec<usize> = match std::env::var("SIZES") {
+        Ok(t) => t
+            .split(',')
+            .map(|x| x.trim().parse().expect("SIZES=5,30 (multiplet counts)"))
+            .collect(),
+        Err(_) => ALL_SIZES.to_vec(),
+    };
+    let series = std::env::var("SERIES").unwrap_or_default();
+    let on = |name: &str| series.is_empty() || series.split(',').any(|s| s == name);
 
-    println!("\nrealistic: M distinct-shift multiplets, M groups (20 instances per size)");
-    println!("  M    G        new            nodes            old              nodes");
-    let mut old_on = std::env::var_os("NEW_ONLY").is_none();
-    let mut st = 0x2545_f491_4f6c_dd1du64;
-    let mut times = vec![];
-    for &m in &sizes {
-        let instances: Vec<Costs> = (0..20).map(|_| realistic(m, &mut st, &model)).collect();
-        times.push((m, row(m, &instances, &mut old_on)));
-        println!();
+    if on("realistic") {
+        println!("\nrealistic: M distinct-shift multiplets, M groups (20 instances per size)");
+        println!("  M    G        new            nodes            old              nodes");
+        let mut old_on = std::env::var_os("NEW_ONLY").is_none();
+        let mut st = 0x2545_f491_4f6c_dd1du64;
+        let mut times = vec![];
+        for &m in &ALL_SIZES {
+            // Every size's instances are drawn, so a size has the same ones
+            // whatever SIZES picks.
+            let instances: Vec<Costs> = (0..20).map(|_| realistic(m, &mut st, &model)).collect();
+            if !sizes.contains(&m) {
+                continue;
+            }
+            times.push((m, row(m, &instances, &mut old_on)));
+            println!();
+        }
+        ratio(&times);
     }
-    ratio(&times);
 
-    println!("\nadversarial: M x \"1.30 (m, 1H)\" against CCCCCCCCC(C)CCCCCC(C)CCC (predicted, CDCl3, 400 MHz)");
-    println!("  M    G        new            nodes            old              nodes");
-    let predictor = Predictor::embedded().expect("predictor");
-    let opts = predictor.options("CDCl3", 400.0).expect("options");
-    let mol = parse_smiles("CCCCCCCCC(C)CCCCCC(C)CCC").expect("SMILES");
-    let predicted = predictor.predict(&mol, &opts);
-    let mut old_on = std::env::var_os("NEW_ONLY").is_none();
-    let mut times = vec![];
-    for &m in &sizes {
-        times.push((
-            m,
-            row(m, &[adversarial(m, &predicted, &model)], &mut old_on),
-        ));
-        println!();
+    if on("adversarial") {
+        println!("\nadversarial: M x \"1.30 (m, 1H)\" against CCCCCCCCC(C)CCCCCC(C)CCC (predicted, CDCl3, 400 MHz)");
+        println!("  M    G        new            nodes            old              nodes");
+        let predictor = Predictor::embedded().expect("predictor");
+        let opts = predictor.options("CDCl3", 400.0).expect("options");
+        let mol = parse_smiles("CCCCCCCCC(C)CCCCCC(C)CCC").expect("SMILES");
+        let predicted = predictor.predict(&mol, &opts);
+        let mut old_on = std::env::var_os("NEW_ONLY").is_none();
+        let mut times = vec![];
+        for &m in &sizes {
+            times.push((
+                m,
+                row(m, &[adversarial(m, &predicted, &model)], &mut old_on),
+            ));
+            println!();
+        }
+        ratio(&times);
     }
-    ratio(&times);
 
-    println!("\n13C: M distinct-shift lines, M predicted classes (20 instances per size); the search alone, then the ranking's scorer (pair costs and search)");
-    println!("  M    G        new            nodes            old              nodes      scorer");
-    let mut st = 0x9e37_79b9_7f4a_7c15u64;
-    let (mut times, mut scorer) = (vec![], vec![]);
-    let mut old_on = std::env::var_os("NEW_ONLY").is_none();
-    for &m in &sizes {
-        let instances: Vec<_> = (0..20).map(|_| carbon_instance(m, &mut st)).collect();
-        let costs: Vec<Costs> = instances
-            .iter()
-            .map(|(s, p)| carbon_costs(s, p, &model))
-            .collect();
-        times.push((m, row(m, &costs, &mut old_on)));
-        let t = time_carbon(&instances, &model);
-        println!(" {:>8.3} ms", t * 1e3);
-        scorer.push((m, t));
+    if on("13C") {
+        println!("\n13C: M distinct-shift lines, M predicted classes (20 instances per size); the search alone, then the ranking's scorer (pair costs and search)");
+        println!(
+            "  M    G        new            nodes            old              nodes      scorer"
+        );
+        let mut st = 0x9e37_79b9_7f4a_7c15u64;
+        let (mut times, mut scorer) = (vec![], vec![]);
+        let mut old_on = std::env::var_os("NEW_ONLY").is_none();
+        for &m in &ALL_SIZES {
+            let instances: Vec<_> = (0..20).map(|_| carbon_instance(m, &mut st)).collect();
+            if !sizes.contains(&m) {
+                continue;
+            }
+            let costs: Vec<Costs> = instances
+                .iter()
+                .map(|(s, p)| carbon_costs(s, p, &model))
+                .collect();
+            times.push((m, row(m, &costs, &mut old_on)));
+            let t = time_carbon(&instances, &model);
+            println!(" {:>8.3} ms", t * 1e3);
+            scorer.push((m, t));
+        }
+        ratio(&times);
+        print!("  scorer:");
+        ratio(&scorer);
     }
-    ratio(&times);
-    print!("  scorer:");
-    ratio(&scorer);
 }
 
 fn num_cpus() -> usize {

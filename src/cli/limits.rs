@@ -246,7 +246,10 @@ mod tests {
         let mut opts = Options::default();
         let est = enumerate::estimate(&formula, &opts).unwrap().isomers;
         let cap = est.ceil() + 1.0;
-        assert!(cap < 112_380.0, "the estimate {est} is no longer below the count");
+        assert!(
+            cap < 112_380.0,
+            "the estimate {est} is no longer below the count"
+        );
         let args = RunArgs {
             quiet: true,
             ..Default::default()
@@ -256,8 +259,10 @@ mod tests {
         let s = enumerate::count_summary(&formula, &opts, &mut |_| {}).unwrap();
         assert_eq!(s.isomers, cap as u64);
         assert_eq!(s.stopped, Some(Stop::DefaultCap));
-        assert!(partial_sentence(Stop::DefaultCap, s.share, s.isomers, "isomers")
-            .contains("stopped by the default cap (no --max-candidates or --time-limit"));
+        assert!(
+            partial_sentence(Stop::DefaultCap, s.share, s.isomers, "isomers")
+                .contains("stopped by the default cap (no --max-candidates or --time-limit")
+        );
         // The default time cap is set as well and reported the same way.
         let mut late = opts.clone();
         late.limits.max_candidates = None;
