@@ -442,6 +442,11 @@ pub enum Stop {
     DefaultCap,
 }
 
+impl Stop {
+    /// Every kind of stop (the shard reader matches names against these).
+    pub const ALL: [Stop; 3] = [Stop::Candidates, Stop::Time, Stop::DefaultCap];
+}
+
 /// Enumerate the isomers of `formula`, calling `map` on each (in parallel) and
 /// `emit` on each result in a deterministic order. `emit` returns false to
 /// stop early. `progress` is called as tasks finish.

@@ -191,11 +191,10 @@ pub fn read(name: &str, text: &str) -> Result<ShardFile> {
         .cloned()
         .ok_or_else(|| r.bad("settings", "an object"))?;
     let cov = r.field(&doc, "coverage")?;
+    let named = |s: &str| Stop::ALL.into_iter().find(|&x| super::stop_option(x) == s);
     let stopped = match r.field(cov, "stopped_by")? {
         Value::Null => None,
-        Value::String(s) if s == "--max-candidates" => Some(Stop::Candidates),
-        Value::String(s) if s == "--time-limit" => Some(Stop::Time),
-        Value::String(s) if s == "default-cap" => Some(Stop::DefaultCap),
+        Value::String(s) if named(s).is_some() => named(s),
         _ => {
             return Err(r.bad(
                 "coverage.stopped_by",
