@@ -177,7 +177,13 @@ pub fn run(args: Args) -> crate::Result<()> {
     reporter.finish();
     let summary = result?;
     report_cuts(&summary.constraints);
-    if !opts.constraints.is_empty() && summary.isomers == 0 && summary.excluded == 0 {
+    // Only a search that ran to its end can say that nothing fits; a run
+    // stopped by a cap says how much it covered instead (below).
+    if !opts.constraints.is_empty()
+        && summary.isomers == 0
+        && summary.excluded == 0
+        && summary.stopped.is_none()
+    {
         if opts.part.is_none() {
             return Err(emptied(&formula, &summary.constraints));
         }

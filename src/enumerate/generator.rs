@@ -486,6 +486,25 @@ pub struct Generator<'p> {
     /// Set (by a sink or another thread) to end the search early: no new
     /// child is tried once it is true.
     abort: std::sync::Arc<std::sync::atomic::AtomicBool>,
+    /// What ends the search from outside, polled every [`WATCH_EVERY`]
+    /// steps (a search that rejects every skeleton reaches no sink, so the
+    /// sink cannot be the only place that looks).
+    watch: Option<Watch>,
+    ticks: u32,
+}
+
+/// Steps (children tried, skeletons given bond orders) between two looks at
+/// the [`Watch`]: a look costs a clock read, a step about a microsecond.
+const WATCH_EVERY: u32 = 1024;
+
+/// A stop flag shared by a run's workers and the run's deadline; when
+/// either fires, the generator sets its abort flag and records why.
+pub struct Watch {
+    pub stop: std::sync::Arc<std::sync::atomic::AtomicBool>,
+    pub deadline: Option<std::time::Instant>,
+    /// Set when the search was ended by this watch: `Some(true)` when the
+    /// deadline passed, `Some(false)` when the stop flag was set.
+    pub fired: Option<bool>,
 }
 
 /// What a search step hands to its sink: a node at the depth limit and, for
@@ -520,7 +539,35 @@ impl<'p> Generator<'p> {
             },
             cons: p.bounds.as_ref().map(|b| Work::new(Arc::clone(b), p)),
             abort: Default::default(),
+            watch: None,
+            ticks: 0,
         }
+    }
+
+    /// Watch a stop flag and a deadline during the next searches (`None`:
+    /// stop watching). Returns the watch that was set before, so the
+    /// caller can read whether it fired.
+    pub fn set_watch(&mut self, watch: Option<Watch>) -> Option<Watch> {
+        self.ticks = 0;
+        std::mem::replace(&mut self.watch, watch)
+    }
+
+    /// Count a step and, every [`WATCH_EVERY`] steps, look at the watch;
+    /// true when the search is to end.
+    #[inline]
+    fn ended(&mut self) -> bool {
+        use std::sync::atomic::Ordering::Relaxed;
+        self.ticks = self.ticks.wrapping_add(1);
+        if self.ticks.is_multiple_of(WATCH_EVERY) {
+            if let Some(w) = &mut self.watch {
+                let late = w.deadline.is_some_and(|d| std::time::Instant::now() >= d);
+                if late || w.stop.load(Relaxed) {
+                    w.fired.get_or_insert(late);
+                    self.abort.store(true, Relaxed);
+                }
+            }
+        }
+        self.abort.load(Relaxed)
     }
 
     /// The flag that ends this generator's search early when set (the
@@ -706,7 +753,7 @@ impl<'p> Generator<'p> {
         sink: &mut Sink<'_>,
     ) {
         let p = self.p;
-        if self.abort.load(std::sync::atomic::Ordering::Relaxed) {
+        if self.ended() {
             return;
         }
         // Only one attachment per orbit of the parent's automorphism group.
@@ -831,6 +878,9 @@ impl<'p> Generator<'p> {
         let p = self.p;
         let extra = p.dbe - node.cycles;
         debug_assert!(extra >= 0, "skeletons never have more rings than the DBE");
+        if self.ended() {
+            return;
+        }
         if let Some(w) = &mut self.cons {
             if !w.skeleton_fits(node) {
                 return;

@@ -553,7 +553,7 @@ where
     let threads = rayon::current_num_threads().max(1);
     let ahead = window.tasks(threads);
     let limits = opts.limits;
-    let stop = AtomicBool::new(false);
+    let stop = std::sync::Arc::new(AtomicBool::new(false));
     let time_up = AtomicBool::new(false);
     let next = AtomicUsize::new(0);
     // Finished tasks waiting for their turn, and the next index to emit.
@@ -670,7 +670,7 @@ where
                     // it again up to the cap.
                     stop.store(true, Relaxed);
                     let w = own.get_or_insert_with(|| Worker::new(&problems));
-                    let no_stop = AtomicBool::new(false);
+                    let no_stop = std::sync::Arc::new(AtomicBool::new(false));
                     let (index, task) = mine[at];
                     let unlimited = Limits {
                         deadline: None,
@@ -839,7 +839,7 @@ impl<'p> Worker<'p> {
         rules: &[Rule],
         limit: Option<u64>,
         limits: &Limits,
-        stop: &std::sync::atomic::AtomicBool,
+        stop: &std::sync::Arc<std::sync::atomic::AtomicBool>,
         time_up: &std::sync::atomic::AtomicBool,
         init: &(dyn Fn() -> A + Sync),
         visit: &(dyn Fn(&mut A, &Isomer) + Sync),
@@ -850,6 +850,14 @@ impl<'p> Worker<'p> {
         let gen = &mut self.gens[task.problem];
         let abort = gen.abort_flag();
         abort.store(false, Relaxed);
+        // The generator also looks at the stop flag and the deadline while
+        // it searches, so a task whose skeletons are all rejected (no leaf
+        // reaches the check below) still ends on time.
+        gen.set_watch(Some(generator::Watch {
+            stop: std::sync::Arc::clone(stop),
+            deadline: limits.deadline,
+            fired: None,
+        }));
         let (ws, checker) = (&mut self.ws, &mut self.checker);
         let mut node = task.node(p);
         let mut res = TaskOut {
@@ -909,6 +917,13 @@ impl<'p> Worker<'p> {
                 visit(&mut res.acc, &iso);
             }
         });
+        if let Some(late) = gen.set_watch(None).and_then(|w| w.fired) {
+            if late {
+                time_up.store(true, Relaxed);
+            }
+            stop.store(true, Relaxed);
+            res.aborted = true;
+        }
         abort.store(false, Relaxed);
         res
     }
