@@ -108,7 +108,7 @@ fn nmrshiftdb2_dev_1h_lists() {
                         .any(|&a| c.molecule.neighbours(a).any(|(_, o)| o == 2));
                     let aromatic = s.atoms.iter().any(|&a| arom.atom[a]);
                     println!(
-                        "L\t{}\t{}\t{}\t{}\t{}\t{}\t{:.2}\t{:?}\t{}\t{}\t{:?}\t{}\t{:?}",
+                        "L\t{}\t{}\t{}\t{}\t{}\t{}\t{:.2}\t{:?}\t{}\t{}\t{:?}\t{}\t{:?}\t{}\t{:?}\t{}",
                         l.id,
                         c.case.mhz.unwrap_or(400.0),
                         l.observed,
@@ -121,7 +121,10 @@ fn nmrshiftdb2_dev_1h_lists() {
                         aromatic as u8,
                         s.j_hz,
                         l.notes.join(" | "),
-                        s.atoms
+                        s.atoms,
+                        l.entry_h,
+                        l.observed_j,
+                        l.apart as u8
                     );
                 }
             }

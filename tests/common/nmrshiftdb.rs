@@ -82,6 +82,13 @@ pub struct Label {
     pub signal: usize,
     /// The observed entry's shift, ppm.
     pub shift: f64,
+    /// The observed entry's H count.
+    pub entry_h: usize,
+    /// The observed entry's J values, Hz, largest first.
+    pub observed_j: Vec<f64>,
+    /// The group's label is that of one half of a diastereotopic pair
+    /// (its H were put in two entries).
+    pub apart: bool,
 }
 
 /// One compound compared.
@@ -204,6 +211,9 @@ pub fn compare(predictor: &Predictor, c: &Case) -> Result<Compared, String> {
                 notes: signals[i].notes.clone(),
                 signal: i,
                 shift: e.shift,
+                entry_h: e.integral.map_or(0, |(v, _)| v.round() as usize),
+                observed_j: e.j_hz.clone(),
+                apart,
             });
         }
     }
