@@ -108,6 +108,7 @@ fn realistic(m: usize, st: &mut u64, model: &ScoringModel) -> Costs {
             notes: vec![],
             halves: false,
             geminal_hz: 0.0,
+            half_pattern: None,
         });
     }
     let spectrum = spectrum(&lines.join(", "));

@@ -8,6 +8,7 @@ mod common;
 use common::{data_table, DataCompound, DataTable};
 use isomerank::chem::smiles::parse_smiles;
 use isomerank::predict::Predictor;
+use isomerank::score::halves::Halves;
 use serde::Deserialize;
 
 #[derive(Deserialize)]
@@ -82,6 +83,29 @@ const DEPOSITED: &[(u64, &str, f64, usize, &str)] = &[
     (10016526, "c1ccc2c(c1)CCCC2", 600.0, 7, "m"),
 ];
 
+/// Diastereotopic CH2 pairs written as two signals in NMRShiftDB2 dev
+/// records (as [`DEPOSITED`]): the label of one H read apart, as the
+/// scorer reads it (src/score/halves.rs). (record, SMILES, MHz, CH2 atom,
+/// label of each H.)
+const DEPOSITED_APART: &[(u64, &str, f64, usize, &str)] = &[
+    // Ring CH2 between two ring CH: geminal J and one J to each CH
+    // (1.85 ddd, 1.49 ddd at 400 MHz).
+    (20069678, "CC1CC(O)C(O)CO1", 400.0, 2, "ddd"),
+    // Epoxide CH2 next to its ring CH (2.74 dd, 2.48 dd at 250 MHz).
+    (77181, "CCC1CO1", 250.0, 3, "dd"),
+    // Two symmetry-equivalent CH2 pairs each next to one CH, the two
+    // halves of the molecule not coupled to each other (2.12 dd, 1.96 dd,
+    // 2H each, at 400 MHz).
+    (60000366, "CC(C)CC(C)(C#N)N=NC(C)(C#N)CC(C)C", 400.0, 3, "dd"),
+    // Ring CH2 beside a CH2 and a CH: four couplings, written m (1.69 m,
+    // 1.65 m, 1.62 m, 1.41 m at 600 MHz).
+    (10027667, "C=C1C2CCC(C2)C1(C)CC=CC(C)(O)CO", 600.0, 4, "m"),
+    // Cyclohexene oxide: the CH2 pairs' symmetry twins couple to the
+    // bonded epoxide CH pair (AA'XX'): m (1.93 m, 1.80 m, 2H each, at
+    // 600 MHz).
+    (10016125, "C1CCC2OC2C1", 600.0, 2, "m"),
+];
+
 #[test]
 fn labels_as_deposited() {
     let p = Predictor::embedded().unwrap();
@@ -95,6 +119,28 @@ fn labels_as_deposited() {
             wrong.push(format!(
                 "record {id} atom {atom}: predicted {}, reported {reported}",
                 s.label()
+            ));
+        }
+    }
+    assert!(wrong.is_empty(), "{}", wrong.join("\n"));
+}
+
+#[test]
+fn labels_as_deposited_apart() {
+    let p = Predictor::embedded().unwrap();
+    let mut wrong = Vec::new();
+    for &(id, smiles, mhz, atom, reported) in DEPOSITED_APART {
+        let opts = p.options("CDCl3", mhz).unwrap();
+        let sig = p.predict(&parse_smiles(smiles).unwrap(), &opts);
+        let s = sig.iter().find(|s| s.atoms.contains(&atom)).unwrap();
+        assert!(s.halves, "record {id} atom {atom}: not a diastereotopic pair");
+        let (a, b) = s.split();
+        assert_eq!(a, b);
+        // The depositor's label of each H (NMRShiftDB2 record `id`).
+        if a.label() != reported {
+            wrong.push(format!(
+                "record {id} atom {atom}: predicted {} apart, reported {reported}",
+                a.label()
             ));
         }
     }

@@ -205,10 +205,28 @@ impl Ctx<'_> {
                 multiplicity = m;
                 j = js;
             }
+            // One H of a diastereotopic CH2 pair read as its own signal.
+            let half = (g.half != 0 && g.half == g.atoms && g.hs == 2).then(|| {
+                // Symmetry twins of the group coupled to each other, or
+                // coupled to a partner group whose own twins are bonded to
+                // each other (AA'XX': the twins couple unequally to one
+                // partner H and the spin systems do not fall apart).
+                let bonded_twins = |atoms: u64| {
+                    bits(atoms).any(|x| self.v.neighbours(x).any(|(y, _)| atoms >> y & 1 == 1))
+                };
+                let twins = g.atoms.count_ones() > 1
+                    && (bonded_twins(g.atoms)
+                        || kept[..nk].iter().any(|c| {
+                            !heteronuclear(c.group)
+                                && bonded_twins(groups[c.group as usize].atoms)
+                        }));
+                self.half_pattern(g, groups, &kept[..nk], twins)
+            });
             out.push(Mult {
                 multiplicity,
                 j,
                 notes,
+                half,
             });
             hetero.push(
                 kept[..nk]
@@ -220,6 +238,69 @@ impl Ctx<'_> {
         }
         self.aromatic_systems(groups, &mut out, &hetero);
         out
+    }
+
+    /// The pattern of one H of the diastereotopic CH2 pair `g` read as its
+    /// own signal, from its resolved couplings `kept` (common practice: the
+    /// two H of such a CH2 are reported as two signals, each split by the
+    /// other and by its vicinal H one by one):
+    /// - the geminal J to the other H (`geminal_sp3`);
+    /// - one J per vicinal H of a CH or CH2 partner, each kept apart: the
+    ///   H differs from its twin, so it sits unlike to each partner H
+    ///   (gauche or anti in a chain, cis or trans, axial or equatorial on a
+    ///   ring) and no two of its J are taken as equal. This holds on a
+    ///   saturated ring too, where the whole 2H group is m (unequal cis and
+    ///   trans J): read apart, each H is dd next to one ring CH, ddd next
+    ///   to a CH2 or between two CH;
+    /// - a methyl partner's three H together (free rotation: q), and F or P
+    ///   as the whole group couples to them;
+    /// - not first order (m) when a partner H is closer in shift than the
+    ///   AB limit (`first_order_min_ratio_ab` x J; a methyl partner
+    ///   `first_order_min_ratio`), when the group's symmetry twins couple
+    ///   to each other (AA'XX' systems: magnetically inequivalent);
+    /// - m when the H has more than three couplings (geminal and three
+    ///   vicinal H or more): sixteen or more lines of unlike J overlap into
+    ///   an unresolved multiplet at routine field and are written m (common
+    ///   practice; in the NMRShiftDB2 dev lists 15 of the 18 such halves
+    ///   are written m, one dddd), and when the pattern has no trade name
+    ///   ([`named`]).
+    fn half_pattern(
+        &self,
+        g: &Group,
+        groups: &[Group],
+        kept: &[Cpl],
+        twins: bool,
+    ) -> (Multiplicity, Vec<f64>) {
+        if twins {
+            return (Multiplicity::Multiplet, Vec::new());
+        }
+        let set = &self.lib.settings;
+        let mut parts: Vec<(u8, f64)> = vec![(1, self.lib.j(CouplingKind::GeminalSp3))];
+        for c in kept {
+            if heteronuclear(c.group) {
+                parts.push((c.count, c.j));
+                continue;
+            }
+            let p = &groups[c.group as usize];
+            let dv = (super::round2(g.shift) - super::round2(p.shift)).abs() * self.opts.mhz;
+            let ratio = if c.count <= 2 {
+                set.first_order_min_ratio_ab
+            } else {
+                set.first_order_min_ratio
+            };
+            if dv < ratio * c.j {
+                return (Multiplicity::Multiplet, Vec::new());
+            }
+            if c.count <= 2 {
+                parts.extend(std::iter::repeat_n((1, c.j), c.count as usize));
+            } else {
+                parts.push((c.count, c.j));
+            }
+        }
+        if parts.len() > 3 {
+            return (Multiplicity::Multiplet, Vec::new());
+        }
+        named(&mut parts)
     }
 
     /// Aromatic rings whose equivalent H are magnetically inequivalent:
@@ -618,6 +699,26 @@ fn merge(c: &mut [Cpl], similar: f64) -> (Multiplicity, Vec<f64>) {
         return (Multiplicity::Multiplet, Vec::new());
     }
     (Multiplicity::Coupled(ns), js)
+}
+
+/// The pattern of couplings given one by one, as (equivalent partners, J):
+/// each part its own splitting (none merged), largest J first, more
+/// partners first on equal J. Patterns without a trade name (more than
+/// four parts, or a quartet or more beside others) are m, as
+/// [`Multiplicity::label`] would write them.
+pub(crate) fn named(parts: &mut [(u8, f64)]) -> (Multiplicity, Vec<f64>) {
+    parts.sort_by(|a, b| b.1.total_cmp(&a.1).then(b.0.cmp(&a.0)));
+    let unnamed = parts.len() > 4 || (parts.len() > 1 && parts.iter().any(|p| p.0 > 3));
+    if unnamed {
+        return (Multiplicity::Multiplet, Vec::new());
+    }
+    if parts.is_empty() {
+        return (Multiplicity::Singlet, Vec::new());
+    }
+    (
+        Multiplicity::Coupled(parts.iter().map(|p| p.0).collect()),
+        parts.iter().map(|p| p.1).collect(),
+    )
 }
 
 fn round1(x: f64) -> f64 {

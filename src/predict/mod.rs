@@ -43,7 +43,7 @@
 //! caller-owned [`Scratch`]. Measured throughput: `examples/bench_predict.rs`.
 
 pub mod carbon;
-mod coupling;
+pub(crate) mod coupling;
 mod groups;
 pub mod library;
 pub mod pattern;
@@ -431,6 +431,8 @@ pub(crate) struct Mult {
     pub multiplicity: Multiplicity,
     pub j: Vec<f64>,
     pub notes: u32,
+    /// For a diastereotopic CH2 pair: one H's pattern read apart.
+    pub half: Option<(Multiplicity, Vec<f64>)>,
 }
 
 /// Everything known about one candidate while it is predicted.
@@ -632,6 +634,7 @@ impl<'a> Ctx<'a> {
                 } else {
                     0.0
                 },
+                half_pattern: m.half,
                 notes: if self.opts.notes {
                     self.note_words(g, g.notes | m.notes)
                 } else {

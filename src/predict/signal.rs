@@ -115,6 +115,14 @@ pub struct PredictedSignal {
     /// written to JSON.
     #[serde(skip)]
     pub geminal_hz: f64,
+    /// For a diastereotopic CH2 pair: the pattern (and J, largest first)
+    /// of one of its H read as its own signal, as the predictor found it
+    /// from the H's couplings one by one (src/predict/coupling.rs,
+    /// `half_pattern`); `None` when not given (the scorer then derives it
+    /// from the whole group's pattern and `geminal_hz`). Not written to
+    /// JSON.
+    #[serde(skip)]
+    pub half_pattern: Option<(Multiplicity, Vec<f64>)>,
 }
 
 impl PredictedSignal {

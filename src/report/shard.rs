@@ -409,6 +409,7 @@ impl Reader<'_> {
                     // reading that won (src/score/halves.rs).
                     halves: false,
                     geminal_hz: 0.0,
+                    half_pattern: None,
                 })
             })
             .collect::<Result<Vec<_>>>()?;

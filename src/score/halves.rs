@@ -94,10 +94,15 @@ impl Halves for PredictedSignal {
         let mut x = self.clone();
         x.halves = false;
         x.hydrogens /= 2;
-        if self.geminal_hz > 0.0 && !self.methyl_pair() {
+        if let Some((m, j)) = &self.half_pattern {
+            // The predictor's pattern of one H from its own couplings.
+            x.multiplicity = m.clone();
+            x.j_hz = j.clone();
+        } else if self.geminal_hz > 0.0 && !self.methyl_pair() {
             with_geminal(&mut x, self.geminal_hz);
         }
         x.geminal_hz = 0.0;
+        x.half_pattern = None;
         x
     }
 
@@ -139,15 +144,7 @@ fn with_geminal(x: &mut PredictedSignal, geminal: f64) {
             }
         }
     }
-    parts.sort_by(|a, b| b.1.total_cmp(&a.1).then(b.0.cmp(&a.0)));
-    let unnamed = parts.len() > 4 || (parts.len() > 1 && parts.iter().any(|p| p.0 > 3));
-    if unnamed {
-        x.multiplicity = Multiplicity::Multiplet;
-        x.j_hz.clear();
-    } else {
-        x.multiplicity = Multiplicity::Coupled(parts.iter().map(|p| p.0).collect());
-        x.j_hz = parts.iter().map(|p| p.1).collect();
-    }
+    (x.multiplicity, x.j_hz) = crate::predict::coupling::named(&mut parts);
 }
 
 impl Halves for ShiftEstimate {
@@ -329,6 +326,7 @@ mod tests {
             notes: vec![],
             halves,
             geminal_hz: 0.0,
+            half_pattern: None,
         }
     }
 

@@ -364,6 +364,7 @@ mod tests {
             notes: vec![],
             halves: false,
             geminal_hz: 0.0,
+            half_pattern: None,
         }
     }
     fn q() -> Multiplicity {

@@ -126,6 +126,7 @@ pub(crate) fn prediction(st: &mut u64, spectrum: &Spectrum) -> Vec<PredictedSign
                 notes: vec![],
                 halves: false,
                 geminal_hz: 0.0,
+                half_pattern: None,
             }
         })
         .collect()
