@@ -81,6 +81,11 @@ const DEPOSITED: &[(u64, &str, f64, usize, &str)] = &[
     (10016526, "c1ccc2c(c1)CCCC2", 600.0, 1, "m"),
     (10016526, "c1ccc2c(c1)CCCC2", 600.0, 6, "m"),
     (10016526, "c1ccc2c(c1)CCCC2", 600.0, 7, "m"),
+    // The CH of an ABX system: its CH2 partner sits next to a stereocentre
+    // (here the CH itself), so the CH2's two H couple to it with unlike J
+    // (malic acid at 63 MHz: 4.50 dd; a chain CHBr at 100 MHz: 4.08 dd).
+    (10016805, "O=C(O)CC(O)C(=O)O", 63.0, 4, "dd"),
+    (104834, "C=C(Cl)C(Cl)(CBr)CCC(Br)C(C)(C)Cl", 100.0, 9, "dd"),
 ];
 
 /// Diastereotopic CH2 pairs written as two signals in NMRShiftDB2 dev

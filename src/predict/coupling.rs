@@ -19,7 +19,11 @@
 //! so a run of four ring H reads d, t, t, d as it is reported, while the
 //! meta J through a substituted ring carbon (about 2 Hz) shows (dd).
 //! The two doublets of a para-disubstituted ring keep their couplings to F
-//! or P (a 4-fluorophenyl ring: dd and an apparent t).
+//! or P (a 4-fluorophenyl ring: dd and an apparent t). A single H next to
+//! a CH2 beside a stereocentre couples to the CH2's two diastereotopic H
+//! with two unlike J (the X of an ABX system: dd, not t); one H of a
+//! diastereotopic CH2 read as its own signal has one J per partner H
+//! (`Ctx::half_pattern`).
 //!
 //! Not first order, reported as m (common practice):
 //! - the shift difference in Hz to a coupled group is under
@@ -451,6 +455,8 @@ impl Ctx<'_> {
         out: &mut [Cpl; MAX_CPL],
         n: &mut usize,
     ) {
+        // Couplings pushed that are never merged (by index into `out`).
+        let mut distinct_at = 0u32;
         let mut push = |atom: usize, group: u8, count: u8, j: f64, n: &mut usize| {
             if *n < MAX_CPL && count > 0 {
                 out[*n] = Cpl {
@@ -590,6 +596,14 @@ impl Ctx<'_> {
                     // A partner CH2 given as two signals: one H in each.
                     push(b, gid[b][0], 1, j, n);
                     push(b, gid[b][1], 1, j, n);
+                } else if matches!(kind, CouplingKind::VicinalSp3 | CouplingKind::VicinalSp3Sp2)
+                    && self.abx(a, b)
+                {
+                    // One J to each H of a CH2 next to a stereocentre.
+                    for _ in 0..2 {
+                        distinct_at |= 1u32.checked_shl(*n as u32).unwrap_or(0);
+                        push(b, gid[b][0], 1, j, n);
+                    }
                 } else {
                     push(b, gid[b][0], self.v.h[b], j, n);
                 }
@@ -604,6 +618,28 @@ impl Ctx<'_> {
             };
             push(a, other, 1, self.lib.j(kind), n);
         }
+        for (i, c) in out[..*n].iter_mut().enumerate() {
+            if distinct_at >> i & 1 == 1 {
+                c.distinct = true;
+            }
+        }
+    }
+
+    /// Whether the single H on `a` couples to the two H of the CH2 `b`
+    /// with two unlike J: `b` is an sp3 carbon next to a stereocentre
+    /// (`a` itself or another neighbour), so its two H are diastereotopic
+    /// and their rotamer populations differ; the H on `a` is the X of an
+    /// ABX system and reads dd, not t (common practice: the CH of malic
+    /// acid or of phenylalanine next to its CH2 is a dd). The caller keeps
+    /// it to vicinal J between carbons (6-8 Hz, wide enough for the two to
+    /// differ visibly); the 1-3 Hz of an aldehyde H stay one t.
+    fn abx(&self, a: usize, b: usize) -> bool {
+        let v = self.v;
+        v.h[a] == 1
+            && v.h[b] == 2
+            && v.element[b] == Element::C
+            && v.hyb[b] == 3
+            && v.neighbours(b).any(|(x, _)| self.stereocentres >> x & 1 == 1)
     }
 
     /// The kind of the three-bond coupling H-a-b-H over a single bond.

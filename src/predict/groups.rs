@@ -145,8 +145,9 @@ impl Ctx<'_> {
         }
     }
 
-    fn find_stereocentre(&self) -> bool {
-        has_stereocentre(self.v, &self.orb)
+    fn find_stereocentre(&mut self) -> bool {
+        self.stereocentres = stereocentres(self.v, &self.orb);
+        self.stereocentres != 0
     }
 
     /// Tertiary amides: give the branch on one N-substituent fresh orbit ids
@@ -205,7 +206,12 @@ impl Ctx<'_> {
 /// different orbits head different branches (an automorphism fixing the
 /// centre would map one onto the other), so distinct orbits suffice.
 pub(super) fn has_stereocentre(v: &View, orb: &[u8]) -> bool {
-    (0..v.n).any(|x| {
+    stereocentres(v, orb) != 0
+}
+
+/// The stereocentres of [`has_stereocentre`] as an atom mask.
+pub(super) fn stereocentres(v: &View, orb: &[u8]) -> u64 {
+    (0..v.n).filter(|&x| {
         if v.hyb[x] != 3 || v.element[x] != Element::C || v.deg[x] + v.h[x] != 4 || v.h[x] > 1 {
             return false;
         }
@@ -219,6 +225,7 @@ pub(super) fn has_stereocentre(v: &View, orb: &[u8]) -> bool {
         }
         true
     })
+    .fold(0u64, |m, x| m | 1u64 << x)
 }
 
 /// For an orbit `atoms` of methyl carbons: when every methyl sits on a

@@ -449,6 +449,8 @@ pub(crate) struct Ctx<'a> {
     /// Special environment per atom (index + 1; 0 none), filled by grouping.
     pub env: [u8; view::MAX_ATOMS],
     pub has_stereocentre: bool,
+    /// The stereocentres (atom mask; see `groups::stereocentres`).
+    pub stereocentres: u64,
     /// Atoms of tertiary-amide N-substituents split by slow C-N rotation.
     pub rotamer: u64,
     /// Per alkene carbon with two heavy substituents: how their reference
@@ -470,6 +472,7 @@ impl<'a> Ctx<'a> {
             memo: [[MEMO_UNSET; view::MAX_DEGREE]; view::MAX_ATOMS],
             env: [0; view::MAX_ATOMS],
             has_stereocentre: false,
+            stereocentres: 0,
             rotamer: 0,
             reference_order: [const { std::cell::Cell::new(0) }; view::MAX_ATOMS],
         }
