@@ -86,6 +86,12 @@ const DEPOSITED: &[(u64, &str, f64, usize, &str)] = &[
     // (malic acid at 63 MHz: 4.50 dd; a chain CHBr at 100 MHz: 4.08 dd).
     (10016805, "O=C(O)CC(O)C(=O)O", 63.0, 4, "dd"),
     (104834, "C=C(Cl)C(Cl)(CBr)CCC(Br)C(C)(C)Cl", 100.0, 9, "dd"),
+    // A ring ortho-fused to another benzene-type ring: the ortho J
+    // alternate with the bonds (8.0 and 6.8 Hz), so the H between an alpha
+    // and a beta H is dd, the beta H next to the substituted alpha carbon
+    // d (acenaphthene 7.49 dd, 7.33 d, 2H each, at 600 MHz).
+    (10174, "c1cc2c3c(cccc3c1)CC2", 600.0, 0, "dd"),
+    (10174, "c1cc2c3c(cccc3c1)CC2", 600.0, 1, "d"),
 ];
 
 /// Diastereotopic CH2 pairs written as two signals in NMRShiftDB2 dev

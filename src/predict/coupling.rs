@@ -431,12 +431,34 @@ impl Ctx<'_> {
             }
         }
         match d {
+            1 if self.beta_pair(r, a, y) => self.lib.j(CouplingKind::AromaticOrthoBeta),
             1 => self.lib.j(CouplingKind::AromaticOrtho),
             2 if self.meta_through_ch(r, a, y) => self.lib.j(CouplingKind::AromaticMetaCh),
             2 => self.lib.j(CouplingKind::AromaticMeta),
             3 => self.lib.j(CouplingKind::AromaticPara),
             _ => 0.0,
         }
+    }
+
+    /// Whether ortho atoms `a` and `y` of the six-membered ring `r` are
+    /// both beta atoms of a ring ortho-fused to another six-membered
+    /// aromatic ring: neither is next to a fusion atom (naphthalene C2/C3).
+    /// The bonds of such a ring alternate in length, and the ortho J with
+    /// them (naphthalene J12 8.3, J23 6.8 Hz, from memory).
+    fn beta_pair(&self, r: u64, a: usize, y: usize) -> bool {
+        let v = self.v;
+        if r.count_ones() != 6 {
+            return false;
+        }
+        // Atoms of r shared with another all-aromatic six-membered ring.
+        let fusion = v.rings[..v.nrings]
+            .iter()
+            .filter(|&&q| q != r && q.count_ones() == 6 && q & !v.aromatic == 0)
+            .map(|&q| q & r)
+            .filter(|s| s.count_ones() == 2)
+            .fold(0u64, |m, s| m | s);
+        let next_to_fusion = |x: usize| v.neighbours(x).any(|(z, _)| fusion >> z & 1 == 1);
+        fusion != 0 && !next_to_fusion(a) && !next_to_fusion(y)
     }
 
     /// Does the ring atom between meta atoms `a` and `y` of ring `r` carry an H?

@@ -93,6 +93,9 @@ pub enum CouplingKind {
     /// The two H of a CH2 on an sp3 carbon, when they give two signals.
     GeminalSp3,
     AromaticOrtho,
+    /// Ortho H pair on the two beta atoms of a ring ortho-fused to another
+    /// six-membered aromatic ring (naphthalene H2/H3).
+    AromaticOrthoBeta,
     AromaticMeta,
     /// Meta H on a benzene-type ring whose atom between them carries an H.
     AromaticMetaCh,
@@ -125,7 +128,7 @@ pub enum CouplingKind {
 }
 
 /// Number of coupling kinds (the rows couplings.toml must have).
-pub const COUPLING_KINDS: usize = 31;
+pub const COUPLING_KINDS: usize = 32;
 
 impl CouplingKind {
     pub const ALL: [(CouplingKind, &'static str); COUPLING_KINDS] = [
@@ -138,6 +141,7 @@ impl CouplingKind {
         (CouplingKind::GeminalSp2, "geminal_sp2"),
         (CouplingKind::GeminalSp3, "geminal_sp3"),
         (CouplingKind::AromaticOrtho, "aromatic_ortho"),
+        (CouplingKind::AromaticOrthoBeta, "aromatic_ortho_beta"),
         (CouplingKind::AromaticMeta, "aromatic_meta"),
         (CouplingKind::AromaticMetaCh, "aromatic_meta_ch"),
         (CouplingKind::AromaticPara, "aromatic_para"),
