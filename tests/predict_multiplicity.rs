@@ -92,6 +92,9 @@ const DEPOSITED: &[(u64, &str, f64, usize, &str)] = &[
     // d (acenaphthene 7.49 dd, 7.33 d, 2H each, at 600 MHz).
     (10174, "c1cc2c3c(cccc3c1)CC2", 600.0, 0, "dd"),
     (10174, "c1cc2c3c(cccc3c1)CC2", 600.0, 1, "d"),
+    // An exocyclic =CH2: the geminal J of a 1,1-dialkyl alkene (about
+    // 1 Hz) is not written; two singlets (4.77 s, 4.45 s at 600 MHz).
+    (10027667, "C=C1C2CCC(C2)C1(C)CC=CC(C)(O)CO", 600.0, 0, "s"),
 ];
 
 /// Diastereotopic CH2 pairs written as two signals in NMRShiftDB2 dev

@@ -633,8 +633,23 @@ impl Ctx<'_> {
         }
         if slot != 0 {
             let other = gid[a][2 - slot as usize];
+            // A =CH2 whose far carbon carries two carbon substituents has
+            // the smaller geminal J of 1,1-dialkyl alkenes.
+            let dialkyl = |b: usize| {
+                let mut k = 0;
+                self.v
+                    .neighbours(b)
+                    .filter(|&(x, _)| x != a)
+                    .all(|(x, _)| {
+                        k += 1;
+                        self.v.element[x] == Element::C
+                    })
+                    && k == 2
+            };
             let kind = if self.v.hyb[a] == 3 {
                 CouplingKind::GeminalSp3
+            } else if self.alkene_partner(a).is_some_and(dialkyl) {
+                CouplingKind::GeminalSp2Alkyl
             } else {
                 CouplingKind::GeminalSp2
             };

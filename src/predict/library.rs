@@ -90,6 +90,8 @@ pub enum CouplingKind {
     VinylTrans,
     VinylCisRing,
     GeminalSp2,
+    /// =CH2 on an alkene carbon that carries two carbon substituents.
+    GeminalSp2Alkyl,
     /// The two H of a CH2 on an sp3 carbon, when they give two signals.
     GeminalSp3,
     AromaticOrtho,
@@ -128,7 +130,7 @@ pub enum CouplingKind {
 }
 
 /// Number of coupling kinds (the rows couplings.toml must have).
-pub const COUPLING_KINDS: usize = 32;
+pub const COUPLING_KINDS: usize = 33;
 
 impl CouplingKind {
     pub const ALL: [(CouplingKind, &'static str); COUPLING_KINDS] = [
@@ -139,6 +141,7 @@ impl CouplingKind {
         (CouplingKind::VinylTrans, "vinyl_trans"),
         (CouplingKind::VinylCisRing, "vinyl_cis_ring"),
         (CouplingKind::GeminalSp2, "geminal_sp2"),
+        (CouplingKind::GeminalSp2Alkyl, "geminal_sp2_alkyl"),
         (CouplingKind::GeminalSp3, "geminal_sp3"),
         (CouplingKind::AromaticOrtho, "aromatic_ortho"),
         (CouplingKind::AromaticOrthoBeta, "aromatic_ortho_beta"),
