@@ -154,5 +154,5 @@ fn nmrshiftdb2_dev_1h_lists() {
     assert!(aromatic <= 0.123, "aromatic {aromatic:.3}");
     assert!(dmso <= 0.148, "DMSO-d6 {dmso:.3}");
     assert!(within >= 0.940, "within 0.3 ppm {within:.3}");
-    assert!(label_share >= 0.649, "labels {label_share:.3}");
+    assert!(label_share >= 0.670, "labels {label_share:.3}");
 }
