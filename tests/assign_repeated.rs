@@ -132,7 +132,11 @@ fn chain_costs(lines: usize) -> Costs {
 // lines also the previous search, run once from the command line before
 // this change: `echo 'CCCCCCCCC(C)CCCCCC(C)CCC' | isomerank rank C20H42
 // --candidates - --peaks '1.30 (m, 1H), ...'` printed cost 117.39 (10 s of
-// CPU; with 10 lines it had not finished after 15 minutes).
+// CPU; with 10 lines it had not finished after 15 minutes). That was with
+// the two CH predicted oct (CH3 and two CH2 merged, 7 H at 7 Hz); since
+// the ABX rule (src/predict/coupling.rs: each CH2 beside a stereocentre
+// gives the CH two unlike J) they are m, which an m line fits better: the
+// search and the dynamic programme agree on 116.70 (2026-12-03).
 #[test]
 fn long_chain_against_equal_shift_one_proton_lines() {
     for lines in [5, 10, 12] {
@@ -146,7 +150,7 @@ fn long_chain_against_equal_shift_one_proton_lines() {
         );
         assert!((c.evaluate(&s.choice) - s.cost).abs() < 1e-9);
         if lines == 5 {
-            assert!((s.cost - 117.39).abs() < 0.005, "{}", s.cost);
+            assert!((s.cost - 116.70).abs() < 0.005, "{}", s.cost);
         }
         // Nothing below the optimum, and the optimum just above it.
         assert!(assign::solve(&c, s.cost - 1e-6).is_none());
