@@ -300,6 +300,13 @@ fn a_13c_line_list_keeps_the_structures_that_fit_it() {
             );
         }
         spec["classes"] = serde_json::Value::Object(m);
+        if let Some(t) = &cc.hi_by_h {
+            let mut m = serde_json::Map::new();
+            for k in CarbonClass::ALL {
+                m.insert(k.name().into(), serde_json::json!(t[k.index()]));
+            }
+            spec["class_hydrogens"] = serde_json::Value::Object(m);
+        }
     }
     // Source: RDKit (PyPI rdkit), tests/reference/check_constraints.py.
     let theirs = reference_fits(&full, &spec);
@@ -401,6 +408,13 @@ fn carbon_spec(c: &Constraints, f: &Formula) -> serde_json::Value {
             serde_json::json!([0, cc.single_hi.min(1000)]),
         );
         spec["classes"] = serde_json::Value::Object(m);
+        if let Some(t) = &cc.hi_by_h {
+            let mut m = serde_json::Map::new();
+            for k in CarbonClass::ALL {
+                m.insert(k.name().into(), serde_json::json!(t[k.index()]));
+            }
+            spec["class_hydrogens"] = serde_json::Value::Object(m);
+        }
     }
     let dbe = f.dbe() as i64;
     if let Some(b) = c.compile(f, dbe).unwrap() {
@@ -457,10 +471,23 @@ fn deposited_structures_pass_their_own_13c_constraints() {
     let r: Reference = serde_json::from_str(&json).expect("check_constraints.py JSON");
     assert_eq!(r.lines, items.len());
     let fits: BTreeSet<usize> = r.fits.into_iter().collect();
+    // Left out of the sp2 regions on purpose (carbon-regions.toml): the
+    // =CHR end of a ketene, here ethylketene's CH at 18.6 ppm (id
+    // 20052547), in a formula without N, P, S or I. Any other failure is a
+    // region too narrow.
+    const OUTSIDE_ON_PURPOSE: [u64; 1] = [20052547];
     let failed: Vec<String> = (0..items.len())
-        .filter(|i| !fits.contains(i))
+        .filter(|&i| !fits.contains(&i) && !OUTSIDE_ON_PURPOSE.contains(&ids[i]))
         .map(|i| items[i].clone())
         .collect();
+    let outside: Vec<u64> = (0..items.len())
+        .filter(|&i| !fits.contains(&i) && OUTSIDE_ON_PURPOSE.contains(&ids[i]))
+        .map(|i| ids[i])
+        .collect();
+    assert_eq!(
+        outside, OUTSIDE_ON_PURPOSE,
+        "the ketene is outside as intended"
+    );
     println!(
         "{} compounds, {refused} lists refused; the ring bound is below the DBE for {bounded}, equal to the deposited rings for {tight}",
         cases.len()

@@ -110,7 +110,13 @@ const DEPOSITED_APART: &[(u64, &str, f64, usize, &str)] = &[
     // Two symmetry-equivalent CH2 pairs each next to one CH, the two
     // halves of the molecule not coupled to each other (2.12 dd, 1.96 dd,
     // 2H each, at 400 MHz).
-    (60000366, "CC(C)CC(C)(C#N)N=NC(C)(C#N)CC(C)C", 400.0, 3, "dd"),
+    (
+        60000366,
+        "CC(C)CC(C)(C#N)N=NC(C)(C#N)CC(C)C",
+        400.0,
+        3,
+        "dd",
+    ),
     // Ring CH2 beside a CH2 and a CH: four couplings, written m (1.69 m,
     // 1.65 m, 1.62 m, 1.41 m at 600 MHz).
     (10027667, "C=C1C2CCC(C2)C1(C)CC=CC(C)(O)CO", 600.0, 4, "m"),
@@ -147,7 +153,10 @@ fn labels_as_deposited_apart() {
         let opts = p.options("CDCl3", mhz).unwrap();
         let sig = p.predict(&parse_smiles(smiles).unwrap(), &opts);
         let s = sig.iter().find(|s| s.atoms.contains(&atom)).unwrap();
-        assert!(s.halves, "record {id} atom {atom}: not a diastereotopic pair");
+        assert!(
+            s.halves,
+            "record {id} atom {atom}: not a diastereotopic pair"
+        );
         let (a, b) = s.split();
         assert_eq!(a, b);
         // The depositor's label of each H (NMRShiftDB2 record `id`).

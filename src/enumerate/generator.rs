@@ -491,6 +491,10 @@ pub struct Generator<'p> {
     /// sink cannot be the only place that looks).
     watch: Option<Watch>,
     ticks: u32,
+    /// Steps taken by this generator so far, and the step count at which it
+    /// aborts by itself (`u64::MAX`: never): a deterministic work limit.
+    steps: u64,
+    step_budget: u64,
 }
 
 /// Steps (children tried, skeletons given bond orders) between two looks at
@@ -541,7 +545,16 @@ impl<'p> Generator<'p> {
             abort: Default::default(),
             watch: None,
             ticks: 0,
+            steps: 0,
+            step_budget: u64::MAX,
         }
+    }
+
+    /// Abort (set the abort flag) once `steps` more steps are taken;
+    /// `None`: no such limit. Unlike the watch's deadline, where the search
+    /// ends does not depend on the machine.
+    pub fn set_step_budget(&mut self, steps: Option<u64>) {
+        self.step_budget = steps.map_or(u64::MAX, |n| self.steps.saturating_add(n));
     }
 
     /// Watch a stop flag and a deadline during the next searches (`None`:
@@ -558,6 +571,10 @@ impl<'p> Generator<'p> {
     fn ended(&mut self) -> bool {
         use std::sync::atomic::Ordering::Relaxed;
         self.ticks = self.ticks.wrapping_add(1);
+        self.steps += 1;
+        if self.steps >= self.step_budget {
+            self.abort.store(true, Relaxed);
+        }
         if self.ticks.is_multiple_of(WATCH_EVERY) {
             if let Some(w) = &mut self.watch {
                 let late = w.deadline.is_some_and(|d| std::time::Instant::now() >= d);
@@ -937,6 +954,14 @@ impl<'p> Generator<'p> {
             GroupState::Unknown
         };
         o.chosen.clear();
+        if let Some(w) = &mut self.cons {
+            w.pi_start();
+            if !w.pi_done_ok(node, o.done[0]) {
+                let at = w.bounds.classes_at;
+                w.cuts[at][1] += 1;
+                return;
+            }
+        }
         let canon = &mut self.canon[node.n];
         o.assign(p, node, canon, &mut self.cons, 0, extra, sink);
     }
@@ -1096,10 +1121,29 @@ impl Orders {
                     }
                     _ => false,
                 };
-                if !pruned {
+                // Carbon types: a triple bond, a second double bond or a
+                // C=O fixes a carbon's class for good, and a carbon no
+                // later edge touches keeps what it has (PiCaps).
+                let typed = match cons {
+                    Some(w) if !pruned && w.pi_caps.is_some() => {
+                        let ok = w.pi_raise(node, a, b, x) && w.pi_done_ok(node, self.done[j + 1]);
+                        if !ok {
+                            let at = w.bounds.classes_at;
+                            w.cuts[at][1] += 1;
+                        }
+                        Some(ok)
+                    }
+                    _ => None,
+                };
+                if !pruned && typed != Some(false) {
                     self.chosen.push((j as u8, x));
                     self.assign(p, node, canon, cons, j + 1, left - x as i32, sink);
                     self.chosen.pop();
+                }
+                if typed.is_some() {
+                    if let Some(w) = cons {
+                        w.pi_lower(node, a, b, x);
+                    }
                 }
                 node.free[a] += x;
                 node.free[b] += x;

@@ -363,6 +363,15 @@ fn tasks(problems: &[Problem]) -> Vec<Task> {
     let mut depth = 1;
     while level.len() < TARGET_TASKS && problems.iter().any(|p| p.atoms > depth) {
         let mut next = Vec::new();
+        // A level that costs more than LEVEL_STEPS generator steps is not
+        // taken: with tight constraints few skeletons survive each depth,
+        // and deepening would run most of the search here, before any
+        // limit or progress applies. Counted in steps, so the tasks do not
+        // depend on the machine (shards stay disjoint and complete).
+        for g in &mut gens {
+            g.set_step_budget(Some(LEVEL_STEPS));
+        }
+        let mut over = false;
         for t in &level {
             let p = &problems[t.problem];
             let mut node = t.node(p);
@@ -370,15 +379,27 @@ fn tasks(problems: &[Problem]) -> Vec<Task> {
                 next.push(t.clone());
                 continue;
             }
-            gens[t.problem].skeletons(&mut node, depth + 1, &mut |n: &Node, _| {
+            let g = &mut gens[t.problem];
+            g.skeletons(&mut node, depth + 1, &mut |n: &Node, _| {
                 next.push(Task::from_node(t.problem, n))
             });
+            if g.abort_flag().load(std::sync::atomic::Ordering::Relaxed) {
+                over = true;
+                break;
+            }
+        }
+        if over {
+            break;
         }
         level = next;
         depth += 1;
     }
     level
 }
+
+/// The most generator steps one level of [`tasks`] may take (a few
+/// seconds at most).
+const LEVEL_STEPS: u64 = 2_000_000;
 
 /// Progress of a long enumeration, reported after each task is handed on
 /// and every few hundred milliseconds while tasks run.
@@ -878,8 +899,11 @@ impl<'p> Worker<'p> {
                 abort.store(true, Relaxed);
                 return;
             }
+            // A leaf may cost a full scoring (milliseconds and more for a
+            // large candidate), so the clock is read every 8 leaves: at
+            // most a few per cent of the cheapest leaf (a count).
             seen = seen.wrapping_add(1);
-            if seen.is_multiple_of(256) {
+            if seen.is_multiple_of(8) {
                 if limits
                     .deadline
                     .is_some_and(|d| std::time::Instant::now() >= d)
@@ -969,15 +993,24 @@ pub fn estimate(formula: &Formula, opts: &Options) -> Result<Estimate> {
     let problems = problems(formula, opts)?;
     let all = tasks(&problems);
     let per = PROBES.div_ceil(all.len().max(1)).max(1);
+    // The probes end at the run's deadline too (a probe whose skeleton
+    // admits no bond orders can search long): past it, each remaining
+    // probe stops at once, and the run that follows stops at its start.
+    let stop = std::sync::Arc::new(std::sync::atomic::AtomicBool::new(false));
     let per_task: Vec<f64> = all
         .par_iter()
         .enumerate()
         .map_init(
             || {
-                (
-                    problems.iter().map(Generator::new).collect::<Vec<_>>(),
-                    resonance::Workspace::default(),
-                )
+                let mut gens = problems.iter().map(Generator::new).collect::<Vec<_>>();
+                for g in &mut gens {
+                    g.set_watch(Some(generator::Watch {
+                        stop: std::sync::Arc::clone(&stop),
+                        deadline: opts.limits.deadline,
+                        fired: None,
+                    }));
+                }
+                (gens, resonance::Workspace::default())
             },
             |(gens, ws), (i, task)| {
                 let p = &problems[task.problem];

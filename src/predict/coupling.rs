@@ -221,8 +221,7 @@ impl Ctx<'_> {
                 let twins = g.atoms.count_ones() > 1
                     && (bonded_twins(g.atoms)
                         || kept[..nk].iter().any(|c| {
-                            !heteronuclear(c.group)
-                                && bonded_twins(groups[c.group as usize].atoms)
+                            !heteronuclear(c.group) && bonded_twins(groups[c.group as usize].atoms)
                         }));
                 self.half_pattern(g, groups, &kept[..nk], twins)
             });
@@ -637,14 +636,10 @@ impl Ctx<'_> {
             // the smaller geminal J of 1,1-dialkyl alkenes.
             let dialkyl = |b: usize| {
                 let mut k = 0;
-                self.v
-                    .neighbours(b)
-                    .filter(|&(x, _)| x != a)
-                    .all(|(x, _)| {
-                        k += 1;
-                        self.v.element[x] == Element::C
-                    })
-                    && k == 2
+                self.v.neighbours(b).filter(|&(x, _)| x != a).all(|(x, _)| {
+                    k += 1;
+                    self.v.element[x] == Element::C
+                }) && k == 2
             };
             let kind = if self.v.hyb[a] == 3 {
                 CouplingKind::GeminalSp3
@@ -676,7 +671,8 @@ impl Ctx<'_> {
             && v.h[b] == 2
             && v.element[b] == Element::C
             && v.hyb[b] == 3
-            && v.neighbours(b).any(|(x, _)| self.stereocentres >> x & 1 == 1)
+            && v.neighbours(b)
+                .any(|(x, _)| self.stereocentres >> x & 1 == 1)
     }
 
     /// The kind of the three-bond coupling H-a-b-H over a single bond.

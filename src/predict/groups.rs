@@ -211,21 +211,22 @@ pub(super) fn has_stereocentre(v: &View, orb: &[u8]) -> bool {
 
 /// The stereocentres of [`has_stereocentre`] as an atom mask.
 pub(super) fn stereocentres(v: &View, orb: &[u8]) -> u64 {
-    (0..v.n).filter(|&x| {
-        if v.hyb[x] != 3 || v.element[x] != Element::C || v.deg[x] + v.h[x] != 4 || v.h[x] > 1 {
-            return false;
-        }
-        let mut seen = [u8::MAX; 4];
-        for (k, (b, _)) in v.neighbours(x).enumerate() {
-            let o = orb[b];
-            if seen[..k].contains(&o) {
+    (0..v.n)
+        .filter(|&x| {
+            if v.hyb[x] != 3 || v.element[x] != Element::C || v.deg[x] + v.h[x] != 4 || v.h[x] > 1 {
                 return false;
             }
-            seen[k] = o;
-        }
-        true
-    })
-    .fold(0u64, |m, x| m | 1u64 << x)
+            let mut seen = [u8::MAX; 4];
+            for (k, (b, _)) in v.neighbours(x).enumerate() {
+                let o = orb[b];
+                if seen[..k].contains(&o) {
+                    return false;
+                }
+                seen[k] = o;
+            }
+            true
+        })
+        .fold(0u64, |m, x| m | 1u64 << x)
 }
 
 /// For an orbit `atoms` of methyl carbons: when every methyl sits on a

@@ -8,6 +8,7 @@ Usage: check_constraints.py SPEC_JSON < smiles-one-per-line
 SPEC_JSON: {"require": [smiles], "forbid": [smiles],
             "hydrogens": {"C": [[lo, hi] for h = 0..4], "O": [...]},
             "classes": {"carbonyl": [lo, hi], ..., "single": [lo, hi]},
+            "class_hydrogens": {"carbonyl": [hi for h = 0..4], ...},
             "max_rings": n}   (every key optional)
 
 With --each every input line is {"smiles": ..., "spec": SPEC_JSON}, one
@@ -27,6 +28,8 @@ The senses, as the README states them:
   carbonyl; else a triple bond: triple; else two double bonds: cumulated;
   else a double or aromatic bond: sp2; else a neighbour other than C:
   sp3-hetero; else sp3.
+- class_hydrogens: for each listed class and h, the number of its carbons
+  with GetTotalNumHs() == h is at most hi.
 """
 
 import json
@@ -82,6 +85,14 @@ def fits(mol, spec, require, forbid):
         counts["single"] = counts["sp3"] + counts["sp3-hetero"]
         for c, (lo, hi) in spec["classes"].items():
             if not (lo <= counts[c] <= hi):
+                return False
+    if "class_hydrogens" in spec:
+        by_h = {c: [0] * 5 for c in ORDER}
+        for a in mol.GetAtoms():
+            if a.GetSymbol() == "C":
+                by_h[carbon_class(a)][min(a.GetTotalNumHs(), 4)] += 1
+        for c, his in spec["class_hydrogens"].items():
+            if any(n > hi for n, hi in zip(by_h[c], his)):
                 return False
     if "max_rings" in spec:
         rings = mol.GetNumBonds() - mol.GetNumAtoms() + 1

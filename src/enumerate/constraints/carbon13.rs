@@ -150,6 +150,8 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
     let mut pi_carbons = 0u32;
     let single = 1 << CarbonClass::Sp3.index() | 1 << CarbonClass::Sp3Hetero.index();
     let mut notes = Vec::new();
+    // Per line, the classes that fit it and its carbons.
+    let mut fits: Vec<(u8, u32)> = Vec::with_capacity(lines.len());
     for (i, &(shift, h, count)) in lines.iter().enumerate() {
         let label = match h {
             Some(h) => format!("line {} (δ {shift:.1}, {h} H)", i + 1),
@@ -170,6 +172,7 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
             None => h_unknown += count,
         }
         let set = possible_classes(shift, h, formula);
+        fits.push((set, count));
         if set == 0 {
             return Err(Error::input(format!(
                 "13C {label}: no carbon type has a shift there{}",
@@ -214,17 +217,103 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
             hi,
         }
     });
+    // What the formula allows each class at most, and from those caps
+    // the carbons that must fall in a class because the other classes
+    // their lines fit cannot hold them all.
+    let caps = formula_caps(formula);
+    for c in 0..6 {
+        class_hi[c] = class_hi[c].min(caps[c]);
+    }
+    for (c, lo) in forced_by_caps(&fits, &caps).into_iter().enumerate() {
+        class_lo[c] = class_lo[c].max(lo);
+    }
     let narrows = class_lo.iter().any(|&x| x > 0) || class_hi.iter().any(|&x| x < carbons);
+    // Per class and H count: the lines with that H count that the class
+    // fits, plus every carbon whose H count is not known.
+    let hi_by_h = (h_unknown < carbons).then(|| {
+        let mut t = [[h_unknown; MAX_H + 1]; 6];
+        for (&(set, count), &(_, h, _)) in fits.iter().zip(lines) {
+            if let Some(h) = h {
+                for (c, row) in t.iter_mut().enumerate() {
+                    if set >> c & 1 == 1 {
+                        row[h as usize] += count;
+                    }
+                }
+            }
+        }
+        t.map(|row| row.map(|x| x.min(carbons)))
+    });
     let classes = narrows.then_some(ClassCounts {
         lo: class_lo,
         hi: class_hi.map(|x| x.min(carbons)),
         single_hi: carbons - pi_carbons,
+        hi_by_h,
     });
     Ok(CarbonFacts {
         hydrogens,
         classes,
         notes,
     })
+}
+
+/// The most carbons of each class (by [`CarbonClass::index`]) a neutral
+/// structure of `formula` can hold, whatever its spectrum. Sound because:
+/// a carbonyl-class carbon has a double bond to O, S or N, and each O and
+/// each N takes part in at most one double bond to carbon (neutral O has
+/// valence 2; N has valence 3, or 4 as the N+ of the charge-separated
+/// groups, whose second multiple bond goes to O or N), an S in at most
+/// three (S(VI) with the expanded valences); every carbon of a triple bond
+/// accounts for at least one unit of the DBE (an alkyne's two carbons
+/// share its two units, a nitrile's one carbon has both); each cumulated
+/// centre has two double bonds and n centres in a row need n + 1 of them
+/// (at most DBE - 1 centres); every sp2 carbon shares a double bond with
+/// at most one other carbon, so at most 2 DBE of them.
+pub fn formula_caps(formula: &Formula) -> [u32; 6] {
+    let carbons = formula.count(Element::C);
+    let dbe = formula.dbe().max(0.0).floor() as u32;
+    let partners =
+        formula.count(Element::O) + formula.count(Element::N) + 3 * formula.count(Element::S);
+    let mut caps = [carbons; 6];
+    caps[CarbonClass::Carbonyl.index()] = partners.min(dbe).min(carbons);
+    caps[CarbonClass::Triple.index()] = dbe.min(carbons);
+    caps[CarbonClass::Cumulated.index()] = dbe.saturating_sub(1).min(carbons);
+    caps[CarbonClass::Sp2.index()] = (2 * dbe).min(carbons);
+    caps
+}
+
+/// For each class, the fewest listed carbons it must hold: the listed
+/// carbons less the most that the other classes their lines fit can take
+/// within `caps`. That most is a maximum flow from lines to classes; by
+/// the max-flow min-cut theorem (Ford & Fulkerson 1956) it is the least,
+/// over sets T of the other classes, of the caps of T plus the carbons of
+/// the lines that fit some other class outside T.
+pub fn forced_by_caps(fits: &[(u8, u32)], caps: &[u32; 6]) -> [u32; 6] {
+    let listed: u64 = fits.iter().map(|&(_, n)| n as u64).sum();
+    let mut out = [0u32; 6];
+    for c in 0..6 {
+        let others = 0x3fu8 & !(1 << c);
+        let mut best = u64::MAX;
+        // Subsets T of the other classes.
+        let mut t = others;
+        loop {
+            let cap_t: u64 = (0..6)
+                .filter(|&k| t >> k & 1 == 1)
+                .map(|k| caps[k] as u64)
+                .sum();
+            let outside: u64 = fits
+                .iter()
+                .filter(|&&(set, _)| set & others & !t != 0)
+                .map(|&(_, n)| n as u64)
+                .sum();
+            best = best.min(cap_t + outside);
+            if t == 0 {
+                break;
+            }
+            t = (t - 1) & others;
+        }
+        out[c] = listed.saturating_sub(best) as u32;
+    }
+    out
 }
 
 impl Constraints {
@@ -245,6 +334,12 @@ impl Constraints {
                     lo: std::array::from_fn(|i| have.lo[i].max(c.lo[i])),
                     hi: std::array::from_fn(|i| have.hi[i].min(c.hi[i])),
                     single_hi: have.single_hi.min(c.single_hi),
+                    hi_by_h: match (have.hi_by_h, c.hi_by_h) {
+                        (Some(a), Some(b)) => Some(std::array::from_fn(|k| {
+                            std::array::from_fn(|h| a[k][h].min(b[k][h]))
+                        })),
+                        (a, b) => a.or(b),
+                    },
                 },
                 None => c,
             });
@@ -337,12 +432,20 @@ mod tests {
         );
         // An aromatic CH at 128 ppm: no sp3-hetero CH reaches it without
         // fluorine (orthoformate CH ~113 at most); CHF2 groups do (~105-122)
-        // when the formula has their two F.
+        // when the formula has their two F. Without N, no C=O or C=S carbon
+        // lies below ~140 and no alkyne CH above ~100; with N, a C=N carbon
+        // or a nitrile may.
         let oxygen = Formula::parse("C8H8O").unwrap();
         let fluorine = Formula::parse("C8H6F2").unwrap();
+        let nitrogen = Formula::parse("C8H7N").unwrap();
+        assert_eq!(classes(possible_classes(128.0, Some(1), &oxygen)), ["sp2"]);
         assert_eq!(
-            classes(possible_classes(128.0, Some(1), &oxygen)),
+            classes(possible_classes(128.0, Some(1), &nitrogen)),
             ["carbonyl", "triple", "sp2"]
+        );
+        assert_eq!(
+            classes(possible_classes(150.0, Some(1), &oxygen)),
+            ["carbonyl", "sp2"]
         );
         assert!(classes(possible_classes(128.0, Some(1), &fluorine)).contains(&"sp3-hetero"));
         // A quaternary C at 128 may still be CF3 or an orthocarbonate, but
@@ -392,5 +495,48 @@ mod tests {
         // unannotated 70 ppm line in an O compound.
         let c = carbon_facts(&[(70.0, None, 1)], &f).unwrap().classes;
         assert!(c.is_none_or(|c| c.least_pi(7) == 0));
+    }
+
+    #[test]
+    fn the_formula_caps_carbon_types_and_the_caps_force_the_rest() {
+        // Valence arithmetic (common practice): C7H6O has DBE 5 and one O,
+        // so at most one carbonyl carbon, five triple-bond carbons, four
+        // cumulated centres and all seven carbons sp2.
+        let f = Formula::parse("C7H6O").unwrap();
+        let caps = formula_caps(&f);
+        assert_eq!(caps[CarbonClass::Carbonyl.index()], 1);
+        assert_eq!(caps[CarbonClass::Triple.index()], 5);
+        assert_eq!(caps[CarbonClass::Cumulated.index()], 4);
+        assert_eq!(caps[CarbonClass::Sp2.index()], 7);
+        assert_eq!(caps[CarbonClass::Sp3.index()], 7);
+        // A saturated formula: no pi carbon of any kind.
+        let caps = formula_caps(&Formula::parse("C4H10O").unwrap());
+        assert_eq!(&caps[..4], &[0, 0, 0, 0]);
+        // Three carbons on lines that fit carbonyl or sp2, one on a line
+        // that fits only sp2, carbonyl capped at 1: at least 3 sp2 (max
+        // flow by hand: at most one of the three goes to carbonyl).
+        let c = 1 << CarbonClass::Carbonyl.index();
+        let p = 1 << CarbonClass::Sp2.index();
+        let mut caps = [7u32; 6];
+        caps[CarbonClass::Carbonyl.index()] = 1;
+        let forced = forced_by_caps(&[(c | p, 3), (p, 1)], &caps);
+        assert_eq!(forced[CarbonClass::Sp2.index()], 3);
+        assert_eq!(forced[CarbonClass::Carbonyl.index()], 0);
+        // Uncapped, the overlap forces nothing beyond the sp2-only line.
+        let forced = forced_by_caps(&[(c | p, 3), (p, 1)], &[7; 6]);
+        assert_eq!(forced[CarbonClass::Sp2.index()], 1);
+        // Benzaldehyde (from memory, as above) in full: the aldehyde CH is a
+        // carbonyl, and with the one O taken the six ring carbons are sp2.
+        let lines = [
+            (192.3, Some(1), 1),
+            (136.4, Some(0), 1),
+            (134.4, Some(1), 1),
+            (129.7, Some(1), 2),
+            (129.0, Some(1), 2),
+        ];
+        let c = carbon_facts(&lines, &f).unwrap().classes.unwrap();
+        assert_eq!(c.lo[CarbonClass::Carbonyl.index()], 1);
+        assert_eq!(c.hi[CarbonClass::Carbonyl.index()], 1);
+        assert_eq!(c.lo[CarbonClass::Sp2.index()], 6);
     }
 }

@@ -33,6 +33,68 @@ pub struct Work {
     /// Per bond kind (0 any, 1-3 non-aromatic orders, 4 aromatic), per atom,
     /// its neighbours by such a bond.
     kind_nb: [[u64; MAX_ATOMS]; 5],
+    /// The carbon-type caps the bond-order stage can test ([`PiCaps`]);
+    /// `None` without carbon types.
+    pub pi_caps: Option<PiCaps>,
+    pi: PiState,
+}
+
+/// Carbon-type bounds that hold for every partial bond-order assignment,
+/// because the class a carbon has once it holds a triple bond, two double
+/// bonds or a double bond to O is final: orders only rise, a carbon has
+/// room for no further multiple bond, and none of those bonds is aromatic
+/// (an exocyclic C=O never is; an atom with two multiple bonds is never an
+/// aromaticity candidate, src/chem/aromaticity.rs, as in RDKit's model).
+#[derive(Clone, Copy, Debug)]
+pub struct PiCaps {
+    /// Most carbons with a triple bond ([`CarbonClass::Triple`]).
+    triple: u32,
+    /// Most carbons with two double bonds to C ([`CarbonClass::Cumulated`]).
+    cumulated: u32,
+    /// Most carbons with a double bond to O (a part of
+    /// [`CarbonClass::Carbonyl`]; C=N and C=S may be aromatic, C=O never).
+    oxo: u32,
+    /// Most carbons with any raised order (the classes other than sp3 and
+    /// sp3-hetero, at most carbons - their lower bounds).
+    pi: u32,
+    /// Most carbons left with single bonds only (sp3 and sp3-hetero).
+    single: u32,
+    /// Per attached-H count, the most finished carbons of each kind: with
+    /// a triple bond, cumulated, with C=O, single bonds only, and any other
+    /// raised bond (sp2, or a C=N / C=S carbonyl); from
+    /// [`super::ClassCounts::hi_by_h`].
+    by_h: Option<[[u32; MAX_H + 1]; 5]>,
+}
+
+/// Per partial assignment: raised bonds per atom, and the carbons counted
+/// against each cap.
+#[derive(Clone, Debug)]
+struct PiState {
+    raised: [u8; MAX_ATOMS],
+    /// Of those, the bonds to O, S or N, and to O alone.
+    raised_ons: [u8; MAX_ATOMS],
+    raised_o: [u8; MAX_ATOMS],
+    /// Triple bonds per atom.
+    tripled: [u8; MAX_ATOMS],
+    triple: u32,
+    cumulated: u32,
+    oxo: u32,
+    pi: u32,
+}
+
+impl Default for PiState {
+    fn default() -> PiState {
+        PiState {
+            raised: [0; MAX_ATOMS],
+            raised_ons: [0; MAX_ATOMS],
+            raised_o: [0; MAX_ATOMS],
+            tripled: [0; MAX_ATOMS],
+            triple: 0,
+            cumulated: 0,
+            oxo: 0,
+            pi: 0,
+        }
+    }
 }
 
 impl Work {
@@ -57,7 +119,158 @@ impl Work {
             perceiver: Perceiver::default(),
             aromatic: Aromaticity::default(),
             kind_nb: [[0; MAX_ATOMS]; 5],
+            pi_caps: None,
+            pi: PiState::default(),
         }
+        .with_caps(p)
+    }
+
+    fn with_caps(mut self, p: &Problem) -> Work {
+        let carbons: u32 = p
+            .kinds
+            .iter()
+            .zip(&p.counts)
+            .filter(|(k, _)| k.element == Element::C)
+            .map(|(_, &n)| n as u32)
+            .sum();
+        self.pi_caps = self.bounds.classes.as_ref().map(|cc| {
+            let lo = |c: CarbonClass| cc.lo[c.index()];
+            let hi = |c: CarbonClass| cc.hi[c.index()];
+            let single_lo = lo(CarbonClass::Sp3) + lo(CarbonClass::Sp3Hetero);
+            PiCaps {
+                triple: hi(CarbonClass::Triple),
+                cumulated: hi(CarbonClass::Cumulated),
+                oxo: hi(CarbonClass::Carbonyl),
+                pi: carbons.saturating_sub(single_lo),
+                single: (hi(CarbonClass::Sp3) as u64 + hi(CarbonClass::Sp3Hetero) as u64)
+                    .min(cc.single_hi as u64)
+                    .min(u32::MAX as u64) as u32,
+                by_h: cc.hi_by_h.map(|t| {
+                    let at = |c: CarbonClass| t[c.index()];
+                    let sum = |a: [u32; MAX_H + 1], b: [u32; MAX_H + 1]| {
+                        std::array::from_fn(|h| a[h].saturating_add(b[h]))
+                    };
+                    [
+                        at(CarbonClass::Triple),
+                        at(CarbonClass::Cumulated),
+                        at(CarbonClass::Carbonyl),
+                        sum(at(CarbonClass::Sp3), at(CarbonClass::Sp3Hetero)),
+                        sum(at(CarbonClass::Sp2), at(CarbonClass::Carbonyl)),
+                    ]
+                }),
+            }
+        });
+        self
+    }
+
+    /// Start the bond-order stage of a skeleton: no bond raised yet.
+    pub fn pi_start(&mut self) {
+        self.pi = PiState::default();
+    }
+
+    /// Raise the bond a-b by `x` (1: to double, 2: to triple) in the
+    /// class tally; false when a cap of [`PiCaps`] is exceeded (the tally
+    /// is updated either way; [`Work::pi_lower`] undoes it).
+    pub fn pi_raise(&mut self, node: &Node, a: usize, b: usize, x: u8) -> bool {
+        let Some(caps) = self.pi_caps else {
+            return true;
+        };
+        self.pi_step(node, a, b, x, true);
+        self.pi.triple <= caps.triple
+            && self.pi.cumulated <= caps.cumulated
+            && self.pi.oxo <= caps.oxo
+            && self.pi.pi <= caps.pi
+    }
+
+    /// Undo [`Work::pi_raise`] of the same bond.
+    pub fn pi_lower(&mut self, node: &Node, a: usize, b: usize, x: u8) {
+        if self.pi_caps.is_some() {
+            self.pi_step(node, a, b, x, false);
+        }
+    }
+
+    /// Add (`up`) or remove the raise of bond a-b by `x` to the tally. A
+    /// carbon counts as cumulated while it has two raised bonds (two double
+    /// bonds: a triple bond leaves room for no other) and none to O, S or
+    /// N.
+    fn pi_step(&mut self, node: &Node, a: usize, b: usize, x: u8, up: bool) {
+        for (v, u) in [(a, b), (b, a)] {
+            if self.element(node, v) != Element::C {
+                continue;
+            }
+            let partner = self.element(node, u);
+            let to_ons = matches!(partner, Element::O | Element::S | Element::N);
+            let st = &mut self.pi;
+            let to_o = partner == Element::O;
+            let cum = |st: &PiState| st.raised[v] == 2 && st.raised_ons[v] == 0;
+            let (pi0, cum0, oxo0) = (st.raised[v] > 0, cum(st), st.raised_o[v] > 0);
+            if up {
+                st.raised[v] += 1;
+                st.raised_ons[v] += u8::from(to_ons);
+                st.raised_o[v] += u8::from(to_o);
+            } else {
+                st.raised[v] -= 1;
+                st.raised_ons[v] -= u8::from(to_ons);
+                st.raised_o[v] -= u8::from(to_o);
+            }
+            let (pi1, cum1, oxo1) = (st.raised[v] > 0, cum(st), st.raised_o[v] > 0);
+            let step = |n: &mut u32, before: bool, after: bool| {
+                if after && !before {
+                    *n += 1;
+                } else if before && !after {
+                    *n -= 1;
+                }
+            };
+            step(&mut st.pi, pi0, pi1);
+            step(&mut st.cumulated, cum0, cum1);
+            step(&mut st.oxo, oxo0, oxo1);
+            if x == 2 {
+                step(&mut st.triple, !up, up);
+                if up {
+                    st.tripled[v] += 1;
+                } else {
+                    st.tripled[v] -= 1;
+                }
+            }
+        }
+    }
+
+    /// Whether the carbons in `done` (no later bond can rise) that kept
+    /// single bonds only are within the cap of single-bonded carbons.
+    pub fn pi_done_ok(&self, node: &Node, done: u64) -> bool {
+        let Some(caps) = self.pi_caps else {
+            return true;
+        };
+        let mut single = 0u32;
+        let mut kinds = [[0u32; MAX_H + 1]; 5];
+        for v in bits(done) {
+            if self.element(node, v) != Element::C {
+                continue;
+            }
+            let st = &self.pi;
+            // Its kind, final now that no later bond can rise (PiCaps).
+            let k = if st.tripled[v] > 0 {
+                0
+            } else if st.raised[v] == 2 && st.raised_ons[v] == 0 {
+                1
+            } else if st.raised_o[v] > 0 {
+                2
+            } else if st.raised[v] == 0 {
+                single += 1;
+                3
+            } else {
+                4
+            };
+            kinds[k][(node.free[v] as usize).min(MAX_H)] += 1;
+        }
+        single <= caps.single
+            && caps
+                .by_h
+                .is_none_or(|t| (0..5).all(|k| (0..=MAX_H).all(|h| kinds[k][h] <= t[k][h])))
+    }
+
+    fn element(&self, node: &Node, v: usize) -> Element {
+        Element::HEAVY[self.slot_of_kind[node.kind[v] as usize]]
     }
 
     /// Atoms of each element slot.
@@ -163,9 +376,15 @@ impl Work {
         }
         self.perceive(node, p);
         if let Some(cc) = &b.classes {
-            let counts = self.class_counts(node);
+            let (counts, by_h) = self.class_counts(node);
             let single = counts[CarbonClass::Sp3.index()] + counts[CarbonClass::Sp3Hetero.index()];
-            if (0..6).any(|c| counts[c] < cc.lo[c] || counts[c] > cc.hi[c]) || single > cc.single_hi
+            let by_h_over = cc
+                .hi_by_h
+                .as_ref()
+                .is_some_and(|t| (0..6).any(|c| (0..=MAX_H).any(|h| by_h[c][h] > t[c][h])));
+            if (0..6).any(|c| counts[c] < cc.lo[c] || counts[c] > cc.hi[c])
+                || single > cc.single_hi
+                || by_h_over
             {
                 self.cuts[b.classes_at][2] += 1;
                 return false;
@@ -230,8 +449,11 @@ impl Work {
     }
 
     /// How many carbons fall in each [`CarbonClass`] (after `perceive`).
-    fn class_counts(&self, node: &Node) -> [u32; 6] {
+    /// Carbons per class, and per class and H count (an H count above
+    /// [`MAX_H`] is counted as `MAX_H`, which no bound lets pass anyway).
+    fn class_counts(&self, node: &Node) -> ([u32; 6], [[u32; MAX_H + 1]; 6]) {
         let mut out = [0u32; 6];
+        let mut by_h = [[0u32; MAX_H + 1]; 6];
         let mut hetero = 0u64;
         let mut ons = 0u64;
         for x in 0..node.n {
@@ -256,8 +478,9 @@ impl Work {
                 hetero,
             );
             out[class.index()] += 1;
+            by_h[class.index()][(node.free[x] as usize).min(MAX_H)] += 1;
         }
-        out
+        (out, by_h)
     }
 }
 

@@ -143,6 +143,10 @@ pub struct ClassCounts {
     /// sp3-hetero together); the others have a pi bond. `u32::MAX`: no
     /// bound beyond `hi`.
     pub single_hi: u32,
+    /// Per class and attached-H count h = 0..=4, the most carbons of that
+    /// class carrying h H (from 13C lines with H counts); `None`: no bound
+    /// beyond `hi`.
+    pub hi_by_h: Option<[[u32; MAX_H + 1]; 6]>,
 }
 
 impl ClassCounts {
@@ -152,6 +156,7 @@ impl ClassCounts {
             lo,
             hi,
             single_hi: u32::MAX,
+            hi_by_h: None,
         }
     }
 
@@ -425,6 +430,36 @@ impl Constraints {
             let c = &mut max_below[0];
             c[1] = c[1].min(single.min((carbons - need1.min(carbons)) as u64).min(255) as u8);
             c[2] = c[2].min((carbons - need2.min(carbons)).min(255) as u8);
+            // With classes per H count: a carbon with h H ends with skeleton
+            // free valence h plus its extra orders, at least 1 unless it
+            // keeps single bonds only. So free valence below t means h <=
+            // t - 2, or h = t - 1 and single bonds only: at most
+            // sum_{h <= t-2} hi[h] + min(hi[t-1], single carbons with t-1 H).
+            let h_hi = self
+                .hydrogens
+                .iter()
+                .find(|h| h.element == Element::C)
+                .map_or([carbons; MAX_H + 1], |h| h.hi);
+            if let Some(t) = &cc.hi_by_h {
+                let single_h = |h: usize| {
+                    t[CarbonClass::Sp3.index()][h] as u64
+                        + t[CarbonClass::Sp3Hetero.index()][h] as u64
+                };
+                for (tv, cap) in c.iter_mut().enumerate().skip(1) {
+                    let below: u64 = (0..=MAX_H)
+                        .map(|h| {
+                            if h + 2 <= tv {
+                                h_hi[h] as u64
+                            } else if h + 1 == tv {
+                                (h_hi[h] as u64).min(single_h(h))
+                            } else {
+                                0
+                            }
+                        })
+                        .sum();
+                    *cap = (*cap as u64).min(below).min(255) as u8;
+                }
+            }
         }
         let mut pi_needed = 0i64;
         let mut pi_owner = 0usize;
