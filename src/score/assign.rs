@@ -285,6 +285,7 @@ pub struct Workspace {
     trial: Vec<u16>,
     trial_h: Vec<u32>,
     trial_k: Vec<u32>,
+    local: Local,
     /// Per depth d, per multiplet: its line-bound term at depth d + 1 before
     /// the group at depth d is placed.
     line_terms: Vec<f64>,
@@ -506,6 +507,7 @@ fn run(
         trial,
         trial_h,
         trial_k,
+        local,
         line_terms,
         nodes,
         ..
@@ -563,7 +565,7 @@ fn run(
     refill(h, m, 0);
     refill(k, m, 0);
     refill(current, g, NONE);
-    marginal(c, order, Targets::All, h, k, current);
+    marginal(c, order, Targets::All, h, k, current, local);
     refill(h, m, 0);
     refill(k, m, 0);
     let marginal_cost = c.evaluate_in(current, h, k);
@@ -578,7 +580,7 @@ fn run(
     refill(h, m, 0);
     refill(k, m, 0);
     trial.clone_from(greedy);
-    let improved = improve(c, trial, h, k, Targets::All);
+    let improved = improve(c, trial, h, k, Targets::All, local);
     if improved < greedy_cost {
         greedy.copy_from_slice(trial);
         greedy_cost = improved;
@@ -649,6 +651,7 @@ fn run(
         trial,
         trial_h,
         trial_k,
+        local,
         line_terms,
         found,
         nodes: 0,
@@ -791,6 +794,7 @@ struct Search<'a> {
     trial: &'a mut Vec<u16>,
     trial_h: &'a mut Vec<u32>,
     trial_k: &'a mut Vec<u32>,
+    local: &'a mut Local,
     line_terms: &'a mut Vec<f64>,
     found: bool,
     nodes: u64,
@@ -928,7 +932,14 @@ impl Search<'_> {
             self.trial.extend_from_slice(choice);
             refill(self.trial_h, m, 0);
             refill(self.trial_k, m, 0);
-            let cost = improve(c, self.trial, self.trial_h, self.trial_k, Targets::All);
+            let cost = improve(
+                c,
+                self.trial,
+                self.trial_h,
+                self.trial_k,
+                Targets::All,
+                self.local,
+            );
             if cost < self.best {
                 self.best = cost;
                 self.found = true;
@@ -1200,16 +1211,46 @@ impl Search<'_> {
     }
 }
 
+/// Scratch of the heuristics ([`improve`], [`marginal`]), kept between
+/// calls.
+#[derive(Clone, Debug, Default)]
+pub(crate) struct Local {
+    /// Per multiplet: its current term f_j(H, k), kept in step with `h` and
+    /// `k` (the same function of the same numbers, so the same bits as
+    /// computing it afresh).
+    term: Vec<f64>,
+    /// Per multiplet, then one row for [`NONE`]: a bit set of the groups
+    /// placed there (`words` u64 per row), for the exchanges over listed
+    /// targets.
+    on: Vec<u64>,
+}
+
+/// Fill `term` with every multiplet's term at the sums `h`, `k`.
+fn terms(c: &CostsRef, h: &[u32], k: &[u32], term: &mut Vec<f64>) {
+    term.clear();
+    term.extend((0..c.multiplets).map(|j| c.multiplet(j, h[j], k[j])));
+}
+
 /// Local search: move one group to another multiplet (or none), or exchange
 /// the places of two groups, while that lowers the total; `choice` is
 /// changed in place and its cost returned. `h` and `k` are zeroed scratch of
 /// length `multiplets` (left holding the final sums).
+///
+/// Each pass tries the moves group by group, then the exchanges pair by
+/// pair (a < b, in index order). With listed targets only pairs where each
+/// group may take the other's place can exchange, and b may take a's place
+/// only when b's multiplet (or none) is on a's list; those b are read from
+/// per-multiplet bit sets of the groups placed there instead of testing
+/// every pair. The set of such b > a stays fixed while a's exchanges run
+/// (only a and the b just visited change places), so the pairs are visited
+/// in the same order with the same outcome as over every pair.
 pub(crate) fn improve(
     c: &CostsRef,
     choice: &mut [u16],
     h: &mut [u32],
     k: &mut [u32],
     targets: Targets,
+    local: &mut Local,
 ) -> f64 {
     let (g, m) = (c.groups, c.multiplets);
     for (gi, &j) in choice.iter().enumerate() {
@@ -1218,6 +1259,8 @@ pub(crate) fn improve(
             k[j as usize] += 1;
         }
     }
+    let Local { term, on } = local;
+    terms(c, h, k, term);
     let own = |gi: usize, j: u16| {
         if j == NONE {
             c.unassigned[gi]
@@ -1227,14 +1270,48 @@ pub(crate) fn improve(
     };
     // Change of multiplet j's term when its H grow by `dh` and its groups
     // by `dk` (none for NONE).
-    let change = |h: &[u32], k: &[u32], j: u16, dh: i64, dk: i64| {
+    let change = |h: &[u32], k: &[u32], term: &[f64], j: u16, dh: i64, dk: i64| {
         if j == NONE {
             return 0.0;
         }
         let j = j as usize;
         let (h0, k0) = (h[j] as i64, k[j] as i64);
-        c.multiplet(j, (h0 + dh) as u32, (k0 + dk) as u32) - c.multiplet(j, h[j], k[j])
+        c.multiplet(j, (h0 + dh) as u32, (k0 + dk) as u32) - term[j]
     };
+    // The exchange of groups a < b, when it lowers the total: places, sums
+    // and terms updated; returns the two multiplets a and b left.
+    let exchange =
+        |choice: &mut [u16], h: &mut [u32], k: &[u32], term: &mut [f64], a: usize, b: usize| {
+            let (ja, jb) = (choice[a], choice[b]);
+            // The cheap tests first (all are pure, so the order does not
+            // change the result): with short lists most pairs fail `allows`
+            // at once.
+            if ja == jb || !targets.allows(a, jb) || !targets.allows(b, ja) {
+                return None;
+            }
+            let (ha, hb) = (c.hydrogens[a] as i64, c.hydrogens[b] as i64);
+            if ha == hb && own(a, jb) + own(b, ja) >= own(a, ja) + own(b, jb) {
+                return None;
+            }
+            let delta = own(a, jb) + own(b, ja) - own(a, ja) - own(b, jb)
+                + change(h, k, term, ja, hb - ha, 0)
+                + change(h, k, term, jb, ha - hb, 0);
+            if delta < -IMPROVE_EPS {
+                for (j, dh) in [(ja, hb - ha), (jb, ha - hb)] {
+                    if j != NONE {
+                        let j = j as usize;
+                        h[j] = (h[j] as i64 + dh) as u32;
+                        term[j] = c.multiplet(j, h[j], k[j]);
+                    }
+                }
+                choice.swap(a, b);
+                // `swap` exchanged the groups' places: a now sits on jb.
+                return Some((ja, jb));
+            }
+            None
+        };
+    let words = g.div_ceil(64);
+    let row = |j: u16| if j == NONE { m } else { j as usize } * words;
     let mut passes = 0;
     loop {
         passes += 1;
@@ -1243,11 +1320,11 @@ pub(crate) fn improve(
             let from = *place;
             let hg = c.hydrogens[gi] as i64;
             // What leaving `from` saves (own cost, and the term's change).
-            let leave = own(gi, from) - change(h, k, from, -hg, -1);
+            let leave = own(gi, from) - change(h, k, term, from, -hg, -1);
             let mut best = (0.0, from);
             targets.each(gi, m, |to| {
                 if to != from {
-                    let delta = own(gi, to) + change(h, k, to, hg, 1) - leave;
+                    let delta = own(gi, to) + change(h, k, term, to, hg, 1) - leave;
                     if delta < best.0 - IMPROVE_EPS {
                         best = (delta, to);
                     }
@@ -1256,42 +1333,58 @@ pub(crate) fn improve(
             if best.1 != from {
                 let to = best.1;
                 if from != NONE {
-                    h[from as usize] -= c.hydrogens[gi];
-                    k[from as usize] -= 1;
+                    let j = from as usize;
+                    h[j] -= c.hydrogens[gi];
+                    k[j] -= 1;
+                    term[j] = c.multiplet(j, h[j], k[j]);
                 }
                 if to != NONE {
-                    h[to as usize] += c.hydrogens[gi];
-                    k[to as usize] += 1;
+                    let j = to as usize;
+                    h[j] += c.hydrogens[gi];
+                    k[j] += 1;
+                    term[j] = c.multiplet(j, h[j], k[j]);
                 }
                 *place = to;
                 better = true;
             }
         }
-        for a in 0..g {
-            for b in a + 1..g {
-                let (ja, jb) = (choice[a], choice[b]);
-                // The cheap tests first (all are pure, so the order does
-                // not change the result): with short lists most pairs
-                // fail `allows` at once.
-                if ja == jb || !targets.allows(a, jb) || !targets.allows(b, ja) {
-                    continue;
+        match targets {
+            Targets::All => {
+                for a in 0..g {
+                    for b in a + 1..g {
+                        better |= exchange(choice, h, k, term, a, b).is_some();
+                    }
                 }
-                let (ha, hb) = (c.hydrogens[a] as i64, c.hydrogens[b] as i64);
-                if ha == hb && own(a, jb) + own(b, ja) >= own(a, ja) + own(b, jb) {
-                    continue;
+            }
+            Targets::Listed { start, lines, .. } => {
+                refill(on, (m + 1) * words, 0);
+                for (gi, &j) in choice.iter().enumerate() {
+                    on[row(j) + gi / 64] |= 1 << (gi % 64);
                 }
-                let delta = own(a, jb) + own(b, ja) - own(a, ja) - own(b, jb)
-                    + change(h, k, ja, hb - ha, 0)
-                    + change(h, k, jb, ha - hb, 0);
-                if delta < -IMPROVE_EPS {
-                    for (j, dh) in [(ja, hb - ha), (jb, ha - hb)] {
-                        if j != NONE {
-                            h[j as usize] = (h[j as usize] as i64 + dh) as u32;
+                for a in 0..g {
+                    let list = &lines[start[a] as usize..start[a + 1] as usize];
+                    for w in (a + 1) / 64..words {
+                        // The groups b > a in this word placed on a's list
+                        // or on none.
+                        let mut near = on[m * words + w];
+                        for &j in list {
+                            near |= on[j as usize * words + w];
+                        }
+                        if w == (a + 1) / 64 {
+                            near &= u64::MAX << ((a + 1) % 64);
+                        }
+                        while near != 0 {
+                            let b = w * 64 + near.trailing_zeros() as usize;
+                            near &= near - 1;
+                            if let Some((ja, jb)) = exchange(choice, h, k, term, a, b) {
+                                on[row(ja) + a / 64] &= !(1 << (a % 64));
+                                on[row(jb) + a / 64] |= 1 << (a % 64);
+                                on[row(jb) + w] &= !(1 << (b % 64));
+                                on[row(ja) + w] |= 1 << (b % 64);
+                                better = true;
+                            }
                         }
                     }
-                    choice.swap(a, b);
-                    // `swap` exchanged the groups' places: a now sits on jb.
-                    better = true;
                 }
             }
         }
@@ -1354,16 +1447,18 @@ pub(crate) fn marginal(
     h: &mut [u32],
     k: &mut [u32],
     out: &mut [u16],
+    local: &mut Local,
 ) {
     let m = c.multiplets;
+    let term = &mut local.term;
+    terms(c, h, k, term);
     for &gi in order {
         let hg = c.hydrogens[gi];
         let mut best = (c.unassigned[gi], NONE);
         targets.each(gi, m, |j| {
             if j != NONE {
                 let ju = j as usize;
-                let added = c.pair[gi * m + ju] + c.multiplet(ju, h[ju] + hg, k[ju] + 1)
-                    - c.multiplet(ju, h[ju], k[ju]);
+                let added = c.pair[gi * m + ju] + c.multiplet(ju, h[ju] + hg, k[ju] + 1) - term[ju];
                 if added < best.0 {
                     best = (added, j);
                 }
@@ -1371,8 +1466,10 @@ pub(crate) fn marginal(
         });
         out[gi] = best.1;
         if best.1 != NONE {
-            h[best.1 as usize] += hg;
-            k[best.1 as usize] += 1;
+            let j = best.1 as usize;
+            h[j] += hg;
+            k[j] += 1;
+            term[j] = c.multiplet(j, h[j], k[j]);
         }
     }
 }
@@ -1883,5 +1980,155 @@ mod tests {
                 s.nodes
             );
         }
+    }
+
+    /// The local search as it was before the exchanges were read from bit
+    /// sets: every pair a < b tested in index order, every term computed
+    /// afresh (the reference for the test below).
+    fn improve_every_pair(
+        c: &CostsRef,
+        choice: &mut [u16],
+        h: &mut [u32],
+        k: &mut [u32],
+        targets: Targets,
+    ) -> f64 {
+        let (g, m) = (c.groups, c.multiplets);
+        for (gi, &j) in choice.iter().enumerate() {
+            if j != NONE {
+                h[j as usize] += c.hydrogens[gi];
+                k[j as usize] += 1;
+            }
+        }
+        let own = |gi: usize, j: u16| {
+            if j == NONE {
+                c.unassigned[gi]
+            } else {
+                c.pair[gi * m + j as usize]
+            }
+        };
+        let change = |h: &[u32], k: &[u32], j: u16, dh: i64, dk: i64| {
+            if j == NONE {
+                return 0.0;
+            }
+            let j = j as usize;
+            let (h0, k0) = (h[j] as i64, k[j] as i64);
+            c.multiplet(j, (h0 + dh) as u32, (k0 + dk) as u32) - c.multiplet(j, h[j], k[j])
+        };
+        let mut passes = 0;
+        loop {
+            passes += 1;
+            let mut better = false;
+            for (gi, place) in choice.iter_mut().enumerate() {
+                let from = *place;
+                let hg = c.hydrogens[gi] as i64;
+                let leave = own(gi, from) - change(h, k, from, -hg, -1);
+                let mut best = (0.0, from);
+                targets.each(gi, m, |to| {
+                    if to != from {
+                        let delta = own(gi, to) + change(h, k, to, hg, 1) - leave;
+                        if delta < best.0 - IMPROVE_EPS {
+                            best = (delta, to);
+                        }
+                    }
+                });
+                if best.1 != from {
+                    let to = best.1;
+                    if from != NONE {
+                        h[from as usize] -= c.hydrogens[gi];
+                        k[from as usize] -= 1;
+                    }
+                    if to != NONE {
+                        h[to as usize] += c.hydrogens[gi];
+                        k[to as usize] += 1;
+                    }
+                    *place = to;
+                    better = true;
+                }
+            }
+            for a in 0..g {
+                for b in a + 1..g {
+                    let (ja, jb) = (choice[a], choice[b]);
+                    if ja == jb || !targets.allows(a, jb) || !targets.allows(b, ja) {
+                        continue;
+                    }
+                    let (ha, hb) = (c.hydrogens[a] as i64, c.hydrogens[b] as i64);
+                    if ha == hb && own(a, jb) + own(b, ja) >= own(a, ja) + own(b, jb) {
+                        continue;
+                    }
+                    let delta = own(a, jb) + own(b, ja) - own(a, ja) - own(b, jb)
+                        + change(h, k, ja, hb - ha, 0)
+                        + change(h, k, jb, ha - hb, 0);
+                    if delta < -IMPROVE_EPS {
+                        for (j, dh) in [(ja, hb - ha), (jb, ha - hb)] {
+                            if j != NONE {
+                                h[j as usize] = (h[j as usize] as i64 + dh) as u32;
+                            }
+                        }
+                        choice.swap(a, b);
+                        better = true;
+                    }
+                }
+            }
+            if !better || passes >= IMPROVE_PASSES {
+                break;
+            }
+        }
+        for x in h.iter_mut().chain(k.iter_mut()) {
+            *x = 0;
+        }
+        c.evaluate_in(choice, h, k)
+    }
+
+    // Reference: the local search over every pair with every term computed
+    // afresh (`improve_every_pair`, the code before the bit sets); the
+    // result must be the same to the bit, move for move.
+    #[test]
+    fn local_search_over_bit_sets_equals_every_pair() {
+        let mut st = 0x2f6b_1d3a_95c7_0e41u64;
+        let (mut changed, mut local) = (0, Local::default());
+        for round in 0..400 {
+            // Up to 140 groups: bit sets of one to three words.
+            let c = random(&mut st, if round % 4 == 0 { 140 } else { 40 }, 12);
+            let (g, m) = (c.groups, c.multiplets);
+            let density = 0.1 + 0.6 * rng(&mut st);
+            let (mut start, mut lines, mut allowed) = (vec![0u32], vec![], vec![false; g * m]);
+            for gi in 0..g {
+                for j in 0..m {
+                    if rng(&mut st) < density {
+                        lines.push(j as u16);
+                        allowed[gi * m + j] = true;
+                    }
+                }
+                start.push(lines.len() as u32);
+            }
+            let listed = Targets::Listed {
+                start: &start,
+                lines: &lines,
+                allowed: &allowed,
+                m,
+            };
+            let first: Vec<u16> = (0..g)
+                .map(|_| {
+                    let x = (rng(&mut st) * (m + 1) as f64) as usize;
+                    if x >= m {
+                        NONE
+                    } else {
+                        x as u16
+                    }
+                })
+                .collect();
+            for targets in [Targets::All, listed] {
+                let (mut a, mut b) = (first.clone(), first.clone());
+                let (mut h, mut k) = (vec![0; m], vec![0; m]);
+                let new = improve(&c.view(), &mut a, &mut h, &mut k, targets, &mut local);
+                let (mut h, mut k) = (vec![0; m], vec![0; m]);
+                let old = improve_every_pair(&c.view(), &mut b, &mut h, &mut k, targets);
+                assert_eq!(a, b);
+                assert_eq!(new.to_bits(), old.to_bits());
+                changed += usize::from(a != first);
+            }
+        }
+        // The instances did move groups (not a test of an idle search).
+        assert!(changed > 400, "{changed}");
     }
 }

@@ -49,7 +49,7 @@
 //! caller searches the whole problem) when one component would hold every
 //! group.
 
-use super::assign::{improve, marginal, refill, Costs, CostsRef, Targets, NONE};
+use super::assign::{improve, marginal, refill, Costs, CostsRef, Local, Targets, NONE};
 use super::matching::Matching;
 
 /// Relative margin by which a test must hold before a pair is set aside
@@ -93,6 +93,7 @@ pub(crate) struct Split {
     order: Vec<usize>,
     h: Vec<u32>,
     k: Vec<u32>,
+    local: Local,
     /// The current part's numbers.
     costs: Costs,
     matching: Matching,
@@ -180,6 +181,7 @@ impl Split {
             &mut self.h,
             &mut self.k,
             &mut self.trial,
+            &mut self.local,
         );
         refill(&mut self.h, m, 0);
         refill(&mut self.k, m, 0);
@@ -191,7 +193,14 @@ impl Split {
         self.trial.copy_from_slice(&self.known);
         refill(&mut self.h, m, 0);
         refill(&mut self.k, m, 0);
-        let cost = improve(c, &mut self.trial, &mut self.h, &mut self.k, targets);
+        let cost = improve(
+            c,
+            &mut self.trial,
+            &mut self.h,
+            &mut self.k,
+            targets,
+            &mut self.local,
+        );
         if cost < known_cost {
             self.known.copy_from_slice(&self.trial);
             known_cost = cost;
@@ -212,7 +221,14 @@ impl Split {
                 allowed: &self.allowed,
                 m,
             };
-            let cost = improve(c, &mut trial, &mut self.h, &mut self.k, targets);
+            let cost = improve(
+                c,
+                &mut trial,
+                &mut self.h,
+                &mut self.k,
+                targets,
+                &mut self.local,
+            );
             if cost < known_cost {
                 self.known.copy_from_slice(&trial);
                 known_cost = cost;
