@@ -161,6 +161,7 @@ impl Costs {
 impl CostsRef<'_> {
     /// Integral cost of multiplet j holding h H (0 without an observed
     /// integral).
+    #[inline]
     pub fn integral(&self, j: usize, h: u32) -> f64 {
         match self.observed_h[j] {
             Some(i) => {
@@ -173,12 +174,25 @@ impl CostsRef<'_> {
     }
 
     /// Final cost of multiplet j holding k groups with h H.
+    #[inline]
     pub fn multiplet(&self, j: usize, h: u32, k: u32) -> f64 {
         if k == 0 {
             self.empty[j]
         } else {
             self.integral(j, h) + self.overlap[j] * (k - 1) as f64
         }
+    }
+
+    /// A floor under `multiplet(j, h, k)` for k >= 1 whatever h: its
+    /// overlap part, the very product `multiplet` adds its integral part
+    /// (>= 0) to. Rounding is monotone, so a sum computed with the floor in
+    /// place of the term, in the same order, is a floor under the sum with
+    /// the term: the heuristics skip a trial whose floor already fails,
+    /// with the same outcome as computing it (also when the term is NaN,
+    /// which fails every test).
+    #[inline]
+    pub(crate) fn floor(&self, j: usize, k: u32) -> f64 {
+        self.overlap[j] * (k - 1) as f64
     }
 
     /// Total cost of a complete assignment; `h` and `k` are zeroed scratch
@@ -253,6 +267,9 @@ const BOUND_SLACK: f64 = 1e-9;
 #[derive(Clone, Debug, Default)]
 pub struct Workspace {
     min_choice: Vec<f64>,
+    /// Per multiplet: the least extra a group pays to go there (of the
+    /// root bound).
+    root_extra: Vec<f64>,
     order: Vec<usize>,
     /// Per depth: the first depth of its class of identical groups.
     class_start: Vec<usize>,
@@ -342,6 +359,41 @@ impl Workspace {
     }
 }
 
+impl Workspace {
+    /// Room for searches of up to `g` groups and `m` multiplets in the
+    /// buffers that grow with them, so that a fresh workspace searching
+    /// parts of rising size allocates each once.
+    fn reserve_for(&mut self, g: usize, m: usize) {
+        fn room<T>(v: &mut Vec<T>, n: usize) {
+            v.reserve(n.saturating_sub(v.len()));
+        }
+        room(&mut self.min_choice, g);
+        room(&mut self.root_extra, m);
+        room(&mut self.order, g);
+        room(&mut self.class_start, g);
+        room(&mut self.class_of, g);
+        room(&mut self.options, g * (m + 1));
+        room(&mut self.greedy, g);
+        room(&mut self.suffix_min, g + 1);
+        room(&mut self.suffix_h, g + 1);
+        room(&mut self.suffix_extra, (g + 1) * m);
+        room(&mut self.sigma2, m);
+        room(&mut self.twin, m);
+        room(&mut self.count, g * m);
+        room(&mut self.tie, g * m);
+        room(&mut self.gains, m);
+        room(&mut self.h, m);
+        room(&mut self.k, m);
+        room(&mut self.current, g);
+        room(&mut self.position, g);
+        room(&mut self.best_choice, g);
+        room(&mut self.trial, g);
+        room(&mut self.line_terms, g * m);
+        room(&mut self.local.term, m);
+        room(&mut self.local.every, m);
+    }
+}
+
 pub(crate) fn refill<T: Copy>(v: &mut Vec<T>, n: usize, x: T) {
     v.clear();
     v.resize(n, x);
@@ -367,6 +419,28 @@ pub fn root_bound(c: &CostsRef, min_choice: &mut Vec<f64>) -> f64 {
                 c.empty[j].min(extra)
             })
             .sum::<f64>()
+}
+
+/// [`root_bound`] row by row, also leaving in `extra` the least extra a
+/// group pays to go to each multiplet instead of to its cheapest option
+/// (the split's reduced costs reuse it). The same minima in the same order
+/// (groups ascending per multiplet) and the same sum, so the same bits.
+fn root_bound_in(c: &CostsRef, min_choice: &mut Vec<f64>, extra: &mut Vec<f64>) -> f64 {
+    let (g, m) = (c.groups, c.multiplets);
+    min_choice.clear();
+    min_choice.extend((0..g).map(|gi| {
+        c.pair[gi * m..(gi + 1) * m]
+            .iter()
+            .fold(c.unassigned[gi], |a, &b| a.min(b))
+    }));
+    refill(extra, m, f64::INFINITY);
+    for (gi, &least) in min_choice.iter().enumerate() {
+        let row = &c.pair[gi * m..(gi + 1) * m];
+        for (e, &p) in extra.iter_mut().zip(row) {
+            *e = e.min(p - least);
+        }
+    }
+    min_choice.iter().sum::<f64>() + (0..m).map(|j| c.empty[j].min(extra[j])).sum::<f64>()
 }
 
 /// Sum of the `n` largest of `gains` (all of them when there are no more).
@@ -473,7 +547,7 @@ fn run(
     ws.lines.root = None;
     // Cheap root bound first: most candidates of a large enumeration are
     // hopeless and leave here before any sorting or search.
-    let root = root_bound(c, &mut ws.min_choice);
+    let root = root_bound_in(c, &mut ws.min_choice, &mut ws.root_extra);
     if root >= cutoff {
         return Outcome::Nothing;
     }
@@ -542,6 +616,7 @@ fn run(
     // identical multiplets tie on cost and stay in index order.
     let stride = m + 1;
     options.clear();
+    options.reserve(g * stride);
     for &gi in order.iter() {
         let from = options.len();
         options.extend((0..m).map(|j| (c.pair[gi * m + j], j as u16)));
@@ -684,7 +759,7 @@ fn run_split(
     tuning: Tuning,
 ) -> Option<Outcome> {
     let (g, m) = (c.groups, c.multiplets);
-    let parts = ws.split.parts(c, &ws.min_choice, root)?;
+    let parts = ws.split.parts(c, &ws.min_choice, &ws.root_extra, root)?;
     ws.parts = parts;
     let Workspace {
         min_choice,
@@ -697,6 +772,15 @@ fn run_split(
         ..
     } = ws;
     let part = part.get_or_insert_with(Default::default);
+    // The largest of the parts searched (those of two groups or more).
+    let most = (0..parts).fold((0, 0), |(a, b), p| match split.members(p) {
+        (gs, ls) if gs.len() > 1 => (a.max(gs.len()), b.max(ls.len())),
+        _ => (a, b),
+    });
+    if most.0 > 0 {
+        part.reserve_for(most.0, most.1);
+        split.reserve_parts(most.0, most.1);
+    }
     refill(best_choice, g, NONE);
     let tuning = Tuning {
         split: false,
@@ -1223,12 +1307,102 @@ pub(crate) struct Local {
     /// placed there (`words` u64 per row), for the exchanges over listed
     /// targets.
     on: Vec<u64>,
+    /// 0, 1, .. (at least `multiplets` of them): the list of
+    /// [`Targets::All`].
+    every: Vec<u16>,
+}
+
+/// Make `every` hold at least 0..m.
+fn fill_every(every: &mut Vec<u16>, m: usize) {
+    if every.len() < m {
+        every.clear();
+        every.extend(0..m as u16);
+    }
 }
 
 /// Fill `term` with every multiplet's term at the sums `h`, `k`.
 fn terms(c: &CostsRef, h: &[u32], k: &[u32], term: &mut Vec<f64>) {
     term.clear();
     term.extend((0..c.multiplets).map(|j| c.multiplet(j, h[j], k[j])));
+}
+
+/// Group `gi`'s own cost on multiplet j (its pair cost, or its unassigned
+/// cost for [`NONE`]).
+#[inline(always)]
+fn own(c: &CostsRef, gi: usize, j: u16) -> f64 {
+    if j == NONE {
+        c.unassigned[gi]
+    } else {
+        c.pair[gi * c.multiplets + j as usize]
+    }
+}
+
+/// Change of multiplet j's term when its H grow by `dh` and its groups by
+/// `dk` (none for [`NONE`]); `term` holds the terms at `h`, `k`.
+#[inline(always)]
+fn change(c: &CostsRef, h: &[u32], k: &[u32], term: &[f64], j: u16, dh: i64, dk: i64) -> f64 {
+    if j == NONE {
+        return 0.0;
+    }
+    let j = j as usize;
+    let (h0, k0) = (h[j] as i64, k[j] as i64);
+    c.multiplet(j, (h0 + dh) as u32, (k0 + dk) as u32) - term[j]
+}
+
+/// The exchange of groups a < b in the local search, made when it lowers
+/// the total: places, sums and terms updated; returns the two multiplets a
+/// and b left.
+#[allow(clippy::too_many_arguments)]
+#[inline(always)]
+fn exchange(
+    c: &CostsRef,
+    targets: &Targets,
+    choice: &mut [u16],
+    h: &mut [u32],
+    k: &[u32],
+    term: &mut [f64],
+    a: usize,
+    b: usize,
+) -> Option<(u16, u16)> {
+    let (ja, jb) = (choice[a], choice[b]);
+    // The cheap tests first (all are pure, so the order does not change
+    // the result): with short lists most pairs fail `allows` at once.
+    if ja == jb || !targets.allows(a, jb) || !targets.allows(b, ja) {
+        return None;
+    }
+    let (ha, hb) = (c.hydrogens[a] as i64, c.hydrogens[b] as i64);
+    if ha == hb && own(c, a, jb) + own(c, b, ja) >= own(c, a, ja) + own(c, b, jb) {
+        return None;
+    }
+    // The floor of the two changes first ([`CostsRef::floor`]; each
+    // multiplet keeps its k >= 1).
+    let floor = |j: u16| {
+        if j == NONE {
+            0.0
+        } else {
+            let j = j as usize;
+            c.floor(j, k[j]) - term[j]
+        }
+    };
+    let swapped = own(c, a, jb) + own(c, b, ja) - own(c, a, ja) - own(c, b, jb);
+    if !(swapped + floor(ja) + floor(jb) < -IMPROVE_EPS) {
+        return None;
+    }
+    let delta =
+        swapped + change(c, h, k, term, ja, hb - ha, 0) + change(c, h, k, term, jb, ha - hb, 0);
+    if delta < -IMPROVE_EPS {
+        for (j, dh) in [(ja, hb - ha), (jb, ha - hb)] {
+            if j != NONE {
+                let j = j as usize;
+                h[j] = (h[j] as i64 + dh) as u32;
+                term[j] = c.multiplet(j, h[j], k[j]);
+            }
+        }
+        choice.swap(a, b);
+        // `swap` exchanged the groups' places: a now sits on jb.
+        return Some((ja, jb));
+    }
+    None
 }
 
 /// Local search: move one group to another multiplet (or none), or exchange
@@ -1259,57 +1433,9 @@ pub(crate) fn improve(
             k[j as usize] += 1;
         }
     }
-    let Local { term, on } = local;
+    let Local { term, on, every } = local;
     terms(c, h, k, term);
-    let own = |gi: usize, j: u16| {
-        if j == NONE {
-            c.unassigned[gi]
-        } else {
-            c.pair[gi * m + j as usize]
-        }
-    };
-    // Change of multiplet j's term when its H grow by `dh` and its groups
-    // by `dk` (none for NONE).
-    let change = |h: &[u32], k: &[u32], term: &[f64], j: u16, dh: i64, dk: i64| {
-        if j == NONE {
-            return 0.0;
-        }
-        let j = j as usize;
-        let (h0, k0) = (h[j] as i64, k[j] as i64);
-        c.multiplet(j, (h0 + dh) as u32, (k0 + dk) as u32) - term[j]
-    };
-    // The exchange of groups a < b, when it lowers the total: places, sums
-    // and terms updated; returns the two multiplets a and b left.
-    let exchange =
-        |choice: &mut [u16], h: &mut [u32], k: &[u32], term: &mut [f64], a: usize, b: usize| {
-            let (ja, jb) = (choice[a], choice[b]);
-            // The cheap tests first (all are pure, so the order does not
-            // change the result): with short lists most pairs fail `allows`
-            // at once.
-            if ja == jb || !targets.allows(a, jb) || !targets.allows(b, ja) {
-                return None;
-            }
-            let (ha, hb) = (c.hydrogens[a] as i64, c.hydrogens[b] as i64);
-            if ha == hb && own(a, jb) + own(b, ja) >= own(a, ja) + own(b, jb) {
-                return None;
-            }
-            let delta = own(a, jb) + own(b, ja) - own(a, ja) - own(b, jb)
-                + change(h, k, term, ja, hb - ha, 0)
-                + change(h, k, term, jb, ha - hb, 0);
-            if delta < -IMPROVE_EPS {
-                for (j, dh) in [(ja, hb - ha), (jb, ha - hb)] {
-                    if j != NONE {
-                        let j = j as usize;
-                        h[j] = (h[j] as i64 + dh) as u32;
-                        term[j] = c.multiplet(j, h[j], k[j]);
-                    }
-                }
-                choice.swap(a, b);
-                // `swap` exchanged the groups' places: a now sits on jb.
-                return Some((ja, jb));
-            }
-            None
-        };
+    fill_every(every, m);
     let words = g.div_ceil(64);
     let row = |j: u16| if j == NONE { m } else { j as usize } * words;
     let mut passes = 0;
@@ -1320,16 +1446,30 @@ pub(crate) fn improve(
             let from = *place;
             let hg = c.hydrogens[gi] as i64;
             // What leaving `from` saves (own cost, and the term's change).
-            let leave = own(gi, from) - change(h, k, term, from, -hg, -1);
+            let leave = own(c, gi, from) - change(c, h, k, term, from, -hg, -1);
             let mut best = (0.0, from);
-            targets.each(gi, m, |to| {
+            // The listed multiplets, then none.
+            for &to in targets.list(gi, m, every) {
                 if to != from {
-                    let delta = own(gi, to) + change(h, k, term, to, hg, 1) - leave;
+                    // The floor of the change first (`to` gains a group;
+                    // [`CostsRef::floor`]).
+                    let j = to as usize;
+                    let floor = own(c, gi, to) + (c.floor(j, k[j] + 1) - term[j]) - leave;
+                    if !(floor < best.0 - IMPROVE_EPS) {
+                        continue;
+                    }
+                    let delta = own(c, gi, to) + change(c, h, k, term, to, hg, 1) - leave;
                     if delta < best.0 - IMPROVE_EPS {
                         best = (delta, to);
                     }
                 }
-            });
+            }
+            if from != NONE {
+                let delta = own(c, gi, NONE) + change(c, h, k, term, NONE, hg, 1) - leave;
+                if delta < best.0 - IMPROVE_EPS {
+                    best = (delta, NONE);
+                }
+            }
             if best.1 != from {
                 let to = best.1;
                 if from != NONE {
@@ -1352,7 +1492,7 @@ pub(crate) fn improve(
             Targets::All => {
                 for a in 0..g {
                     for b in a + 1..g {
-                        better |= exchange(choice, h, k, term, a, b).is_some();
+                        better |= exchange(c, &targets, choice, h, k, term, a, b).is_some();
                     }
                 }
             }
@@ -1376,7 +1516,8 @@ pub(crate) fn improve(
                         while near != 0 {
                             let b = w * 64 + near.trailing_zeros() as usize;
                             near &= near - 1;
-                            if let Some((ja, jb)) = exchange(choice, h, k, term, a, b) {
+                            if let Some((ja, jb)) = exchange(c, &targets, choice, h, k, term, a, b)
+                            {
                                 on[row(ja) + a / 64] &= !(1 << (a % 64));
                                 on[row(jb) + a / 64] |= 1 << (a % 64);
                                 on[row(jb) + w] &= !(1 << (b % 64));
@@ -1416,7 +1557,9 @@ pub(crate) enum Targets<'a> {
 }
 
 impl Targets<'_> {
-    /// Call `f` on each multiplet group `gi` may take, then on [`NONE`].
+    /// Call `f` on each multiplet group `gi` may take, then on [`NONE`]
+    /// (the order of the heuristics' trials).
+    #[cfg(test)]
     fn each(&self, gi: usize, m: usize, mut f: impl FnMut(u16)) {
         match self {
             Targets::All => (0..m as u16).for_each(&mut f),
@@ -1428,6 +1571,20 @@ impl Targets<'_> {
         f(NONE);
     }
 
+    /// The multiplets group `gi` may take, ascending (without [`NONE`],
+    /// which every group may take); `every` holds 0, 1, .. at least to
+    /// m - 1 (`m` multiplets).
+    #[inline(always)]
+    fn list<'s>(&'s self, gi: usize, m: usize, every: &'s [u16]) -> &'s [u16] {
+        match self {
+            Targets::All => &every[..m],
+            Targets::Listed { start, lines, .. } => {
+                &lines[start[gi] as usize..start[gi + 1] as usize]
+            }
+        }
+    }
+
+    #[inline(always)]
     fn allows(&self, gi: usize, j: u16) -> bool {
         match self {
             Targets::All => true,
@@ -1450,20 +1607,23 @@ pub(crate) fn marginal(
     local: &mut Local,
 ) {
     let m = c.multiplets;
-    let term = &mut local.term;
+    let Local { term, every, .. } = local;
     terms(c, h, k, term);
+    fill_every(every, m);
     for &gi in order {
         let hg = c.hydrogens[gi];
         let mut best = (c.unassigned[gi], NONE);
-        targets.each(gi, m, |j| {
-            if j != NONE {
-                let ju = j as usize;
-                let added = c.pair[gi * m + ju] + c.multiplet(ju, h[ju] + hg, k[ju] + 1) - term[ju];
-                if added < best.0 {
-                    best = (added, j);
-                }
+        for &j in targets.list(gi, m, every) {
+            let ju = j as usize;
+            // The floor first ([`CostsRef::floor`]).
+            if !(c.pair[gi * m + ju] + c.floor(ju, k[ju] + 1) - term[ju] < best.0) {
+                continue;
             }
-        });
+            let added = c.pair[gi * m + ju] + c.multiplet(ju, h[ju] + hg, k[ju] + 1) - term[ju];
+            if added < best.0 {
+                best = (added, j);
+            }
+        }
         out[gi] = best.1;
         if best.1 != NONE {
             let j = best.1 as usize;
