@@ -381,7 +381,6 @@ impl Workspace {
         room(&mut self.twin, m);
         room(&mut self.count, g * m);
         room(&mut self.tie, g * m);
-        room(&mut self.gains, m);
         room(&mut self.h, m);
         room(&mut self.k, m);
         room(&mut self.current, g);
@@ -390,7 +389,6 @@ impl Workspace {
         room(&mut self.trial, g);
         room(&mut self.line_terms, g * m);
         room(&mut self.local.term, m);
-        room(&mut self.local.every, m);
     }
 }
 
@@ -759,7 +757,9 @@ fn run_split(
     tuning: Tuning,
 ) -> Option<Outcome> {
     let (g, m) = (c.groups, c.multiplets);
-    let parts = ws.split.parts(c, &ws.min_choice, &ws.root_extra, root)?;
+    let parts = ws
+        .split
+        .parts(c, &ws.min_choice, &ws.root_extra, root, &mut ws.local)?;
     ws.parts = parts;
     let Workspace {
         min_choice,
@@ -769,9 +769,13 @@ fn run_split(
         h,
         k,
         nodes,
+        local,
         ..
     } = ws;
     let part = part.get_or_insert_with(Default::default);
+    // The heuristics' scratch goes to the parts' searches while they run
+    // (one set of buffers for the whole solve).
+    std::mem::swap(local, &mut part.local);
     // The largest of the parts searched (those of two groups or more).
     let most = (0..parts).fold((0, 0), |(a, b), p| match split.members(p) {
         (gs, ls) if gs.len() > 1 => (a.max(gs.len()), b.max(ls.len())),
@@ -790,52 +794,59 @@ fn run_split(
     // root bound is the sum of the parts' shares and the lone multiplets').
     let slack = 1e-9 * (1.0 + cutoff.abs());
     let (mut left, mut spent) = (root, 0.0);
-    for p in 0..parts {
-        let (gs, ls) = split.members(p);
-        if gs.is_empty() {
-            continue;
-        }
-        left -= split.lower(c, min_choice, p);
-        let below = cutoff - spent - left + slack;
-        if let [one] = *gs {
-            // One group: its options side by side (none first, then the
-            // multiplets in order; the first of equal costs stays).
-            let gi = one as usize;
-            let empty: f64 = ls.iter().map(|&j| c.empty[j as usize]).sum();
-            let mut best = (c.unassigned[gi] + empty, NONE);
-            for &j in ls {
-                let ju = j as usize;
-                let cost =
-                    c.pair[gi * m + ju] + c.multiplet(ju, c.hydrogens[gi], 1) + empty - c.empty[ju];
-                if cost < best.0 {
-                    best = (cost, j as u16);
+    let failed = 'parts: {
+        for p in 0..parts {
+            let (gs, ls) = split.members(p);
+            if gs.is_empty() {
+                continue;
+            }
+            left -= split.lower(c, min_choice, p);
+            let below = cutoff - spent - left + slack;
+            if let [one] = *gs {
+                // One group: its options side by side (none first, then the
+                // multiplets in order; the first of equal costs stays).
+                let gi = one as usize;
+                let empty: f64 = ls.iter().map(|&j| c.empty[j as usize]).sum();
+                let mut best = (c.unassigned[gi] + empty, NONE);
+                for &j in ls {
+                    let ju = j as usize;
+                    let cost = c.pair[gi * m + ju] + c.multiplet(ju, c.hydrogens[gi], 1) + empty
+                        - c.empty[ju];
+                    if cost < best.0 {
+                        best = (cost, j as u16);
+                    }
                 }
+                *nodes += 1;
+                if best.0 >= below {
+                    break 'parts Some(Outcome::Nothing);
+                }
+                spent += best.0;
+                best_choice[gi] = best.1;
+                continue;
             }
-            *nodes += 1;
-            if best.0 >= below {
-                return Some(Outcome::Nothing);
-            }
-            spent += best.0;
-            best_choice[gi] = best.1;
-            continue;
-        }
-        let out = {
-            let view = split.view(c, p);
-            run(&view, below, part, false, max_nodes, tuning)
-        };
-        *nodes += part.nodes;
-        let Outcome::Below(cost) = out else {
-            return Some(out);
-        };
-        spent += cost;
-        let (gs, ls) = split.members(p);
-        for (&x, &j) in gs.iter().zip(&part.best_choice) {
-            best_choice[x as usize] = if j == NONE {
-                NONE
-            } else {
-                ls[j as usize] as u16
+            let out = {
+                let view = split.view(c, p);
+                run(&view, below, part, false, max_nodes, tuning)
             };
+            *nodes += part.nodes;
+            let Outcome::Below(cost) = out else {
+                break 'parts Some(out);
+            };
+            spent += cost;
+            let (gs, ls) = split.members(p);
+            for (&x, &j) in gs.iter().zip(&part.best_choice) {
+                best_choice[x as usize] = if j == NONE {
+                    NONE
+                } else {
+                    ls[j as usize] as u16
+                };
+            }
         }
+        None
+    };
+    std::mem::swap(local, &mut part.local);
+    if failed.is_some() {
+        return failed;
     }
     refill(h, m, 0);
     refill(k, m, 0);
@@ -1307,17 +1318,6 @@ pub(crate) struct Local {
     /// placed there (`words` u64 per row), for the exchanges over listed
     /// targets.
     on: Vec<u64>,
-    /// 0, 1, .. (at least `multiplets` of them): the list of
-    /// [`Targets::All`].
-    every: Vec<u16>,
-}
-
-/// Make `every` hold at least 0..m.
-fn fill_every(every: &mut Vec<u16>, m: usize) {
-    if every.len() < m {
-        every.clear();
-        every.extend(0..m as u16);
-    }
 }
 
 /// Fill `term` with every multiplet's term at the sums `h`, `k`.
@@ -1405,6 +1405,59 @@ fn exchange(
     None
 }
 
+/// The moves of group `gi` from `from` in the local search (`hg` its H,
+/// `leave` what leaving saves).
+struct Move {
+    gi: usize,
+    from: u16,
+    hg: i64,
+    leave: f64,
+}
+
+impl Move {
+    /// The best move lowering the total, to one of `targets` (ascending)
+    /// or then to none: (its change of the total, where), or (0, `from`).
+    #[inline(always)]
+    fn best(
+        &self,
+        c: &CostsRef,
+        h: &[u32],
+        k: &[u32],
+        term: &[f64],
+        targets: impl Iterator<Item = u16>,
+    ) -> (f64, u16) {
+        let Move {
+            gi,
+            from,
+            hg,
+            leave,
+        } = *self;
+        let mut best = (0.0, from);
+        for to in targets {
+            if to != from {
+                // The floor of the change first (`to` gains a group;
+                // [`CostsRef::floor`]).
+                let j = to as usize;
+                let floor = own(c, gi, to) + (c.floor(j, k[j] + 1) - term[j]) - leave;
+                if !(floor < best.0 - IMPROVE_EPS) {
+                    continue;
+                }
+                let delta = own(c, gi, to) + change(c, h, k, term, to, hg, 1) - leave;
+                if delta < best.0 - IMPROVE_EPS {
+                    best = (delta, to);
+                }
+            }
+        }
+        if from != NONE {
+            let delta = own(c, gi, NONE) + change(c, h, k, term, NONE, hg, 1) - leave;
+            if delta < best.0 - IMPROVE_EPS {
+                best = (delta, NONE);
+            }
+        }
+        best
+    }
+}
+
 /// Local search: move one group to another multiplet (or none), or exchange
 /// the places of two groups, while that lowers the total; `choice` is
 /// changed in place and its cost returned. `h` and `k` are zeroed scratch of
@@ -1413,9 +1466,9 @@ fn exchange(
 /// Each pass tries the moves group by group, then the exchanges pair by
 /// pair (a < b, in index order). With listed targets only pairs where each
 /// group may take the other's place can exchange, and b may take a's place
-/// only when b's multiplet (or none) is on a's list; those b are read from
-/// per-multiplet bit sets of the groups placed there instead of testing
-/// every pair. The set of such b > a stays fixed while a's exchanges run
+/// only when b's multiplet (or none) is on a's list; with more than
+/// [`EVERY_PAIR_UP_TO`] groups those b are read from per-multiplet bit sets
+/// of the groups placed there instead of testing every pair. The set of such b > a stays fixed while a's exchanges run
 /// (only a and the b just visited change places), so the pairs are visited
 /// in the same order with the same outcome as over every pair.
 pub(crate) fn improve(
@@ -1433,9 +1486,8 @@ pub(crate) fn improve(
             k[j as usize] += 1;
         }
     }
-    let Local { term, on, every } = local;
+    let Local { term, on } = local;
     terms(c, h, k, term);
-    fill_every(every, m);
     let words = g.div_ceil(64);
     let row = |j: u16| if j == NONE { m } else { j as usize } * words;
     let mut passes = 0;
@@ -1447,29 +1499,24 @@ pub(crate) fn improve(
             let hg = c.hydrogens[gi] as i64;
             // What leaving `from` saves (own cost, and the term's change).
             let leave = own(c, gi, from) - change(c, h, k, term, from, -hg, -1);
-            let mut best = (0.0, from);
-            // The listed multiplets, then none.
-            for &to in targets.list(gi, m, every) {
-                if to != from {
-                    // The floor of the change first (`to` gains a group;
-                    // [`CostsRef::floor`]).
-                    let j = to as usize;
-                    let floor = own(c, gi, to) + (c.floor(j, k[j] + 1) - term[j]) - leave;
-                    if !(floor < best.0 - IMPROVE_EPS) {
-                        continue;
-                    }
-                    let delta = own(c, gi, to) + change(c, h, k, term, to, hg, 1) - leave;
-                    if delta < best.0 - IMPROVE_EPS {
-                        best = (delta, to);
-                    }
-                }
-            }
-            if from != NONE {
-                let delta = own(c, gi, NONE) + change(c, h, k, term, NONE, hg, 1) - leave;
-                if delta < best.0 - IMPROVE_EPS {
-                    best = (delta, NONE);
-                }
-            }
+            let moves = Move {
+                gi,
+                from,
+                hg,
+                leave,
+            };
+            let best = match targets {
+                Targets::All => moves.best(c, h, k, term, 0..m as u16),
+                Targets::Listed { start, lines, .. } => moves.best(
+                    c,
+                    h,
+                    k,
+                    term,
+                    lines[start[gi] as usize..start[gi + 1] as usize]
+                        .iter()
+                        .copied(),
+                ),
+            };
             if best.1 != from {
                 let to = best.1;
                 if from != NONE {
@@ -1489,14 +1536,7 @@ pub(crate) fn improve(
             }
         }
         match targets {
-            Targets::All => {
-                for a in 0..g {
-                    for b in a + 1..g {
-                        better |= exchange(c, &targets, choice, h, k, term, a, b).is_some();
-                    }
-                }
-            }
-            Targets::Listed { start, lines, .. } => {
+            Targets::Listed { start, lines, .. } if g > EVERY_PAIR_UP_TO => {
                 refill(on, (m + 1) * words, 0);
                 for (gi, &j) in choice.iter().enumerate() {
                     on[row(j) + gi / 64] |= 1 << (gi % 64);
@@ -1525,6 +1565,15 @@ pub(crate) fn improve(
                                 better = true;
                             }
                         }
+                    }
+                }
+            }
+            // Every pair: all targets, or too few groups to gain from
+            // the bit sets.
+            _ => {
+                for a in 0..g {
+                    for b in a + 1..g {
+                        better |= exchange(c, &targets, choice, h, k, term, a, b).is_some();
                     }
                 }
             }
@@ -1571,19 +1620,6 @@ impl Targets<'_> {
         f(NONE);
     }
 
-    /// The multiplets group `gi` may take, ascending (without [`NONE`],
-    /// which every group may take); `every` holds 0, 1, .. at least to
-    /// m - 1 (`m` multiplets).
-    #[inline(always)]
-    fn list<'s>(&'s self, gi: usize, m: usize, every: &'s [u16]) -> &'s [u16] {
-        match self {
-            Targets::All => &every[..m],
-            Targets::Listed { start, lines, .. } => {
-                &lines[start[gi] as usize..start[gi + 1] as usize]
-            }
-        }
-    }
-
     #[inline(always)]
     fn allows(&self, gi: usize, j: u16) -> bool {
         match self {
@@ -1607,13 +1643,22 @@ pub(crate) fn marginal(
     local: &mut Local,
 ) {
     let m = c.multiplets;
-    let Local { term, every, .. } = local;
+    let term = &mut local.term;
     terms(c, h, k, term);
-    fill_every(every, m);
-    for &gi in order {
-        let hg = c.hydrogens[gi];
+    // The multiplet (or none) where group gi adds least, over `targets`
+    // ascending (the first of equal costs stays).
+    #[inline(always)]
+    fn cheapest(
+        c: &CostsRef,
+        gi: usize,
+        h: &[u32],
+        k: &[u32],
+        term: &[f64],
+        targets: impl Iterator<Item = u16>,
+    ) -> (f64, u16) {
+        let (m, hg) = (c.multiplets, c.hydrogens[gi]);
         let mut best = (c.unassigned[gi], NONE);
-        for &j in targets.list(gi, m, every) {
+        for j in targets {
             let ju = j as usize;
             // The floor first ([`CostsRef::floor`]).
             if !(c.pair[gi * m + ju] + c.floor(ju, k[ju] + 1) - term[ju] < best.0) {
@@ -1624,6 +1669,23 @@ pub(crate) fn marginal(
                 best = (added, j);
             }
         }
+        best
+    }
+    for &gi in order {
+        let hg = c.hydrogens[gi];
+        let best = match targets {
+            Targets::All => cheapest(c, gi, h, k, term, 0..m as u16),
+            Targets::Listed { start, lines, .. } => cheapest(
+                c,
+                gi,
+                h,
+                k,
+                term,
+                lines[start[gi] as usize..start[gi + 1] as usize]
+                    .iter()
+                    .copied(),
+            ),
+        };
         out[gi] = best.1;
         if best.1 != NONE {
             let j = best.1 as usize;
@@ -1633,6 +1695,10 @@ pub(crate) fn marginal(
         }
     }
 }
+
+/// Up to this many groups the local search tries the exchanges over every
+/// pair even with listed targets (the bit sets cost more than they save).
+const EVERY_PAIR_UP_TO: usize = 16;
 
 /// A move of the local search must gain at least this much (no cycling on
 /// rounding), and the local search stops after this many passes.

@@ -93,7 +93,6 @@ pub(crate) struct Split {
     order: Vec<usize>,
     h: Vec<u32>,
     k: Vec<u32>,
-    local: Local,
     /// The current part's numbers.
     costs: Costs,
     matching: Matching,
@@ -120,7 +119,8 @@ impl Split {
     /// group on its cheapest option, the marginal one, and the better of
     /// the two after local search) and label the components; `cheapest` is
     /// each group's cheapest option, `extra` per multiplet the least extra
-    /// a group pays to go there instead, and `root` the root bound. Returns the
+    /// a group pays to go there instead, `root` the root bound and `local`
+    /// the heuristics' scratch. Returns the
     /// number of components, or `None` when one of them holds every group.
     pub fn parts(
         &mut self,
@@ -128,6 +128,7 @@ impl Split {
         cheapest: &[f64],
         extra: &[f64],
         root: f64,
+        local: &mut Local,
     ) -> Option<usize> {
         let (g, m) = (c.groups, c.multiplets);
         if g < 2 || m == 0 {
@@ -190,7 +191,7 @@ impl Split {
             &mut self.h,
             &mut self.k,
             &mut self.trial,
-            &mut self.local,
+            local,
         );
         refill(&mut self.h, m, 0);
         refill(&mut self.k, m, 0);
@@ -202,14 +203,7 @@ impl Split {
         self.trial.copy_from_slice(&self.known);
         refill(&mut self.h, m, 0);
         refill(&mut self.k, m, 0);
-        let cost = improve(
-            c,
-            &mut self.trial,
-            &mut self.h,
-            &mut self.k,
-            targets,
-            &mut self.local,
-        );
+        let cost = improve(c, &mut self.trial, &mut self.h, &mut self.k, targets, local);
         if cost < known_cost {
             self.known.copy_from_slice(&self.trial);
             known_cost = cost;
@@ -230,14 +224,7 @@ impl Split {
                 allowed: &self.allowed,
                 m,
             };
-            let cost = improve(
-                c,
-                &mut trial,
-                &mut self.h,
-                &mut self.k,
-                targets,
-                &mut self.local,
-            );
+            let cost = improve(c, &mut trial, &mut self.h, &mut self.k, targets, local);
             if cost < known_cost {
                 self.known.copy_from_slice(&trial);
                 known_cost = cost;
