@@ -161,6 +161,7 @@ impl Costs {
 impl CostsRef<'_> {
     /// Integral cost of multiplet j holding h H (0 without an observed
     /// integral).
+    #[inline]
     pub fn integral(&self, j: usize, h: u32) -> f64 {
         match self.observed_h[j] {
             Some(i) => {
@@ -173,12 +174,25 @@ impl CostsRef<'_> {
     }
 
     /// Final cost of multiplet j holding k groups with h H.
+    #[inline]
     pub fn multiplet(&self, j: usize, h: u32, k: u32) -> f64 {
         if k == 0 {
             self.empty[j]
         } else {
             self.integral(j, h) + self.overlap[j] * (k - 1) as f64
         }
+    }
+
+    /// A floor under `multiplet(j, h, k)` for k >= 1 whatever h: its
+    /// overlap part, the very product `multiplet` adds its integral part
+    /// (>= 0) to. Rounding is monotone, so a sum computed with the floor in
+    /// place of the term, in the same order, is a floor under the sum with
+    /// the term: the heuristics skip a trial whose floor already fails,
+    /// with the same outcome as computing it (also when the term is NaN,
+    /// which fails every test).
+    #[inline]
+    pub(crate) fn floor(&self, j: usize, k: u32) -> f64 {
+        self.overlap[j] * (k - 1) as f64
     }
 
     /// Total cost of a complete assignment; `h` and `k` are zeroed scratch
@@ -253,6 +267,9 @@ const BOUND_SLACK: f64 = 1e-9;
 #[derive(Clone, Debug, Default)]
 pub struct Workspace {
     min_choice: Vec<f64>,
+    /// Per multiplet: the least extra a group pays to go there (of the
+    /// root bound).
+    root_extra: Vec<f64>,
     order: Vec<usize>,
     /// Per depth: the first depth of its class of identical groups.
     class_start: Vec<usize>,
@@ -285,6 +302,7 @@ pub struct Workspace {
     trial: Vec<u16>,
     trial_h: Vec<u32>,
     trial_k: Vec<u32>,
+    local: Local,
     /// Per depth d, per multiplet: its line-bound term at depth d + 1 before
     /// the group at depth d is placed.
     line_terms: Vec<f64>,
@@ -341,6 +359,39 @@ impl Workspace {
     }
 }
 
+impl Workspace {
+    /// Room for searches of up to `g` groups and `m` multiplets in the
+    /// buffers that grow with them, so that a fresh workspace searching
+    /// parts of rising size allocates each once.
+    fn reserve_for(&mut self, g: usize, m: usize) {
+        fn room<T>(v: &mut Vec<T>, n: usize) {
+            v.reserve(n.saturating_sub(v.len()));
+        }
+        room(&mut self.min_choice, g);
+        room(&mut self.root_extra, m);
+        room(&mut self.order, g);
+        room(&mut self.class_start, g);
+        room(&mut self.class_of, g);
+        room(&mut self.options, g * (m + 1));
+        room(&mut self.greedy, g);
+        room(&mut self.suffix_min, g + 1);
+        room(&mut self.suffix_h, g + 1);
+        room(&mut self.suffix_extra, (g + 1) * m);
+        room(&mut self.sigma2, m);
+        room(&mut self.twin, m);
+        room(&mut self.count, g * m);
+        room(&mut self.tie, g * m);
+        room(&mut self.h, m);
+        room(&mut self.k, m);
+        room(&mut self.current, g);
+        room(&mut self.position, g);
+        room(&mut self.best_choice, g);
+        room(&mut self.trial, g);
+        room(&mut self.line_terms, g * m);
+        room(&mut self.local.term, m);
+    }
+}
+
 pub(crate) fn refill<T: Copy>(v: &mut Vec<T>, n: usize, x: T) {
     v.clear();
     v.resize(n, x);
@@ -366,6 +417,28 @@ pub fn root_bound(c: &CostsRef, min_choice: &mut Vec<f64>) -> f64 {
                 c.empty[j].min(extra)
             })
             .sum::<f64>()
+}
+
+/// [`root_bound`] row by row, also leaving in `extra` the least extra a
+/// group pays to go to each multiplet instead of to its cheapest option
+/// (the split's reduced costs reuse it). The same minima in the same order
+/// (groups ascending per multiplet) and the same sum, so the same bits.
+fn root_bound_in(c: &CostsRef, min_choice: &mut Vec<f64>, extra: &mut Vec<f64>) -> f64 {
+    let (g, m) = (c.groups, c.multiplets);
+    min_choice.clear();
+    min_choice.extend((0..g).map(|gi| {
+        c.pair[gi * m..(gi + 1) * m]
+            .iter()
+            .fold(c.unassigned[gi], |a, &b| a.min(b))
+    }));
+    refill(extra, m, f64::INFINITY);
+    for (gi, &least) in min_choice.iter().enumerate() {
+        let row = &c.pair[gi * m..(gi + 1) * m];
+        for (e, &p) in extra.iter_mut().zip(row) {
+            *e = e.min(p - least);
+        }
+    }
+    min_choice.iter().sum::<f64>() + (0..m).map(|j| c.empty[j].min(extra[j])).sum::<f64>()
 }
 
 /// Sum of the `n` largest of `gains` (all of them when there are no more).
@@ -472,7 +545,7 @@ fn run(
     ws.lines.root = None;
     // Cheap root bound first: most candidates of a large enumeration are
     // hopeless and leave here before any sorting or search.
-    let root = root_bound(c, &mut ws.min_choice);
+    let root = root_bound_in(c, &mut ws.min_choice, &mut ws.root_extra);
     if root >= cutoff {
         return Outcome::Nothing;
     }
@@ -506,6 +579,7 @@ fn run(
         trial,
         trial_h,
         trial_k,
+        local,
         line_terms,
         nodes,
         ..
@@ -540,6 +614,7 @@ fn run(
     // identical multiplets tie on cost and stay in index order.
     let stride = m + 1;
     options.clear();
+    options.reserve(g * stride);
     for &gi in order.iter() {
         let from = options.len();
         options.extend((0..m).map(|j| (c.pair[gi * m + j], j as u16)));
@@ -563,7 +638,7 @@ fn run(
     refill(h, m, 0);
     refill(k, m, 0);
     refill(current, g, NONE);
-    marginal(c, order, Targets::All, h, k, current);
+    marginal(c, order, Targets::All, h, k, current, local);
     refill(h, m, 0);
     refill(k, m, 0);
     let marginal_cost = c.evaluate_in(current, h, k);
@@ -578,7 +653,7 @@ fn run(
     refill(h, m, 0);
     refill(k, m, 0);
     trial.clone_from(greedy);
-    let improved = improve(c, trial, h, k, Targets::All);
+    let improved = improve(c, trial, h, k, Targets::All, local);
     if improved < greedy_cost {
         greedy.copy_from_slice(trial);
         greedy_cost = improved;
@@ -649,6 +724,7 @@ fn run(
         trial,
         trial_h,
         trial_k,
+        local,
         line_terms,
         found,
         nodes: 0,
@@ -681,7 +757,9 @@ fn run_split(
     tuning: Tuning,
 ) -> Option<Outcome> {
     let (g, m) = (c.groups, c.multiplets);
-    let parts = ws.split.parts(c, &ws.min_choice, root)?;
+    let parts = ws
+        .split
+        .parts(c, &ws.min_choice, &ws.root_extra, root, &mut ws.local)?;
     ws.parts = parts;
     let Workspace {
         min_choice,
@@ -691,9 +769,22 @@ fn run_split(
         h,
         k,
         nodes,
+        local,
         ..
     } = ws;
     let part = part.get_or_insert_with(Default::default);
+    // The heuristics' scratch goes to the parts' searches while they run
+    // (one set of buffers for the whole solve).
+    std::mem::swap(local, &mut part.local);
+    // The largest of the parts searched (those of two groups or more).
+    let most = (0..parts).fold((0, 0), |(a, b), p| match split.members(p) {
+        (gs, ls) if gs.len() > 1 => (a.max(gs.len()), b.max(ls.len())),
+        _ => (a, b),
+    });
+    if most.0 > 0 {
+        part.reserve_for(most.0, most.1);
+        split.reserve_parts(most.0, most.1);
+    }
     refill(best_choice, g, NONE);
     let tuning = Tuning {
         split: false,
@@ -703,52 +794,59 @@ fn run_split(
     // root bound is the sum of the parts' shares and the lone multiplets').
     let slack = 1e-9 * (1.0 + cutoff.abs());
     let (mut left, mut spent) = (root, 0.0);
-    for p in 0..parts {
-        let (gs, ls) = split.members(p);
-        if gs.is_empty() {
-            continue;
-        }
-        left -= split.lower(c, min_choice, p);
-        let below = cutoff - spent - left + slack;
-        if let [one] = *gs {
-            // One group: its options side by side (none first, then the
-            // multiplets in order; the first of equal costs stays).
-            let gi = one as usize;
-            let empty: f64 = ls.iter().map(|&j| c.empty[j as usize]).sum();
-            let mut best = (c.unassigned[gi] + empty, NONE);
-            for &j in ls {
-                let ju = j as usize;
-                let cost =
-                    c.pair[gi * m + ju] + c.multiplet(ju, c.hydrogens[gi], 1) + empty - c.empty[ju];
-                if cost < best.0 {
-                    best = (cost, j as u16);
+    let failed = 'parts: {
+        for p in 0..parts {
+            let (gs, ls) = split.members(p);
+            if gs.is_empty() {
+                continue;
+            }
+            left -= split.lower(c, min_choice, p);
+            let below = cutoff - spent - left + slack;
+            if let [one] = *gs {
+                // One group: its options side by side (none first, then the
+                // multiplets in order; the first of equal costs stays).
+                let gi = one as usize;
+                let empty: f64 = ls.iter().map(|&j| c.empty[j as usize]).sum();
+                let mut best = (c.unassigned[gi] + empty, NONE);
+                for &j in ls {
+                    let ju = j as usize;
+                    let cost = c.pair[gi * m + ju] + c.multiplet(ju, c.hydrogens[gi], 1) + empty
+                        - c.empty[ju];
+                    if cost < best.0 {
+                        best = (cost, j as u16);
+                    }
                 }
+                *nodes += 1;
+                if best.0 >= below {
+                    break 'parts Some(Outcome::Nothing);
+                }
+                spent += best.0;
+                best_choice[gi] = best.1;
+                continue;
             }
-            *nodes += 1;
-            if best.0 >= below {
-                return Some(Outcome::Nothing);
-            }
-            spent += best.0;
-            best_choice[gi] = best.1;
-            continue;
-        }
-        let out = {
-            let view = split.view(c, p);
-            run(&view, below, part, false, max_nodes, tuning)
-        };
-        *nodes += part.nodes;
-        let Outcome::Below(cost) = out else {
-            return Some(out);
-        };
-        spent += cost;
-        let (gs, ls) = split.members(p);
-        for (&x, &j) in gs.iter().zip(&part.best_choice) {
-            best_choice[x as usize] = if j == NONE {
-                NONE
-            } else {
-                ls[j as usize] as u16
+            let out = {
+                let view = split.view(c, p);
+                run(&view, below, part, false, max_nodes, tuning)
             };
+            *nodes += part.nodes;
+            let Outcome::Below(cost) = out else {
+                break 'parts Some(out);
+            };
+            spent += cost;
+            let (gs, ls) = split.members(p);
+            for (&x, &j) in gs.iter().zip(&part.best_choice) {
+                best_choice[x as usize] = if j == NONE {
+                    NONE
+                } else {
+                    ls[j as usize] as u16
+                };
+            }
         }
+        None
+    };
+    std::mem::swap(local, &mut part.local);
+    if failed.is_some() {
+        return failed;
     }
     refill(h, m, 0);
     refill(k, m, 0);
@@ -791,6 +889,7 @@ struct Search<'a> {
     trial: &'a mut Vec<u16>,
     trial_h: &'a mut Vec<u32>,
     trial_k: &'a mut Vec<u32>,
+    local: &'a mut Local,
     line_terms: &'a mut Vec<f64>,
     found: bool,
     nodes: u64,
@@ -928,7 +1027,14 @@ impl Search<'_> {
             self.trial.extend_from_slice(choice);
             refill(self.trial_h, m, 0);
             refill(self.trial_k, m, 0);
-            let cost = improve(c, self.trial, self.trial_h, self.trial_k, Targets::All);
+            let cost = improve(
+                c,
+                self.trial,
+                self.trial_h,
+                self.trial_k,
+                Targets::All,
+                self.local,
+            );
             if cost < self.best {
                 self.best = cost;
                 self.found = true;
@@ -1200,16 +1306,178 @@ impl Search<'_> {
     }
 }
 
+/// Scratch of the heuristics ([`improve`], [`marginal`]), kept between
+/// calls.
+#[derive(Clone, Debug, Default)]
+pub(crate) struct Local {
+    /// Per multiplet: its current term f_j(H, k), kept in step with `h` and
+    /// `k` (the same function of the same numbers, so the same bits as
+    /// computing it afresh).
+    term: Vec<f64>,
+    /// Per multiplet, then one row for [`NONE`]: a bit set of the groups
+    /// placed there (`words` u64 per row), for the exchanges over listed
+    /// targets.
+    on: Vec<u64>,
+}
+
+/// Fill `term` with every multiplet's term at the sums `h`, `k`.
+fn terms(c: &CostsRef, h: &[u32], k: &[u32], term: &mut Vec<f64>) {
+    term.clear();
+    term.extend((0..c.multiplets).map(|j| c.multiplet(j, h[j], k[j])));
+}
+
+/// Group `gi`'s own cost on multiplet j (its pair cost, or its unassigned
+/// cost for [`NONE`]).
+#[inline(always)]
+fn own(c: &CostsRef, gi: usize, j: u16) -> f64 {
+    if j == NONE {
+        c.unassigned[gi]
+    } else {
+        c.pair[gi * c.multiplets + j as usize]
+    }
+}
+
+/// Change of multiplet j's term when its H grow by `dh` and its groups by
+/// `dk` (none for [`NONE`]); `term` holds the terms at `h`, `k`.
+#[inline(always)]
+fn change(c: &CostsRef, h: &[u32], k: &[u32], term: &[f64], j: u16, dh: i64, dk: i64) -> f64 {
+    if j == NONE {
+        return 0.0;
+    }
+    let j = j as usize;
+    let (h0, k0) = (h[j] as i64, k[j] as i64);
+    c.multiplet(j, (h0 + dh) as u32, (k0 + dk) as u32) - term[j]
+}
+
+/// The exchange of groups a < b in the local search, made when it lowers
+/// the total: places, sums and terms updated; returns the two multiplets a
+/// and b left.
+#[allow(clippy::too_many_arguments)]
+#[inline(always)]
+fn exchange(
+    c: &CostsRef,
+    targets: &Targets,
+    choice: &mut [u16],
+    h: &mut [u32],
+    k: &[u32],
+    term: &mut [f64],
+    a: usize,
+    b: usize,
+) -> Option<(u16, u16)> {
+    let (ja, jb) = (choice[a], choice[b]);
+    // The cheap tests first (all are pure, so the order does not change
+    // the result): with short lists most pairs fail `allows` at once.
+    if ja == jb || !targets.allows(a, jb) || !targets.allows(b, ja) {
+        return None;
+    }
+    let (ha, hb) = (c.hydrogens[a] as i64, c.hydrogens[b] as i64);
+    if ha == hb && own(c, a, jb) + own(c, b, ja) >= own(c, a, ja) + own(c, b, jb) {
+        return None;
+    }
+    // The floor of the two changes first ([`CostsRef::floor`]; each
+    // multiplet keeps its k >= 1).
+    let floor = |j: u16| {
+        if j == NONE {
+            0.0
+        } else {
+            let j = j as usize;
+            c.floor(j, k[j]) - term[j]
+        }
+    };
+    let swapped = own(c, a, jb) + own(c, b, ja) - own(c, a, ja) - own(c, b, jb);
+    if !(swapped + floor(ja) + floor(jb) < -IMPROVE_EPS) {
+        return None;
+    }
+    let delta =
+        swapped + change(c, h, k, term, ja, hb - ha, 0) + change(c, h, k, term, jb, ha - hb, 0);
+    if delta < -IMPROVE_EPS {
+        for (j, dh) in [(ja, hb - ha), (jb, ha - hb)] {
+            if j != NONE {
+                let j = j as usize;
+                h[j] = (h[j] as i64 + dh) as u32;
+                term[j] = c.multiplet(j, h[j], k[j]);
+            }
+        }
+        choice.swap(a, b);
+        // `swap` exchanged the groups' places: a now sits on jb.
+        return Some((ja, jb));
+    }
+    None
+}
+
+/// The moves of group `gi` from `from` in the local search (`hg` its H,
+/// `leave` what leaving saves).
+struct Move {
+    gi: usize,
+    from: u16,
+    hg: i64,
+    leave: f64,
+}
+
+impl Move {
+    /// The best move lowering the total, to one of `targets` (ascending)
+    /// or then to none: (its change of the total, where), or (0, `from`).
+    #[inline(always)]
+    fn best(
+        &self,
+        c: &CostsRef,
+        h: &[u32],
+        k: &[u32],
+        term: &[f64],
+        targets: impl Iterator<Item = u16>,
+    ) -> (f64, u16) {
+        let Move {
+            gi,
+            from,
+            hg,
+            leave,
+        } = *self;
+        let mut best = (0.0, from);
+        for to in targets {
+            if to != from {
+                // The floor of the change first (`to` gains a group;
+                // [`CostsRef::floor`]).
+                let j = to as usize;
+                let floor = own(c, gi, to) + (c.floor(j, k[j] + 1) - term[j]) - leave;
+                if !(floor < best.0 - IMPROVE_EPS) {
+                    continue;
+                }
+                let delta = own(c, gi, to) + change(c, h, k, term, to, hg, 1) - leave;
+                if delta < best.0 - IMPROVE_EPS {
+                    best = (delta, to);
+                }
+            }
+        }
+        if from != NONE {
+            let delta = own(c, gi, NONE) + change(c, h, k, term, NONE, hg, 1) - leave;
+            if delta < best.0 - IMPROVE_EPS {
+                best = (delta, NONE);
+            }
+        }
+        best
+    }
+}
+
 /// Local search: move one group to another multiplet (or none), or exchange
 /// the places of two groups, while that lowers the total; `choice` is
 /// changed in place and its cost returned. `h` and `k` are zeroed scratch of
 /// length `multiplets` (left holding the final sums).
+///
+/// Each pass tries the moves group by group, then the exchanges pair by
+/// pair (a < b, in index order). With listed targets only pairs where each
+/// group may take the other's place can exchange, and b may take a's place
+/// only when b's multiplet (or none) is on a's list; with more than
+/// [`EVERY_PAIR_UP_TO`] groups those b are read from per-multiplet bit sets
+/// of the groups placed there instead of testing every pair. The set of such b > a stays fixed while a's exchanges run
+/// (only a and the b just visited change places), so the pairs are visited
+/// in the same order with the same outcome as over every pair.
 pub(crate) fn improve(
     c: &CostsRef,
     choice: &mut [u16],
     h: &mut [u32],
     k: &mut [u32],
     targets: Targets,
+    local: &mut Local,
 ) -> f64 {
     let (g, m) = (c.groups, c.multiplets);
     for (gi, &j) in choice.iter().enumerate() {
@@ -1218,23 +1486,10 @@ pub(crate) fn improve(
             k[j as usize] += 1;
         }
     }
-    let own = |gi: usize, j: u16| {
-        if j == NONE {
-            c.unassigned[gi]
-        } else {
-            c.pair[gi * m + j as usize]
-        }
-    };
-    // Change of multiplet j's term when its H grow by `dh` and its groups
-    // by `dk` (none for NONE).
-    let change = |h: &[u32], k: &[u32], j: u16, dh: i64, dk: i64| {
-        if j == NONE {
-            return 0.0;
-        }
-        let j = j as usize;
-        let (h0, k0) = (h[j] as i64, k[j] as i64);
-        c.multiplet(j, (h0 + dh) as u32, (k0 + dk) as u32) - c.multiplet(j, h[j], k[j])
-    };
+    let Local { term, on } = local;
+    terms(c, h, k, term);
+    let words = g.div_ceil(64);
+    let row = |j: u16| if j == NONE { m } else { j as usize } * words;
     let mut passes = 0;
     loop {
         passes += 1;
@@ -1243,55 +1498,83 @@ pub(crate) fn improve(
             let from = *place;
             let hg = c.hydrogens[gi] as i64;
             // What leaving `from` saves (own cost, and the term's change).
-            let leave = own(gi, from) - change(h, k, from, -hg, -1);
-            let mut best = (0.0, from);
-            targets.each(gi, m, |to| {
-                if to != from {
-                    let delta = own(gi, to) + change(h, k, to, hg, 1) - leave;
-                    if delta < best.0 - IMPROVE_EPS {
-                        best = (delta, to);
-                    }
-                }
-            });
+            let leave = own(c, gi, from) - change(c, h, k, term, from, -hg, -1);
+            let moves = Move {
+                gi,
+                from,
+                hg,
+                leave,
+            };
+            let best = match targets {
+                Targets::All => moves.best(c, h, k, term, 0..m as u16),
+                Targets::Listed { start, lines, .. } => moves.best(
+                    c,
+                    h,
+                    k,
+                    term,
+                    lines[start[gi] as usize..start[gi + 1] as usize]
+                        .iter()
+                        .copied(),
+                ),
+            };
             if best.1 != from {
                 let to = best.1;
                 if from != NONE {
-                    h[from as usize] -= c.hydrogens[gi];
-                    k[from as usize] -= 1;
+                    let j = from as usize;
+                    h[j] -= c.hydrogens[gi];
+                    k[j] -= 1;
+                    term[j] = c.multiplet(j, h[j], k[j]);
                 }
                 if to != NONE {
-                    h[to as usize] += c.hydrogens[gi];
-                    k[to as usize] += 1;
+                    let j = to as usize;
+                    h[j] += c.hydrogens[gi];
+                    k[j] += 1;
+                    term[j] = c.multiplet(j, h[j], k[j]);
                 }
                 *place = to;
                 better = true;
             }
         }
-        for a in 0..g {
-            for b in a + 1..g {
-                let (ja, jb) = (choice[a], choice[b]);
-                // The cheap tests first (all are pure, so the order does
-                // not change the result): with short lists most pairs
-                // fail `allows` at once.
-                if ja == jb || !targets.allows(a, jb) || !targets.allows(b, ja) {
-                    continue;
+        match targets {
+            Targets::Listed { start, lines, .. } if g > EVERY_PAIR_UP_TO => {
+                refill(on, (m + 1) * words, 0);
+                for (gi, &j) in choice.iter().enumerate() {
+                    on[row(j) + gi / 64] |= 1 << (gi % 64);
                 }
-                let (ha, hb) = (c.hydrogens[a] as i64, c.hydrogens[b] as i64);
-                if ha == hb && own(a, jb) + own(b, ja) >= own(a, ja) + own(b, jb) {
-                    continue;
-                }
-                let delta = own(a, jb) + own(b, ja) - own(a, ja) - own(b, jb)
-                    + change(h, k, ja, hb - ha, 0)
-                    + change(h, k, jb, ha - hb, 0);
-                if delta < -IMPROVE_EPS {
-                    for (j, dh) in [(ja, hb - ha), (jb, ha - hb)] {
-                        if j != NONE {
-                            h[j as usize] = (h[j as usize] as i64 + dh) as u32;
+                for a in 0..g {
+                    let list = &lines[start[a] as usize..start[a + 1] as usize];
+                    for w in (a + 1) / 64..words {
+                        // The groups b > a in this word placed on a's list
+                        // or on none.
+                        let mut near = on[m * words + w];
+                        for &j in list {
+                            near |= on[j as usize * words + w];
+                        }
+                        if w == (a + 1) / 64 {
+                            near &= u64::MAX << ((a + 1) % 64);
+                        }
+                        while near != 0 {
+                            let b = w * 64 + near.trailing_zeros() as usize;
+                            near &= near - 1;
+                            if let Some((ja, jb)) = exchange(c, &targets, choice, h, k, term, a, b)
+                            {
+                                on[row(ja) + a / 64] &= !(1 << (a % 64));
+                                on[row(jb) + a / 64] |= 1 << (a % 64);
+                                on[row(jb) + w] &= !(1 << (b % 64));
+                                on[row(ja) + w] |= 1 << (b % 64);
+                                better = true;
+                            }
                         }
                     }
-                    choice.swap(a, b);
-                    // `swap` exchanged the groups' places: a now sits on jb.
-                    better = true;
+                }
+            }
+            // Every pair: all targets, or too few groups to gain from
+            // the bit sets.
+            _ => {
+                for a in 0..g {
+                    for b in a + 1..g {
+                        better |= exchange(c, &targets, choice, h, k, term, a, b).is_some();
+                    }
                 }
             }
         }
@@ -1323,7 +1606,9 @@ pub(crate) enum Targets<'a> {
 }
 
 impl Targets<'_> {
-    /// Call `f` on each multiplet group `gi` may take, then on [`NONE`].
+    /// Call `f` on each multiplet group `gi` may take, then on [`NONE`]
+    /// (the order of the heuristics' trials).
+    #[cfg(test)]
     fn each(&self, gi: usize, m: usize, mut f: impl FnMut(u16)) {
         match self {
             Targets::All => (0..m as u16).for_each(&mut f),
@@ -1335,6 +1620,7 @@ impl Targets<'_> {
         f(NONE);
     }
 
+    #[inline(always)]
     fn allows(&self, gi: usize, j: u16) -> bool {
         match self {
             Targets::All => true,
@@ -1354,28 +1640,65 @@ pub(crate) fn marginal(
     h: &mut [u32],
     k: &mut [u32],
     out: &mut [u16],
+    local: &mut Local,
 ) {
     let m = c.multiplets;
+    let term = &mut local.term;
+    terms(c, h, k, term);
+    // The multiplet (or none) where group gi adds least, over `targets`
+    // ascending (the first of equal costs stays).
+    #[inline(always)]
+    fn cheapest(
+        c: &CostsRef,
+        gi: usize,
+        h: &[u32],
+        k: &[u32],
+        term: &[f64],
+        targets: impl Iterator<Item = u16>,
+    ) -> (f64, u16) {
+        let (m, hg) = (c.multiplets, c.hydrogens[gi]);
+        let mut best = (c.unassigned[gi], NONE);
+        for j in targets {
+            let ju = j as usize;
+            // The floor first ([`CostsRef::floor`]).
+            if !(c.pair[gi * m + ju] + c.floor(ju, k[ju] + 1) - term[ju] < best.0) {
+                continue;
+            }
+            let added = c.pair[gi * m + ju] + c.multiplet(ju, h[ju] + hg, k[ju] + 1) - term[ju];
+            if added < best.0 {
+                best = (added, j);
+            }
+        }
+        best
+    }
     for &gi in order {
         let hg = c.hydrogens[gi];
-        let mut best = (c.unassigned[gi], NONE);
-        targets.each(gi, m, |j| {
-            if j != NONE {
-                let ju = j as usize;
-                let added = c.pair[gi * m + ju] + c.multiplet(ju, h[ju] + hg, k[ju] + 1)
-                    - c.multiplet(ju, h[ju], k[ju]);
-                if added < best.0 {
-                    best = (added, j);
-                }
-            }
-        });
+        let best = match targets {
+            Targets::All => cheapest(c, gi, h, k, term, 0..m as u16),
+            Targets::Listed { start, lines, .. } => cheapest(
+                c,
+                gi,
+                h,
+                k,
+                term,
+                lines[start[gi] as usize..start[gi + 1] as usize]
+                    .iter()
+                    .copied(),
+            ),
+        };
         out[gi] = best.1;
         if best.1 != NONE {
-            h[best.1 as usize] += hg;
-            k[best.1 as usize] += 1;
+            let j = best.1 as usize;
+            h[j] += hg;
+            k[j] += 1;
+            term[j] = c.multiplet(j, h[j], k[j]);
         }
     }
 }
+
+/// Up to this many groups the local search tries the exchanges over every
+/// pair even with listed targets (the bit sets cost more than they save).
+const EVERY_PAIR_UP_TO: usize = 16;
 
 /// A move of the local search must gain at least this much (no cycling on
 /// rounding), and the local search stops after this many passes.
@@ -1883,5 +2206,155 @@ mod tests {
                 s.nodes
             );
         }
+    }
+
+    /// The local search as it was before the exchanges were read from bit
+    /// sets: every pair a < b tested in index order, every term computed
+    /// afresh (the reference for the test below).
+    fn improve_every_pair(
+        c: &CostsRef,
+        choice: &mut [u16],
+        h: &mut [u32],
+        k: &mut [u32],
+        targets: Targets,
+    ) -> f64 {
+        let (g, m) = (c.groups, c.multiplets);
+        for (gi, &j) in choice.iter().enumerate() {
+            if j != NONE {
+                h[j as usize] += c.hydrogens[gi];
+                k[j as usize] += 1;
+            }
+        }
+        let own = |gi: usize, j: u16| {
+            if j == NONE {
+                c.unassigned[gi]
+            } else {
+                c.pair[gi * m + j as usize]
+            }
+        };
+        let change = |h: &[u32], k: &[u32], j: u16, dh: i64, dk: i64| {
+            if j == NONE {
+                return 0.0;
+            }
+            let j = j as usize;
+            let (h0, k0) = (h[j] as i64, k[j] as i64);
+            c.multiplet(j, (h0 + dh) as u32, (k0 + dk) as u32) - c.multiplet(j, h[j], k[j])
+        };
+        let mut passes = 0;
+        loop {
+            passes += 1;
+            let mut better = false;
+            for (gi, place) in choice.iter_mut().enumerate() {
+                let from = *place;
+                let hg = c.hydrogens[gi] as i64;
+                let leave = own(gi, from) - change(h, k, from, -hg, -1);
+                let mut best = (0.0, from);
+                targets.each(gi, m, |to| {
+                    if to != from {
+                        let delta = own(gi, to) + change(h, k, to, hg, 1) - leave;
+                        if delta < best.0 - IMPROVE_EPS {
+                            best = (delta, to);
+                        }
+                    }
+                });
+                if best.1 != from {
+                    let to = best.1;
+                    if from != NONE {
+                        h[from as usize] -= c.hydrogens[gi];
+                        k[from as usize] -= 1;
+                    }
+                    if to != NONE {
+                        h[to as usize] += c.hydrogens[gi];
+                        k[to as usize] += 1;
+                    }
+                    *place = to;
+                    better = true;
+                }
+            }
+            for a in 0..g {
+                for b in a + 1..g {
+                    let (ja, jb) = (choice[a], choice[b]);
+                    if ja == jb || !targets.allows(a, jb) || !targets.allows(b, ja) {
+                        continue;
+                    }
+                    let (ha, hb) = (c.hydrogens[a] as i64, c.hydrogens[b] as i64);
+                    if ha == hb && own(a, jb) + own(b, ja) >= own(a, ja) + own(b, jb) {
+                        continue;
+                    }
+                    let delta = own(a, jb) + own(b, ja) - own(a, ja) - own(b, jb)
+                        + change(h, k, ja, hb - ha, 0)
+                        + change(h, k, jb, ha - hb, 0);
+                    if delta < -IMPROVE_EPS {
+                        for (j, dh) in [(ja, hb - ha), (jb, ha - hb)] {
+                            if j != NONE {
+                                h[j as usize] = (h[j as usize] as i64 + dh) as u32;
+                            }
+                        }
+                        choice.swap(a, b);
+                        better = true;
+                    }
+                }
+            }
+            if !better || passes >= IMPROVE_PASSES {
+                break;
+            }
+        }
+        for x in h.iter_mut().chain(k.iter_mut()) {
+            *x = 0;
+        }
+        c.evaluate_in(choice, h, k)
+    }
+
+    // Reference: the local search over every pair with every term computed
+    // afresh (`improve_every_pair`, the code before the bit sets); the
+    // result must be the same to the bit, move for move.
+    #[test]
+    fn local_search_over_bit_sets_equals_every_pair() {
+        let mut st = 0x2f6b_1d3a_95c7_0e41u64;
+        let (mut changed, mut local) = (0, Local::default());
+        for round in 0..400 {
+            // Up to 140 groups: bit sets of one to three words.
+            let c = random(&mut st, if round % 4 == 0 { 140 } else { 40 }, 12);
+            let (g, m) = (c.groups, c.multiplets);
+            let density = 0.1 + 0.6 * rng(&mut st);
+            let (mut start, mut lines, mut allowed) = (vec![0u32], vec![], vec![false; g * m]);
+            for gi in 0..g {
+                for j in 0..m {
+                    if rng(&mut st) < density {
+                        lines.push(j as u16);
+                        allowed[gi * m + j] = true;
+                    }
+                }
+                start.push(lines.len() as u32);
+            }
+            let listed = Targets::Listed {
+                start: &start,
+                lines: &lines,
+                allowed: &allowed,
+                m,
+            };
+            let first: Vec<u16> = (0..g)
+                .map(|_| {
+                    let x = (rng(&mut st) * (m + 1) as f64) as usize;
+                    if x >= m {
+                        NONE
+                    } else {
+                        x as u16
+                    }
+                })
+                .collect();
+            for targets in [Targets::All, listed] {
+                let (mut a, mut b) = (first.clone(), first.clone());
+                let (mut h, mut k) = (vec![0; m], vec![0; m]);
+                let new = improve(&c.view(), &mut a, &mut h, &mut k, targets, &mut local);
+                let (mut h, mut k) = (vec![0; m], vec![0; m]);
+                let old = improve_every_pair(&c.view(), &mut b, &mut h, &mut k, targets);
+                assert_eq!(a, b);
+                assert_eq!(new.to_bits(), old.to_bits());
+                changed += usize::from(a != first);
+            }
+        }
+        // The instances did move groups (not a test of an idle search).
+        assert!(changed > 400, "{changed}");
     }
 }

@@ -49,7 +49,7 @@
 //! caller searches the whole problem) when one component would hold every
 //! group.
 
-use super::assign::{improve, marginal, refill, Costs, CostsRef, Targets, NONE};
+use super::assign::{improve, marginal, refill, Costs, CostsRef, Local, Targets, NONE};
 use super::matching::Matching;
 
 /// Relative margin by which a test must hold before a pair is set aside
@@ -118,15 +118,25 @@ impl Split {
     /// against the best of three assignments found on the pairs left: each
     /// group on its cheapest option, the marginal one, and the better of
     /// the two after local search) and label the components; `cheapest` is
-    /// each group's cheapest option and `root` the root bound. Returns the
+    /// each group's cheapest option, `extra` per multiplet the least extra
+    /// a group pays to go there instead, `root` the root bound and `local`
+    /// the heuristics' scratch. Returns the
     /// number of components, or `None` when one of them holds every group.
-    pub fn parts(&mut self, c: &CostsRef, cheapest: &[f64], root: f64) -> Option<usize> {
+    pub fn parts(
+        &mut self,
+        c: &CostsRef,
+        cheapest: &[f64],
+        extra: &[f64],
+        root: f64,
+        local: &mut Local,
+    ) -> Option<usize> {
         let (g, m) = (c.groups, c.multiplets);
         if g < 2 || m == 0 {
             return None;
         }
         let h_min = c.hydrogens.iter().copied().min().unwrap_or(0);
-        refill(&mut self.extra, m, f64::INFINITY);
+        self.extra.clear();
+        self.extra.extend_from_slice(extra);
         self.slack.clear();
         self.slack.extend((0..m).map(|j| {
             let fill = c.integral(j, h_min) - c.overlap[j];
@@ -136,16 +146,17 @@ impl Split {
         // cheapest option (the search's first: lowest index among equals,
         // none last).
         self.start.clear();
+        self.start.reserve(g + 1);
         self.start.push(0);
         self.list.clear();
+        self.list.reserve(g * m);
         refill(&mut self.known, g, NONE);
         refill(&mut self.allowed, g * m, false);
-        for (gi, &least) in cheapest.iter().enumerate().take(g) {
+        for gi in 0..g {
             let row = &c.pair[gi * m..(gi + 1) * m];
             let dominated = c.unassigned[gi] + MARGIN * (1.0 + c.unassigned[gi].abs());
             let mut best = (c.unassigned[gi], NONE);
             for (j, &p) in row.iter().enumerate() {
-                self.extra[j] = self.extra[j].min(p - least);
                 if p <= dominated + self.slack[j] {
                     self.list.push(j as u16);
                     self.allowed[gi * m + j] = true;
@@ -180,6 +191,7 @@ impl Split {
             &mut self.h,
             &mut self.k,
             &mut self.trial,
+            local,
         );
         refill(&mut self.h, m, 0);
         refill(&mut self.k, m, 0);
@@ -191,7 +203,7 @@ impl Split {
         self.trial.copy_from_slice(&self.known);
         refill(&mut self.h, m, 0);
         refill(&mut self.k, m, 0);
-        let cost = improve(c, &mut self.trial, &mut self.h, &mut self.k, targets);
+        let cost = improve(c, &mut self.trial, &mut self.h, &mut self.k, targets, local);
         if cost < known_cost {
             self.known.copy_from_slice(&self.trial);
             known_cost = cost;
@@ -212,7 +224,7 @@ impl Split {
                 allowed: &self.allowed,
                 m,
             };
-            let cost = improve(c, &mut trial, &mut self.h, &mut self.k, targets);
+            let cost = improve(c, &mut trial, &mut self.h, &mut self.k, targets, local);
             if cost < known_cost {
                 self.known.copy_from_slice(&trial);
                 known_cost = cost;
@@ -323,6 +335,21 @@ impl Split {
                 .sum::<f64>()
     }
 
+    /// Room in the part buffers for parts of up to `g` groups and `m`
+    /// multiplets (each buffer then allocates once).
+    pub fn reserve_parts(&mut self, g: usize, m: usize) {
+        let part = &mut self.costs;
+        part.pair.reserve((g * m).saturating_sub(part.pair.len()));
+        part.unassigned
+            .reserve(g.saturating_sub(part.unassigned.len()));
+        part.hydrogens
+            .reserve(g.saturating_sub(part.hydrogens.len()));
+        part.observed_h
+            .reserve(m.saturating_sub(part.observed_h.len()));
+        part.empty.reserve(m.saturating_sub(part.empty.len()));
+        part.overlap.reserve(m.saturating_sub(part.overlap.len()));
+    }
+
     /// Copy component `p`'s numbers into the part buffers and view them.
     pub fn view<'s>(&'s mut self, c: &CostsRef, p: usize) -> CostsRef<'s> {
         let (g0, g1) = (
@@ -336,6 +363,7 @@ impl Split {
         part.groups = g1 - g0;
         part.multiplets = l1 - l0;
         part.pair.clear();
+        part.pair.reserve(groups.len() * lines.len());
         for &gi in groups {
             let row = &c.pair[gi as usize * m..];
             part.pair.extend(lines.iter().map(|&j| row[j as usize]));
