@@ -352,6 +352,16 @@ impl Constraints {
 mod tests {
     use super::*;
 
+    /// Benzaldehyde in CDCl3 (from memory): 192.3 (CH), 136.4 (C), 134.4
+    /// (CH), 129.7 (CH, 2C), 129.0 (CH, 2C).
+    const BENZALDEHYDE: [(f64, Option<u8>, u32); 5] = [
+        (192.3, Some(1), 1),
+        (136.4, Some(0), 1),
+        (134.4, Some(1), 1),
+        (129.7, Some(1), 2),
+        (129.0, Some(1), 2),
+    ];
+
     fn classes(set: u8) -> Vec<&'static str> {
         CarbonClass::ALL
             .iter()
@@ -481,13 +491,7 @@ mod tests {
         // 129.7 (CH, 2C), 129.0 (CH, 2C). The aldehyde carbon's C=O serves
         // it alone: (7 + 1) / 2 = 4 pi bonds, so of DBE 5 at most 1 ring.
         let f = Formula::parse("C7H6O").unwrap();
-        let lines = [
-            (192.3, Some(1), 1),
-            (136.4, Some(0), 1),
-            (134.4, Some(1), 1),
-            (129.7, Some(1), 2),
-            (129.0, Some(1), 2),
-        ];
+        let lines = BENZALDEHYDE;
         let c = carbon_facts(&lines, &f).unwrap().classes.unwrap();
         assert_eq!(c.lo[CarbonClass::Carbonyl.index()], 1);
         assert_eq!((c.single_hi, c.least_pi(7)), (0, 4));
@@ -527,13 +531,7 @@ mod tests {
         assert_eq!(forced[CarbonClass::Sp2.index()], 1);
         // Benzaldehyde (from memory, as above) in full: the aldehyde CH is a
         // carbonyl, and with the one O taken the six ring carbons are sp2.
-        let lines = [
-            (192.3, Some(1), 1),
-            (136.4, Some(0), 1),
-            (134.4, Some(1), 1),
-            (129.7, Some(1), 2),
-            (129.0, Some(1), 2),
-        ];
+        let lines = BENZALDEHYDE;
         let c = carbon_facts(&lines, &f).unwrap().classes.unwrap();
         assert_eq!(c.lo[CarbonClass::Carbonyl.index()], 1);
         assert_eq!(c.hi[CarbonClass::Carbonyl.index()], 1);

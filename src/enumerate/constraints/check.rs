@@ -449,8 +449,8 @@ impl Work {
     }
 
     /// How many carbons fall in each [`CarbonClass`] (after `perceive`).
-    /// Carbons per class, and per class and H count (an H count above
-    /// [`MAX_H`] is counted as `MAX_H`, which no bound lets pass anyway).
+    /// Carbons per class, and per class and H count (a carbon's free
+    /// valence, its H count here, is at most 4 = [`MAX_H`]).
     fn class_counts(&self, node: &Node) -> ([u32; 6], [[u32; MAX_H + 1]; 6]) {
         let mut out = [0u32; 6];
         let mut by_h = [[0u32; MAX_H + 1]; 6];
