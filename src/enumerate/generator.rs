@@ -504,7 +504,8 @@ const WATCH_EVERY: u32 = 1024;
 /// A stop flag shared by a run's workers and the run's deadline; when
 /// either fires, the generator sets its abort flag and records why.
 pub struct Watch {
-    pub stop: std::sync::Arc<std::sync::atomic::AtomicBool>,
+    /// `None`: only the deadline ends the search.
+    pub stop: Option<std::sync::Arc<std::sync::atomic::AtomicBool>>,
     pub deadline: Option<std::time::Instant>,
     /// Set when the search was ended by this watch: `Some(true)` when the
     /// deadline passed, `Some(false)` when the stop flag was set.
@@ -578,7 +579,7 @@ impl<'p> Generator<'p> {
         if self.ticks.is_multiple_of(WATCH_EVERY) {
             if let Some(w) = &mut self.watch {
                 let late = w.deadline.is_some_and(|d| std::time::Instant::now() >= d);
-                if late || w.stop.load(Relaxed) {
+                if late || w.stop.as_ref().is_some_and(|s| s.load(Relaxed)) {
                     w.fired.get_or_insert(late);
                     self.abort.store(true, Relaxed);
                 }

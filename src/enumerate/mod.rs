@@ -875,7 +875,7 @@ impl<'p> Worker<'p> {
         // it searches, so a task whose skeletons are all rejected (no leaf
         // reaches the check below) still ends on time.
         gen.set_watch(Some(generator::Watch {
-            stop: std::sync::Arc::clone(stop),
+            stop: Some(std::sync::Arc::clone(stop)),
             deadline: limits.deadline,
             fired: None,
         }));
@@ -996,7 +996,6 @@ pub fn estimate(formula: &Formula, opts: &Options) -> Result<Estimate> {
     // The probes end at the run's deadline too (a probe whose skeleton
     // admits no bond orders can search long): past it, each remaining
     // probe stops at once, and the run that follows stops at its start.
-    let stop = std::sync::Arc::new(std::sync::atomic::AtomicBool::new(false));
     let per_task: Vec<f64> = all
         .par_iter()
         .enumerate()
@@ -1005,7 +1004,7 @@ pub fn estimate(formula: &Formula, opts: &Options) -> Result<Estimate> {
                 let mut gens = problems.iter().map(Generator::new).collect::<Vec<_>>();
                 for g in &mut gens {
                     g.set_watch(Some(generator::Watch {
-                        stop: std::sync::Arc::clone(&stop),
+                        stop: None,
                         deadline: opts.limits.deadline,
                         fired: None,
                     }));

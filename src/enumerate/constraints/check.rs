@@ -82,6 +82,37 @@ struct PiState {
     pi: u32,
 }
 
+/// The kinds of a finished carbon that [`PiCaps::by_h`] bounds, by index.
+const KIND_TRIPLE: usize = 0;
+const KIND_CUMULATED: usize = 1;
+const KIND_OXO: usize = 2;
+const KIND_SINGLE: usize = 3;
+const KIND_OTHER: usize = 4;
+
+impl PiState {
+    /// Carbon v has two raised bonds (two double bonds: a triple bond
+    /// leaves room for no other), none to O, S or N.
+    fn cumulated(&self, v: usize) -> bool {
+        self.raised[v] == 2 && self.raised_ons[v] == 0
+    }
+
+    /// Carbon v's kind ([`KIND_TRIPLE`] ...), final once no later bond of
+    /// it can rise.
+    fn kind(&self, v: usize) -> usize {
+        if self.tripled[v] > 0 {
+            KIND_TRIPLE
+        } else if self.cumulated(v) {
+            KIND_CUMULATED
+        } else if self.raised_o[v] > 0 {
+            KIND_OXO
+        } else if self.raised[v] == 0 {
+            KIND_SINGLE
+        } else {
+            KIND_OTHER
+        }
+    }
+}
+
 impl Default for PiState {
     fn default() -> PiState {
         PiState {
@@ -150,6 +181,8 @@ impl Work {
                     let sum = |a: [u32; MAX_H + 1], b: [u32; MAX_H + 1]| {
                         std::array::from_fn(|h| a[h].saturating_add(b[h]))
                     };
+                    // Indexed by KIND_TRIPLE, KIND_CUMULATED, KIND_OXO,
+                    // KIND_SINGLE, KIND_OTHER.
                     [
                         at(CarbonClass::Triple),
                         at(CarbonClass::Cumulated),
@@ -189,10 +222,7 @@ impl Work {
         }
     }
 
-    /// Add (`up`) or remove the raise of bond a-b by `x` to the tally. A
-    /// carbon counts as cumulated while it has two raised bonds (two double
-    /// bonds: a triple bond leaves room for no other) and none to O, S or
-    /// N.
+    /// Add (`up`) or remove the raise of bond a-b by `x` to the tally.
     fn pi_step(&mut self, node: &Node, a: usize, b: usize, x: u8, up: bool) {
         for (v, u) in [(a, b), (b, a)] {
             if self.element(node, v) != Element::C {
@@ -202,8 +232,7 @@ impl Work {
             let to_ons = matches!(partner, Element::O | Element::S | Element::N);
             let st = &mut self.pi;
             let to_o = partner == Element::O;
-            let cum = |st: &PiState| st.raised[v] == 2 && st.raised_ons[v] == 0;
-            let (pi0, cum0, oxo0) = (st.raised[v] > 0, cum(st), st.raised_o[v] > 0);
+            let (pi0, cum0, oxo0) = (st.raised[v] > 0, st.cumulated(v), st.raised_o[v] > 0);
             if up {
                 st.raised[v] += 1;
                 st.raised_ons[v] += u8::from(to_ons);
@@ -213,7 +242,7 @@ impl Work {
                 st.raised_ons[v] -= u8::from(to_ons);
                 st.raised_o[v] -= u8::from(to_o);
             }
-            let (pi1, cum1, oxo1) = (st.raised[v] > 0, cum(st), st.raised_o[v] > 0);
+            let (pi1, cum1, oxo1) = (st.raised[v] > 0, st.cumulated(v), st.raised_o[v] > 0);
             let step = |n: &mut u32, before: bool, after: bool| {
                 if after && !before {
                     *n += 1;
@@ -235,35 +264,20 @@ impl Work {
         }
     }
 
-    /// Whether the carbons in `done` (no later bond can rise) that kept
-    /// single bonds only are within the cap of single-bonded carbons.
+    /// Whether the carbons in `done` (no later bond can rise) are within
+    /// the caps: those that kept single bonds only, and every kind per H
+    /// count.
     pub fn pi_done_ok(&self, node: &Node, done: u64) -> bool {
         let Some(caps) = self.pi_caps else {
             return true;
         };
-        let mut single = 0u32;
         let mut kinds = [[0u32; MAX_H + 1]; 5];
         for v in bits(done) {
-            if self.element(node, v) != Element::C {
-                continue;
+            if self.element(node, v) == Element::C {
+                kinds[self.pi.kind(v)][(node.free[v] as usize).min(MAX_H)] += 1;
             }
-            let st = &self.pi;
-            // Its kind, final now that no later bond can rise (PiCaps).
-            let k = if st.tripled[v] > 0 {
-                0
-            } else if st.raised[v] == 2 && st.raised_ons[v] == 0 {
-                1
-            } else if st.raised_o[v] > 0 {
-                2
-            } else if st.raised[v] == 0 {
-                single += 1;
-                3
-            } else {
-                4
-            };
-            kinds[k][(node.free[v] as usize).min(MAX_H)] += 1;
         }
-        single <= caps.single
+        kinds[KIND_SINGLE].iter().sum::<u32>() <= caps.single
             && caps
                 .by_h
                 .is_none_or(|t| (0..5).all(|k| (0..=MAX_H).all(|h| kinds[k][h] <= t[k][h])))
