@@ -20,7 +20,8 @@
 //! median of five rounds of at least 0.1 s (a shared machine's load moves
 //! single rounds by 2x); each series ends with the ratio of the time at
 //! M = 30 to the time at M = 5. `WHOLE=1` searches every problem whole
-//! (without the split into independent parts, `score::split`).
+//! (without the split into independent parts, `score::split`);
+//! `EXCHANGE=0` without exchange dominance (`score::assign`, item 6).
 //!
 //! Run: `cargo run --release --example bench_assign`. `NEW_ONLY=1` skips
 //! the previous search; `SERIES=realistic,adversarial,13C` picks series and
@@ -161,9 +162,11 @@ fn median_of_rounds(mut pass: impl FnMut() -> usize) -> f64 {
 /// When the stronger bounds join: `TUNING=S,L`, else the default.
 fn tuning() -> Tuning {
     let split = std::env::var_os("WHOLE").is_none();
+    let exchange = std::env::var("EXCHANGE").map_or(true, |v| v != "0");
     let Ok(text) = std::env::var("TUNING") else {
         return Tuning {
             split,
+            exchange,
             ..Tuning::default()
         };
     };
@@ -176,6 +179,7 @@ fn tuning() -> Tuning {
         strong_after: v[0],
         lines_after: v[1],
         split,
+        exchange,
     }
 }
 
