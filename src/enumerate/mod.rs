@@ -423,7 +423,8 @@ pub struct Limits {
     /// thread count.
     pub max_candidates: Option<u64>,
     /// Stop when this moment has passed; the result covers the tasks
-    /// finished in order by then.
+    /// finished in order by then (and, for a ranking, what the others did:
+    /// [`RankWindow`]).
     pub deadline: Option<std::time::Instant>,
     /// `max_candidates` and `deadline` are the command's default caps, set
     /// because the user gave no cap (the run's estimate was below the
@@ -508,9 +509,34 @@ pub struct ListWindow;
 #[derive(Clone, Copy, Debug)]
 pub struct SmallWindow;
 
+/// A ranking's window ([`SmallWindow`]'s size) whose run, when a time
+/// limit stops it, also keeps what it did out of order: the tasks finished
+/// beyond the first unfinished one and the candidates the stopped tasks
+/// had already handed over. A ranking merges per-task results in any
+/// order, and under a time limit the set of tasks done depends on the
+/// machine anyway; without this, one long task early in the order (the
+/// usual shape of a constrained search) left a ranking with nothing in it
+/// after minutes of scoring.
+#[derive(Clone, Copy, Debug)]
+pub struct RankWindow;
+
 /// How far ahead tasks may run; see [`ListWindow`].
 pub trait Window: Copy {
     fn tasks(self, threads: usize) -> usize;
+    /// Whether a run stopped by its time limit hands over what it did out
+    /// of order too (see [`RankWindow`]); else only the tasks finished in
+    /// order, so that a listing stays a prefix of the full one.
+    fn keeps_out_of_order(self) -> bool {
+        false
+    }
+}
+impl Window for RankWindow {
+    fn tasks(self, threads: usize) -> usize {
+        SmallWindow.tasks(threads)
+    }
+    fn keeps_out_of_order(self) -> bool {
+        true
+    }
 }
 impl Window for ListWindow {
     fn tasks(self, threads: usize) -> usize {
@@ -532,7 +558,9 @@ impl Window for SmallWindow {
 /// window's accumulators, never a whole chunk of the search. The caps of
 /// `opts.limits` end the run early: a candidate cap re-runs the task that
 /// crosses it up to the cap, so exactly the first N candidates in task order
-/// are covered; a time limit keeps the tasks finished in order by then.
+/// are covered; a time limit keeps the tasks finished in order by then
+/// (and, for a window that [`Window::keeps_out_of_order`], after them every
+/// other task's result, finished or cut short, in task order).
 pub fn for_each_task<A, W, I, V, E>(
     formula: &Formula,
     opts: &Options,
@@ -596,6 +624,8 @@ where
         share: share_of(at, total, s.generated, weight_done, weight_total, 0.0),
     };
     let mut last_progress = std::time::Instant::now();
+    // The first task not emitted in order when the run ended.
+    let mut late_from = total;
     std::thread::scope(|s| {
         for _ in 0..threads {
             s.spawn(|| {
@@ -681,7 +711,9 @@ where
             let Some(mut out) = out else { break };
             if out.aborted {
                 // Stopped by the time limit (or a stop for another reason)
-                // before it finished: not covered.
+                // before it finished: not covered (but kept for a window
+                // that keeps what was done out of order).
+                state.lock().expect("driver state").0.insert(at, out);
                 break;
             }
             let full = out.candidates;
@@ -777,7 +809,37 @@ where
         summary.tasks_done = summary.tasks_done.max(at.min(total));
         stop.store(true, Relaxed);
         cond.notify_all();
+        late_from = at;
     });
+    if window.keeps_out_of_order() && time_up.load(Relaxed) && summary.stopped.is_some() {
+        // Every worker has returned (the scope waited for them): what they
+        // left beyond the first unfinished task, in task order.
+        let rest = std::mem::take(&mut state.lock().unwrap_or_else(|e| e.into_inner()).0);
+        let mut finished = 0;
+        for (at, out) in rest.into_iter().filter(|&(at, _)| at >= late_from) {
+            summary.generated += out.generated;
+            summary.excluded += out.excluded;
+            summary.isomers += out.candidates;
+            for (i, f) in out.flagged.iter().enumerate() {
+                summary.flagged[i].1 += f;
+            }
+            if !out.aborted {
+                finished += 1;
+                if let Some(w) = &weights {
+                    emitted_share += w[at];
+                }
+            }
+            emit(mine[at].0, out.acc);
+        }
+        summary.share = share_of(
+            late_from + finished,
+            total,
+            summary.generated,
+            emitted_share,
+            weight_total,
+            0.0,
+        );
+    }
     if let Some(payload) = panicked.into_inner().unwrap_or_else(|e| e.into_inner()) {
         std::panic::resume_unwind(payload);
     }
@@ -1207,5 +1269,90 @@ mod driver_tests {
             .cloned()
             .unwrap_or_default();
         assert!(text.starts_with("planted panic for C"), "{text}");
+    }
+
+    /// A time limit that stops a run while an early task is slow: a
+    /// ranking's window keeps every task the other worker finished meanwhile
+    /// (and the slow task's candidates so far), in task order; a listing's
+    /// window keeps only the tasks finished in order before it. The
+    /// isomers of C9H12 are spread over thousands of small tasks; the test
+    /// counts them per task first, with no limit.
+    #[test]
+    fn a_time_stop_keeps_out_of_order_work_for_a_ranking_only() {
+        let formula = Formula::parse("C9H12").unwrap();
+        // The first task with at least 10 isomers becomes the slow one (the
+        // clock is read every 8 leaves, so it is cut short).
+        let mut per = vec![];
+        for_each_task(
+            &formula,
+            &Options::default(),
+            SmallWindow,
+            || 0u64,
+            |n: &mut u64, _| *n += 1,
+            |_, n| {
+                per.push(n);
+                true
+            },
+            &mut |_| {},
+        )
+        .unwrap();
+        let all: u64 = per.iter().sum();
+        let slow = per
+            .iter()
+            .position(|&n| n >= 10)
+            .expect("a task of 10 isomers");
+        assert!(slow + 1 < per.len());
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(2)
+            .build()
+            .unwrap();
+        let run = |keep: bool| -> (Vec<usize>, u64, Summary) {
+            let opts = Options {
+                limits: Limits {
+                    deadline: Some(
+                        std::time::Instant::now() + std::time::Duration::from_millis(300),
+                    ),
+                    ..Limits::default()
+                },
+                ..Options::default()
+            };
+            let mut emitted = vec![];
+            let mut candidates = 0;
+            let visit = |n: &mut u64, iso: &Isomer| {
+                if iso.task == slow {
+                    std::thread::sleep(std::time::Duration::from_millis(60));
+                }
+                *n += 1;
+            };
+            let emit = |task: usize, n: u64| {
+                emitted.push(task);
+                candidates += n;
+                true
+            };
+            let summary = pool.install(|| {
+                if keep {
+                    for_each_task(&formula, &opts, RankWindow, || 0, visit, emit, &mut |_| {})
+                } else {
+                    for_each_task(&formula, &opts, SmallWindow, || 0, visit, emit, &mut |_| {})
+                }
+            });
+            (emitted, candidates, summary.unwrap())
+        };
+        let (listed, _, s) = run(false);
+        assert_eq!(s.stopped, Some(Stop::Time));
+        assert!(listed.iter().all(|&t| t < slow), "{listed:?}");
+        let (ranked, ranked_n, s) = run(true);
+        assert_eq!(s.stopped, Some(Stop::Time));
+        assert!(
+            ranked.contains(&slow) && ranked.iter().any(|&t| t > slow),
+            "{ranked:?}"
+        );
+        assert!(
+            ranked.windows(2).all(|w| w[0] < w[1]),
+            "in task order: {ranked:?}"
+        );
+        assert!(ranked_n > 0 && ranked_n < all, "{ranked_n} of {all}");
+        assert_eq!(s.isomers, ranked_n);
+        assert!(s.share > 0.0 && s.share < 1.0, "{}", s.share);
     }
 }

@@ -427,7 +427,7 @@ pub(crate) fn collect_formula(
     let summary = enumerate::for_each_task(
         formula,
         options,
-        enumerate::SmallWindow,
+        enumerate::RankWindow,
         || Collector::new(settings.top, margin),
         visit,
         |_, part| {
