@@ -117,6 +117,11 @@ const DEPOSITED_APART: &[(u64, &str, f64, usize, &str)] = &[
         3,
         "dd",
     ),
+    // Ring CH2 between a CH2 and a carbon without H: the CH2 partner's
+    // own two H are diastereotopic and strongly coupled to each other
+    // (virtual coupling), so each H is m and not ddd (2.23 m, 1.95 m at
+    // 600 MHz).
+    (60000061, "CC(C)=C1CCC(C)CC1=O", 600.0, 4, "m"),
     // Ring CH2 beside a CH2 and a CH: four couplings, written m (1.69 m,
     // 1.65 m, 1.62 m, 1.41 m at 600 MHz).
     (10027667, "C=C1C2CCC(C2)C1(C)CC=CC(C)(O)CO", 600.0, 4, "m"),

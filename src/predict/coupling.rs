@@ -257,6 +257,12 @@ impl Ctx<'_> {
     ///   to a CH2 or between two CH;
     /// - a methyl partner's three H together (free rotation: q), and F or P
     ///   as the whole group couples to them;
+    /// - m next to an sp3 CH2: in a molecule with a stereocentre that
+    ///   CH2's two H are diastereotopic too, close in shift and strongly
+    ///   coupled to each other by their geminal J, and an H coupled to a
+    ///   strongly coupled pair shows a second-order pattern (virtual
+    ///   coupling; common practice). So a ring CH2 read apart is ddd only
+    ///   between two CH, and m beside a CH2;
     /// - not first order (m) when a partner H is closer in shift than the
     ///   AB limit (`first_order_min_ratio_ab` x J; a methyl partner
     ///   `first_order_min_ratio`), when the group's symmetry twins couple
@@ -292,6 +298,14 @@ impl Ctx<'_> {
                 set.first_order_min_ratio
             };
             if dv < ratio * c.j {
+                return (Multiplicity::Multiplet, Vec::new());
+            }
+            // A partner sp3 CH2: in a molecule with a stereocentre its two
+            // H are themselves diastereotopic, close in shift and coupled
+            // to each other by the geminal J, so the H sees a strongly
+            // coupled pair (virtual coupling): not first order, m.
+            let b = c.atom as usize;
+            if self.v.h[b] == 2 && self.v.hyb[b] == 3 && self.v.element[b] == Element::C {
                 return (Multiplicity::Multiplet, Vec::new());
             }
             if c.count <= 2 {
