@@ -75,6 +75,18 @@ const DEPOSITED: &[(u64, &str, f64, usize, &str)] = &[
     // Ring N-CH2 whose only ring partner is a CH2, no stereocentre: t
     // (3.97 t at 300 MHz).
     (40022455, "COC(=O)C1=CCCN1C(=O)OC", 300.0, 7, "t"),
+    // A ring CH between two symmetry-equivalent ring CH2: the two cis H
+    // and the two trans H are each equivalent, with unlike J, so tt (a
+    // piperidine CH 3.01 tt at 600 MHz; a cyclopropyl CH 2.10 tt at
+    // 300 MHz).
+    (20200273, "CC1(C)CC(N)CC(C)(C)N1", 600.0, 4, "tt"),
+    (
+        20226200,
+        "COC(=O)C1(C2=C(C(=O)C3CC3)CCO2)CC1",
+        300.0,
+        9,
+        "tt",
+    ),
     // Tetralin: the symmetric ortho-disubstituted ring (AA'BB') and the
     // symmetric CH2 chain are m (7.12 m, 7.10 m, 2.81 m, 1.84 m at 600 MHz).
     (10016526, "c1ccc2c(c1)CCCC2", 600.0, 0, "m"),

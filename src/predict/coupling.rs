@@ -37,7 +37,9 @@
 //!   para-disubstituted AA'BB' ring, reported as two 2H doublets;
 //! - H on a saturated ring coupled to other ring H (unequal cis/trans J),
 //!   except a ring CH whose ring partners are all CH (one cis or trans J
-//!   per partner, each kept apart: d, dd, ddd) and a ring CH2 whose only
+//!   per partner, each kept apart: d, dd, ddd), a ring CH between two
+//!   symmetry-equivalent ring CH2 (the two cis H equivalent, the two
+//!   trans H too: tt) and a ring CH2 whose only
 //!   ring partner is a CH2 in a molecule without stereocentre (the ring's
 //!   conformers average each CH2's two H: t).
 
@@ -188,7 +190,50 @@ impl Ctx<'_> {
                         }
                         _ => false,
                     };
-                if ring_partner && methines && !averaged {
+                // A ring CH whose ring partners are two symmetry-equivalent
+                // CH2 (the CH on a mirror plane of the ring): the two H cis
+                // to the CH's substituent are equivalent, and so are the
+                // two trans H, and the cis and trans J differ (cyclohexane
+                // axial-axial about 11 Hz against axial-equatorial about
+                // 4 Hz, cyclopropane cis about 8 against trans about 5;
+                // common practice, from memory): tt, one t per pair.
+                let ring_atoms: Vec<usize> = {
+                    let mut v: Vec<usize> = kept[..nk]
+                        .iter()
+                        .filter(|c| on_ring(c))
+                        .map(|c| c.atom as usize)
+                        .collect();
+                    v.sort_unstable();
+                    v.dedup();
+                    v
+                };
+                let mirror = self.v.h[a] == 1
+                    && g.atoms.count_ones() == 1
+                    && ring_atoms.len() == 2
+                    && ring_atoms.iter().all(|&b| {
+                        self.v.h[b] == 2
+                            && groups.iter().any(|p| {
+                                p.atoms >> b & 1 == 1
+                                    && p.atoms >> ring_atoms[0] & 1 == 1
+                                    && p.atoms >> ring_atoms[1] & 1 == 1
+                            })
+                    });
+                if ring_partner && mirror {
+                    let first = kept[..nk].iter().find(|c| on_ring(c)).copied();
+                    if let Some(c) = first {
+                        let mut rest: Vec<Cpl> =
+                            kept[..nk].iter().filter(|x| !on_ring(x)).copied().collect();
+                        for _ in 0..2 {
+                            rest.push(Cpl {
+                                count: 2,
+                                distinct: true,
+                                ..c
+                            });
+                        }
+                        nk = rest.len().min(MAX_CPL);
+                        kept[..nk].copy_from_slice(&rest[..nk]);
+                    }
+                } else if ring_partner && methines && !averaged {
                     for c in kept[..nk].iter_mut() {
                         if on_ring(c) {
                             c.distinct = true;
