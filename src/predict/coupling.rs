@@ -38,10 +38,10 @@
 //! - H on a saturated ring coupled to other ring H (unequal cis/trans J),
 //!   except a ring CH whose ring partners are all CH (one cis or trans J
 //!   per partner, each kept apart: d, dd, ddd), a ring CH between two
-//!   symmetry-equivalent ring CH2 (the two cis H equivalent, the two
-//!   trans H too: tt) and a ring CH2 whose only
-//!   ring partner is a CH2 in a molecule without stereocentre (the ring's
-//!   conformers average each CH2's two H: t).
+//!   symmetry-equivalent ring CH2 (the two cis H equivalent, the two trans
+//!   H too: tt) and a ring CH2 whose only ring partner is a CH2 in a
+//!   molecule without stereocentre (the ring's conformers average each
+//!   CH2's two H: t).
 
 use super::library::CouplingKind;
 use super::shift::Place;
@@ -210,13 +210,10 @@ impl Ctx<'_> {
                 let mirror = self.v.h[a] == 1
                     && g.atoms.count_ones() == 1
                     && ring_atoms.len() == 2
-                    && ring_atoms.iter().all(|&b| {
-                        self.v.h[b] == 2
-                            && groups.iter().any(|p| {
-                                p.atoms >> b & 1 == 1
-                                    && p.atoms >> ring_atoms[0] & 1 == 1
-                                    && p.atoms >> ring_atoms[1] & 1 == 1
-                            })
+                    && ring_atoms.iter().all(|&b| self.v.h[b] == 2)
+                    && groups.iter().any(|p| {
+                        // One symmetry class holds both partners.
+                        ring_atoms.iter().all(|&b| p.atoms >> b & 1 == 1)
                     });
                 if ring_partner && mirror {
                     let first = kept[..nk].iter().find(|c| on_ring(c)).copied();
