@@ -196,7 +196,8 @@ impl Ctx<'_> {
                 // two trans H, and the cis and trans J differ (cyclohexane
                 // axial-axial about 11 Hz against axial-equatorial about
                 // 4 Hz, cyclopropane cis about 8 against trans about 5;
-                // common practice, from memory): tt, one t per pair.
+                // common practice, from memory): tt, one t per pair. Only
+                // when the CH has no H partner off the ring.
                 let ring_atoms: Vec<usize> = {
                     let mut v: Vec<usize> = kept[..nk]
                         .iter()
@@ -211,6 +212,12 @@ impl Ctx<'_> {
                     && g.atoms.count_ones() == 1
                     && ring_atoms.len() == 2
                     && ring_atoms.iter().all(|&b| self.v.h[b] == 2)
+                    // No H partner off the ring: a further J on top of the
+                    // two t (ttd, ttt) is seldom resolved and written m
+                    // (from memory), so such a CH stays m below.
+                    && kept[..nk]
+                        .iter()
+                        .all(|c| on_ring(c) || heteronuclear(c.group))
                     && groups.iter().any(|p| {
                         // One symmetry class holds both partners.
                         ring_atoms.iter().all(|&b| p.atoms >> b & 1 == 1)
