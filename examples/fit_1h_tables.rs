@@ -560,7 +560,8 @@ fn main() {
         );
     }
     let labels: Vec<_> = done.iter().flat_map(|c| c.labels.iter()).collect();
-    let agree = |half: u64| {
+    let sorted: Vec<_> = done.iter().flat_map(|c| c.labels_sorted.iter()).collect();
+    let agree_in = |labels: &[&nmrshiftdb::Label], half: u64| {
         let v: Vec<_> = labels.iter().filter(|l| l.id % 2 == half).collect();
         let ok = v.iter().filter(|l| nmrshiftdb::labels_agree(l)).count();
         format!(
@@ -570,9 +571,14 @@ fn main() {
         )
     };
     println!(
-        "multiplicity labels: fit half {}, check half {}",
-        agree(0),
-        agree(1)
+        "multiplicity labels (assignment pairing): fit half {}, check half {}",
+        agree_in(&labels, 0),
+        agree_in(&labels, 1)
+    );
+    println!(
+        "multiplicity labels (sorted pairing): fit half {}, check half {}",
+        agree_in(&sorted, 0),
+        agree_in(&sorted, 1)
     );
     if std::env::var("LABELS").is_ok() {
         let mut count: BTreeMap<String, usize> = BTreeMap::new();

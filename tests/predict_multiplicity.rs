@@ -75,6 +75,18 @@ const DEPOSITED: &[(u64, &str, f64, usize, &str)] = &[
     // Ring N-CH2 whose only ring partner is a CH2, no stereocentre: t
     // (3.97 t at 300 MHz).
     (40022455, "COC(=O)C1=CCCN1C(=O)OC", 300.0, 7, "t"),
+    // A ring CH between two symmetry-equivalent ring CH2: the two cis H
+    // and the two trans H are each equivalent, with unlike J, so tt (a
+    // piperidine CH 3.01 tt at 600 MHz; a cyclopropyl CH 2.10 tt at
+    // 300 MHz).
+    (20200273, "CC1(C)CC(N)CC(C)(C)N1", 600.0, 4, "tt"),
+    (
+        20226200,
+        "COC(=O)C1(C2=C(C(=O)C3CC3)CCO2)CC1",
+        300.0,
+        9,
+        "tt",
+    ),
     // Tetralin: the symmetric ortho-disubstituted ring (AA'BB') and the
     // symmetric CH2 chain are m (7.12 m, 7.10 m, 2.81 m, 1.84 m at 600 MHz).
     (10016526, "c1ccc2c(c1)CCCC2", 600.0, 0, "m"),
@@ -117,6 +129,11 @@ const DEPOSITED_APART: &[(u64, &str, f64, usize, &str)] = &[
         3,
         "dd",
     ),
+    // Ring CH2 between a CH2 and a carbon without H: the CH2 partner's
+    // own two H are diastereotopic and strongly coupled to each other
+    // (virtual coupling), so each H is m and not ddd (2.23 m, 1.95 m at
+    // 600 MHz).
+    (60000061, "CC(C)=C1CCC(C)CC1=O", 600.0, 4, "m"),
     // Ring CH2 beside a CH2 and a CH: four couplings, written m (1.69 m,
     // 1.65 m, 1.62 m, 1.41 m at 600 MHz).
     (10027667, "C=C1C2CCC(C2)C1(C)CC=CC(C)(O)CO", 600.0, 4, "m"),

@@ -13,6 +13,20 @@
 //! goals are all-H 0.12 ppm, aromatic 0.15, DMSO-d6 0.20, 92% within 0.3
 //! and 80% label agreement.
 //!
+//! The label figure is printed under two pairings of reported entries with
+//! predicted groups (each entry is compared with the group that takes most
+//! of its H). The sorted pairing is the per-H pairing of the shift figures:
+//! where two predicted groups come out in the other order than their
+//! entries, an entry's label meets another group's. The assignment pairing
+//! (`nmrshiftdb::assign`) pairs H at minimum total cost using only the
+//! shifts and the H counts (an H count that differs costs 0.3 ppm per H),
+//! never the labels: a pairing that looked at the labels would pick the
+//! group that agrees and inflate the figure. The goal of 80% is measured
+//! on the assignment pairing, since it compares each label with the group
+//! the entry most plausibly belongs to; both figures have a floor, so that
+//! neither falls unnoticed. The shift figures keep the sorted pairing (the
+//! issue defines them that way).
+//!
 //! `NMRSHIFTDB_WORST=N` prints the N compounds with the largest mean error.
 
 #[path = "common/nmrshiftdb.rs"]
@@ -49,6 +63,18 @@ fn nmrshiftdb2_dev_1h_lists() {
     let agree = labels.iter().filter(|l| labels_agree(l)).count();
     let labelled = done.iter().filter(|c| !c.labels.is_empty()).count();
     let label_share = agree as f64 / labels.len() as f64;
+    let sorted: Vec<_> = done.iter().flat_map(|c| c.labels_sorted.iter()).collect();
+    let agree_sorted = sorted.iter().filter(|l| labels_agree(l)).count();
+    let sorted_share = agree_sorted as f64 / sorted.len() as f64;
+    let half = |v: &[&nmrshiftdb::Label], h: u64| {
+        let w: Vec<_> = v.iter().filter(|l| l.id % 2 == h).collect();
+        let ok = w.iter().filter(|l| labels_agree(l)).count();
+        format!(
+            "{ok}/{} = {:.1}%",
+            w.len(),
+            100.0 * ok as f64 / w.len().max(1) as f64
+        )
+    };
     println!(
         "NMRShiftDB2 dev 1H: {} of {} compounds compared, {} H",
         done.len(),
@@ -60,9 +86,18 @@ fn nmrshiftdb2_dev_1h_lists() {
     println!("  DMSO-d6 spectra {dmso:.3} ppm ({n_dmso} H)");
     println!("  within 0.3 ppm {:.1}%", 100.0 * within);
     println!(
-        "  multiplicity labels {agree}/{} = {:.1}% ({labelled} compounds)",
+        "  multiplicity labels {agree}/{} = {:.1}% ({labelled} compounds; assignment pairing; odd ids {}, even {})",
         labels.len(),
-        100.0 * label_share
+        100.0 * label_share,
+        half(&labels, 1),
+        half(&labels, 0)
+    );
+    println!(
+        "  multiplicity labels {agree_sorted}/{} = {:.1}% (sorted per-H pairing; odd ids {}, even {})",
+        sorted.len(),
+        100.0 * sorted_share,
+        half(&sorted, 1),
+        half(&sorted, 0)
     );
     if let Some(n) = std::env::var("NMRSHIFTDB_WORST")
         .ok()
@@ -99,7 +134,7 @@ fn nmrshiftdb2_dev_1h_lists() {
             // Every label, tab-separated, for tabulating elsewhere.
             for c in &done {
                 let arom = isomerank::chem::aromaticity::perceive(&c.molecule);
-                for l in &c.labels {
+                for (l, ls) in c.labels.iter().zip(&c.labels_sorted) {
                     let s = &c.signals[l.signal];
                     let atom = c.molecule.atom(s.atoms[0]);
                     let double = s
@@ -108,7 +143,7 @@ fn nmrshiftdb2_dev_1h_lists() {
                         .any(|&a| c.molecule.neighbours(a).any(|(_, o)| o == 2));
                     let aromatic = s.atoms.iter().any(|&a| arom.atom[a]);
                     println!(
-                        "L\t{}\t{}\t{}\t{}\t{}\t{}\t{:.2}\t{:?}\t{}\t{}\t{:?}\t{}\t{:?}\t{}\t{:?}\t{}",
+                        "L\t{}\t{}\t{}\t{}\t{}\t{}\t{:.2}\t{:?}\t{}\t{}\t{:?}\t{}\t{:?}\t{}\t{:?}\t{}\t{}\t{:.2}",
                         l.id,
                         c.case.mhz.unwrap_or(400.0),
                         l.observed,
@@ -124,7 +159,9 @@ fn nmrshiftdb2_dev_1h_lists() {
                         s.atoms,
                         l.entry_h,
                         l.observed_j,
-                        l.apart as u8
+                        l.apart as u8,
+                        ls.predicted,
+                        c.signals[l.signal].shift
                     );
                 }
             }
@@ -154,5 +191,10 @@ fn nmrshiftdb2_dev_1h_lists() {
     assert!(aromatic <= 0.123, "aromatic {aromatic:.3}");
     assert!(dmso <= 0.148, "DMSO-d6 {dmso:.3}");
     assert!(within >= 0.940, "within 0.3 ppm {within:.3}");
-    assert!(label_share >= 0.670, "labels {label_share:.3}");
+    // Assignment pairing (the goal's figure), then the sorted pairing.
+    assert!(label_share >= 0.678, "labels {label_share:.3}");
+    assert!(
+        sorted_share >= 0.670,
+        "labels, sorted pairing {sorted_share:.3}"
+    );
 }

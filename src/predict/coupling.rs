@@ -37,9 +37,11 @@
 //!   para-disubstituted AA'BB' ring, reported as two 2H doublets;
 //! - H on a saturated ring coupled to other ring H (unequal cis/trans J),
 //!   except a ring CH whose ring partners are all CH (one cis or trans J
-//!   per partner, each kept apart: d, dd, ddd) and a ring CH2 whose only
-//!   ring partner is a CH2 in a molecule without stereocentre (the ring's
-//!   conformers average each CH2's two H: t).
+//!   per partner, each kept apart: d, dd, ddd), a ring CH between two
+//!   symmetry-equivalent ring CH2 (the two cis H equivalent, the two trans
+//!   H too: tt) and a ring CH2 whose only ring partner is a CH2 in a
+//!   molecule without stereocentre (the ring's conformers average each
+//!   CH2's two H: t).
 
 use super::library::CouplingKind;
 use super::shift::Place;
@@ -188,7 +190,54 @@ impl Ctx<'_> {
                         }
                         _ => false,
                     };
-                if ring_partner && methines && !averaged {
+                // A ring CH whose ring partners are two symmetry-equivalent
+                // CH2 (the CH on a mirror plane of the ring): the two H cis
+                // to the CH's substituent are equivalent, and so are the
+                // two trans H, and the cis and trans J differ (cyclohexane
+                // axial-axial about 11 Hz against axial-equatorial about
+                // 4 Hz, cyclopropane cis about 8 against trans about 5;
+                // common practice, from memory): tt, one t per pair. Only
+                // when the CH has no H partner off the ring.
+                let ring_atoms: Vec<usize> = {
+                    let mut v: Vec<usize> = kept[..nk]
+                        .iter()
+                        .filter(|c| on_ring(c))
+                        .map(|c| c.atom as usize)
+                        .collect();
+                    v.sort_unstable();
+                    v.dedup();
+                    v
+                };
+                let mirror = self.v.h[a] == 1
+                    && g.atoms.count_ones() == 1
+                    && ring_atoms.len() == 2
+                    && ring_atoms.iter().all(|&b| self.v.h[b] == 2)
+                    // No H partner off the ring: a further J on top of the
+                    // two t (ttd, ttt) is seldom resolved and written m
+                    // (from memory), so such a CH stays m below.
+                    && kept[..nk]
+                        .iter()
+                        .all(|c| on_ring(c) || heteronuclear(c.group))
+                    && groups.iter().any(|p| {
+                        // One symmetry class holds both partners.
+                        ring_atoms.iter().all(|&b| p.atoms >> b & 1 == 1)
+                    });
+                if ring_partner && mirror {
+                    let first = kept[..nk].iter().find(|c| on_ring(c)).copied();
+                    if let Some(c) = first {
+                        let mut rest: Vec<Cpl> =
+                            kept[..nk].iter().filter(|x| !on_ring(x)).copied().collect();
+                        for _ in 0..2 {
+                            rest.push(Cpl {
+                                count: 2,
+                                distinct: true,
+                                ..c
+                            });
+                        }
+                        nk = rest.len().min(MAX_CPL);
+                        kept[..nk].copy_from_slice(&rest[..nk]);
+                    }
+                } else if ring_partner && methines && !averaged {
                     for c in kept[..nk].iter_mut() {
                         if on_ring(c) {
                             c.distinct = true;
@@ -257,6 +306,12 @@ impl Ctx<'_> {
     ///   to a CH2 or between two CH;
     /// - a methyl partner's three H together (free rotation: q), and F or P
     ///   as the whole group couples to them;
+    /// - m next to an sp3 CH2: in a molecule with a stereocentre that
+    ///   CH2's two H are diastereotopic too, close in shift and strongly
+    ///   coupled to each other by their geminal J, and an H coupled to a
+    ///   strongly coupled pair shows a second-order pattern (virtual
+    ///   coupling; common practice). So a ring CH2 read apart is ddd only
+    ///   between two CH, and m beside a CH2;
     /// - not first order (m) when a partner H is closer in shift than the
     ///   AB limit (`first_order_min_ratio_ab` x J; a methyl partner
     ///   `first_order_min_ratio`), when the group's symmetry twins couple
@@ -292,6 +347,14 @@ impl Ctx<'_> {
                 set.first_order_min_ratio
             };
             if dv < ratio * c.j {
+                return (Multiplicity::Multiplet, Vec::new());
+            }
+            // A partner sp3 CH2: in a molecule with a stereocentre its two
+            // H are themselves diastereotopic, close in shift and coupled
+            // to each other by the geminal J, so the H sees a strongly
+            // coupled pair (virtual coupling): not first order, m.
+            let b = c.atom as usize;
+            if self.v.h[b] == 2 && self.v.hyb[b] == 3 && self.v.element[b] == Element::C {
                 return (Multiplicity::Multiplet, Vec::new());
             }
             if c.count <= 2 {

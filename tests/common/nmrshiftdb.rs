@@ -4,8 +4,11 @@
 //! per-H comparison (observed C-bound H sorted by shift against the predicted
 //! non-exchangeable H sorted by shift, pair by pair) and, where the depositor
 //! gave a multiplicity, the label of the predicted group that takes most of
-//! the entry's H. Shared by tests/predict_nmrshiftdb_1h.rs and the fitting
-//! example examples/fit_1h_tables.rs (included there by path).
+//! the entry's H, under two pairings of entries with groups: the sorted
+//! per-H pairing of the shift figures, and an assignment that uses only
+//! shifts and H counts ([`assign`]). Shared by tests/predict_nmrshiftdb_1h.rs
+//! and the fitting example examples/fit_1h_tables.rs (included there by
+//! path).
 #![allow(dead_code)]
 
 use isomerank::chem::aromaticity;
@@ -97,7 +100,11 @@ pub struct Compared {
     pub molecule: Molecule,
     pub signals: Vec<PredictedSignal>,
     pub pairs: Vec<Pair>,
+    /// Labels under the assignment pairing ([`assign`]): each entry's label
+    /// against the group the assignment gives most of its H.
     pub labels: Vec<Label>,
+    /// Labels under the sorted per-H pairing of the shift figures.
+    pub labels_sorted: Vec<Label>,
 }
 
 /// Why a case could not be compared.
@@ -166,7 +173,7 @@ pub fn compare(predictor: &Predictor, c: &Case) -> Result<Compared, String> {
     obs.sort_by(|a, b| b.0.total_cmp(&a.0));
     pred.sort_by(|a, b| b.0.total_cmp(&a.0));
     let mut pairs = Vec::new();
-    // H per (entry, signal) for the labels.
+    // H per (entry, signal) under the sorted pairing.
     let mut share = vec![vec![0usize; signals.len()]; raw.entries.len()];
     for (o, p) in obs.iter().zip(&pred) {
         let s = &signals[p.1];
@@ -181,19 +188,56 @@ pub fn compare(predictor: &Predictor, c: &Case) -> Result<Compared, String> {
             dmso,
         });
     }
+    let entries: Vec<(f64, usize)> = raw
+        .entries
+        .iter()
+        .map(|e| (e.shift, e.integral.map_or(0, |(v, _)| v.round() as usize)))
+        .collect();
+    let groups: Vec<(f64, usize, bool)> = signals
+        .iter()
+        .map(|s| {
+            let h = if s.exchangeable {
+                0
+            } else {
+                s.hydrogens as usize
+            };
+            (s.shift, h, s.halves)
+        })
+        .collect();
+    let assigned = assign(&entries, &groups);
+    let labels = entry_labels(c.id, &raw, &signals, &assigned);
+    let labels_sorted = entry_labels(c.id, &raw, &signals, &share);
+    Ok(Compared {
+        case: c.clone(),
+        molecule: mol,
+        signals,
+        pairs,
+        labels,
+        labels_sorted,
+    })
+}
+
+/// The label of every entry with a reported multiplicity against the
+/// predicted group that takes most of its H in `share` (H per entry and
+/// signal; the first group on a tie).
+fn entry_labels(
+    id: u64,
+    raw: &journal::RawSpectrum,
+    signals: &[PredictedSignal],
+    share: &[Vec<usize>],
+) -> Vec<Label> {
     let mut labels = Vec::new();
     for (k, e) in raw.entries.iter().enumerate() {
         if !e.pattern.reported {
             continue;
         }
-        // The group with most H in this entry (the first on a tie).
         let best = (0..signals.len())
             .filter(|&i| share[k][i] > 0)
             .max_by(|&a, &b| share[k][a].cmp(&share[k][b]).then(b.cmp(&a)));
         if let Some(i) = best {
-            // A diastereotopic pair whose H the sorted pairing put in two
-            // entries is read as two signals, each with the label of one
-            // half (the scorer reads it that way too, src/score/halves.rs).
+            // A diastereotopic pair whose H the pairing put in two entries
+            // is read as two signals, each with the label of one half (the
+            // scorer reads it that way too, src/score/halves.rs).
             let s = &signals[i];
             let apart = s.halves
                 && s.hydrogens % 2 == 0
@@ -205,10 +249,10 @@ pub fn compare(predictor: &Predictor, c: &Case) -> Result<Compared, String> {
                 s.label()
             };
             labels.push(Label {
-                id: c.id,
+                id,
                 observed: bare_label(&e.pattern.label()),
                 predicted: bare_label(&predicted),
-                notes: signals[i].notes.clone(),
+                notes: s.notes.clone(),
                 signal: i,
                 shift: e.shift,
                 entry_h: e.integral.map_or(0, |(v, _)| v.round() as usize),
@@ -217,13 +261,137 @@ pub fn compare(predictor: &Predictor, c: &Case) -> Result<Compared, String> {
             });
         }
     }
-    Ok(Compared {
-        case: c.clone(),
-        molecule: mol,
-        signals,
-        pairs,
-        labels,
-    })
+    labels
+}
+
+/// Cost, in ppm per H, of pairing an H of an entry with a group whose H
+/// count it does not match (see [`assign`]): the tolerance for a
+/// shift (0.3 ppm), so an entry is paired with a group of another H count
+/// before one of its own count only when that one is more than 0.3 ppm
+/// further off. Chosen from the shift tolerance, not fitted on the labels.
+pub const COUNT_MISMATCH_PPM: f64 = 0.3;
+
+/// Pair observed entries with predicted groups using only shifts and H
+/// counts, never the labels: a transportation problem (every entry gives
+/// its H, every group takes its H) solved at minimum total cost, one H
+/// costing |shift difference| in ppm plus [`COUNT_MISMATCH_PPM`] when the
+/// entry's H count differs from the group's (a diastereotopic pair,
+/// `halves`, also matches an entry of half its H: its two H may be
+/// written apart). `entries` are (shift, H count), `groups` (shift, H
+/// count, halves) with exchangeable groups given 0 H; the two H totals
+/// must be equal. Returns H per (entry, group).
+///
+/// Why not the sorted pairing: with a cost of |shift difference| alone,
+/// the sorted (monotone) pairing is already optimal in one dimension, so
+/// the only information an assignment adds is the H count. Two groups
+/// predicted close together in the wrong order then still meet the entries
+/// of their own H count. Solved by successive shortest paths
+/// (Bellman-Ford on the residual graph; integer costs in 0.001 ppm so that
+/// ties break the same way on every machine).
+pub fn assign(entries: &[(f64, usize)], groups: &[(f64, usize, bool)]) -> Vec<Vec<usize>> {
+    let (ne, ng) = (entries.len(), groups.len());
+    let mut out = vec![vec![0usize; ng]; ne];
+    // Nodes: 0 source, 1..=ne entries, ne+1..=ne+ng groups, ne+ng+1 sink.
+    let n = ne + ng + 2;
+    let sink = n - 1;
+    struct Edge {
+        to: usize,
+        cap: i64,
+        cost: i64,
+    }
+    let mut edges: Vec<Edge> = Vec::new();
+    let mut adj: Vec<Vec<usize>> = vec![Vec::new(); n];
+    let add = |edges: &mut Vec<Edge>,
+               adj: &mut Vec<Vec<usize>>,
+               a: usize,
+               b: usize,
+               cap: i64,
+               cost: i64| {
+        adj[a].push(edges.len());
+        edges.push(Edge { to: b, cap, cost });
+        adj[b].push(edges.len());
+        edges.push(Edge {
+            to: a,
+            cap: 0,
+            cost: -cost,
+        });
+    };
+    let scale = 1000.0;
+    for (k, e) in entries.iter().enumerate() {
+        add(&mut edges, &mut adj, 0, 1 + k, e.1 as i64, 0);
+    }
+    let mut middle = vec![vec![usize::MAX; ng]; ne];
+    for (k, e) in entries.iter().enumerate() {
+        for (i, g) in groups.iter().enumerate() {
+            if g.1 == 0 || e.1 == 0 {
+                continue;
+            }
+            let matches = e.1 == g.1 || (g.2 && g.1 % 2 == 0 && e.1 == g.1 / 2);
+            let ppm = (e.0 - g.0).abs() + if matches { 0.0 } else { COUNT_MISMATCH_PPM };
+            middle[k][i] = edges.len();
+            add(
+                &mut edges,
+                &mut adj,
+                1 + k,
+                1 + ne + i,
+                i64::MAX / 4,
+                (ppm * scale).round() as i64,
+            );
+        }
+    }
+    for (i, g) in groups.iter().enumerate() {
+        add(&mut edges, &mut adj, 1 + ne + i, sink, g.1 as i64, 0);
+    }
+    loop {
+        // Bellman-Ford from the source on the residual graph.
+        let mut dist = vec![i64::MAX; n];
+        let mut via = vec![usize::MAX; n];
+        dist[0] = 0;
+        let mut changed = true;
+        while changed {
+            changed = false;
+            for a in 0..n {
+                if dist[a] == i64::MAX {
+                    continue;
+                }
+                for &x in &adj[a] {
+                    let e = &edges[x];
+                    if e.cap > 0 && dist[a] + e.cost < dist[e.to] {
+                        dist[e.to] = dist[a] + e.cost;
+                        via[e.to] = x;
+                        changed = true;
+                    }
+                }
+            }
+        }
+        if dist[sink] == i64::MAX {
+            break;
+        }
+        // Bottleneck along the path, then push.
+        let mut f = i64::MAX;
+        let mut v = sink;
+        while v != 0 {
+            let x = via[v];
+            f = f.min(edges[x].cap);
+            v = edges[x ^ 1].to;
+        }
+        let mut v = sink;
+        while v != 0 {
+            let x = via[v];
+            edges[x].cap -= f;
+            edges[x ^ 1].cap += f;
+            v = edges[x ^ 1].to;
+        }
+    }
+    for k in 0..ne {
+        for i in 0..ng {
+            let x = middle[k][i];
+            if x != usize::MAX {
+                out[k][i] = edges[x ^ 1].cap as usize;
+            }
+        }
+    }
+    out
 }
 
 /// A reported label agrees with ours when it is the same label, or when it
