@@ -1010,6 +1010,18 @@ impl<'p> Worker<'p> {
             stop.store(true, Relaxed);
             res.aborted = true;
         }
+        // A task that ends after the deadline is not covered: its last
+        // candidates may have been dropped by a scorer that gave up at the
+        // deadline (score::assign::with_deadline).
+        if !res.aborted
+            && limits
+                .deadline
+                .is_some_and(|d| std::time::Instant::now() >= d)
+        {
+            time_up.store(true, Relaxed);
+            stop.store(true, Relaxed);
+            res.aborted = true;
+        }
         abort.store(false, Relaxed);
         res
     }

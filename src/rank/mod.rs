@@ -266,13 +266,19 @@ fn evaluate(
     let mut gate = |est: &[ShiftEstimate], carbons: &[PredictedCarbon]| {
         // The 1H bound first, against the whole cutoff (the 13C part is
         // never negative): it is the cheaper test and stops most candidates.
-        if has_h && !scorers.hydrogen.may_beat(est, cutoff) {
-            return false;
+        // Its value is a lower bound of the 1H cost, so the 13C search
+        // needs to beat only what the cutoff leaves above it.
+        let mut carbon_cutoff = cutoff;
+        if has_h {
+            match scorers.hydrogen.may_beat_bound(est, cutoff) {
+                None => return false,
+                Some(b) => carbon_cutoff = cutoff - b,
+            }
         }
         let Some(cp) = &scorers.carbon else {
             return true;
         };
-        let Some((s, split)) = cp.score_halves(carbons, cutoff) else {
+        let Some((s, split)) = cp.score_halves(carbons, carbon_cutoff) else {
             return false;
         };
         let rest = cutoff - s.cost;
@@ -398,31 +404,35 @@ pub(crate) fn collect_formula(
     // Each task fills a collector of its own (at most k payloads, a
     // histogram of costs); the driver hands them over in task order and
     // they merge exactly, so nothing per candidate waits in memory.
+    let deadline = options.limits.deadline;
     let visit = |acc: &mut Collector<Box<Payload>>, iso: &enumerate::Isomer| {
         let limit = acc.local_cutoff(&shared);
         // Predicted from the generator's compact form: the molecule is
         // built only for a candidate that may rank.
-        acc.push(
-            match evaluate(iso, iso.skeleton_automorphisms(), steps, &scorers, limit) {
-                Some(e) if e.cost > shared.top_k() || !acc.admits(e.cost) => {
-                    Outcome::CostOnly { cost: e.cost }
+        // Past the time limit an assignment gives up (the task that holds
+        // this candidate then counts as cut short: enumerate::Worker::run).
+        let evaluated = crate::score::assign::with_deadline(deadline, || {
+            evaluate(iso, iso.skeleton_automorphisms(), steps, &scorers, limit)
+        });
+        acc.push(match evaluated {
+            Some(e) if e.cost > shared.top_k() || !acc.admits(e.cost) => {
+                Outcome::CostOnly { cost: e.cost }
+            }
+            Some(evaluated) => {
+                // SMILES only for candidates that may rank (it costs a
+                // canonical labelling).
+                let molecule = iso.molecule();
+                let smiles = (steps.smiles)(&molecule);
+                Payload {
+                    molecule,
+                    smiles,
+                    name: None,
+                    evaluated,
                 }
-                Some(evaluated) => {
-                    // SMILES only for candidates that may rank (it costs a
-                    // canonical labelling).
-                    let molecule = iso.molecule();
-                    let smiles = (steps.smiles)(&molecule);
-                    Payload {
-                        molecule,
-                        smiles,
-                        name: None,
-                        evaluated,
-                    }
-                    .outcome()
-                }
-                None => Outcome::Skipped,
-            },
-        );
+                .outcome()
+            }
+            None => Outcome::Skipped,
+        });
     };
     let summary = enumerate::for_each_task(
         formula,

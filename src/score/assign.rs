@@ -88,7 +88,11 @@
 //!   grows, and the integral cost grows with it past the observed value);
 //! - for each multiplet still empty: the cheaper of staying empty (its
 //!   unexplained cost) and the least extra any group still to place would
-//!   pay to go there instead of to its own cheapest option (distinct
+//!   pay to go there instead of to its own cheapest option, plus the least
+//!   term the multiplet can have once it holds groups (`line_floors`: a
+//!   4-carbon line filled by one-carbon classes pays three overlaps or a
+//!   missing count; also tried before the search, against the cutoff)
+//!   (distinct
 //!   multiplets need distinct groups, so these extras add up, and at most as
 //!   many multiplets as groups remain can take the cheaper branch);
 //! - the deficit bound: multiplets holding fewer H than observed need
@@ -282,6 +286,28 @@ const STEP_DECAY: f64 = 0.85;
 /// Relative margin by which the Lagrangian bound is lowered before it cuts.
 const BOUND_SLACK: f64 = 1e-9;
 
+thread_local! {
+    /// The moment after which searches on this thread give up (see
+    /// [`with_deadline`]).
+    static DEADLINE: std::cell::Cell<Option<std::time::Instant>> =
+        const { std::cell::Cell::new(None) };
+}
+
+/// Search nodes between two looks at the clock when a deadline is set.
+const CLOCK_EVERY: u64 = 1 << 14;
+
+/// Run `f` with searches on this thread giving up (answering as if nothing
+/// beat the cutoff) once `deadline` has passed, so that a run stopped by
+/// its time limit does not wait for one long assignment. Only for callers
+/// whose result is partial past the deadline anyway (a ranking under
+/// `--time-limit` marks a task that ends after it as cut short).
+pub fn with_deadline<R>(deadline: Option<std::time::Instant>, f: impl FnOnce() -> R) -> R {
+    let before = DEADLINE.with(|d| d.replace(deadline));
+    let out = f();
+    DEADLINE.with(|d| d.set(before));
+    out
+}
+
 /// Relative margin an exchange must save before it rules a node out (item
 /// 6 of the module doc), so that rounding cannot rule out an optimum.
 const EXCHANGE_EPS: f64 = 1e-9;
@@ -294,6 +320,9 @@ pub struct Workspace {
     /// Per multiplet: the least extra a group pays to go there (of the
     /// root bound).
     root_extra: Vec<f64>,
+    /// Per multiplet: the least its term can be once it holds a group
+    /// ([`line_floors`]).
+    floor: Vec<f64>,
     order: Vec<usize>,
     /// Per depth: the first depth of its class of identical groups.
     class_start: Vec<usize>,
@@ -398,6 +427,7 @@ impl Workspace {
         }
         room(&mut self.min_choice, g);
         room(&mut self.root_extra, m);
+        room(&mut self.floor, m);
         room(&mut self.order, g);
         room(&mut self.class_start, g);
         room(&mut self.class_of, g);
@@ -450,6 +480,20 @@ pub fn root_bound(c: &CostsRef, min_choice: &mut Vec<f64>) -> f64 {
             .sum::<f64>()
 }
 
+/// [`root_bound`] raised by the multiplets' floors (`line_floors`: the
+/// least term a multiplet has once it holds groups), the bound the search
+/// itself first tries against its cutoff; `extra` and `floor` are scratch.
+pub fn root_bound_floored(
+    c: &CostsRef,
+    min_choice: &mut Vec<f64>,
+    extra: &mut Vec<f64>,
+    floor: &mut Vec<f64>,
+) -> f64 {
+    let root = root_bound_in(c, min_choice, extra);
+    let gain = line_floors(c, extra, floor);
+    root + gain - BOUND_SLACK * (1.0 + root.abs())
+}
+
 /// [`root_bound`] row by row, also leaving in `extra` the least extra a
 /// group pays to go to each multiplet instead of to its cheapest option
 /// (the split's reduced costs reuse it). The same minima in the same order
@@ -470,6 +514,39 @@ fn root_bound_in(c: &CostsRef, min_choice: &mut Vec<f64>, extra: &mut Vec<f64>) 
         }
     }
     min_choice.iter().sum::<f64>() + (0..m).map(|j| c.empty[j].min(extra[j])).sum::<f64>()
+}
+
+/// Per multiplet, the least its term f_j(H, k) can be once it holds some
+/// group (`floor`), and what these floors add to the root bound (`extra`
+/// as [`root_bound_in`] leaves it). With groups of at most `hmax` H, H on
+/// one multiplet take at least ceil(H / hmax) groups, each beyond the first
+/// paying the overlap cost: a 4-carbon 13C line filled by one-carbon
+/// classes costs three overlaps or a missing count, whichever is less, and
+/// only when it stays empty does it cost less (its unexplained cost). Only
+/// H up to the observed integral (rounded up) need trying: above it both
+/// the integral and the overlap cost grow with H. The root bound takes per
+/// multiplet the cheaper of staying empty and being opened at `extra`; with
+/// the floor, opening costs `extra + floor`. Kept out of the root bound
+/// itself, whose share per part the split ([`super::split`]) relies on.
+fn line_floors(c: &CostsRef, extra: &[f64], floor: &mut Vec<f64>) -> f64 {
+    let hmax = c.hydrogens.iter().copied().max().unwrap_or(1).max(1);
+    let total: u32 = c.hydrogens.iter().sum();
+    floor.clear();
+    let mut gain = 0.0;
+    for j in 0..c.multiplets {
+        let f = match c.observed_h[j] {
+            Some(i) if total > 0 => {
+                let top = (i.ceil().max(1.0) as u32).min(total);
+                (1..=top)
+                    .map(|h| c.multiplet(j, h, h.div_ceil(hmax)))
+                    .fold(f64::INFINITY, f64::min)
+            }
+            _ => 0.0,
+        };
+        floor.push(f);
+        gain += c.empty[j].min(extra[j] + f) - c.empty[j].min(extra[j]);
+    }
+    gain
 }
 
 /// Sum of the `n` largest of `gains` (all of them when there are no more).
@@ -580,6 +657,10 @@ fn run(
     if root >= cutoff {
         return Outcome::Nothing;
     }
+    let floors = line_floors(c, &ws.root_extra, &mut ws.floor);
+    if root + floors - BOUND_SLACK * (1.0 + root.abs()) >= cutoff {
+        return Outcome::Nothing;
+    }
     if tuning.split && !first_only {
         if let Some(out) = run_split(c, cutoff, root, ws, max_nodes, tuning) {
             return out;
@@ -587,6 +668,7 @@ fn run(
     }
     let Workspace {
         min_choice,
+        floor,
         order,
         class_start,
         class_of,
@@ -755,6 +837,7 @@ fn run(
         suffix_h,
         suffix_extra,
         sigma2,
+        floor,
         twin,
         count,
         tie,
@@ -780,11 +863,15 @@ fn run(
         strong_after: tuning.strong_after,
         lines_after: tuning.lines_after,
         exchange: tuning.exchange,
+        deadline: DEADLINE.with(|d| d.get()),
+        late: false,
         stop: false,
     };
     s.dfs(0, 0.0);
     *nodes = s.nodes;
-    if s.found {
+    if s.late {
+        Outcome::GaveUp
+    } else if s.found {
         Outcome::Below(s.best)
     } else if s.stop {
         Outcome::GaveUp
@@ -922,6 +1009,8 @@ struct Search<'a> {
     /// for any group at depth >= d to go to multiplet j.
     suffix_extra: &'a [f64],
     sigma2: &'a [f64],
+    /// Per multiplet: its least term once it holds a group ([`line_floors`]).
+    floor: &'a [f64],
     twin: &'a [u16],
     count: &'a mut [u32],
     tie: &'a mut [bool],
@@ -953,6 +1042,9 @@ struct Search<'a> {
     lines_after: u64,
     /// Whether exchange dominance cuts (module doc, item 6).
     exchange: bool,
+    /// Give up (set `stop` and `late`) once this moment has passed.
+    deadline: Option<std::time::Instant>,
+    late: bool,
     stop: bool,
 }
 
@@ -991,7 +1083,7 @@ impl Search<'_> {
         for j in 0..m {
             let k = self.k[j];
             if k == 0 {
-                let extra = self.suffix_extra[next * m + j];
+                let extra = self.suffix_extra[next * m + j] + self.floor[j];
                 if extra < c.empty[j] {
                     bound += extra;
                     self.gains.push(c.empty[j] - extra);
@@ -1257,6 +1349,15 @@ impl Search<'_> {
         self.nodes += 1;
         if self.nodes > self.max_nodes {
             self.stop = true;
+            return;
+        }
+        if self.nodes.is_multiple_of(CLOCK_EVERY)
+            && self
+                .deadline
+                .is_some_and(|t| std::time::Instant::now() >= t)
+        {
+            self.stop = true;
+            self.late = true;
             return;
         }
         if self.nodes == self.strong_after {
@@ -2070,6 +2171,32 @@ mod tests {
                 off.nodes
             );
         }
+    }
+
+    /// A search past its thread's deadline gives up at its next look at
+    /// the clock and answers as if nothing beat the cutoff; the same search
+    /// without a deadline finishes (here, with the cheap bound alone and
+    /// without exchange dominance, in more nodes than one look at the clock
+    /// covers).
+    #[test]
+    fn a_search_past_its_deadline_gives_up() {
+        let c = near_identical(11, &[1.0, 4.0, 4.0, 1.0, 1.0]);
+        // The cheap bound alone, whole, without exchange dominance.
+        let slow = Tuning {
+            strong_after: u64::MAX,
+            lines_after: u64::MAX,
+            split: false,
+            exchange: false,
+        };
+        let (whole, _) = solve_with(&c, f64::INFINITY, slow);
+        let whole = whole.unwrap();
+        assert!(whole.nodes > CLOCK_EVERY, "{}", whole.nodes);
+        let past = std::time::Instant::now() - std::time::Duration::from_secs(1);
+        let (late, _) = with_deadline(Some(past), || solve_with(&c, f64::INFINITY, slow));
+        assert!(late.is_none());
+        // The deadline is the thread's only inside `with_deadline`.
+        let (again, _) = solve_with(&c, f64::INFINITY, slow);
+        assert_eq!(again.unwrap().cost, whole.cost);
     }
 
     // Reference: exhaustive enumeration. The check of the checks: the line

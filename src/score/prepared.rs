@@ -79,6 +79,9 @@ struct Work {
     unassigned: Vec<f64>,
     hydrogens: Vec<u32>,
     min_choice: Vec<f64>,
+    /// Scratch of the floored root bound.
+    extra: Vec<f64>,
+    floor: Vec<f64>,
     /// Recent (predicted sigma bits, terms): a predictor uses a handful of
     /// sigmas, so this spares a logarithm and a division per group.
     sigmas: [Option<(u64, Sigma)>; 4],
@@ -204,17 +207,25 @@ impl<'a> Prepared<'a> {
         }
     }
 
-    /// The search's root bound over the shift terms alone (filled by
-    /// `Work::bounds`): a lower bound of every assignment's cost.
+    /// The search's first bound (the root bound raised by the multiplets'
+    /// floors, [`assign::root_bound_floored`]) over the shift terms alone
+    /// (filled by `Work::bounds`): a lower bound of every assignment's cost.
     fn shift_root_bound(&self, w: &mut Work) -> f64 {
         let Work {
             bound,
             unassigned,
             hydrogens,
             min_choice,
+            extra,
+            floor,
             ..
         } = w;
-        assign::root_bound(&self.view(bound, unassigned, hydrogens), min_choice)
+        assign::root_bound_floored(
+            &self.view(bound, unassigned, hydrogens),
+            min_choice,
+            extra,
+            floor,
+        )
     }
 
     /// Same result as `score::score(predicted, spectrum, model, cutoff)`:
@@ -300,6 +311,59 @@ impl<'a> Prepared<'a> {
     /// false only when no reading may beat the cutoff.
     pub fn may_beat(&self, groups: &[GroupShift], cutoff: f64) -> bool {
         halves::any_reading(groups, |g| self.may_beat_with(g, cutoff, true))
+    }
+
+    /// [`Prepared::may_beat`] with a lower bound of the cost: `None` when no
+    /// reading may beat `cutoff`, else the least, over the readings that
+    /// may, of the first bound over their shift terms
+    /// ([`assign::root_bound_floored`]). A caller with another part of the
+    /// cost (the 13C score) may search that part against `cutoff` minus
+    /// this bound: the two parts add.
+    pub fn may_beat_bound(&self, groups: &[GroupShift], cutoff: f64) -> Option<f64> {
+        let mut least: Option<f64> = None;
+        halves::any_reading(groups, |g| {
+            if let Some(b) = self.reading_bound(g, cutoff) {
+                least = Some(least.map_or(b, |l| l.min(b)));
+            }
+            false
+        });
+        least
+    }
+
+    /// One reading of [`Prepared::may_beat_bound`].
+    fn reading_bound(&self, groups: &[GroupShift], cutoff: f64) -> Option<f64> {
+        with_work(|w| {
+            w.claim(self);
+            w.bounds(
+                self,
+                groups
+                    .iter()
+                    .map(|x| (x.shift, x.sigma, x.hydrogens, x.exchangeable)),
+            );
+            let root = self.shift_root_bound(w);
+            let bound = root - SLACK * (1.0 + root.abs());
+            if cutoff.is_nan() || cutoff == f64::INFINITY {
+                return Some(bound);
+            }
+            if bound >= cutoff {
+                return None;
+            }
+            let Work {
+                bound: b,
+                unassigned,
+                hydrogens,
+                search,
+                ..
+            } = w;
+            let raised = cutoff + SLACK * (1.0 + cutoff.abs());
+            assign::may_reach_below(
+                &self.view(b, unassigned, hydrogens),
+                raised,
+                search,
+                MAY_BEAT_NODES,
+            )
+            .then_some(bound)
+        })
     }
 
     /// [`Prepared::may_beat`] with the root bound only (no search, so no
