@@ -377,6 +377,9 @@ impl<'a> Prepared<'a> {
         if cutoff.is_nan() || cutoff == f64::INFINITY {
             return true;
         }
+        if search_too {
+            return self.reading_bound(groups, cutoff).is_some();
+        }
         with_work(|w| {
             w.claim(self);
             w.bounds(
@@ -385,23 +388,7 @@ impl<'a> Prepared<'a> {
                     .iter()
                     .map(|x| (x.shift, x.sigma, x.hydrogens, x.exchangeable)),
             );
-            if !search_too {
-                return !clears(self.shift_root_bound(w), cutoff);
-            }
-            let Work {
-                bound,
-                unassigned,
-                hydrogens,
-                search,
-                ..
-            } = w;
-            let raised = cutoff + SLACK * (1.0 + cutoff.abs());
-            assign::may_reach_below(
-                &self.view(bound, unassigned, hydrogens),
-                raised,
-                search,
-                MAY_BEAT_NODES,
-            )
+            !clears(self.shift_root_bound(w), cutoff)
         })
     }
 }
