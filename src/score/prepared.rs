@@ -330,16 +330,21 @@ impl<'a> Prepared<'a> {
         least
     }
 
+    /// The shift terms' bounds of `groups` into `w` (`Work::bounds`).
+    fn shift_terms(&self, w: &mut Work, groups: &[GroupShift]) {
+        w.claim(self);
+        w.bounds(
+            self,
+            groups
+                .iter()
+                .map(|x| (x.shift, x.sigma, x.hydrogens, x.exchangeable)),
+        );
+    }
+
     /// One reading of [`Prepared::may_beat_bound`].
     fn reading_bound(&self, groups: &[GroupShift], cutoff: f64) -> Option<f64> {
         with_work(|w| {
-            w.claim(self);
-            w.bounds(
-                self,
-                groups
-                    .iter()
-                    .map(|x| (x.shift, x.sigma, x.hydrogens, x.exchangeable)),
-            );
+            self.shift_terms(w, groups);
             let root = self.shift_root_bound(w);
             let bound = root - SLACK * (1.0 + root.abs());
             if cutoff.is_nan() || cutoff == f64::INFINITY {
@@ -381,13 +386,7 @@ impl<'a> Prepared<'a> {
             return self.reading_bound(groups, cutoff).is_some();
         }
         with_work(|w| {
-            w.claim(self);
-            w.bounds(
-                self,
-                groups
-                    .iter()
-                    .map(|x| (x.shift, x.sigma, x.hydrogens, x.exchangeable)),
-            );
+            self.shift_terms(w, groups);
             !clears(self.shift_root_bound(w), cutoff)
         })
     }
