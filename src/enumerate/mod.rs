@@ -433,6 +433,12 @@ pub struct Limits {
 }
 
 impl Limits {
+    /// Whether the deadline has passed (never without one).
+    fn past_deadline(&self) -> bool {
+        self.deadline
+            .is_some_and(|d| std::time::Instant::now() >= d)
+    }
+
     /// How a stop at `max_candidates` is reported.
     fn candidate_stop(&self) -> Stop {
         if self.default_cap {
@@ -688,10 +694,7 @@ where
                     {
                         break None;
                     }
-                    if limits
-                        .deadline
-                        .is_some_and(|d| std::time::Instant::now() >= d)
-                    {
+                    if limits.past_deadline() {
                         time_up.store(true, Relaxed);
                         stop.store(true, Relaxed);
                     }
@@ -966,10 +969,7 @@ impl<'p> Worker<'p> {
             // most a few per cent of the cheapest leaf (a count).
             seen = seen.wrapping_add(1);
             if seen.is_multiple_of(8) {
-                if limits
-                    .deadline
-                    .is_some_and(|d| std::time::Instant::now() >= d)
-                {
+                if limits.past_deadline() {
                     time_up.store(true, Relaxed);
                     stop.store(true, Relaxed);
                 }
@@ -1013,11 +1013,7 @@ impl<'p> Worker<'p> {
         // A task that ends after the deadline is not covered: its last
         // candidates may have been dropped by a scorer that gave up at the
         // deadline (score::assign::with_deadline).
-        if !res.aborted
-            && limits
-                .deadline
-                .is_some_and(|d| std::time::Instant::now() >= d)
-        {
+        if !res.aborted && limits.past_deadline() {
             time_up.store(true, Relaxed);
             stop.store(true, Relaxed);
             res.aborted = true;

@@ -198,20 +198,18 @@ impl Ctx<'_> {
                 // 4 Hz, cyclopropane cis about 8 against trans about 5;
                 // common practice, from memory): tt, one t per pair. Only
                 // when the CH has no H partner off the ring.
-                let ring_atoms: Vec<usize> = {
-                    let mut v: Vec<usize> = kept[..nk]
+                // The ring partners' atoms as a bit set (cheap tests first:
+                // this runs for every ring H of every candidate).
+                let ring_atoms = || {
+                    kept[..nk]
                         .iter()
                         .filter(|c| on_ring(c))
-                        .map(|c| c.atom as usize)
-                        .collect();
-                    v.sort_unstable();
-                    v.dedup();
-                    v
+                        .fold(0u64, |set, c| set | 1 << c.atom)
                 };
                 let mirror = self.v.h[a] == 1
                     && g.atoms.count_ones() == 1
-                    && ring_atoms.len() == 2
-                    && ring_atoms.iter().all(|&b| self.v.h[b] == 2)
+                    && ring_atoms().count_ones() == 2
+                    && bits(ring_atoms()).all(|b| self.v.h[b] == 2)
                     // No H partner off the ring: a further J on top of the
                     // two t (ttd, ttt) is seldom resolved and written m
                     // (from memory), so such a CH stays m below.
@@ -220,7 +218,7 @@ impl Ctx<'_> {
                         .all(|c| on_ring(c) || heteronuclear(c.group))
                     && groups.iter().any(|p| {
                         // One symmetry class holds both partners.
-                        ring_atoms.iter().all(|&b| p.atoms >> b & 1 == 1)
+                        p.atoms & ring_atoms() == ring_atoms()
                     });
                 if ring_partner && mirror {
                     let first = kept[..nk].iter().find(|c| on_ring(c)).copied();

@@ -483,15 +483,15 @@ pub fn root_bound(c: &CostsRef, min_choice: &mut Vec<f64>) -> f64 {
 /// [`root_bound`] raised by the multiplets' floors (`line_floors`: the
 /// least term a multiplet has once it holds groups), the bound the search
 /// itself first tries against its cutoff; `extra` and `floor` are scratch.
+/// Summed in another order than an assignment's cost: a caller cutting
+/// with it lowers it by a rounding margin first.
 pub fn root_bound_floored(
     c: &CostsRef,
     min_choice: &mut Vec<f64>,
     extra: &mut Vec<f64>,
     floor: &mut Vec<f64>,
 ) -> f64 {
-    let root = root_bound_in(c, min_choice, extra);
-    let gain = line_floors(c, extra, floor);
-    root + gain - BOUND_SLACK * (1.0 + root.abs())
+    root_bound_in(c, min_choice, extra) + line_floors(c, extra, floor)
 }
 
 /// [`root_bound`] row by row, also leaving in `extra` the least extra a
@@ -657,8 +657,8 @@ fn run(
     if root >= cutoff {
         return Outcome::Nothing;
     }
-    let floors = line_floors(c, &ws.root_extra, &mut ws.floor);
-    if root + floors - BOUND_SLACK * (1.0 + root.abs()) >= cutoff {
+    let floored = root + line_floors(c, &ws.root_extra, &mut ws.floor);
+    if floored - BOUND_SLACK * (1.0 + floored.abs()) >= cutoff {
         return Outcome::Nothing;
     }
     if tuning.split && !first_only {
@@ -1645,9 +1645,10 @@ impl Move {
 /// group may take the other's place can exchange, and b may take a's place
 /// only when b's multiplet (or none) is on a's list; with more than
 /// [`EVERY_PAIR_UP_TO`] groups those b are read from per-multiplet bit sets
-/// of the groups placed there instead of testing every pair. The set of such b > a stays fixed while a's exchanges run
-/// (only a and the b just visited change places), so the pairs are visited
-/// in the same order with the same outcome as over every pair.
+/// of the groups placed there instead of testing every pair. The set of
+/// such b > a stays fixed while a's exchanges run (only a and the b just
+/// visited change places), so the pairs are visited in the same order with
+/// the same outcome as over every pair.
 pub(crate) fn improve(
     c: &CostsRef,
     choice: &mut [u16],

@@ -346,11 +346,12 @@ impl<'a> Prepared<'a> {
         with_work(|w| {
             self.shift_terms(w, groups);
             let root = self.shift_root_bound(w);
+            // Lowered by the rounding margin, so that a caller may subtract it.
             let bound = root - SLACK * (1.0 + root.abs());
             if cutoff.is_nan() || cutoff == f64::INFINITY {
                 return Some(bound);
             }
-            if bound >= cutoff {
+            if clears(root, cutoff) {
                 return None;
             }
             let Work {
