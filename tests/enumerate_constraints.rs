@@ -185,6 +185,14 @@ fn carbon_types_equal_the_filtered_enumeration() {
         c.single_hi = n;
         c
     };
+    let at_least_single = |mut c: ClassCounts, n: u32| {
+        c.single_lo = n;
+        c
+    };
+    let two_pi = |mut c: ClassCounts, n: u32| {
+        c.pi2_hi = n;
+        c
+    };
     let with = |pairs: &[(CarbonClass, u32, u32)]| {
         let mut c = any.clone();
         for &(k, lo, hi) in pairs {
@@ -223,6 +231,15 @@ fn carbon_types_equal_the_filtered_enumeration() {
             "C5H5N",
             single(with(&[(CarbonClass::Triple, 1, u32::MAX)]), 1),
         ),
+        // The joint lower bound on the single-bond classes and the bound
+        // on carbons with two pi units (a triple bond or two double
+        // bonds), and the ring floor they give (ClassCounts::most_pi, cut
+        // on complete skeletons): C6H8 with 4 carbons single-bonded and
+        // none with two pi units keeps at most 2 pi bonds, so at least 1
+        // ring; C5H6 with no carbon of two pi units keeps no alkyne or
+        // allene.
+        ("C6H8", two_pi(at_least_single(any.clone(), 4), 0)),
+        ("C5H6", two_pi(any.clone(), 0)),
     ];
     for (formula, classes) in cases {
         let full = smiles_of(formula, Constraints::default());
@@ -235,7 +252,11 @@ fn carbon_types_equal_the_filtered_enumeration() {
         }
         m.insert(
             "single".into(),
-            serde_json::json!([0, classes.single_hi.min(1000)]),
+            serde_json::json!([classes.single_lo, classes.single_hi.min(1000)]),
+        );
+        m.insert(
+            "two_pi".into(),
+            serde_json::json!([0, classes.pi2_hi.min(1000)]),
         );
         spec["classes"] = serde_json::Value::Object(m);
         let f = Formula::parse(formula).unwrap();
@@ -268,55 +289,70 @@ fn carbon_types_equal_the_filtered_enumeration() {
 
 #[test]
 fn a_13c_line_list_keeps_the_structures_that_fit_it() {
-    // Phenol, 13C in CDCl3 (common practice, values from memory): 155.0
-    // (C), 129.6 (2 CH), 120.8 (CH), 115.3 (2 CH). The true structure must
-    // survive, and the kept set must be the full enumeration filtered by the
-    // derived bounds (RDKit side).
-    let lines = [
-        (155.0, Some(0), 1),
-        (129.6, Some(1), 2),
-        (120.8, Some(1), 1),
-        (115.3, Some(1), 2),
+    // 13C lists in CDCl3 (common practice, values from memory): the true
+    // structure (our canonical SMILES) must survive, and the kept set must be the full
+    // enumeration filtered by the derived bounds (RDKit side), which checks
+    // every cut the search makes from them on skeletons, bond orders and
+    // complete structures.
+    let cases: [(&str, &str, &[(f64, Option<u8>, u32)]); 3] = [
+        // Phenol: 155.0 (C), 129.6 (2 CH), 120.8 (CH), 115.3 (2 CH).
+        (
+            "C6H6O",
+            "Oc1ccccc1",
+            &[
+                (155.0, Some(0), 1),
+                (129.6, Some(1), 2),
+                (120.8, Some(1), 1),
+                (115.3, Some(1), 2),
+            ],
+        ),
+        // Anisole: 159.6 (C), 129.5 (2 CH), 120.7 (CH), 114.0 (2 CH),
+        // 55.1 (CH3).
+        (
+            "C7H8O",
+            "COc1ccccc1",
+            &[
+                (159.6, Some(0), 1),
+                (129.5, Some(1), 2),
+                (120.7, Some(1), 1),
+                (114.0, Some(1), 2),
+                (55.1, Some(3), 1),
+            ],
+        ),
+        // Acetophenone: 198.1 (C), 137.1 (C), 133.0 (CH), 128.5 (2 CH),
+        // 128.2 (2 CH), 26.5 (CH3).
+        (
+            "C8H8O",
+            "CC(c1ccccc1)=O",
+            &[
+                (198.1, Some(0), 1),
+                (137.1, Some(0), 1),
+                (133.0, Some(1), 1),
+                (128.5, Some(1), 2),
+                (128.2, Some(1), 2),
+                (26.5, Some(3), 1),
+            ],
+        ),
     ];
-    let formula = "C6H6O";
-    let f = Formula::parse(formula).unwrap();
-    let facts = carbon13::carbon_facts(&lines, &f).unwrap();
-    let mut c = Constraints::default();
-    c.add_carbon_lines(&lines, &f).unwrap();
-    let ours: BTreeSet<String> = smiles_of(formula, c).into_iter().collect();
-    assert!(ours.contains("Oc1ccccc1"), "{} kept", ours.len());
-    let full = smiles_of(formula, Constraints::default());
-    let full: Vec<&str> = full.iter().map(String::as_str).collect();
-    let h = facts.hydrogens.unwrap();
-    let mut spec = serde_json::json!({
-        "hydrogens": {"C": (0..5).map(|k| [h.lo[k], h.hi[k]]).collect::<Vec<_>>()}
-    });
-    if let Some(cc) = &facts.classes {
-        let mut m = serde_json::Map::new();
-        for k in CarbonClass::ALL {
-            m.insert(
-                k.name().into(),
-                serde_json::json!([cc.lo[k.index()], cc.hi[k.index()]]),
-            );
-        }
-        spec["classes"] = serde_json::Value::Object(m);
-        if let Some(t) = &cc.hi_by_h {
-            let mut m = serde_json::Map::new();
-            for k in CarbonClass::ALL {
-                m.insert(k.name().into(), serde_json::json!(t[k.index()]));
-            }
-            spec["class_hydrogens"] = serde_json::Value::Object(m);
-        }
+    for (formula, truth, lines) in cases {
+        let f = Formula::parse(formula).unwrap();
+        let mut c = Constraints::default();
+        c.add_carbon_lines(lines, &f).unwrap();
+        let spec = carbon_spec(&c, &f);
+        let ours: BTreeSet<String> = smiles_of(formula, c).into_iter().collect();
+        assert!(ours.contains(truth), "{formula}: {} kept", ours.len());
+        let full = smiles_of(formula, Constraints::default());
+        let full: Vec<&str> = full.iter().map(String::as_str).collect();
+        // Source: RDKit (PyPI rdkit), tests/reference/check_constraints.py.
+        let theirs = reference_fits(&full, &spec);
+        assert_eq!(ours, theirs, "{formula}");
+        assert!(
+            ours.len() * 20 < full.len(),
+            "{formula}: {} of {}",
+            ours.len(),
+            full.len()
+        );
     }
-    // Source: RDKit (PyPI rdkit), tests/reference/check_constraints.py.
-    let theirs = reference_fits(&full, &spec);
-    assert_eq!(ours, theirs);
-    assert!(
-        ours.len() * 20 < full.len(),
-        "{} of {}",
-        ours.len(),
-        full.len()
-    );
 }
 
 #[test]
@@ -405,9 +441,11 @@ fn carbon_spec(c: &Constraints, f: &Formula) -> serde_json::Value {
         }
         m.insert(
             "single".into(),
-            serde_json::json!([0, cc.single_hi.min(1000)]),
+            serde_json::json!([cc.single_lo, cc.single_hi.min(1000)]),
         );
+        m.insert("two_pi".into(), serde_json::json!([0, cc.pi2_hi.min(1000)]));
         spec["classes"] = serde_json::Value::Object(m);
+        spec["carbon_pi_max"] = serde_json::json!(cc.most_pi(f.count(Element::C)));
         if let Some(t) = &cc.hi_by_h {
             let mut m = serde_json::Map::new();
             for k in CarbonClass::ALL {

@@ -900,7 +900,7 @@ impl<'p> Generator<'p> {
             return;
         }
         if let Some(w) = &mut self.cons {
-            if !w.skeleton_fits(node) {
+            if !w.skeleton_fits(node) || !w.totals_fit(node) || !w.carbons_fit(node) {
                 return;
             }
         }

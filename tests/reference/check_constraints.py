@@ -7,9 +7,10 @@ Usage: check_constraints.py SPEC_JSON < smiles-one-per-line
 
 SPEC_JSON: {"require": [smiles], "forbid": [smiles],
             "hydrogens": {"C": [[lo, hi] for h = 0..4], "O": [...]},
-            "classes": {"carbonyl": [lo, hi], ..., "single": [lo, hi]},
+            "classes": {"carbonyl": [lo, hi], ..., "single": [lo, hi],
+                        "two_pi": [lo, hi]},
             "class_hydrogens": {"carbonyl": [hi for h = 0..4], ...},
-            "max_rings": n}   (every key optional)
+            "max_rings": n, "carbon_pi_max": n}   (every key optional)
 
 With --each every input line is {"smiles": ..., "spec": SPEC_JSON}, one
 spec per structure.
@@ -30,6 +31,11 @@ The senses, as the README states them:
   sp3-hetero; else sp3.
 - class_hydrogens: for each listed class and h, the number of its carbons
   with GetTotalNumHs() == h is at most hi.
+- two_pi (in classes): the number of carbons whose extra bond order is 2,
+  and carbon_pi_max: the most the carbons' extra bond orders may add up
+  to; a carbon's extra order is the sum of (bond order - 1) over its bonds
+  in RDKit's Kekulé form (Chem.Kekulize on a copy), the same in every
+  Kekulé form of a neutral molecule.
 """
 
 import json
@@ -66,6 +72,17 @@ def carbon_class(atom):
     return "sp3"
 
 
+def extra_orders(mol):
+    """Per carbon, the sum of (bond order - 1) over its bonds, Kekulé form."""
+    kek = Chem.Mol(mol)
+    Chem.Kekulize(kek, clearAromaticFlags=True)
+    out = []
+    for a in kek.GetAtoms():
+        if a.GetSymbol() == "C":
+            out.append(sum(int(b.GetBondTypeAsDouble()) - 1 for b in a.GetBonds()))
+    return out
+
+
 def fits(mol, spec, require, forbid):
     for element, bounds in spec.get("hydrogens", {}).items():
         counts = [0] * 5
@@ -83,6 +100,7 @@ def fits(mol, spec, require, forbid):
             if a.GetSymbol() == "C":
                 counts[carbon_class(a)] += 1
         counts["single"] = counts["sp3"] + counts["sp3-hetero"]
+        counts["two_pi"] = sum(1 for x in extra_orders(mol) if x == 2)
         for c, (lo, hi) in spec["classes"].items():
             if not (lo <= counts[c] <= hi):
                 return False
@@ -94,6 +112,9 @@ def fits(mol, spec, require, forbid):
         for c, his in spec["class_hydrogens"].items():
             if any(n > hi for n, hi in zip(by_h[c], his)):
                 return False
+    if "carbon_pi_max" in spec:
+        if sum(extra_orders(mol)) > spec["carbon_pi_max"]:
+            return False
     if "max_rings" in spec:
         rings = mol.GetNumBonds() - mol.GetNumAtoms() + 1
         if rings > spec["max_rings"]:

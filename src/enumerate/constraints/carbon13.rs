@@ -148,7 +148,13 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
     let mut class_hi = [unknown; 6];
     // Carbons of lines that no single-bond class fits have a pi bond.
     let mut pi_carbons = 0u32;
+    // Carbons of lines that only single-bond classes fit, and of lines
+    // whose carbons may have two units of extra bond order.
+    let (mut single_carbons, mut pi2_carbons) = (0u32, unknown);
     let single = 1 << CarbonClass::Sp3.index() | 1 << CarbonClass::Sp3Hetero.index();
+    let pi2 = 1 << CarbonClass::Carbonyl.index()
+        | 1 << CarbonClass::Triple.index()
+        | 1 << CarbonClass::Cumulated.index();
     let mut notes = Vec::new();
     // Per line, the classes that fit it and its carbons.
     let mut fits: Vec<(u8, u32)> = Vec::with_capacity(lines.len());
@@ -196,6 +202,20 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
         if set & single == 0 {
             pi_carbons += count;
         }
+        if set & !single == 0 {
+            single_carbons += count;
+        }
+        // Two units of extra order: a triple bond (at most one H) or two
+        // double bonds (cumulated, O=C=C, N=C=O: no H).
+        let two = match h {
+            None => set & pi2 != 0,
+            Some(0) => set & pi2 != 0,
+            Some(1) => set >> CarbonClass::Triple.index() & 1 == 1,
+            Some(_) => false,
+        };
+        if two {
+            pi2_carbons += count;
+        }
         if set.count_ones() == 1 {
             class_lo[set.trailing_zeros() as usize] += count;
             notes.push(format!("{label}: {}", names[0]));
@@ -227,7 +247,10 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
     for (c, lo) in forced_by_caps(&fits, &caps).into_iter().enumerate() {
         class_lo[c] = class_lo[c].max(lo);
     }
-    let narrows = class_lo.iter().any(|&x| x > 0) || class_hi.iter().any(|&x| x < carbons);
+    let narrows = class_lo.iter().any(|&x| x > 0)
+        || class_hi.iter().any(|&x| x < carbons)
+        || single_carbons > 0
+        || pi2_carbons < carbons;
     // Per class and H count: the lines with that H count that the class
     // fits, plus every carbon whose H count is not known.
     let hi_by_h = (h_unknown < carbons).then(|| {
@@ -247,6 +270,8 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
         lo: class_lo,
         hi: class_hi.map(|x| x.min(carbons)),
         single_hi: carbons - pi_carbons,
+        single_lo: single_carbons,
+        pi2_hi: pi2_carbons.min(carbons),
         hi_by_h,
     });
     Ok(CarbonFacts {
@@ -334,6 +359,8 @@ impl Constraints {
                     lo: std::array::from_fn(|i| have.lo[i].max(c.lo[i])),
                     hi: std::array::from_fn(|i| have.hi[i].min(c.hi[i])),
                     single_hi: have.single_hi.min(c.single_hi),
+                    single_lo: have.single_lo.max(c.single_lo),
+                    pi2_hi: have.pi2_hi.min(c.pi2_hi),
                     hi_by_h: match (have.hi_by_h, c.hi_by_h) {
                         (Some(a), Some(b)) => Some(std::array::from_fn(|k| {
                             std::array::from_fn(|h| a[k][h].min(b[k][h]))
@@ -499,6 +526,32 @@ mod tests {
         // unannotated 70 ppm line in an O compound.
         let c = carbon_facts(&[(70.0, None, 1)], &f).unwrap().classes;
         assert!(c.is_none_or(|c| c.least_pi(7) == 0));
+    }
+
+    #[test]
+    fn lines_bound_the_carbons_pi_bonds_from_above() {
+        // o-Xylene as above: the two CH3 lines fit only single-bond classes
+        // and no line may hold a carbon of two pi units (the quaternary
+        // 136.5 fits no carbonyl without N, O or S, and a triple-bond
+        // carbon has at most one H), so the carbons' extra orders add up
+        // to at most 6: 3 pi bonds, and of DBE 4 at least 1 ring.
+        let f = Formula::parse("C8H10").unwrap();
+        let lines = [
+            (136.5, Some(0), 2),
+            (129.6, Some(1), 2),
+            (125.8, Some(1), 2),
+            (19.7, Some(3), 2),
+        ];
+        let c = carbon_facts(&lines, &f).unwrap().classes.unwrap();
+        assert_eq!((c.single_lo, c.single_hi, c.pi2_hi), (2, 2, 0));
+        assert_eq!(c.most_pi(8), 6);
+        // Benzaldehyde: the aldehyde CH may not have two pi units (one H
+        // and no triple bond at 192 ppm), nor the 136.4 quaternary carbon
+        // (below the cumulated and, without N, the carbonyl regions): 7.
+        let f = Formula::parse("C7H6O").unwrap();
+        let c = carbon_facts(&BENZALDEHYDE, &f).unwrap().classes.unwrap();
+        assert_eq!((c.single_lo, c.pi2_hi), (0, 0));
+        assert_eq!(c.most_pi(7), 7);
     }
 
     #[test]

@@ -37,6 +37,13 @@ pub struct Work {
     /// `None` without carbon types.
     pub pi_caps: Option<PiCaps>,
     pi: PiState,
+    /// Bit k set: kind k is carbon.
+    carbon_kinds: u64,
+    /// For [`Work::carbons_fit`]: per H count h and extra order x, the
+    /// most carbons with h H and x (from the carbon types per H count),
+    /// and per h the most carbons with h H; `None` when neither bounds
+    /// anything.
+    carbon_hx: Option<([[u32; 3]; MAX_H + 1], [u32; MAX_H + 1])>,
 }
 
 /// Carbon-type bounds that hold for every partial bond-order assignment,
@@ -152,11 +159,40 @@ impl Work {
             kind_nb: [[0; MAX_ATOMS]; 5],
             pi_caps: None,
             pi: PiState::default(),
+            carbon_kinds: p
+                .kinds
+                .iter()
+                .enumerate()
+                .filter(|(_, k)| k.element == Element::C)
+                .fold(0u64, |m, (i, _)| m | 1 << i),
+            carbon_hx: None,
         }
         .with_caps(p)
     }
 
     fn with_caps(mut self, p: &Problem) -> Work {
+        let c_slot = Element::C.heavy_index().expect("carbon is heavy");
+        let h_hi = self
+            .bounds
+            .exact
+            .iter()
+            .find(|e| e.0 == c_slot)
+            .map(|e| e.2);
+        let by_h = self.bounds.classes.as_ref().and_then(|cc| cc.hi_by_h);
+        if h_hi.is_some() || by_h.is_some() {
+            let mut caps = [[u32::MAX; 3]; MAX_H + 1];
+            if let Some(t) = by_h {
+                let at = |c: CarbonClass, h: usize| t[c.index()][h];
+                for (h, row) in caps.iter_mut().enumerate() {
+                    row[0] = at(CarbonClass::Sp3, h).saturating_add(at(CarbonClass::Sp3Hetero, h));
+                    row[1] = at(CarbonClass::Sp2, h).saturating_add(at(CarbonClass::Carbonyl, h));
+                    row[2] = at(CarbonClass::Triple, h)
+                        .saturating_add(at(CarbonClass::Cumulated, h))
+                        .saturating_add(at(CarbonClass::Carbonyl, h));
+                }
+            }
+            self.carbon_hx = Some((caps, h_hi.unwrap_or([u32::MAX; MAX_H + 1])));
+        }
         let carbons: u32 = p
             .kinds
             .iter()
@@ -165,9 +201,8 @@ impl Work {
             .map(|(_, &n)| n as u32)
             .sum();
         self.pi_caps = self.bounds.classes.as_ref().map(|cc| {
-            let lo = |c: CarbonClass| cc.lo[c.index()];
             let hi = |c: CarbonClass| cc.hi[c.index()];
-            let single_lo = lo(CarbonClass::Sp3) + lo(CarbonClass::Sp3Hetero);
+            let single_lo = cc.single_least();
             PiCaps {
                 triple: hi(CarbonClass::Triple),
                 cumulated: hi(CarbonClass::Cumulated),
@@ -329,6 +364,159 @@ impl Work {
         true
     }
 
+    /// Tests of a complete skeleton's free valence (valence less degree)
+    /// summed per element, which the bond orders turn into H and extra
+    /// orders: an element's atoms end with exactly its H, so their free
+    /// valence must hold at least the fewest H they may carry
+    /// ([`super::Bounds::h_sums`]), and the elements without H counts at
+    /// least what the formula's H leave for them; and the carbons' extra
+    /// orders (their free valence less their H) may not pass what the
+    /// carbon types allow ([`super::Bounds::carbon_pi_hi`]). A cut is
+    /// charged to the H counts, or for the last test to the carbon types.
+    pub fn totals_fit(&mut self, node: &Node) -> bool {
+        let b = &self.bounds;
+        if b.h_sums.is_empty() && b.carbon_pi_hi.is_none() {
+            return true;
+        }
+        let mut free = [0i64; 9];
+        for a in 0..node.n {
+            free[self.slot_of_kind[node.kind[a] as usize]] += node.free[a] as i64;
+        }
+        let (mut listed_free, mut listed_most) = (0i64, 0i64);
+        for &(slot, least, most) in &b.h_sums {
+            if free[slot] < least as i64 {
+                self.cuts[0][0] += 1;
+                return false;
+            }
+            listed_free += free[slot];
+            listed_most = listed_most.saturating_add(most as i64);
+        }
+        if !b.h_sums.is_empty() {
+            let rest: i64 = free.iter().sum::<i64>() - listed_free;
+            if rest < b.h_total as i64 - listed_most {
+                self.cuts[0][0] += 1;
+                return false;
+            }
+        }
+        if let Some(hi) = b.carbon_pi_hi {
+            let c = Element::C.heavy_index().expect("carbon is heavy");
+            // The most H the carbons may carry: their own bound, else the
+            // formula's.
+            let carbon_h = match b.h_sums.iter().find(|t| t.0 == c) {
+                Some(&(_, _, most)) => most as i64,
+                None => b.h_total as i64,
+            };
+            if free[c] - carbon_h > hi {
+                let at = b.classes_at;
+                self.cuts[at][0] += 1;
+                return false;
+            }
+        }
+        true
+    }
+
+    /// Whether the carbons of a complete skeleton can take H counts and
+    /// extra orders that the bounds allow. A carbon with skeleton free
+    /// valence f ends with h H and extra order x = f - h, where x is 0, 1
+    /// or 2 (a carbon has at most a triple bond or two double bonds), and
+    /// the carbon types per H count bound how many carbons have each (h,
+    /// x): x = 0 the sp3 classes, x = 1 sp2 and carbonyl, x = 2 triple,
+    /// cumulated and carbonyl (O=C=C). So the carbons, grouped by f, must
+    /// fit into the H counts through those pairs: a transportation problem
+    /// whose largest flow (augmenting paths, Ford & Fulkerson 1956) must
+    /// place every carbon. A cut is charged to the carbon types, or to the
+    /// H counts without them.
+    pub fn carbons_fit(&mut self, node: &Node) -> bool {
+        let Some((caps, h_hi)) = self.carbon_hx else {
+            return true;
+        };
+        let mut by_free = [0u32; MAX_H + 1];
+        let mut carbons = 0u32;
+        for a in 0..node.n {
+            if self.carbon_kinds >> node.kind[a] & 1 == 1 {
+                by_free[(node.free[a] as usize).min(MAX_H)] += 1;
+                carbons += 1;
+            }
+        }
+        // Residual capacities: source -> f (by_free), f -> h (caps, for
+        // h <= f <= h + 2), h -> sink (h_hi); flows kept per f -> h edge.
+        let mut flow = [[0u32; MAX_H + 1]; MAX_H + 1];
+        let mut into_h = [0u32; MAX_H + 1];
+        let mut out_f = [0u32; MAX_H + 1];
+        let cap = |f: usize, h: usize| -> u32 {
+            if h <= f && f <= h + 2 {
+                caps[h][f - h]
+            } else {
+                0
+            }
+        };
+        let mut total = 0u32;
+        loop {
+            // Breadth-first search over f and h nodes for a path source ->
+            // f -> h (-> f' -> h' ...) -> sink in the residual graph.
+            let mut prev_f = [usize::MAX; MAX_H + 1]; // h reached from f
+            let mut prev_h = [usize::MAX; MAX_H + 1]; // f reached back from h
+            let mut seen_f = [false; MAX_H + 1];
+            let mut queue: Vec<usize> = (0..=MAX_H).filter(|&f| out_f[f] < by_free[f]).collect();
+            for &f in &queue {
+                seen_f[f] = true;
+            }
+            let mut end = None;
+            let mut qi = 0;
+            while qi < queue.len() && end.is_none() {
+                let f = queue[qi];
+                qi += 1;
+                for h in 0..=MAX_H {
+                    if prev_f[h] != usize::MAX || flow[f][h] >= cap(f, h) {
+                        continue;
+                    }
+                    prev_f[h] = f;
+                    if into_h[h] < h_hi[h] {
+                        end = Some(h);
+                        break;
+                    }
+                    for f2 in 0..=MAX_H {
+                        if !seen_f[f2] && flow[f2][h] > 0 {
+                            seen_f[f2] = true;
+                            prev_h[f2] = h;
+                            queue.push(f2);
+                        }
+                    }
+                }
+            }
+            let Some(mut h) = end else { break };
+            into_h[h] += 1;
+            loop {
+                let f = prev_f[h];
+                flow[f][h] += 1;
+                match prev_h[f] {
+                    usize::MAX => {
+                        out_f[f] += 1;
+                        break;
+                    }
+                    h0 => {
+                        flow[f][h0] -= 1;
+                        h = h0;
+                    }
+                }
+            }
+            total += 1;
+            if total == carbons {
+                return true;
+            }
+        }
+        if total >= carbons {
+            return true;
+        }
+        let at = if self.bounds.classes.is_some() {
+            self.bounds.classes_at
+        } else {
+            0
+        };
+        self.cuts[at][0] += 1;
+        false
+    }
+
     /// Complete-structure test, run on every bond-order assignment the
     /// generator would hand out (before the Kekulé-form check: every test
     /// here gives the same answer on all Kekulé forms of one compound, as H
@@ -396,8 +584,16 @@ impl Work {
                 .hi_by_h
                 .as_ref()
                 .is_some_and(|t| (0..6).any(|c| (0..=MAX_H).any(|h| by_h[c][h] > t[c][h])));
+            // Carbons with two units of extra order (4 - bonds - H = 2).
+            let pi2 = (0..node.n)
+                .filter(|&a| {
+                    self.carbon_kinds >> node.kind[a] & 1 == 1 && node.deg[a] + node.free[a] == 2
+                })
+                .count() as u32;
             if (0..6).any(|c| counts[c] < cc.lo[c] || counts[c] > cc.hi[c])
                 || single > cc.single_hi
+                || single < cc.single_lo
+                || pi2 > cc.pi2_hi
                 || by_h_over
             {
                 self.cuts[b.classes_at][2] += 1;

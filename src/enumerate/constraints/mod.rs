@@ -143,6 +143,17 @@ pub struct ClassCounts {
     /// sp3-hetero together); the others have a pi bond. `u32::MAX`: no
     /// bound beyond `hi`.
     pub single_hi: u32,
+    /// At least this many carbons with single bonds only (sp3 and
+    /// sp3-hetero together: the carbons of lines that no pi class fits).
+    /// 0: no bound beyond `lo`.
+    pub single_lo: u32,
+    /// At most this many carbons with two units of extra bond order (a
+    /// triple bond, or two double bonds: cumulated centres and O=C=C,
+    /// N=C=O carbons), which only the triple, cumulated and carbonyl
+    /// classes have: the carbons of lines one of them fits with an H
+    /// count that allows it (none; one on a triple bond), and those of
+    /// unknown H count. `u32::MAX`: no bound beyond `hi`.
+    pub pi2_hi: u32,
     /// Per class and attached-H count h = 0..=4, the most carbons of that
     /// class carrying h H (from 13C lines with H counts); `None`: no bound
     /// beyond `hi`.
@@ -156,8 +167,39 @@ impl ClassCounts {
             lo,
             hi,
             single_hi: u32::MAX,
+            single_lo: 0,
+            pi2_hi: u32::MAX,
             hi_by_h: None,
         }
+    }
+
+    /// The fewest carbons with single bonds only: `single_lo`, or the
+    /// lower bounds of the two single-bond classes.
+    pub fn single_least(&self) -> u32 {
+        self.single_lo
+            .max(self.lo[CarbonClass::Sp3.index()] + self.lo[CarbonClass::Sp3Hetero.index()])
+    }
+
+    /// The most that the carbons' extra bond orders can add up to (each
+    /// carbon's extra order x: its bond orders less its bonds; a triple
+    /// bond gives each end 2, and a bond's extra order counts at both of
+    /// its ends). Sound because in every Kekulé structure a carbon of the
+    /// sp3 classes has x = 0 and a carbon of the sp2 class exactly one
+    /// double bond (x = 1); only carbonyl (O=C=C, N=C=O), triple and
+    /// cumulated carbons reach x = 2, and no carbon more (valence 4, at
+    /// least one other bond). So the sum is at most the carbons outside the
+    /// single-bond classes plus those that may reach 2. On a complete
+    /// skeleton the carbons' free valence (valence less degree) is their H
+    /// plus this sum, and each ring takes two units of free valence, so it
+    /// bounds the rings from below (`Bounds::carbon_pi_hi`).
+    pub fn most_pi(&self, carbons: u32) -> i64 {
+        let hi = |c: CarbonClass| self.hi[c.index()] as u64;
+        let p = carbons.saturating_sub(self.single_least()) as u64;
+        let two =
+            (hi(CarbonClass::Carbonyl) + hi(CarbonClass::Triple) + hi(CarbonClass::Cumulated))
+                .min(self.pi2_hi as u64)
+                .min(p);
+        (p + two) as i64
     }
 
     /// The least number of extra bond orders (pi bonds; a triple bond
@@ -200,8 +242,14 @@ impl ClassCounts {
                 }
             })
             .collect();
+        if self.single_lo > 0 {
+            parts.push(format!("single-bonded>={}", self.single_lo));
+        }
         if self.single_hi < u32::MAX {
             parts.push(format!("single-bonded<={}", self.single_hi));
+        }
+        if self.pi2_hi < u32::MAX {
+            parts.push(format!("two-pi<={}", self.pi2_hi));
         }
         parts.join(",")
     }
@@ -505,6 +553,18 @@ impl Constraints {
             skeleton_test: max_below.iter().any(|r| r.iter().any(|&x| x < u8::MAX)),
             pi_needed: pi_needed as i32,
             pi_owner,
+            h_sums: exact
+                .iter()
+                .map(|&(slot, lo, hi)| {
+                    let n = formula.count(Element::HEAVY[slot]);
+                    (slot, h_sum(n, &lo, &hi, false), h_sum(n, &lo, &hi, true))
+                })
+                .collect(),
+            h_total: formula.hydrogens(),
+            carbon_pi_hi: self
+                .classes
+                .as_ref()
+                .map(|cc| cc.most_pi(formula.count(Element::C))),
             exact,
             classes: self.classes.clone(),
             require: self.require.clone(),
@@ -516,6 +576,33 @@ impl Constraints {
             stats,
         })))
     }
+}
+
+/// The fewest (`most` false) or the most H that `n` atoms can carry when
+/// between `lo[h]` and `hi[h]` of them carry h H: the lower bounds first,
+/// the rest on the smallest (largest) h with room. 0 (`u32::MAX`) when the
+/// intervals cannot hold `n` atoms, so no bound follows.
+fn h_sum(n: u32, lo: &[u32; MAX_H + 1], hi: &[u32; MAX_H + 1], most: bool) -> u32 {
+    let placed: u32 = lo.iter().sum();
+    let mut left = match n.checked_sub(placed) {
+        Some(x) => x,
+        None => return if most { u32::MAX } else { 0 },
+    };
+    let mut sum: u32 = (0..=MAX_H).map(|h| h as u32 * lo[h]).sum();
+    let order: Vec<usize> = if most {
+        (0..=MAX_H).rev().collect()
+    } else {
+        (0..=MAX_H).collect()
+    };
+    for h in order {
+        let take = left.min(hi[h].saturating_sub(lo[h]));
+        sum += h as u32 * take;
+        left -= take;
+    }
+    if left > 0 {
+        return if most { u32::MAX } else { 0 };
+    }
+    sum
 }
 
 /// Stages at which a constraint can cut the search.
@@ -540,6 +627,16 @@ pub struct Bounds {
     pub pi_needed: i32,
     /// The constraint a ring-count cut is charged to.
     pub pi_owner: usize,
+    /// The most the carbons' extra bond orders can add up to, from the
+    /// carbon types ([`ClassCounts::most_pi`]): a complete skeleton whose
+    /// carbons' free valence less their H is more than that has too few
+    /// rings (`constraints::check::Work::totals_fit`).
+    pub carbon_pi_hi: Option<i64>,
+    /// Per element with H counts (slot): the fewest and the most H its
+    /// atoms can carry in all (`h_sum`); the formula's H (the rest sits on
+    /// the other elements). Read by `constraints::check::Work::totals_fit`.
+    pub h_sums: Vec<(usize, u32, u32)>,
+    pub h_total: u32,
     /// Exact H-count intervals (slot, lo, hi), checked on complete structures.
     pub exact: Vec<(usize, [u32; MAX_H + 1], [u32; MAX_H + 1])>,
     pub classes: Option<ClassCounts>,
@@ -683,6 +780,21 @@ mod tests {
         for bad in ["CH3", "CH3=x", "ClH=1", "CH5=1", "OH3=1", "CH3=1,CH3=2"] {
             assert!(Constraints::parse_attached_h(bad).is_err(), "{bad}");
         }
+    }
+
+    #[test]
+    fn h_sums_place_the_free_carbons_on_the_smallest_and_largest_counts() {
+        // 5 carbons: at least 1 CH3 and 2 CH, at most 1 more of any count
+        // up to CH2: two carbons left to place.
+        let lo = [0, 2, 0, 1, 0];
+        let hi = [1, 3, 1, 1, 0];
+        assert_eq!(h_sum(5, &lo, &hi, false), 5 + 0 + 1);
+        assert_eq!(h_sum(5, &lo, &hi, true), 5 + 2 + 1);
+        // Exact counts: both ends are the same.
+        assert_eq!(h_sum(3, &[1, 1, 1, 0, 0], &[1, 1, 1, 0, 0], true), 3);
+        // Intervals that cannot hold the atoms bound nothing.
+        assert_eq!(h_sum(9, &lo, &hi, false), 0);
+        assert_eq!(h_sum(9, &lo, &hi, true), u32::MAX);
     }
 
     #[test]
