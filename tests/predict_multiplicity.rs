@@ -134,9 +134,19 @@ const DEPOSITED_APART: &[(u64, &str, f64, usize, &str)] = &[
     // (virtual coupling), so each H is m and not ddd (2.23 m, 1.95 m at
     // 600 MHz).
     (60000061, "CC(C)=C1CCC(C)CC1=O", 600.0, 4, "m"),
-    // Ring CH2 beside a CH2 and a CH: four couplings, written m (1.69 m,
-    // 1.65 m, 1.62 m, 1.41 m at 600 MHz).
-    (10027667, "C=C1C2CCC(C2)C1(C)CC=CC(C)(O)CO", 600.0, 4, "m"),
+    // CH2OH on a quaternary carbon: no vicinal H, an AB pair read apart
+    // first among the molecule's diastereotopic CH2 (fewest vicinal H
+    // first), each H a d by the geminal J (3.50 d, 3.43 d at 600 MHz).
+    (10027667, "C=C1C2CCC(C2)C1(C)CC=CC(C)(O)CO", 600.0, 15, "d"),
+    // The same for a CH2OH on an alkene carbon of a macrocycle (4.34 d,
+    // 3.86 d at 300 MHz).
+    (
+        10027546,
+        "CC1=CCCC(CO)=CCC2CCC(C)(O)C(CC1)C2(C)C",
+        300.0,
+        6,
+        "d",
+    ),
     // Cyclohexene oxide: the CH2 pairs' symmetry twins couple to the
     // bonded epoxide CH pair (AA'XX'): m (1.93 m, 1.80 m, 2H each, at
     // 600 MHz).

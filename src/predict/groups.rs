@@ -102,15 +102,31 @@ impl Ctx<'_> {
                     marked += usize::from(g.half != 0);
                 }
             }
-            for g in groups.iter_mut() {
-                if marked < MAX_HALVES
-                    && g.notes & note::DIASTEREOTOPIC != 0
-                    && bits(g.atoms).all(|a| {
-                        let mut nb = self.v.neighbours(a).map(|(x, _)| self.orb[x]);
-                        matches!((nb.next(), nb.next(), nb.next()), (Some(x), Some(y), None) if x != y)
-                    })
-                {
-                    g.half = g.atoms;
+            // CH2 pairs with the fewest vicinal H first (ties in atom
+            // order): an isolated CH2 (no H on either neighbour) reads as
+            // an AB pair, two doublets, which is how such a pair is most
+            // often written apart; a CH2 among many vicinal H gives
+            // overlapping multiplets that are written whole or m.
+            let vicinal_h = |g: &Group| -> u32 {
+                self.v
+                    .neighbours(g.rep)
+                    .map(|(x, _)| u32::from(self.v.h[x]))
+                    .sum()
+            };
+            let mut order: Vec<usize> = (0..groups.len())
+                .filter(|&i| {
+                    let g = &groups[i];
+                    g.notes & note::DIASTEREOTOPIC != 0
+                        && bits(g.atoms).all(|a| {
+                            let mut nb = self.v.neighbours(a).map(|(x, _)| self.orb[x]);
+                            matches!((nb.next(), nb.next(), nb.next()), (Some(x), Some(y), None) if x != y)
+                        })
+                })
+                .collect();
+            order.sort_by_key(|&i| vicinal_h(&groups[i]));
+            for i in order {
+                if marked < MAX_HALVES {
+                    groups[i].half = groups[i].atoms;
                     marked += 1;
                 }
             }
