@@ -107,6 +107,18 @@ const DEPOSITED: &[(u64, &str, f64, usize, &str)] = &[
     // An exocyclic =CH2: the geminal J of a 1,1-dialkyl alkene (about
     // 1 Hz) is not written; two singlets (4.77 s, 4.45 s at 600 MHz).
     (10027667, "C=C1C2CCC(C2)C1(C)CC=CC(C)(O)CO", 600.0, 0, "s"),
+    // A para-disubstituted ring, a reporting habit keyed on the field: two
+    // d in lists from 300-500 MHz (4-hydroxycinnamoyl 7.48 d, 6.81 d at
+    // 500 MHz), m from 600 MHz on (4'-bromoacetophenone 7.80 m, 7.58 m).
+    (
+        20078844,
+        "O=C(C=Cc1ccc(O)cc1)OC1OC(CO)C(O)C(O)C1O",
+        500.0,
+        5,
+        "d",
+    ),
+    (10008816, "CC(=O)c1ccc(Br)cc1", 600.0, 4, "m"),
+    (10008816, "CC(=O)c1ccc(Br)cc1", 600.0, 5, "m"),
 ];
 
 /// Diastereotopic CH2 pairs written as two signals in NMRShiftDB2 dev

@@ -429,10 +429,18 @@ impl Ctx<'_> {
                 let dv = (super::round2(g1.shift) - super::round2(g2.shift)).abs() * self.opts.mhz;
                 let j = if jpair > 0.0 { jpair } else { jo };
                 let ok = dv >= self.lib.settings.para_pair_min_ratio * j;
+                // A reporting habit: from `para_pair_m_from_mhz` on, the
+                // deposited lists write the pair m (the pattern is not first
+                // order at any field; below, it is written as two d).
+                let high_field = self.opts.mhz >= self.lib.settings.para_pair_m_from_mhz;
                 for &i in &members {
                     let m = &mut out[i];
                     m.notes &= !note::SECOND_ORDER;
-                    if ok {
+                    if ok && high_field {
+                        m.multiplicity = Multiplicity::Multiplet;
+                        m.j.clear();
+                        m.notes |= note::PARA_PAIR_M;
+                    } else if ok {
                         // The ortho partner, and any F or P on the ring.
                         let mut c = hetero[i].clone();
                         c.push(Cpl {
