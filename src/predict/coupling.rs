@@ -34,7 +34,9 @@
 //! - a ring whose symmetry-equivalent H couple unequally to a partner
 //!   (magnetic inequivalence: monosubstituted benzene, pyridine, o-xylene,
 //!   the symmetric ortho-disubstituted ring of tetralin), except the
-//!   para-disubstituted AA'BB' ring, reported as two 2H doublets;
+//!   para-disubstituted AA'BB' ring, reported as two 2H doublets below
+//!   `para_pair_m_from_mhz` (600 MHz; from there on the deposited lists
+//!   write it m, a reporting habit);
 //! - H on a saturated ring coupled to other ring H (unequal cis/trans J),
 //!   except a ring CH whose ring partners are all CH (one cis or trans J
 //!   per partner, each kept apart: d, dd, ddd), a ring CH between two
@@ -368,7 +370,8 @@ impl Ctx<'_> {
     }
 
     /// Aromatic rings whose equivalent H are magnetically inequivalent:
-    /// AA'XX' para pairs become two doublets, everything else m.
+    /// AA'XX' para pairs become two doublets (m from `para_pair_m_from_mhz`
+    /// on), everything else m.
     fn aromatic_systems(&mut self, groups: &[Group], out: &mut [Mult], hetero: &[Vec<Cpl>]) {
         let mut done_rings = 0u64; // by representative ring's lowest atom
         for g in groups {

@@ -14,7 +14,8 @@
 //!   a CH2 whose two neighbours differ are diastereotopic pairs, which are
 //!   anisochronous and usually resolved, though not always (common
 //!   practice). Such a group stays one group with `half` set (at most
-//!   [`MAX_HALVES`] per molecule, methyl pairs first); the scorer reads it
+//!   [`MAX_HALVES`] per molecule, methyl pairs first, then CH2 pairs with
+//!   the fewest vicinal H); the scorer reads it
 //!   either as one group or as two halves, whichever explains the data
 //!   better (src/score/halves.rs). The 13C list marks the methyl pairs'
 //!   carbon classes the same way (src/predict/carbon.rs).
