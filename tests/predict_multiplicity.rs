@@ -119,6 +119,25 @@ const DEPOSITED: &[(u64, &str, f64, usize, &str)] = &[
     ),
     (10008816, "CC(=O)c1ccc(Br)cc1", 600.0, 4, "m"),
     (10008816, "CC(=O)c1ccc(Br)cc1", 600.0, 5, "m"),
+    // A diastereotopic CH2 read as one 2H group is m when bonded to a
+    // stereocentre or coupled to an sp3 CH2 bonded to one: an
+    // Ar-CH2-CH2-CH(OH)CH3 chain (2.90 m, 1.75 m at 200 MHz) and a
+    // CH2-CHO on a CH stereocentre (2.92 m at 300 MHz).
+    (
+        30080341,
+        "Cc1c(CCC(C)O)ccc2c1C(=O)c1ccccc1C2=O",
+        200.0,
+        3,
+        "m",
+    ),
+    (
+        30080341,
+        "Cc1c(CCC(C)O)ccc2c1C(=O)c1ccccc1C2=O",
+        200.0,
+        4,
+        "m",
+    ),
+    (60001987, "COC(=O)C(C(=O)OC)C(CC=O)c1ccccc1", 300.0, 10, "m"),
 ];
 
 /// Diastereotopic CH2 pairs written as two signals in NMRShiftDB2 dev

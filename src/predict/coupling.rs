@@ -26,6 +26,8 @@
 //! (`Ctx::half_pattern`).
 //!
 //! Not first order, reported as m (common practice):
+//! - a diastereotopic CH2 read as one group, bonded to a stereocentre or
+//!   coupled to an sp3 CH2 bonded to one (ABX-type and virtual coupling);
 //! - the shift difference in Hz to a coupled group is under
 //!   `first_order_min_ratio` times J at the given spectrometer frequency,
 //!   or under `first_order_min_ratio_ab` times J for an AB-type coupling
@@ -247,9 +249,35 @@ impl Ctx<'_> {
                     notes |= note::RING_SP3;
                 }
             }
+            // A diastereotopic CH2 read as one 2H group, coupled to H, and
+            // bonded to a stereocentre (its two H differ in shift and couple
+            // unequally to their partners: the AB part of an ABX-type
+            // system) or coupled to an sp3 CH2 bonded to one (that CH2's
+            // two H are such a strongly coupled pair, and the group sees it
+            // as a second-order pattern: virtual coupling, as for a half
+            // below): m (common practice: the CH2 of 2-butanol).
+            let next_to_stereo = |x: usize| {
+                self.v
+                    .neighbours(x)
+                    .any(|(y, _)| self.stereocentres >> y & 1 == 1)
+            };
+            let abx_whole = g.notes & note::DIASTEREOTOPIC != 0
+                && g.slot == 0
+                && self.v.h[a] == 2
+                && self.v.hyb[a] == 3
+                && kept[..nk].iter().any(|c| !heteronuclear(c.group))
+                && (next_to_stereo(a)
+                    || kept[..nk].iter().any(|c| {
+                        let b = c.atom as usize;
+                        !heteronuclear(c.group)
+                            && self.v.h[b] == 2
+                            && self.v.hyb[b] == 3
+                            && self.v.element[b] == Element::C
+                            && next_to_stereo(b)
+                    }));
             let multiplicity;
             let mut j = Vec::new();
-            if notes & (note::SECOND_ORDER | note::RING_SP3) != 0 {
+            if abx_whole || notes & (note::SECOND_ORDER | note::RING_SP3) != 0 {
                 multiplicity = Multiplicity::Multiplet;
             } else if nk == 0 {
                 multiplicity = Multiplicity::Singlet;
