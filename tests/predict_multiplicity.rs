@@ -107,6 +107,37 @@ const DEPOSITED: &[(u64, &str, f64, usize, &str)] = &[
     // An exocyclic =CH2: the geminal J of a 1,1-dialkyl alkene (about
     // 1 Hz) is not written; two singlets (4.77 s, 4.45 s at 600 MHz).
     (10027667, "C=C1C2CCC(C2)C1(C)CC=CC(C)(O)CO", 600.0, 0, "s"),
+    // A para-disubstituted ring, a reporting habit keyed on the field: two
+    // d in lists from 300-500 MHz (4-hydroxycinnamoyl 7.48 d, 6.81 d at
+    // 500 MHz), m from 600 MHz on (4'-bromoacetophenone 7.80 m, 7.58 m).
+    (
+        20078844,
+        "O=C(C=Cc1ccc(O)cc1)OC1OC(CO)C(O)C(O)C1O",
+        500.0,
+        5,
+        "d",
+    ),
+    (10008816, "CC(=O)c1ccc(Br)cc1", 600.0, 4, "m"),
+    (10008816, "CC(=O)c1ccc(Br)cc1", 600.0, 5, "m"),
+    // A diastereotopic CH2 read as one 2H group is m when bonded to a
+    // stereocentre or coupled to an sp3 CH2 bonded to one: an
+    // Ar-CH2-CH2-CH(OH)CH3 chain (2.90 m, 1.75 m at 200 MHz) and a
+    // CH2-CHO on a CH stereocentre (2.92 m at 300 MHz).
+    (
+        30080341,
+        "Cc1c(CCC(C)O)ccc2c1C(=O)c1ccccc1C2=O",
+        200.0,
+        3,
+        "m",
+    ),
+    (
+        30080341,
+        "Cc1c(CCC(C)O)ccc2c1C(=O)c1ccccc1C2=O",
+        200.0,
+        4,
+        "m",
+    ),
+    (60001987, "COC(=O)C(C(=O)OC)C(CC=O)c1ccccc1", 300.0, 10, "m"),
 ];
 
 /// Diastereotopic CH2 pairs written as two signals in NMRShiftDB2 dev
@@ -134,9 +165,19 @@ const DEPOSITED_APART: &[(u64, &str, f64, usize, &str)] = &[
     // (virtual coupling), so each H is m and not ddd (2.23 m, 1.95 m at
     // 600 MHz).
     (60000061, "CC(C)=C1CCC(C)CC1=O", 600.0, 4, "m"),
-    // Ring CH2 beside a CH2 and a CH: four couplings, written m (1.69 m,
-    // 1.65 m, 1.62 m, 1.41 m at 600 MHz).
-    (10027667, "C=C1C2CCC(C2)C1(C)CC=CC(C)(O)CO", 600.0, 4, "m"),
+    // CH2OH on a quaternary carbon: no vicinal H, an AB pair read apart
+    // first among the molecule's diastereotopic CH2 (fewest vicinal H
+    // first), each H a d by the geminal J (3.50 d, 3.43 d at 600 MHz).
+    (10027667, "C=C1C2CCC(C2)C1(C)CC=CC(C)(O)CO", 600.0, 15, "d"),
+    // The same for a CH2OH on an alkene carbon of a macrocycle (4.34 d,
+    // 3.86 d at 300 MHz).
+    (
+        10027546,
+        "CC1=CCCC(CO)=CCC2CCC(C)(O)C(CC1)C2(C)C",
+        300.0,
+        6,
+        "d",
+    ),
     // Cyclohexene oxide: the CH2 pairs' symmetry twins couple to the
     // bonded epoxide CH pair (AA'XX'): m (1.93 m, 1.80 m, 2H each, at
     // 600 MHz).

@@ -26,6 +26,8 @@
 //! (`Ctx::half_pattern`).
 //!
 //! Not first order, reported as m (common practice):
+//! - a diastereotopic CH2 read as one group, bonded to a stereocentre or
+//!   coupled to an sp3 CH2 bonded to one (ABX-type and virtual coupling);
 //! - the shift difference in Hz to a coupled group is under
 //!   `first_order_min_ratio` times J at the given spectrometer frequency,
 //!   or under `first_order_min_ratio_ab` times J for an AB-type coupling
@@ -34,7 +36,9 @@
 //! - a ring whose symmetry-equivalent H couple unequally to a partner
 //!   (magnetic inequivalence: monosubstituted benzene, pyridine, o-xylene,
 //!   the symmetric ortho-disubstituted ring of tetralin), except the
-//!   para-disubstituted AA'BB' ring, reported as two 2H doublets;
+//!   para-disubstituted AA'BB' ring, reported as two 2H doublets below
+//!   `para_pair_m_from_mhz` (600 MHz; from there on the deposited lists
+//!   write it m, a reporting habit);
 //! - H on a saturated ring coupled to other ring H (unequal cis/trans J),
 //!   except a ring CH whose ring partners are all CH (one cis or trans J
 //!   per partner, each kept apart: d, dd, ddd), a ring CH between two
@@ -245,9 +249,35 @@ impl Ctx<'_> {
                     notes |= note::RING_SP3;
                 }
             }
+            // A diastereotopic CH2 read as one 2H group, coupled to H, and
+            // bonded to a stereocentre (its two H differ in shift and couple
+            // unequally to their partners: the AB part of an ABX-type
+            // system) or coupled to an sp3 CH2 bonded to one (that CH2's
+            // two H are such a strongly coupled pair, and the group sees it
+            // as a second-order pattern: virtual coupling, as for a half
+            // below): m (common practice: the CH2 of 2-butanol).
+            let next_to_stereo = |x: usize| {
+                self.v
+                    .neighbours(x)
+                    .any(|(y, _)| self.stereocentres >> y & 1 == 1)
+            };
+            let abx_whole = g.notes & note::DIASTEREOTOPIC != 0
+                && g.slot == 0
+                && self.v.h[a] == 2
+                && self.v.hyb[a] == 3
+                && kept[..nk].iter().any(|c| !heteronuclear(c.group))
+                && (next_to_stereo(a)
+                    || kept[..nk].iter().any(|c| {
+                        let b = c.atom as usize;
+                        !heteronuclear(c.group)
+                            && self.v.h[b] == 2
+                            && self.v.hyb[b] == 3
+                            && self.v.element[b] == Element::C
+                            && next_to_stereo(b)
+                    }));
             let multiplicity;
             let mut j = Vec::new();
-            if notes & (note::SECOND_ORDER | note::RING_SP3) != 0 {
+            if abx_whole || notes & (note::SECOND_ORDER | note::RING_SP3) != 0 {
                 multiplicity = Multiplicity::Multiplet;
             } else if nk == 0 {
                 multiplicity = Multiplicity::Singlet;
@@ -368,7 +398,8 @@ impl Ctx<'_> {
     }
 
     /// Aromatic rings whose equivalent H are magnetically inequivalent:
-    /// AA'XX' para pairs become two doublets, everything else m.
+    /// AA'XX' para pairs become two doublets (m from `para_pair_m_from_mhz`
+    /// on), everything else m.
     fn aromatic_systems(&mut self, groups: &[Group], out: &mut [Mult], hetero: &[Vec<Cpl>]) {
         let mut done_rings = 0u64; // by representative ring's lowest atom
         for g in groups {
@@ -429,10 +460,18 @@ impl Ctx<'_> {
                 let dv = (super::round2(g1.shift) - super::round2(g2.shift)).abs() * self.opts.mhz;
                 let j = if jpair > 0.0 { jpair } else { jo };
                 let ok = dv >= self.lib.settings.para_pair_min_ratio * j;
+                // A reporting habit: from `para_pair_m_from_mhz` on, the
+                // deposited lists write the pair m (the pattern is not first
+                // order at any field; below, it is written as two d).
+                let high_field = self.opts.mhz >= self.lib.settings.para_pair_m_from_mhz;
                 for &i in &members {
                     let m = &mut out[i];
                     m.notes &= !note::SECOND_ORDER;
-                    if ok {
+                    if ok && high_field {
+                        m.multiplicity = Multiplicity::Multiplet;
+                        m.j.clear();
+                        m.notes |= note::PARA_PAIR_M;
+                    } else if ok {
                         // The ortho partner, and any F or P on the ring.
                         let mut c = hetero[i].clone();
                         c.push(Cpl {

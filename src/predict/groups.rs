@@ -14,7 +14,8 @@
 //!   a CH2 whose two neighbours differ are diastereotopic pairs, which are
 //!   anisochronous and usually resolved, though not always (common
 //!   practice). Such a group stays one group with `half` set (at most
-//!   [`MAX_HALVES`] per molecule, methyl pairs first); the scorer reads it
+//!   [`MAX_HALVES`] per molecule, methyl pairs first, then CH2 pairs with
+//!   the fewest vicinal H); the scorer reads it
 //!   either as one group or as two halves, whichever explains the data
 //!   better (src/score/halves.rs). The 13C list marks the methyl pairs'
 //!   carbon classes the same way (src/predict/carbon.rs).
@@ -102,15 +103,31 @@ impl Ctx<'_> {
                     marked += usize::from(g.half != 0);
                 }
             }
-            for g in groups.iter_mut() {
-                if marked < MAX_HALVES
-                    && g.notes & note::DIASTEREOTOPIC != 0
-                    && bits(g.atoms).all(|a| {
-                        let mut nb = self.v.neighbours(a).map(|(x, _)| self.orb[x]);
-                        matches!((nb.next(), nb.next(), nb.next()), (Some(x), Some(y), None) if x != y)
-                    })
-                {
-                    g.half = g.atoms;
+            // CH2 pairs with the fewest vicinal H first (ties in atom
+            // order): an isolated CH2 (no H on either neighbour) reads as
+            // an AB pair, two doublets, which is how such a pair is most
+            // often written apart; a CH2 among many vicinal H gives
+            // overlapping multiplets that are written whole or m.
+            let vicinal_h = |g: &Group| -> u32 {
+                self.v
+                    .neighbours(g.rep)
+                    .map(|(x, _)| u32::from(self.v.h[x]))
+                    .sum()
+            };
+            let mut order: Vec<usize> = (0..groups.len())
+                .filter(|&i| {
+                    let g = &groups[i];
+                    g.notes & note::DIASTEREOTOPIC != 0
+                        && bits(g.atoms).all(|a| {
+                            let mut nb = self.v.neighbours(a).map(|(x, _)| self.orb[x]);
+                            matches!((nb.next(), nb.next(), nb.next()), (Some(x), Some(y), None) if x != y)
+                        })
+                })
+                .collect();
+            order.sort_by_key(|&i| vicinal_h(&groups[i]));
+            for i in order {
+                if marked < MAX_HALVES {
+                    groups[i].half = groups[i].atoms;
                     marked += 1;
                 }
             }

@@ -273,6 +273,8 @@ pub struct CouplingSettings {
     /// The same for an AB-type coupling: one H on each side.
     pub first_order_min_ratio_ab: f64,
     pub para_pair_min_ratio: f64,
+    /// From this spectrometer frequency on, a para pair is written m.
+    pub para_pair_m_from_mhz: f64,
 }
 
 /// The compiled library.
@@ -668,6 +670,7 @@ struct SettingsRows {
     first_order_min_ratio: Sourced<f64>,
     first_order_min_ratio_ab: Sourced<f64>,
     para_pair_min_ratio: Sourced<f64>,
+    para_pair_m_from_mhz: Sourced<f64>,
 }
 
 #[derive(Deserialize)]
@@ -1197,6 +1200,7 @@ impl Library {
                 &s.first_order_min_ratio_ab.source,
             ),
             ("para_pair_min_ratio", &s.para_pair_min_ratio.source),
+            ("para_pair_m_from_mhz", &s.para_pair_m_from_mhz.source),
         ] {
             need_source(file, k, src)?;
         }
@@ -1206,6 +1210,7 @@ impl Library {
             first_order_min_ratio: s.first_order_min_ratio.value,
             first_order_min_ratio_ab: s.first_order_min_ratio_ab.value,
             para_pair_min_ratio: s.para_pair_min_ratio.value,
+            para_pair_m_from_mhz: s.para_pair_m_from_mhz.value,
         };
 
         // solvents

@@ -381,6 +381,7 @@ pub(crate) mod note {
     pub const SHOOLERY: u32 = 1 << 12;
     pub const VINYL_PAIR: u32 = 1 << 13;
     pub const RANGE: u32 = 1 << 14;
+    pub const PARA_PAIR_M: u32 = 1 << 15;
 }
 
 /// How a group's shift was obtained.
@@ -714,6 +715,13 @@ impl<'a> Ctx<'a> {
             note::PARA_PAIR,
             "para-disubstituted ring (AA'BB'): reported as two 2H doublets by common practice"
                 .into(),
+        );
+        add(
+            note::PARA_PAIR_M,
+            format!(
+                "para-disubstituted ring (AA'BB'/AA'XX', not first order): at {:.0} MHz and above its two 2H signals are mostly written m in deposited lists, below as two doublets",
+                self.lib.settings.para_pair_m_from_mhz
+            ),
         );
         add(
             note::MAGNETIC,
