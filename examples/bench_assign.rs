@@ -206,7 +206,7 @@ fn row(m: usize, instances: &[Costs], old_on: &mut bool) -> f64 {
         }
         *old_on = t_old < OLD_CAP_S;
         format!(
-            "{:>12.3} ms {:>12} nodes",
+            "{:>12.4} ms {:>12} nodes",
             t_old * 1e3,
             n_old / instances.len() as u64
         )
@@ -214,7 +214,7 @@ fn row(m: usize, instances: &[Costs], old_on: &mut bool) -> f64 {
         format!("{:>15} {:>18}", "not run", "")
     };
     print!(
-        "{m:>3} {:>4} {:>10.3} ms {:>8} nodes   {old_text}",
+        "{m:>3} {:>4} {:>10.4} ms {:>8} nodes   {old_text}",
         instances[0].groups,
         t_new * 1e3,
         n_new / instances.len() as u64
@@ -394,7 +394,7 @@ fn main() {
                 .collect();
             times.push((m, row(m, &costs, &mut old_on)));
             let t = time_carbon(&instances, &model);
-            println!(" {:>8.3} ms", t * 1e3);
+            println!(" {:>8.4} ms", t * 1e3);
             scorer.push((m, t));
         }
         ratio(&times);
