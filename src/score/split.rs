@@ -71,6 +71,8 @@ pub(crate) struct Split {
     extra: Vec<f64>,
     /// Per multiplet: D_j of the dominance test.
     slack: Vec<f64>,
+    /// Per multiplet: the cheaper of staying empty and `extra`.
+    open: Vec<f64>,
     /// Per node: its component's index (after `label`).
     part: Vec<u32>,
     /// Component c's groups are `groups[group_start[c]..group_start[c + 1]]`
@@ -155,17 +157,19 @@ impl Split {
         for gi in 0..g {
             let row = &c.pair[gi * m..(gi + 1) * m];
             let dominated = c.unassigned[gi] + MARGIN * (1.0 + c.unassigned[gi].abs());
-            let mut best = (c.unassigned[gi], NONE);
             for (j, &p) in row.iter().enumerate() {
                 if p <= dominated + self.slack[j] {
                     self.list.push(j as u16);
                     self.allowed[gi * m + j] = true;
                 }
-                if p < best.0 || p == best.0 && best.1 == NONE {
-                    best = (p, j as u16);
-                }
             }
-            self.known[gi] = best.1;
+            // The cheapest option is `cheapest[gi]` (the least of the
+            // unassigned cost and the row): the first multiplet at that
+            // cost, else none.
+            self.known[gi] = row
+                .iter()
+                .position(|&p| p == cheapest[gi])
+                .map_or(NONE, |j| j as u16);
             self.start.push(self.list.len() as u32);
         }
         let targets = Targets::Listed {
@@ -278,12 +282,16 @@ impl Split {
         self.parent.clear();
         self.parent.extend(0..(g + m) as u32);
         let known_cost = known_cost + MARGIN * (1.0 + known_cost.abs());
+        // Per multiplet, its share of the root bound.
+        self.open.clear();
+        self.open
+            .extend((0..m).map(|j| c.empty[j].min(self.extra[j])));
         for (gi, &least) in cheapest.iter().enumerate() {
             let fixed = root - least;
             for &j in &self.list[self.start[gi] as usize..self.start[gi + 1] as usize] {
                 let ju = j as usize;
                 let p = c.pair[gi * m + ju];
-                if self.known[gi] == j || fixed - c.empty[ju].min(self.extra[ju]) + p < known_cost {
+                if self.known[gi] == j || fixed - self.open[ju] + p < known_cost {
                     let a = find(&mut self.parent, gi as u32);
                     let b = find(&mut self.parent, (g + ju) as u32);
                     if a != b {
