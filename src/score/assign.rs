@@ -935,7 +935,7 @@ fn run_split(
             if gs.is_empty() {
                 continue;
             }
-            left -= split.lower(c, min_choice, p);
+            left -= split.lower(min_choice, p);
             let below = cutoff - spent - left + slack;
             if let [one] = *gs {
                 // One group: its options side by side (none first, then the

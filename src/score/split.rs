@@ -66,13 +66,12 @@ const RETRY_ABOVE: usize = 8;
 pub(crate) struct Split {
     /// Union-find parents: groups 0..g, multiplets g..g + m.
     parent: Vec<u32>,
-    /// Per multiplet: the least extra a group pays to go there instead of
-    /// to its cheapest option.
-    extra: Vec<f64>,
+    /// Per multiplet: its share of the root bound, the cheaper of staying
+    /// empty and the least extra a group pays to go there instead of to its
+    /// cheapest option.
+    open: Vec<f64>,
     /// Per multiplet: D_j of the dominance test.
     slack: Vec<f64>,
-    /// Per multiplet: the cheaper of staying empty and `extra`.
-    open: Vec<f64>,
     /// Per node: its component's index (after `label`).
     part: Vec<u32>,
     /// Component c's groups are `groups[group_start[c]..group_start[c + 1]]`
@@ -137,8 +136,8 @@ impl Split {
             return None;
         }
         let h_min = c.hydrogens.iter().copied().min().unwrap_or(0);
-        self.extra.clear();
-        self.extra.extend_from_slice(extra);
+        self.open.clear();
+        self.open.extend((0..m).map(|j| c.empty[j].min(extra[j])));
         self.slack.clear();
         self.slack.extend((0..m).map(|j| {
             let fill = c.integral(j, h_min) - c.overlap[j];
@@ -282,10 +281,6 @@ impl Split {
         self.parent.clear();
         self.parent.extend(0..(g + m) as u32);
         let known_cost = known_cost + MARGIN * (1.0 + known_cost.abs());
-        // Per multiplet, its share of the root bound.
-        self.open.clear();
-        self.open
-            .extend((0..m).map(|j| c.empty[j].min(self.extra[j])));
         for (gi, &least) in cheapest.iter().enumerate() {
             let fixed = root - least;
             for &j in &self.list[self.start[gi] as usize..self.start[gi + 1] as usize] {
@@ -335,12 +330,10 @@ impl Split {
     /// Component `p`'s share of the root bound: its groups' cheapest
     /// options and, per multiplet, the cheaper of staying empty and the
     /// least extra of a group going there.
-    pub fn lower(&self, c: &CostsRef, cheapest: &[f64], p: usize) -> f64 {
+    pub fn lower(&self, cheapest: &[f64], p: usize) -> f64 {
         let (gs, ls) = self.members(p);
         gs.iter().map(|&x| cheapest[x as usize]).sum::<f64>()
-            + ls.iter()
-                .map(|&j| c.empty[j as usize].min(self.extra[j as usize]))
-                .sum::<f64>()
+            + ls.iter().map(|&j| self.open[j as usize]).sum::<f64>()
     }
 
     /// Room in the part buffers for parts of up to `g` groups and `m`
