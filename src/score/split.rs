@@ -43,8 +43,9 @@
 //! multiplets' every group). A group with no kept pair stays unassigned; a
 //! multiplet with none stays empty.
 //!
-//! Each component goes through the search on its own numbers; the
-//! combined assignment is evaluated once on the whole problem, so the cost
+//! Each component goes through the search on its own numbers, starting
+//! from the known assignment on it as its incumbent ([`Split::known_on`]);
+//! the combined assignment is evaluated once on the whole problem, so the cost
 //! does not depend on how the parts were summed. The split is skipped (the
 //! caller searches the whole problem) when one component would hold every
 //! group.
@@ -325,6 +326,19 @@ impl Split {
         let gs = &self.groups[self.group_start[p] as usize..self.group_start[p + 1] as usize];
         let ls = &self.lines[self.line_start[p] as usize..self.line_start[p + 1] as usize];
         (gs, ls)
+    }
+
+    /// The known assignment on component `p` (after `parts`), in the
+    /// part's own indices (its groups and multiplets in [`Self::members`]
+    /// order), into `out`. The known assignment's pairs are always kept,
+    /// so each of its multiplets is in its group's component.
+    pub fn known_on(&self, p: usize, out: &mut Vec<u16>) {
+        let (gs, ls) = self.members(p);
+        out.clear();
+        out.extend(gs.iter().map(|&x| match self.known[x as usize] {
+            NONE => NONE,
+            j => ls.binary_search(&u32::from(j)).map_or(NONE, |i| i as u16),
+        }));
     }
 
     /// Component `p`'s share of the root bound: its groups' cheapest
