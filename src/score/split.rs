@@ -154,7 +154,7 @@ impl Split {
         self.list.reserve(g * m);
         refill(&mut self.known, g, NONE);
         refill(&mut self.allowed, g * m, false);
-        for gi in 0..g {
+        for (gi, &least) in cheapest.iter().enumerate() {
             let row = &c.pair[gi * m..(gi + 1) * m];
             let dominated = c.unassigned[gi] + MARGIN * (1.0 + c.unassigned[gi].abs());
             for (j, &p) in row.iter().enumerate() {
@@ -163,12 +163,12 @@ impl Split {
                     self.allowed[gi * m + j] = true;
                 }
             }
-            // The cheapest option is `cheapest[gi]` (the least of the
+            // The cheapest option costs `least` (the least of the
             // unassigned cost and the row): the first multiplet at that
             // cost, else none.
             self.known[gi] = row
                 .iter()
-                .position(|&p| p == cheapest[gi])
+                .position(|&p| p == least)
                 .map_or(NONE, |j| j as u16);
             self.start.push(self.list.len() as u32);
         }
