@@ -27,7 +27,10 @@
 //! the previous search; `SERIES=realistic,adversarial,13C` picks series and
 //! `SIZES=5,30` sizes (for profiling one of them); `TUNING=S,L` makes the Lagrangian bound join after
 //! S nodes and the line bound after L (`assign::Tuning`; the result is the
-//! same, only the time differs).
+//! same, only the time differs). `DIGEST=1` ends each row with a hash of
+//! every instance's optimum (the cost's bits and the assignment; for 13C
+//! also the scorer's), so that two builds can be checked for the same
+//! results.
 
 mod common;
 
@@ -194,6 +197,32 @@ fn old(c: &Costs) -> (f64, u64) {
     (s.cost, s.nodes)
 }
 
+/// FNV-1a over 64-bit words.
+fn fnv(hash: &mut u64, word: u64) {
+    for b in word.to_le_bytes() {
+        *hash ^= u64::from(b);
+        *hash = hash.wrapping_mul(0x100_0000_01b3);
+    }
+}
+
+/// With `DIGEST=1`: a hash of the optimum (cost bits and assignment) of
+/// every instance, printed at the end of a row.
+fn digest(instances: &[Costs]) -> String {
+    if std::env::var_os("DIGEST").is_none() {
+        return String::new();
+    }
+    let mut hash = 0xcbf2_9ce4_8422_2325u64;
+    for c in instances {
+        let mut ws = Workspace::default();
+        let cost = assign::solve_tuned(&c.view(), f64::INFINITY, &mut ws, tuning());
+        fnv(&mut hash, cost.map_or(u64::MAX, f64::to_bits));
+        for &j in ws.choice() {
+            fnv(&mut hash, u64::from(j));
+        }
+    }
+    format!("  digest {hash:016x}")
+}
+
 /// Print one row of a series (no line end): the new search and, while under
 /// the cap, the old one (checking that both find the same optimum); the new
 /// search's time per candidate.
@@ -206,7 +235,7 @@ fn row(m: usize, instances: &[Costs], old_on: &mut bool) -> f64 {
         }
         *old_on = t_old < OLD_CAP_S;
         format!(
-            "{:>12.3} ms {:>12} nodes",
+            "{:>12.4} ms {:>12} nodes",
             t_old * 1e3,
             n_old / instances.len() as u64
         )
@@ -214,10 +243,11 @@ fn row(m: usize, instances: &[Costs], old_on: &mut bool) -> f64 {
         format!("{:>15} {:>18}", "not run", "")
     };
     print!(
-        "{m:>3} {:>4} {:>10.3} ms {:>8} nodes   {old_text}",
+        "{m:>3} {:>4} {:>10.4} ms {:>8} nodes   {old_text}{}",
         instances[0].groups,
         t_new * 1e3,
-        n_new / instances.len() as u64
+        n_new / instances.len() as u64,
+        digest(instances)
     );
     t_new
 }
@@ -311,6 +341,17 @@ fn time_carbon(instances: &[(CarbonSpectrum, Vec<PredictedCarbon>)], model: &Sco
         .iter()
         .map(|(s, _)| CarbonPrepared::new(s, model))
         .collect();
+    if std::env::var_os("DIGEST").is_some() {
+        let mut hash = 0xcbf2_9ce4_8422_2325u64;
+        for (p, (_, predicted)) in prepared.iter().zip(instances) {
+            let s = p.score(predicted, f64::INFINITY).expect("optimum");
+            fnv(&mut hash, s.cost.to_bits());
+            for a in &s.assigned {
+                fnv(&mut hash, a.map_or(u64::MAX, |x| x as u64));
+            }
+        }
+        print!("  scorer digest {hash:016x}");
+    }
     median_of_rounds(|| {
         for (p, (_, predicted)) in prepared.iter().zip(instances) {
             p.score(predicted, f64::INFINITY).expect("optimum");
@@ -394,7 +435,7 @@ fn main() {
                 .collect();
             times.push((m, row(m, &costs, &mut old_on)));
             let t = time_carbon(&instances, &model);
-            println!(" {:>8.3} ms", t * 1e3);
+            println!(" {:>8.4} ms", t * 1e3);
             scorer.push((m, t));
         }
         ratio(&times);

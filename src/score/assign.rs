@@ -365,8 +365,10 @@ pub struct Workspace {
     /// the group at depth d is placed.
     line_terms: Vec<f64>,
     nodes: u64,
-    /// The split into independent parts, and the search of one part.
+    /// The split into independent parts, and the search of one part
+    /// starting from `seed` (the split's known assignment on that part).
     split: Split,
+    seed: Vec<u16>,
     part: Option<Box<Workspace>>,
     parts: usize,
 }
@@ -584,7 +586,7 @@ pub fn solve_in(c: &CostsRef, cutoff: f64, ws: &mut Workspace) -> Option<f64> {
 /// the benchmark and the tests; the result is the same, only the time
 /// differs).
 pub fn solve_tuned(c: &CostsRef, cutoff: f64, ws: &mut Workspace, tuning: Tuning) -> Option<f64> {
-    match run(c, cutoff, ws, false, u64::MAX, tuning) {
+    match run(c, cutoff, ws, false, u64::MAX, tuning, None) {
         Outcome::Below(cost) => Some(cost),
         _ => None,
     }
@@ -596,7 +598,7 @@ pub fn solve_tuned(c: &CostsRef, cutoff: f64, ws: &mut Workspace, tuning: Tuning
 /// whole search found nothing below the cutoff.
 pub fn may_reach_below(c: &CostsRef, cutoff: f64, ws: &mut Workspace, max_nodes: u64) -> bool {
     !matches!(
-        run(c, cutoff, ws, true, max_nodes, Tuning::default()),
+        run(c, cutoff, ws, true, max_nodes, Tuning::default(), None),
         Outcome::Nothing
     )
 }
@@ -637,7 +639,10 @@ fn group_order(c: &CostsRef, a: usize, b: usize) -> std::cmp::Ordering {
 }
 
 /// The search; the Lagrangian bounds join after `tuning`'s node counts (the
-/// tests set 1 to check them on every instance).
+/// tests set 1 to check them on every instance). With `seed` (an assignment
+/// of this problem, not with `first_only`) the search starts from it as its
+/// incumbent instead of building its own from the greedy, marginal and
+/// local-search heuristics.
 fn run(
     c: &CostsRef,
     cutoff: f64,
@@ -645,6 +650,7 @@ fn run(
     first_only: bool,
     max_nodes: u64,
     tuning: Tuning,
+    seed: Option<&[u16]>,
 ) -> Outcome {
     let (g, m) = (c.groups, c.multiplets);
     ws.nodes = 0;
@@ -748,44 +754,54 @@ fn run(
         options.push((c.unassigned[gi], NONE));
         options[from..].sort_unstable_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
     }
-    // Greedy incumbent: each group on its cheapest option.
-    refill(greedy, g, NONE);
-    for (d, &gi) in order.iter().enumerate() {
-        greedy[gi] = options[d * stride].1;
-    }
-    refill(h, m, 0);
-    refill(k, m, 0);
-    let mut greedy_cost = c.evaluate_in(greedy, h, k);
-    if first_only && greedy_cost < cutoff {
-        return Outcome::Below(greedy_cost);
-    }
-    // Second incumbent: groups in search order, each where it adds least to
-    // the total so far (its pair cost plus the change of the multiplet term),
-    // which spreads repeated groups over repeated lines.
-    refill(h, m, 0);
-    refill(k, m, 0);
-    refill(current, g, NONE);
-    marginal(c, order, Targets::All, h, k, current, local);
-    refill(h, m, 0);
-    refill(k, m, 0);
-    let marginal_cost = c.evaluate_in(current, h, k);
-    if marginal_cost < greedy_cost {
-        greedy.copy_from_slice(current);
-        greedy_cost = marginal_cost;
-    }
-    if first_only && greedy_cost < cutoff {
-        return Outcome::Below(greedy_cost);
-    }
-    // Local search from the better of the two.
-    refill(h, m, 0);
-    refill(k, m, 0);
-    trial.clone_from(greedy);
-    let improved = improve(c, trial, h, k, Targets::All, local);
-    if improved < greedy_cost {
-        greedy.copy_from_slice(trial);
-        greedy_cost = improved;
+    let mut greedy_cost;
+    if let Some(seed) = seed {
+        // The caller's assignment (the split's known one, on this part).
+        greedy.clear();
+        greedy.extend_from_slice(seed);
+        refill(h, m, 0);
+        refill(k, m, 0);
+        greedy_cost = c.evaluate_in(greedy, h, k);
+    } else {
+        // Greedy incumbent: each group on its cheapest option.
+        refill(greedy, g, NONE);
+        for (d, &gi) in order.iter().enumerate() {
+            greedy[gi] = options[d * stride].1;
+        }
+        refill(h, m, 0);
+        refill(k, m, 0);
+        greedy_cost = c.evaluate_in(greedy, h, k);
         if first_only && greedy_cost < cutoff {
             return Outcome::Below(greedy_cost);
+        }
+        // Second incumbent: groups in search order, each where it adds least to
+        // the total so far (its pair cost plus the change of the multiplet term),
+        // which spreads repeated groups over repeated lines.
+        refill(h, m, 0);
+        refill(k, m, 0);
+        refill(current, g, NONE);
+        marginal(c, order, Targets::All, h, k, current, local);
+        refill(h, m, 0);
+        refill(k, m, 0);
+        let marginal_cost = c.evaluate_in(current, h, k);
+        if marginal_cost < greedy_cost {
+            greedy.copy_from_slice(current);
+            greedy_cost = marginal_cost;
+        }
+        if first_only && greedy_cost < cutoff {
+            return Outcome::Below(greedy_cost);
+        }
+        // Local search from the better of the two.
+        refill(h, m, 0);
+        refill(k, m, 0);
+        trial.clone_from(greedy);
+        let improved = improve(c, trial, h, k, Targets::All, local);
+        if improved < greedy_cost {
+            greedy.copy_from_slice(trial);
+            greedy_cost = improved;
+            if first_only && greedy_cost < cutoff {
+                return Outcome::Below(greedy_cost);
+            }
         }
     }
     refill(h, m, 0);
@@ -905,6 +921,7 @@ fn run_split(
         k,
         nodes,
         local,
+        seed,
         ..
     } = ws;
     let part = part.get_or_insert_with(Default::default);
@@ -935,7 +952,7 @@ fn run_split(
             if gs.is_empty() {
                 continue;
             }
-            left -= split.lower(c, min_choice, p);
+            left -= split.lower(min_choice, p);
             let below = cutoff - spent - left + slack;
             if let [one] = *gs {
                 // One group: its options side by side (none first, then the
@@ -959,9 +976,22 @@ fn run_split(
                 best_choice[gi] = best.1;
                 continue;
             }
+            // The part's search starts from the split's known assignment
+            // on it (its own heuristics would find it or a worse one, at a
+            // cost per part that most parts' searches, ended at the root
+            // node, do not have).
+            split.known_on(p, seed);
             let out = {
                 let view = split.view(c, p);
-                run(&view, below, part, false, max_nodes, tuning)
+                run(
+                    &view,
+                    below,
+                    part,
+                    false,
+                    max_nodes,
+                    tuning,
+                    Some(seed.as_slice()),
+                )
             };
             *nodes += part.nodes;
             let Outcome::Below(cost) = out else {
@@ -1918,7 +1948,7 @@ mod tests {
     /// the lower of their root values when one was prepared at the root.
     fn solve_with(c: &Costs, cutoff: f64, tuning: Tuning) -> (Option<Solution>, Option<f64>) {
         let mut ws = Workspace::default();
-        let out = run(&c.view(), cutoff, &mut ws, false, u64::MAX, tuning);
+        let out = run(&c.view(), cutoff, &mut ws, false, u64::MAX, tuning, None);
         // Each root value must be a lower bound: report the higher one.
         let root = match (ws.strong.root, ws.lines.root) {
             (Some(a), Some(b)) => Some(a.max(b)),
@@ -2218,7 +2248,15 @@ mod tests {
                 split: false,
                 exchange: true,
             };
-            let out = run(&c.view(), f64::INFINITY, &mut ws, false, u64::MAX, tuning);
+            let out = run(
+                &c.view(),
+                f64::INFINITY,
+                &mut ws,
+                false,
+                u64::MAX,
+                tuning,
+                None,
+            );
             let wrong_cost = match out {
                 Outcome::Below(cost) => (cost - exact).abs() > 1e-9,
                 _ => true,

@@ -43,8 +43,9 @@
 //! multiplets' every group). A group with no kept pair stays unassigned; a
 //! multiplet with none stays empty.
 //!
-//! Each component goes through the search on its own numbers; the
-//! combined assignment is evaluated once on the whole problem, so the cost
+//! Each component goes through the search on its own numbers, starting
+//! from the known assignment on it as its incumbent ([`Split::known_on`]);
+//! the combined assignment is evaluated once on the whole problem, so the cost
 //! does not depend on how the parts were summed. The split is skipped (the
 //! caller searches the whole problem) when one component would hold every
 //! group.
@@ -66,9 +67,10 @@ const RETRY_ABOVE: usize = 8;
 pub(crate) struct Split {
     /// Union-find parents: groups 0..g, multiplets g..g + m.
     parent: Vec<u32>,
-    /// Per multiplet: the least extra a group pays to go there instead of
-    /// to its cheapest option.
-    extra: Vec<f64>,
+    /// Per multiplet: its share of the root bound, the cheaper of staying
+    /// empty and the least extra a group pays to go there instead of to its
+    /// cheapest option.
+    open: Vec<f64>,
     /// Per multiplet: D_j of the dominance test.
     slack: Vec<f64>,
     /// Per node: its component's index (after `label`).
@@ -135,8 +137,8 @@ impl Split {
             return None;
         }
         let h_min = c.hydrogens.iter().copied().min().unwrap_or(0);
-        self.extra.clear();
-        self.extra.extend_from_slice(extra);
+        self.open.clear();
+        self.open.extend((0..m).map(|j| c.empty[j].min(extra[j])));
         self.slack.clear();
         self.slack.extend((0..m).map(|j| {
             let fill = c.integral(j, h_min) - c.overlap[j];
@@ -152,20 +154,22 @@ impl Split {
         self.list.reserve(g * m);
         refill(&mut self.known, g, NONE);
         refill(&mut self.allowed, g * m, false);
-        for gi in 0..g {
+        for (gi, &least) in cheapest.iter().enumerate() {
             let row = &c.pair[gi * m..(gi + 1) * m];
             let dominated = c.unassigned[gi] + MARGIN * (1.0 + c.unassigned[gi].abs());
-            let mut best = (c.unassigned[gi], NONE);
             for (j, &p) in row.iter().enumerate() {
                 if p <= dominated + self.slack[j] {
                     self.list.push(j as u16);
                     self.allowed[gi * m + j] = true;
                 }
-                if p < best.0 || p == best.0 && best.1 == NONE {
-                    best = (p, j as u16);
-                }
             }
-            self.known[gi] = best.1;
+            // The cheapest option costs `least` (the least of the
+            // unassigned cost and the row): the first multiplet at that
+            // cost, else none.
+            self.known[gi] = row
+                .iter()
+                .position(|&p| p == least)
+                .map_or(NONE, |j| j as u16);
             self.start.push(self.list.len() as u32);
         }
         let targets = Targets::Listed {
@@ -283,7 +287,7 @@ impl Split {
             for &j in &self.list[self.start[gi] as usize..self.start[gi + 1] as usize] {
                 let ju = j as usize;
                 let p = c.pair[gi * m + ju];
-                if self.known[gi] == j || fixed - c.empty[ju].min(self.extra[ju]) + p < known_cost {
+                if self.known[gi] == j || fixed - self.open[ju] + p < known_cost {
                     let a = find(&mut self.parent, gi as u32);
                     let b = find(&mut self.parent, (g + ju) as u32);
                     if a != b {
@@ -324,15 +328,26 @@ impl Split {
         (gs, ls)
     }
 
+    /// The known assignment on component `p` (after `parts`), in the
+    /// part's own indices (its groups and multiplets in [`Self::members`]
+    /// order), into `out`. The known assignment's pairs are always kept,
+    /// so each of its multiplets is in its group's component.
+    pub fn known_on(&self, p: usize, out: &mut Vec<u16>) {
+        let (gs, ls) = self.members(p);
+        out.clear();
+        out.extend(gs.iter().map(|&x| match self.known[x as usize] {
+            NONE => NONE,
+            j => ls.binary_search(&u32::from(j)).map_or(NONE, |i| i as u16),
+        }));
+    }
+
     /// Component `p`'s share of the root bound: its groups' cheapest
     /// options and, per multiplet, the cheaper of staying empty and the
     /// least extra of a group going there.
-    pub fn lower(&self, c: &CostsRef, cheapest: &[f64], p: usize) -> f64 {
+    pub fn lower(&self, cheapest: &[f64], p: usize) -> f64 {
         let (gs, ls) = self.members(p);
         gs.iter().map(|&x| cheapest[x as usize]).sum::<f64>()
-            + ls.iter()
-                .map(|&j| c.empty[j as usize].min(self.extra[j as usize]))
-                .sum::<f64>()
+            + ls.iter().map(|&j| self.open[j as usize]).sum::<f64>()
     }
 
     /// Room in the part buffers for parts of up to `g` groups and `m`
