@@ -457,13 +457,19 @@ impl Work {
             let mut prev_f = [usize::MAX; MAX_H + 1]; // h reached from f
             let mut prev_h = [usize::MAX; MAX_H + 1]; // f reached back from h
             let mut seen_f = [false; MAX_H + 1];
-            let mut queue: Vec<usize> = (0..=MAX_H).filter(|&f| out_f[f] < by_free[f]).collect();
-            for &f in &queue {
-                seen_f[f] = true;
+            // Each f enters the queue at most once.
+            let mut queue = [0usize; MAX_H + 1];
+            let mut len = 0;
+            for f in 0..=MAX_H {
+                if out_f[f] < by_free[f] {
+                    seen_f[f] = true;
+                    queue[len] = f;
+                    len += 1;
+                }
             }
             let mut end = None;
             let mut qi = 0;
-            while qi < queue.len() && end.is_none() {
+            while qi < len && end.is_none() {
                 let f = queue[qi];
                 qi += 1;
                 for h in 0..=MAX_H {
@@ -479,7 +485,8 @@ impl Work {
                         if !seen_f[f2] && flow[f2][h] > 0 {
                             seen_f[f2] = true;
                             prev_h[f2] = h;
-                            queue.push(f2);
+                            queue[len] = f2;
+                            len += 1;
                         }
                     }
                 }
