@@ -4,15 +4,18 @@
 //! our SMILES with RDKit (PyPI rdkit) and applies each rule as the README
 //! states it (RDKit's smallest ring per bond and its aromaticity; a
 //! brute-force search over all short paths for Bredt's rule in Fawcett's
-//! form, Chem. Rev. 1950, 47, 219). Plus hand cases of common practice:
-//! which well-known structures each rule keeps and removes.
+//! form, Chem. Rev. 1950, 47, 219; a brute-force span test over all
+//! chordless cycles for the relevant rings of `large-conjugated-ring`).
+//! Plus hand cases of common practice: which well-known structures each
+//! rule keeps and removes, and the number of deposited NMRShiftDB2 dev
+//! structures each rule removes, as the README's rule table states it.
 
 mod common;
 
 use common::{canonical, isomers_ok, run_reference_script};
 use std::collections::{BTreeMap, BTreeSet};
 
-const RULES: [&str; 15] = [
+const RULES: [&str; 17] = [
     "small-ring-triple",
     "small-ring-cumulated",
     "bredt",
@@ -28,6 +31,8 @@ const RULES: [&str; 15] = [
     "small-ring-cage",
     "fused-small-rings",
     "antiaromatic-three-ring",
+    "large-conjugated-ring",
+    "cumulene",
 ];
 
 #[derive(serde::Deserialize)]
@@ -60,7 +65,14 @@ fn each_rule_removes_exactly_what_an_independent_check_flags() {
     // C6H6 and C8H8 hold prismane, cubane and the other cages and fused
     // small rings; C5H5NO and C3H5NO2 with --charge-separated hold ring
     // N-oxides and nitrones (the N=O of [N+][O-] is no double bond).
-    let formulas: [(&str, &[&str]); 16] = [
+    // C8H8 (cyclooctatetraene), C8H6 (cyclooctatrienyne, ring allenes) and
+    // the two constrained sets hold rings of 8 or more atoms that all carry
+    // a multiple bond: C10H8 with 8 CH and 2 C holds [10]annulene-type
+    // bicycles beside naphthalene and azulene, and chordless all-sp2 cycles
+    // that are sums of smaller rings (2 structures); C12H8 with 8 CH, 4 C and
+    // a benzene ring holds acenaphthylene-type peri-fused perimeters (50
+    // such structures beside 84 with a relevant large ring).
+    let formulas: [(&str, &[&str]); 19] = [
         ("C6H6O", &[]),
         ("C7H8O", &[]),
         ("C6H6O2", &[]),
@@ -77,6 +89,12 @@ fn each_rule_removes_exactly_what_an_independent_check_flags() {
         ("C8H8", &[]),
         ("C5H5NO", &["--charge-separated"]),
         ("C3H5NO2", &["--charge-separated"]),
+        ("C8H6", &[]),
+        ("C10H8", &["--attached-h", "CH=8,C=2"]),
+        (
+            "C12H8",
+            &["--attached-h", "CH=8,C=4", "--require", "C1=CC=CC=C1"],
+        ),
     ];
     let mut failures = Vec::new();
     let mut seen = BTreeMap::new();
@@ -118,15 +136,23 @@ fn each_rule_removes_exactly_what_an_independent_check_flags() {
 /// Whether `--plausible=rule` keeps the structure (given as any SMILES of
 /// `formula`); the structure must be an isomer of the formula at all.
 fn keeps(formula: &str, rule: &str, smiles: &str) -> bool {
+    keeps_among(formula, &[], rule, smiles)
+}
+
+/// As [`keeps`], among the isomers that `extra` options (constraints)
+/// leave.
+fn keeps_among(formula: &str, extra: &[&str], rule: &str, smiles: &str) -> bool {
     let s = canonical(smiles);
-    let all = isomers_ok(&[formula]);
+    let mut args = vec![formula];
+    args.extend_from_slice(extra);
+    let all = isomers_ok(&args);
     assert!(
         all.lines().any(|l| l == s),
-        "{smiles} is not among the isomers of {formula}"
+        "{smiles} is not among the isomers of {formula} {extra:?}"
     );
-    isomers_ok(&[formula, &format!("--plausible={rule}")])
-        .lines()
-        .any(|l| l == s)
+    let flag = format!("--plausible={rule}");
+    args.push(&flag);
+    isomers_ok(&args).lines().any(|l| l == s)
 }
 
 #[test]
@@ -243,6 +269,129 @@ fn common_practice_cases() {
     assert!(keeps("C3H2O", "antiaromatic-three-ring", "O=C1C=C1"));
     assert!(keeps("C2H3N", "antiaromatic-three-ring", "C1C=N1"));
     assert!(keeps("CH2N2", "antiaromatic-three-ring", "C1N=N1"));
+    // Large rings of atoms that all carry a multiple bond: cyclooctatetraene,
+    // cyclooctatrienyne, [10]annulene and a bicyclo[6.2.0]decapentaene go;
+    // tropone and azulene (7-rings), naphthalene (its ten-ring has a chord),
+    // acenaphthylene (its eleven-atom perimeter is the sum of its three
+    // rings), 1,6-methano[10]annulene (its ten-ring is the sum of its two
+    // seven-rings) and cyclooctyne (four CH2 in the ring) stay.
+    let rule = "large-conjugated-ring";
+    assert!(!keeps("C8H8", rule, "C1=CC=CC=CC=C1"));
+    assert!(!keeps("C8H6", rule, "C1#CC=CC=CC=C1"));
+    let ch8 = ["--attached-h", "CH=8,C=2"];
+    assert!(!keeps_among(
+        "C10H10",
+        &["--attached-h", "CH=10"],
+        rule,
+        "c1ccccccccc1"
+    ));
+    assert!(!keeps_among("C10H8", &ch8, rule, "C1=CC=C2C=CC2=CC=C1"));
+    assert!(keeps("C7H6O", rule, "O=C1C=CC=CC=C1"));
+    assert!(keeps_among("C10H8", &ch8, rule, "c1ccc2cccc-2cc1"));
+    assert!(keeps_among("C10H8", &ch8, rule, "c1ccc2ccccc2c1"));
+    let benzene = ["--attached-h", "CH=8,C=4", "--require", "C1=CC=CC=C1"];
+    assert!(keeps_among("C12H8", &benzene, rule, "C1=Cc2cccc3cccc1c23"));
+    let methano = ["--attached-h", "CH2=1,CH=8,C=2"];
+    assert!(keeps_among(
+        "C11H10",
+        &methano,
+        rule,
+        "C1=CC=C2C=CC=CC(=C1)C2"
+    ));
+    assert!(keeps("C8H12", rule, "C1CCCC#CCC1"));
+    // Cumulenes: butatriene, propadienone and carbon suboxide go; allene,
+    // ketene, methyl isocyanate and 1,2-cyclononadiene (a dev structure)
+    // stay.
+    assert!(!keeps("C4H4", "cumulene", "C=C=C=C"));
+    assert!(!keeps("C3H2O", "cumulene", "C=C=C=O"));
+    assert!(!keeps("C3O2", "cumulene", "O=C=C=C=O"));
+    assert!(keeps("C3H4", "cumulene", "C=C=C"));
+    assert!(keeps("C2H2O", "cumulene", "C=C=O"));
+    assert!(keeps("C2H3NO", "cumulene", "CN=C=O"));
+    assert!(keeps("C9H14", "cumulene", "C1CCCC=C=CCC1"));
+}
+
+/// The rows of the README's rule table: rule name and the number of
+/// NMRShiftDB2 v2 dev structures it removes ("N of 9964").
+fn readme_dev_counts() -> BTreeMap<String, usize> {
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/README.md");
+    let text = std::fs::read_to_string(path).expect("README.md");
+    let mut out = BTreeMap::new();
+    for line in text.lines() {
+        let Some(rest) = line.strip_prefix("| `") else {
+            continue;
+        };
+        let Some((name, row)) = rest.split_once('`') else {
+            continue;
+        };
+        if !RULES.contains(&name) {
+            continue;
+        }
+        let count = row
+            .split(" of 9964")
+            .next()
+            .filter(|head| head.len() < row.len())
+            .and_then(|head| head.rsplit(' ').next())
+            .and_then(|n| n.parse().ok())
+            .unwrap_or_else(|| panic!("README row of {name} states no \"N of 9964\""));
+        out.insert(name.to_string(), count);
+    }
+    out
+}
+
+#[derive(serde::Deserialize)]
+struct DevCount {
+    structures: usize,
+    flagged: BTreeMap<String, usize>,
+    examples: BTreeMap<String, Vec<String>>,
+}
+
+#[test]
+fn dev_structures_removed_are_those_the_readme_states() {
+    // Every deposited structure of the NMRShiftDB2 v2 dev split (a real
+    // compound, so each one a rule removes is a loss), decided by the
+    // reference (RDKit, tests/reference/check_rules.py --count); the
+    // README's rule table states each rule's number.
+    let dev = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/tests/data/nmrshiftdb2-v2-dev.toml"
+    );
+    let json = run_reference_script("check_rules.py", &["--count", dev], "");
+    let counts: DevCount = serde_json::from_str(&json).expect("check_rules.py --count JSON");
+    assert_eq!(counts.structures, 9964);
+    let readme = readme_dev_counts();
+    for rule in RULES {
+        assert_eq!(
+            readme.get(rule),
+            counts.flagged.get(rule),
+            "{rule}: README against the reference's count (examples: {:?})",
+            counts.examples[rule]
+        );
+    }
+    // The one large-ring structure: a dehydro[13]annulenone (deposited as
+    // record 20026765). isomerank removes it too, and keeps the dev
+    // structures whose large all-sp2 cycles are sums of smaller rings
+    // (acenaphthylene, 10016518; 1,6-methano[10]annulene, 10017790) or
+    // whose ring has 7 atoms (azulene, 10016513).
+    let rule = "large-conjugated-ring";
+    assert_eq!(
+        counts.examples[rule]
+            .iter()
+            .map(|s| canonical(s))
+            .collect::<Vec<_>>(),
+        [canonical("CC1=CC=CC(=O)C=CC=C(C)C#CC#C1")]
+    );
+    let alone = |formula: &str, smiles: &str| {
+        let mut args = vec![formula, "--require", smiles];
+        assert_eq!(isomers_ok(&args).trim(), canonical(smiles), "{smiles}");
+        let flag = format!("--plausible={rule}");
+        args.push(&flag);
+        isomers_ok(&args).trim() == canonical(smiles)
+    };
+    assert!(!alone("C15H12O", "CC1=CC=CC(=O)C=CC=C(C)C#CC#C1"));
+    assert!(alone("C12H8", "C1=Cc2cccc3cccc1c23"));
+    assert!(alone("C11H10", "C1=CC=C2C=CC=CC(=C1)C2"));
+    assert!(alone("C10H8", "c1ccc2cccc-2cc1"));
 }
 
 #[test]

@@ -103,7 +103,7 @@ pub fn emptied(formula: &Formula, cuts: &[Cut]) -> Error {
 Plausibility rules (the number each flags goes to stderr):
   small-ring-triple, small-ring-cumulated, bredt, enol, peroxide, hydrate, iminol, hypohalite,
   thione, nh-imine, sulfur-ylide, sulfur-multiple, small-ring-cage, fused-small-rings,
-  antiaromatic-three-ring")]
+  antiaromatic-three-ring, large-conjugated-ring, cumulene")]
 pub struct Args {
     /// Molecular formula, e.g. C8H10O or BrC3H7 (any element order).
     pub formula: String,

@@ -15,6 +15,8 @@ use crate::chem::rings::RingInfo;
 use crate::chem::Element;
 use crate::error::{Error, Result};
 
+mod large_rings;
+
 /// One plausibility rule.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
 pub enum Rule {
@@ -34,10 +36,13 @@ pub enum Rule {
     SmallRingCage,
     FusedSmallRings,
     AntiaromaticThreeRing,
+    // Rings of many atoms that all carry a multiple bond (see `large_rings`).
+    LargeConjugatedRing,
+    Cumulene,
 }
 
 impl Rule {
-    pub const ALL: [Rule; 15] = [
+    pub const ALL: [Rule; 17] = [
         Rule::SmallRingTriple,
         Rule::SmallRingCumulated,
         Rule::Bredt,
@@ -53,6 +58,8 @@ impl Rule {
         Rule::SmallRingCage,
         Rule::FusedSmallRings,
         Rule::AntiaromaticThreeRing,
+        Rule::LargeConjugatedRing,
+        Rule::Cumulene,
     ];
 
     pub fn name(self) -> &'static str {
@@ -72,6 +79,8 @@ impl Rule {
             Rule::SmallRingCage => "small-ring-cage",
             Rule::FusedSmallRings => "fused-small-rings",
             Rule::AntiaromaticThreeRing => "antiaromatic-three-ring",
+            Rule::LargeConjugatedRing => "large-conjugated-ring",
+            Rule::Cumulene => "cumulene",
         }
     }
 
@@ -174,6 +183,25 @@ impl Rule {
                  3H-diazirines and thiirene S-oxides and S,S-dioxides (the S bears a double \
                  bond) are kept"
             }
+            Rule::LargeConjugatedRing => {
+                "no ring of 8 or more atoms in which every atom carries a double or triple \
+                 bond (a ring here: a relevant cycle, one that is not the sum of smaller rings; \
+                 Plotkin 1971, Vismara 1997, from memory): annulenes from [8] (cyclooctatetraene, \
+                 rare and made on purpose) up, dehydroannulenes, 8-ring polyenes fused to \
+                 other rings and other large cyclic polyenes and polyynes are made on purpose, \
+                 unstable or fleeting, not likely unknowns (common practice); tropones, \
+                 tropolones and azulenes (rings of 7), the perimeters of naphthalene, pyrene \
+                 or acenaphthylene and the ten-ring of 1,6-methano[10]annulene (sums of \
+                 smaller rings) are kept"
+            }
+            Rule::Cumulene => {
+                "no three or more cumulated double bonds in a row (two bonded carbons that each \
+                 carry two double bonds: butatrienes C=C=C=C and longer cumulenes, \
+                 propadienones C=C=C=O, carbon suboxide): such cumulenes are reactive, \
+                 oligomerise and are made on purpose, mostly with aryl or bulky ends, not \
+                 likely unknowns (common practice); allenes, ketenes, ketenimines, \
+                 isocyanates and carbodiimides (one cumulated atom) are kept"
+            }
         }
     }
 
@@ -261,6 +289,8 @@ pub struct Checker {
     small: (bool, bool),
     /// Work space: the skeleton's small rings as atom sets.
     small_rings: Vec<u64>,
+    /// What the large-ring rule remembers of the skeleton.
+    large: large_rings::LargeRings,
     /// Aromaticity perception for the enol rule (phenols are not enols).
     flat: FlatMolecule,
     rings: RingInfo,
@@ -281,6 +311,7 @@ impl Default for Checker {
             small_known: false,
             small: (false, false),
             small_rings: Vec::new(),
+            large: large_rings::LargeRings::default(),
             flat: FlatMolecule::default(),
             rings: RingInfo::default(),
             perceiver: Perceiver::default(),
@@ -309,6 +340,8 @@ impl Checker {
             Rule::SmallRingCage => self.small_ring_verdicts(iso).0,
             Rule::FusedSmallRings => self.small_ring_verdicts(iso).1,
             Rule::AntiaromaticThreeRing => antiaromatic_three_ring(iso),
+            Rule::LargeConjugatedRing => self.large.flags(iso),
+            Rule::Cumulene => cumulene(iso),
         }
     }
 
@@ -324,6 +357,7 @@ impl Checker {
         self.bridgehead_known = 0;
         self.bridgehead = 0;
         self.small_known = false;
+        self.large.reset();
     }
 
     /// The skeleton's small rings (chordless cycles of 3 or 4 atoms) and
@@ -810,6 +844,18 @@ fn antiaromatic_three_ring(iso: &Isomer) -> bool {
         };
         donor && bits(iso.node.nb[x]).any(|y| adj[1][y] & iso.node.nb[x] & !(1u64 << y) != 0)
     })
+}
+
+/// Two bonded carbons that each have two double bonds (X=C=C=Y). A carbon
+/// with two double bonds has no other bond, so the bond between them is
+/// double; how many double bonds an atom has is the same in every Kekulé
+/// form, so the verdict is too.
+fn cumulene(iso: &Isomer) -> bool {
+    let double = &iso.node.g.adj[1];
+    let cumulated = (0..iso.atoms())
+        .filter(|&c| iso.element(c) == Element::C && double[c].count_ones() == 2)
+        .fold(0u64, |m, c| m | 1u64 << c);
+    bits(cumulated).any(|c| double[c] & cumulated != 0)
 }
 
 fn hypohalite(iso: &Isomer) -> bool {

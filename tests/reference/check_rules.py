@@ -54,6 +54,19 @@ README states them:
   double bond between two of its atoms whose third atom is an uncharged O,
   N with single bonds only, or S with single bonds only (the N+ of a
   charge-separated N-oxide has no lone pair and is not flagged).
+- large-conjugated-ring: a relevant cycle of 8 or more atoms in which every
+  atom has a double or triple bond (any, in the ring or not; the N+ of a
+  charged N-oxide holds its O by a single bond). A relevant cycle is one
+  that is not the sum (symmetric difference of bond sets) of shorter cycles
+  (Plotkin 1971; Vismara 1997); found here by brute force: every chordless
+  cycle is listed (a cycle with a chord is the sum of two shorter ones, and
+  every cycle is a sum of chordless cycles no longer than itself), and, in
+  order of length, each is tested against the span of all strictly shorter
+  ones by Gaussian elimination over GF(2). isomerank instead reduces by a
+  basis built from Horton's candidate cycles, and lists only the cycles in
+  which every atom has a multiple bond.
+- cumulene: two bonded carbons that each have two double bonds (X=C=C=Y,
+  three or more cumulated double bonds in a row).
 
 With --count FILE.toml, the rules are applied instead to every `smiles =`
 of that file (the NMRShiftDB2 dev structures) and the number of structures
@@ -397,6 +410,91 @@ def antiaromatic_three_ring(mol, aromatic):
     return False
 
 
+LARGE_RING = 8
+
+
+def chordless_cycles(adj):
+    """Every chordless cycle of the graph (adjacency sets), as atom lists
+    in ring order: induced paths from their lowest atom, closed when the new
+    atom is bonded to the start."""
+    out = []
+
+    def extend(path, on_path):
+        start, last = path[0], path[-1]
+        for u in adj[last]:
+            if u <= start or u in on_path:
+                continue
+            if any(u in adj[v] for v in path[1:-1]):
+                continue
+            if len(path) >= 2 and start in adj[u]:
+                if path[1] < u:
+                    out.append(path + [u])
+                continue
+            on_path.add(u)
+            extend(path + [u], on_path)
+            on_path.remove(u)
+
+    for s in adj:
+        extend([s], {s})
+    return out
+
+
+def large_conjugated_ring(mol, aromatic):
+    multiple = (Chem.BondType.DOUBLE, Chem.BondType.TRIPLE)
+    unsaturated = {
+        a.GetIdx() for a in mol.GetAtoms()
+        if any(b.GetBondType() in multiple for b in a.GetBonds())
+    }
+    if len(unsaturated) < LARGE_RING:
+        return False
+    adj = {a.GetIdx(): {n.GetIdx() for n in a.GetNeighbors()} for a in mol.GetAtoms()}
+    cycles = sorted(chordless_cycles(adj), key=len)
+
+    def bonds(cycle):
+        v = 0
+        for i, a in enumerate(cycle):
+            v |= 1 << mol.GetBondBetweenAtoms(a, cycle[(i + 1) % len(cycle)]).GetIdx()
+        return v
+
+    def reduce(basis, v):
+        while v:
+            top = v.bit_length() - 1
+            if top not in basis:
+                return v
+            v ^= basis[top]
+        return 0
+
+    basis = {}
+    i = 0
+    while i < len(cycles):
+        size = len(cycles[i])
+        j = i
+        while j < len(cycles) and len(cycles[j]) == size:
+            j += 1
+        vectors = [bonds(c) for c in cycles[i:j]]
+        # Tested against the shorter cycles only, before this size joins.
+        for c, v in zip(cycles[i:j], vectors):
+            if size >= LARGE_RING and set(c) <= unsaturated and reduce(basis, v):
+                return True
+        for v in vectors:
+            r = reduce(basis, v)
+            if r:
+                basis[r.bit_length() - 1] = r
+        i = j
+    return False
+
+
+def cumulene(mol, aromatic):
+    def doubles(atom):
+        return sum(b.GetBondType() == Chem.BondType.DOUBLE for b in atom.GetBonds())
+
+    return any(
+        x.GetSymbol() == "C" and y.GetSymbol() == "C" and doubles(x) == 2 and doubles(y) == 2
+        for b in mol.GetBonds()
+        for x, y in [(b.GetBeginAtom(), b.GetEndAtom())]
+    )
+
+
 RULES = {
     "small-ring-triple": small_ring_triple,
     "small-ring-cumulated": small_ring_cumulated,
@@ -413,6 +511,8 @@ RULES = {
     "small-ring-cage": small_ring_cage,
     "fused-small-rings": fused_small_rings,
     "antiaromatic-three-ring": antiaromatic_three_ring,
+    "large-conjugated-ring": large_conjugated_ring,
+    "cumulene": cumulene,
 }
 
 
