@@ -12,7 +12,7 @@ mod common;
 
 use common::{isomerank, isomers_ok, run_reference_script};
 use isomerank::chem::{Element, Formula};
-use isomerank::enumerate::constraints::{carbon13, CarbonClass, ClassCounts, Constraints};
+use isomerank::enumerate::constraints::{CarbonClass, ClassCounts, Constraints};
 use isomerank::enumerate::{self, Options};
 use std::collections::BTreeSet;
 
