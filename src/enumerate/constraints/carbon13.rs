@@ -389,6 +389,14 @@ mod tests {
         (129.0, Some(1), 2),
     ];
 
+    /// o-Xylene, 13C in CDCl3 (common practice, values from memory).
+    const O_XYLENE: [(f64, Option<u8>, u32); 4] = [
+        (136.5, Some(0), 2),
+        (129.6, Some(1), 2),
+        (125.8, Some(1), 2),
+        (19.7, Some(3), 2),
+    ];
+
     fn classes(set: u8) -> Vec<&'static str> {
         CarbonClass::ALL
             .iter()
@@ -496,16 +504,11 @@ mod tests {
 
     #[test]
     fn pi_carbons_bound_the_rings() {
-        // o-Xylene, 13C in CDCl3 (common practice, values from memory):
-        // 136.5 (C, 2C), 129.6 (CH, 2C), 125.8 (CH, 2C), 19.7 (CH3, 2C). Six
-        // carbons with a pi bond need 3 pi bonds: of DBE 4 at most 1 ring.
+        // o-Xylene: 136.5 (C, 2C), 129.6 (CH, 2C), 125.8 (CH, 2C), 19.7
+        // (CH3, 2C). Six carbons with a pi bond need 3 pi bonds: of DBE 4 at
+        // most 1 ring.
         let f = Formula::parse("C8H10").unwrap();
-        let lines = [
-            (136.5, Some(0), 2),
-            (129.6, Some(1), 2),
-            (125.8, Some(1), 2),
-            (19.7, Some(3), 2),
-        ];
+        let lines = O_XYLENE;
         let c = carbon_facts(&lines, &f).unwrap().classes.unwrap();
         assert_eq!(c.single_hi, 2);
         assert_eq!(c.least_pi(8), 3);
@@ -536,13 +539,7 @@ mod tests {
         // carbon has at most one H), so the carbons' extra orders add up
         // to at most 6: 3 pi bonds, and of DBE 4 at least 1 ring.
         let f = Formula::parse("C8H10").unwrap();
-        let lines = [
-            (136.5, Some(0), 2),
-            (129.6, Some(1), 2),
-            (125.8, Some(1), 2),
-            (19.7, Some(3), 2),
-        ];
-        let c = carbon_facts(&lines, &f).unwrap().classes.unwrap();
+        let c = carbon_facts(&O_XYLENE, &f).unwrap().classes.unwrap();
         assert_eq!((c.single_lo, c.single_hi, c.pi2_hi), (2, 2, 0));
         assert_eq!(c.most_pi(8), 6);
         // Benzaldehyde: the aldehyde CH may not have two pi units (one H
