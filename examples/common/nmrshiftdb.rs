@@ -100,6 +100,8 @@ impl Outcome {
                 smiles,
                 if self.position == Some(1) {
                     String::new()
+                } else if self.considered == 0 {
+                    "  (no candidate scored)".into()
                 } else {
                     format!(
                         "  (first {} {:.2} = 1H {:.2} + 13C {:.2}, truth {})",
