@@ -799,6 +799,8 @@ impl<'p> Generator<'p> {
                 )
             {
                 Some(b.skeleton_owner())
+            } else if !w.saturated_ok(node) {
+                Some(b.classes_at)
             } else {
                 None
             };

@@ -44,6 +44,9 @@ pub struct Work {
     /// and per h the most carbons with h H; `None` when neither bounds
     /// anything.
     carbon_hx: Option<([[u32; 3]; MAX_H + 1], [u32; MAX_H + 1])>,
+    /// For [`Work::saturated_ok`]: the most carbons without H of the sp3
+    /// and of the sp3-hetero class; `None` without types per H count.
+    saturated_caps: Option<(u32, u32)>,
 }
 
 /// Carbon-type bounds that hold for every partial bond-order assignment,
@@ -166,6 +169,7 @@ impl Work {
                 .filter(|(_, k)| k.element == Element::C)
                 .fold(0u64, |m, (i, _)| m | 1 << i),
             carbon_hx: None,
+            saturated_caps: None,
         }
         .with_caps(p)
     }
@@ -179,6 +183,12 @@ impl Work {
             .find(|e| e.0 == c_slot)
             .map(|e| e.2);
         let by_h = self.bounds.classes.as_ref().and_then(|cc| cc.hi_by_h);
+        self.saturated_caps = by_h.map(|t| {
+            (
+                t[CarbonClass::Sp3.index()][0],
+                t[CarbonClass::Sp3Hetero.index()][0],
+            )
+        });
         if h_hi.is_some() || by_h.is_some() {
             let mut caps = [[u32::MAX; 3]; MAX_H + 1];
             if let Some(t) = by_h {
@@ -413,6 +423,36 @@ impl Work {
             }
         }
         true
+    }
+
+    /// A test of every skeleton node: a carbon whose skeleton free valence
+    /// is 0 has four single bonds and no H for good (its degree cannot
+    /// grow), and its class is fixed by its neighbours: sp3-hetero with a
+    /// neighbour other than C, sp3 without. So such carbons may not
+    /// outnumber the sp3 (sp3-hetero) carbons without H that the 13C lines
+    /// allow ([`super::ClassCounts::hi_by_h`]). Sound at every node, as
+    /// free valences only fall and a saturated atom keeps its neighbours.
+    pub fn saturated_ok(&self, node: &Node) -> bool {
+        let Some((plain_cap, hetero_cap)) = self.saturated_caps else {
+            return true;
+        };
+        let mut other = 0u64;
+        for a in 0..node.n {
+            if self.carbon_kinds >> node.kind[a] & 1 == 0 {
+                other |= 1 << a;
+            }
+        }
+        let (mut plain, mut hetero) = (0u32, 0u32);
+        for a in 0..node.n {
+            if node.free[a] == 0 && self.carbon_kinds >> node.kind[a] & 1 == 1 {
+                if node.nb[a] & other == 0 {
+                    plain += 1;
+                } else {
+                    hetero += 1;
+                }
+            }
+        }
+        plain <= plain_cap && hetero <= hetero_cap
     }
 
     /// Whether the carbons of a complete skeleton can take H counts and
