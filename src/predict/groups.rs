@@ -115,6 +115,7 @@ impl Ctx<'_> {
                     .sum()
             };
             let mut order: Vec<usize> = (0..groups.len())
+                .take_while(|_| marked < MAX_HALVES) // none once the cap is full
                 .filter(|&i| {
                     let g = &groups[i];
                     g.notes & note::DIASTEREOTOPIC != 0

@@ -183,12 +183,22 @@ impl Work {
             .find(|e| e.0 == c_slot)
             .map(|e| e.2);
         let by_h = self.bounds.classes.as_ref().and_then(|cc| cc.hi_by_h);
-        self.saturated_caps = by_h.map(|t| {
-            (
-                t[CarbonClass::Sp3.index()][0],
-                t[CarbonClass::Sp3Hetero.index()][0],
-            )
-        });
+        let carbons: u32 = p
+            .kinds
+            .iter()
+            .zip(&p.counts)
+            .filter(|(k, _)| k.element == Element::C)
+            .map(|(_, &n)| n as u32)
+            .sum();
+        // Caps that every carbon fits under cannot cut: no test then.
+        self.saturated_caps = by_h
+            .map(|t| {
+                (
+                    t[CarbonClass::Sp3.index()][0],
+                    t[CarbonClass::Sp3Hetero.index()][0],
+                )
+            })
+            .filter(|&(plain, hetero)| plain < carbons || hetero < carbons);
         if h_hi.is_some() || by_h.is_some() {
             let mut caps = [[u32::MAX; 3]; MAX_H + 1];
             if let Some(t) = by_h {
@@ -203,13 +213,6 @@ impl Work {
             }
             self.carbon_hx = Some((caps, h_hi.unwrap_or([u32::MAX; MAX_H + 1])));
         }
-        let carbons: u32 = p
-            .kinds
-            .iter()
-            .zip(&p.counts)
-            .filter(|(k, _)| k.element == Element::C)
-            .map(|(_, &n)| n as u32)
-            .sum();
         self.pi_caps = self.bounds.classes.as_ref().map(|cc| {
             let hi = |c: CarbonClass| cc.hi[c.index()];
             let single_lo = cc.single_least();
