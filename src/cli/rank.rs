@@ -441,6 +441,7 @@ impl Done {
         let c = self.ranking.coverage;
         c.stopped.map(|stop| {
             limits::partial_sentence(stop, c.share, self.ranking.considered, "candidates")
+                + &crate::report::text::first_stage_words(c.first_stage)
         })
     }
 }
@@ -631,7 +632,7 @@ fn run_shard(args: &Args, inputs: &Inputs, job: &Job, part: enumerate::Part) -> 
                 shard.coverage.share,
                 shard.totals.considered,
                 "candidates"
-            )
+            ) + &crate::report::text::first_stage_words(shard.coverage.first_stage)
         ));
     }
     Ok(())

@@ -93,6 +93,11 @@ pub struct Summary {
     pub stopped: Option<Stop>,
     /// Share of the search covered, 0 to 1 (1 when complete).
     pub share: f64,
+    /// When a ranking searched in two stages (typical 13C regions first,
+    /// `constraints::Constraints::stages`): the share of the first stage
+    /// covered. `share` is then the second stage's, which walks the whole
+    /// search tree.
+    pub first_stage: Option<f64>,
 }
 
 impl Summary {

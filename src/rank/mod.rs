@@ -162,6 +162,11 @@ pub struct Coverage {
     pub share: f64,
     pub tasks_done: usize,
     pub tasks_total: usize,
+    /// With a 13C list whose lines narrow the carbon types further when
+    /// they lie in their typical regions: the share covered of the first
+    /// stage, which searched the structures that fit those (`share` is
+    /// then that of the whole search).
+    pub first_stage: Option<f64>,
 }
 
 impl Coverage {
@@ -172,6 +177,7 @@ impl Coverage {
             share: 1.0,
             tasks_done: 0,
             tasks_total: 0,
+            first_stage: None,
         }
     }
 
@@ -385,6 +391,7 @@ pub fn coverage_of(summary: &enumerate::Summary) -> Coverage {
         share: summary.share,
         tasks_done: summary.tasks_done,
         tasks_total: summary.tasks_total,
+        first_stage: summary.first_stage,
     }
 }
 
@@ -434,23 +441,52 @@ pub(crate) fn collect_formula(
             None => Outcome::Skipped,
         });
     };
-    let summary = enumerate::for_each_task(
-        formula,
-        options,
-        enumerate::RankWindow,
-        || Collector::new(settings.top, margin),
-        visit,
-        |_, part| {
-            collector.merge(part);
-            true
-        },
-        &mut |p: enumerate::Progress| progress(p.isomers, p.share),
-    )?;
+    // One search, or two with a 13C list whose lines narrow the carbon
+    // types further where they lie in their typical regions: those
+    // structures first, then the rest (`Constraints::stages`). Every
+    // structure is in exactly one stage and the collectors merge exactly,
+    // so a complete ranking is the same either way; under a time limit
+    // the first stage, usually a small part, is covered first.
+    let stages = options.constraints.stages();
+    let count = stages.len();
+    let mut summary = enumerate::Summary::default();
+    for (i, constraints) in stages.into_iter().enumerate() {
+        let mut opts = options.clone();
+        opts.constraints = constraints;
+        if i + 1 < count {
+            // The estimate's weights are for the whole search's tasks.
+            opts.weights = None;
+        }
+        if let Some(m) = options.limits.max_candidates {
+            opts.limits.max_candidates = Some(m.saturating_sub(summary.isomers));
+        }
+        let before = summary.isomers;
+        let stage = enumerate::for_each_task(
+            formula,
+            &opts,
+            enumerate::RankWindow,
+            || Collector::new(settings.top, margin),
+            &visit,
+            |_, part| {
+                collector.merge(part);
+                true
+            },
+            &mut |p: enumerate::Progress| {
+                progress(before + p.isomers, (i as f64 + p.share) / count as f64)
+            },
+        )?;
+        summary = add_stage(summary, stage, i, count);
+        if !summary.complete() {
+            break;
+        }
+    }
     if summary.complete() && options.part.is_none() {
+        // The names of the whole search's constraints (a two-stage
+        // search's cuts are named by stage).
         let constraints = if options.constraints.is_empty() {
             Vec::new()
         } else {
-            summary.constraints.iter().map(|c| c.name.clone()).collect()
+            options.constraints.names()
         };
         check_something_to_rank(
             formula,
@@ -461,6 +497,52 @@ pub(crate) fn collect_formula(
         )?;
     }
     Ok((collector, summary))
+}
+
+/// The summary of the stages so far, `done`, with stage `i` of `count`
+/// added (see `collect_formula`). Counts add up; each stage's constraint
+/// cuts keep their own entries, named by stage; the share is that of the
+/// last stage run (the second stage walks the whole search tree), and the
+/// first stage's own share is kept beside it.
+fn add_stage(
+    done: enumerate::Summary,
+    stage: enumerate::Summary,
+    i: usize,
+    count: usize,
+) -> enumerate::Summary {
+    if count == 1 {
+        return stage;
+    }
+    let label = if i == 0 {
+        "first stage, typical 13C regions"
+    } else {
+        "second stage, the rest"
+    };
+    let mut flagged = stage.flagged.clone();
+    for (rule, n) in &mut flagged {
+        *n += done
+            .flagged
+            .iter()
+            .find(|(r, _)| r == rule)
+            .map_or(0, |(_, m)| *m);
+    }
+    let mut constraints = done.constraints;
+    constraints.extend(stage.constraints.into_iter().map(|c| enumerate::constraints::Cut {
+        name: format!("{label}: {}", c.name),
+        cut: c.cut,
+    }));
+    enumerate::Summary {
+        generated: done.generated + stage.generated,
+        isomers: done.isomers + stage.isomers,
+        excluded: done.excluded + stage.excluded,
+        flagged,
+        constraints,
+        tasks_total: done.tasks_total + stage.tasks_total,
+        tasks_done: done.tasks_done + stage.tasks_done,
+        stopped: stage.stopped,
+        share: if i == 0 { 0.0 } else { stage.share },
+        first_stage: Some(if i == 0 { stage.share } else { done.first_stage.unwrap_or(1.0) }),
+    }
 }
 
 /// The error of a whole search that left nothing to rank (no structure, none

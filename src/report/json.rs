@@ -165,6 +165,7 @@ pub fn render(cx: &Context) -> String {
         "coverage": {
             "share": r.coverage.share,
             "stopped_by": r.coverage.stopped.map(super::stop_option),
+            "first_stage_share": r.coverage.first_stage,
         },
         "notes": s.notes.iter().chain(cx.carbon.iter().flat_map(|c| &c.notes)).collect::<Vec<_>>(),
         "groups": groups,

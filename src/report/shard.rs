@@ -71,6 +71,7 @@ pub fn write(formula: &str, shard: &Shard, settings: &Map<String, Value>) -> Str
             "stopped_by": shard.coverage.stopped.map(super::stop_option),
             "tasks_done": shard.coverage.tasks_done,
             "tasks_total": shard.coverage.tasks_total,
+            "first_stage_share": shard.coverage.first_stage,
         },
         "isomers_generated": shard.generated,
         "isomers_excluded": shard.excluded,
@@ -207,6 +208,10 @@ pub fn read(name: &str, text: &str) -> Result<ShardFile> {
         share: r.f64(r.field(cov, "share")?, "coverage.share")?,
         tasks_done: r.u64(r.field(cov, "tasks_done")?, "coverage.tasks_done")? as usize,
         tasks_total: r.u64(r.field(cov, "tasks_total")?, "coverage.tasks_total")? as usize,
+        first_stage: match cov.get("first_stage_share") {
+            None | Some(Value::Null) => None,
+            Some(x) => Some(r.f64(x, "coverage.first_stage_share")?),
+        },
     };
     let rules = r
         .array(&doc, "plausibility_rules")?

@@ -85,10 +85,11 @@ pub fn render(cx: &Context) -> String {
     if let Some(stop) = r.coverage.stopped {
         let _ = writeln!(
             out,
-            "PARTIAL RESULT: the run stopped at {} after {} candidates, {:.2}% of the search; the ranking and the probabilities are over those candidates only, and a better candidate may be in the rest.",
+            "PARTIAL RESULT: the run stopped at {} after {} candidates, {:.2}% of the search{}; the ranking and the probabilities are over those candidates only, and a better candidate may be in the rest.",
             super::stop_words(stop),
             r.considered,
-            r.coverage.share * 100.0
+            r.coverage.share * 100.0,
+            first_stage_words(r.coverage.first_stage)
         );
     }
     if r.skipped > 0 {
@@ -511,4 +512,16 @@ fn carbon_explanation(cx: &Context, cs: &CarbonSpectrum, c: &Ranked, sc: &score:
         }
     }
     out
+}
+
+/// What a two-stage search covered of its first stage, for the partial
+/// result's sentence (empty for a one-stage search).
+pub fn first_stage_words(first_stage: Option<f64>) -> String {
+    match first_stage {
+        Some(f) => format!(
+            " (searched first, the structures whose carbons all fit the typical 13C regions: {:.2}% of them)",
+            f * 100.0
+        ),
+        None => String::new(),
+    }
 }

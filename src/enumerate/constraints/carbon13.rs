@@ -80,33 +80,72 @@ impl Region {
 #[derive(Deserialize)]
 struct RegionFile {
     region: Vec<Region>,
+    /// Narrower regions that hold most carbons of a class (a hypothesis a
+    /// ranking tries first, never a bound: [`typical_regions`]).
+    typical: Vec<Region>,
+}
+
+fn region_file() -> &'static RegionFile {
+    static FILE: OnceLock<RegionFile> = OnceLock::new();
+    FILE.get_or_init(|| {
+        toml::from_str(REGIONS_TOML).expect("the embedded carbon-regions.toml parses")
+    })
+}
+
+fn by_class(regions: &[Region]) -> Vec<(CarbonClass, Region)> {
+    let mut out: Vec<(CarbonClass, Region)> = regions
+        .iter()
+        .map(|r| {
+            let c = CarbonClass::from_name(&r.class).expect("a known carbon class");
+            (c, r.clone())
+        })
+        .collect();
+    out.sort_by_key(|(c, _)| *c);
+    out
 }
 
 /// The embedded region table, sorted by [`CarbonClass`] (a class may have
 /// several regions).
 pub fn regions() -> &'static [(CarbonClass, Region)] {
     static TABLE: OnceLock<Vec<(CarbonClass, Region)>> = OnceLock::new();
-    TABLE.get_or_init(|| {
-        let file: RegionFile =
-            toml::from_str(REGIONS_TOML).expect("the embedded carbon-regions.toml parses");
-        let mut out: Vec<(CarbonClass, Region)> = file
-            .region
-            .into_iter()
-            .map(|r| {
-                let c = CarbonClass::from_name(&r.class).expect("a known carbon class");
-                (c, r)
-            })
-            .collect();
-        out.sort_by_key(|(c, _)| *c);
-        out
-    })
+    TABLE.get_or_init(|| by_class(&region_file().region))
+}
+
+/// The typical regions (`[[typical]]` in carbon-regions.toml), sorted by
+/// class: where most carbons of each class fall, narrower than
+/// [`regions`]. Not sound: a ranking searches the structures whose carbons
+/// all fit them first and the rest after ([`super::Constraints::stages`]),
+/// so they decide the order of the work, never the answer.
+pub fn typical_regions() -> &'static [(CarbonClass, Region)] {
+    static TABLE: OnceLock<Vec<(CarbonClass, Region)>> = OnceLock::new();
+    TABLE.get_or_init(|| by_class(&region_file().typical))
 }
 
 /// The classes a line at `shift` with `hydrogens` (when known) may belong
 /// to in a structure of `formula`, as a bit set over [`CarbonClass::index`].
 pub fn possible_classes(shift: f64, hydrogens: Option<u8>, formula: &Formula) -> u8 {
+    classes_in(regions(), shift, hydrogens, formula)
+}
+
+/// The classes whose typical regions hold a line, within
+/// [`possible_classes`]; when none does (an unusual shift), the classes
+/// [`possible_classes`] gives.
+pub fn typical_classes(shift: f64, hydrogens: Option<u8>, formula: &Formula) -> u8 {
+    let wide = possible_classes(shift, hydrogens, formula);
+    match classes_in(typical_regions(), shift, hydrogens, formula) & wide {
+        0 => wide,
+        typical => typical,
+    }
+}
+
+fn classes_in(
+    table: &[(CarbonClass, Region)],
+    shift: f64,
+    hydrogens: Option<u8>,
+    formula: &Formula,
+) -> u8 {
     let mut set = 0u8;
-    for (c, r) in regions() {
+    for (c, r) in table {
         if !r.allowed_in(formula) {
             continue;
         }
@@ -126,6 +165,11 @@ pub struct CarbonFacts {
     pub hydrogens: Option<HydrogenCounts>,
     /// Carbon type counts, when any line narrows them.
     pub classes: Option<ClassCounts>,
+    /// The carbon types when every line lies where its class typically
+    /// does ([`typical_classes`]): narrower than `classes`, a hypothesis
+    /// for the order of the search, not a bound. `None` when it would say
+    /// no more than `classes`.
+    pub typical: Option<ClassCounts>,
     /// One line per input line: what it was charged to, or why not.
     pub notes: Vec<String>,
 }
@@ -144,20 +188,11 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
     let unknown = carbons - counted as u32;
     let mut h_lo = [0u32; MAX_H + 1];
     let mut h_unknown = unknown;
-    let mut class_lo = [0u32; 6];
-    let mut class_hi = [unknown; 6];
-    // Carbons of lines that no single-bond class fits have a pi bond.
-    let mut pi_carbons = 0u32;
-    // Carbons of lines that only single-bond classes fit, and of lines
-    // whose carbons may have two units of extra bond order.
-    let (mut single_carbons, mut pi2_carbons) = (0u32, unknown);
-    let single = 1 << CarbonClass::Sp3.index() | 1 << CarbonClass::Sp3Hetero.index();
-    let pi2 = 1 << CarbonClass::Carbonyl.index()
-        | 1 << CarbonClass::Triple.index()
-        | 1 << CarbonClass::Cumulated.index();
     let mut notes = Vec::new();
-    // Per line, the classes that fit it and its carbons.
+    // Per line, the classes that fit it and its carbons; the same with the
+    // typical regions.
     let mut fits: Vec<(u8, u32)> = Vec::with_capacity(lines.len());
+    let mut typical: Vec<(u8, u32)> = Vec::with_capacity(lines.len());
     for (i, &(shift, h, count)) in lines.iter().enumerate() {
         let label = match h {
             Some(h) => format!("line {} (δ {shift:.1}, {h} H)", i + 1),
@@ -179,6 +214,7 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
         }
         let set = possible_classes(shift, h, formula);
         fits.push((set, count));
+        typical.push((typical_classes(shift, h, formula), count));
         if set == 0 {
             return Err(Error::input(format!(
                 "13C {label}: no carbon type has a shift there{}",
@@ -194,6 +230,70 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
             .filter(|c| set >> c.index() & 1 == 1)
             .map(|c| c.name())
             .collect();
+        if set.count_ones() == 1 {
+            notes.push(format!("{label}: {}", names[0]));
+        } else {
+            notes.push(format!(
+                "{label}: {} (regions overlap; not charged to one type)",
+                names.join(" or ")
+            ));
+        }
+    }
+    let hydrogens = (h_lo.iter().sum::<u32>() > 0).then(|| {
+        let mut hi = h_lo;
+        for x in &mut hi {
+            *x += h_unknown;
+        }
+        HydrogenCounts {
+            element: Element::C,
+            lo: h_lo,
+            hi,
+        }
+    });
+    let classes = class_bounds(&fits, lines, formula, unknown, h_unknown);
+    // A typical hypothesis the formula cannot meet (sp2 carbons in a
+    // formula with DBE 0, more lines than a class's cap) says nothing.
+    let caps = formula_caps(formula);
+    let possible: u8 = (0..6).filter(|&c| caps[c] > 0).map(|c| 1u8 << c).sum();
+    for ((t, _), &(wide, _)) in typical.iter_mut().zip(&fits) {
+        if *t & possible == 0 {
+            *t = wide;
+        }
+    }
+    let typical = class_bounds(&typical, lines, formula, unknown, h_unknown)
+        .filter(|t| t.feasible(carbons) && classes.as_ref() != Some(t));
+    Ok(CarbonFacts {
+        hydrogens,
+        classes,
+        typical,
+        notes,
+    })
+}
+
+/// The carbon type bounds that per-line class sets `fits` (one per line of
+/// `lines`, with its carbons) give; `unknown` carbons no line counts,
+/// `h_unknown` carbons without a known H count. `None` when they narrow
+/// nothing.
+fn class_bounds(
+    fits: &[(u8, u32)],
+    lines: &[(f64, Option<u8>, u32)],
+    formula: &Formula,
+    unknown: u32,
+    h_unknown: u32,
+) -> Option<ClassCounts> {
+    let carbons = formula.count(Element::C);
+    let mut class_lo = [0u32; 6];
+    let mut class_hi = [unknown; 6];
+    // Carbons of lines that no single-bond class fits have a pi bond.
+    let mut pi_carbons = 0u32;
+    // Carbons of lines that only single-bond classes fit, and of lines
+    // whose carbons may have two units of extra bond order.
+    let (mut single_carbons, mut pi2_carbons) = (0u32, unknown);
+    let single = 1 << CarbonClass::Sp3.index() | 1 << CarbonClass::Sp3Hetero.index();
+    let pi2 = 1 << CarbonClass::Carbonyl.index()
+        | 1 << CarbonClass::Triple.index()
+        | 1 << CarbonClass::Cumulated.index();
+    for (&(set, count), &(_, h, _)) in fits.iter().zip(lines) {
         for c in CarbonClass::ALL {
             if set >> c.index() & 1 == 1 {
                 class_hi[c.index()] += count;
@@ -218,25 +318,8 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
         }
         if set.count_ones() == 1 {
             class_lo[set.trailing_zeros() as usize] += count;
-            notes.push(format!("{label}: {}", names[0]));
-        } else {
-            notes.push(format!(
-                "{label}: {} (regions overlap; not charged to one type)",
-                names.join(" or ")
-            ));
         }
     }
-    let hydrogens = (h_lo.iter().sum::<u32>() > 0).then(|| {
-        let mut hi = h_lo;
-        for x in &mut hi {
-            *x += h_unknown;
-        }
-        HydrogenCounts {
-            element: Element::C,
-            lo: h_lo,
-            hi,
-        }
-    });
     // What the formula allows each class at most, and from those caps
     // the carbons that must fall in a class because the other classes
     // their lines fit cannot hold them all.
@@ -244,7 +327,7 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
     for c in 0..6 {
         class_hi[c] = class_hi[c].min(caps[c]);
     }
-    for (c, lo) in forced_by_caps(&fits, &caps).into_iter().enumerate() {
+    for (c, lo) in forced_by_caps(fits, &caps).into_iter().enumerate() {
         class_lo[c] = class_lo[c].max(lo);
     }
     let narrows = class_lo.iter().any(|&x| x > 0)
@@ -266,18 +349,13 @@ pub fn carbon_facts(lines: &[(f64, Option<u8>, u32)], formula: &Formula) -> Resu
         }
         t.map(|row| row.map(|x| x.min(carbons)))
     });
-    let classes = narrows.then_some(ClassCounts {
+    narrows.then_some(ClassCounts {
         lo: class_lo,
         hi: class_hi.map(|x| x.min(carbons)),
         single_hi: carbons - pi_carbons,
         single_lo: single_carbons,
         pi2_hi: pi2_carbons.min(carbons),
         hi_by_h,
-    });
-    Ok(CarbonFacts {
-        hydrogens,
-        classes,
-        notes,
     })
 }
 
@@ -355,22 +433,25 @@ impl Constraints {
         }
         if let Some(c) = facts.classes {
             self.classes = Some(match self.classes.take() {
-                Some(have) => ClassCounts {
-                    lo: std::array::from_fn(|i| have.lo[i].max(c.lo[i])),
-                    hi: std::array::from_fn(|i| have.hi[i].min(c.hi[i])),
-                    single_hi: have.single_hi.min(c.single_hi),
-                    single_lo: have.single_lo.max(c.single_lo),
-                    pi2_hi: have.pi2_hi.min(c.pi2_hi),
-                    hi_by_h: match (have.hi_by_h, c.hi_by_h) {
-                        (Some(a), Some(b)) => Some(std::array::from_fn(|k| {
-                            std::array::from_fn(|h| a[k][h].min(b[k][h]))
-                        })),
-                        (a, b) => a.or(b),
-                    },
-                },
+                Some(have) => have.meet(&c),
                 None => c,
             });
         }
+        // The typical types narrow what is known (the sound types, and the
+        // typical ones of earlier lists).
+        let mut typical: Option<ClassCounts> = None;
+        for t in [self.classes.clone(), self.typical.take(), facts.typical]
+            .into_iter()
+            .flatten()
+        {
+            typical = Some(match typical {
+                Some(have) => have.meet(&t),
+                None => t,
+            });
+        }
+        let carbons = formula.count(Element::C);
+        self.typical =
+            typical.filter(|t| t.feasible(carbons) && Some(t) != self.classes.as_ref());
         Ok(facts.notes)
     }
 }

@@ -623,32 +623,29 @@ impl Work {
     /// structure whose bond orders are written into `node.g`.
     pub fn structure_ok(&mut self, node: &Node, p: &Problem) -> bool {
         let b = Arc::clone(&self.bounds);
-        if b.classes.is_none() && b.require.is_empty() && b.forbid.is_empty() {
+        if b.classes.is_none() && b.require.is_empty() && b.forbid.is_empty() && b.exclude.is_none()
+        {
             return true;
         }
         self.perceive(node, p);
-        if let Some(cc) = &b.classes {
+        let mut earlier = false;
+        if b.classes.is_some() || b.exclude.is_some() {
             let (counts, by_h) = self.class_counts(node);
-            let single = counts[CarbonClass::Sp3.index()] + counts[CarbonClass::Sp3Hetero.index()];
-            let by_h_over = cc
-                .hi_by_h
-                .as_ref()
-                .is_some_and(|t| (0..6).any(|c| (0..=MAX_H).any(|h| by_h[c][h] > t[c][h])));
             // Carbons with two units of extra order (4 - bonds - H = 2).
             let pi2 = (0..node.n)
                 .filter(|&a| {
                     self.carbon_kinds >> node.kind[a] & 1 == 1 && node.deg[a] + node.free[a] == 2
                 })
                 .count() as u32;
-            if (0..6).any(|c| counts[c] < cc.lo[c] || counts[c] > cc.hi[c])
-                || single > cc.single_hi
-                || single < cc.single_lo
-                || pi2 > cc.pi2_hi
-                || by_h_over
-            {
-                self.cuts[b.classes_at][2] += 1;
-                return false;
+            if let Some(cc) = &b.classes {
+                if !cc.admits(&counts, &by_h, pi2) {
+                    self.cuts[b.classes_at][2] += 1;
+                    return false;
+                }
             }
+            // Tested last, after the fragments: what the earlier stage
+            // listed is counted only when it passes everything else.
+            earlier = b.exclude.as_ref().is_some_and(|t| t.admits(&counts, &by_h, pi2));
         }
         let elem = self.element_masks(node);
         let kind_nb = &self.kind_nb;
@@ -670,6 +667,10 @@ impl Work {
                 self.cuts[b.forbid_at + i][2] += 1;
                 return false;
             }
+        }
+        if earlier {
+            self.cuts[b.exclude_at][2] += 1;
+            return false;
         }
         true
     }

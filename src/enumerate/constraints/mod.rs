@@ -229,6 +229,55 @@ impl ClassCounts {
         (p as i64 + k.min(p) as i64 + 1) / 2
     }
 
+    /// The bounds of both `self` and `other` (each interval narrowed to
+    /// their intersection).
+    pub fn meet(&self, other: &ClassCounts) -> ClassCounts {
+        ClassCounts {
+            lo: std::array::from_fn(|i| self.lo[i].max(other.lo[i])),
+            hi: std::array::from_fn(|i| self.hi[i].min(other.hi[i])),
+            single_hi: self.single_hi.min(other.single_hi),
+            single_lo: self.single_lo.max(other.single_lo),
+            pi2_hi: self.pi2_hi.min(other.pi2_hi),
+            hi_by_h: match (self.hi_by_h, other.hi_by_h) {
+                (Some(a), Some(b)) => Some(std::array::from_fn(|k| {
+                    std::array::from_fn(|h| a[k][h].min(b[k][h]))
+                })),
+                (a, b) => a.or(b),
+            },
+        }
+    }
+
+    /// Whether some split of `carbons` carbons over the classes meets the
+    /// class intervals and the single-bond bounds (necessary, not
+    /// sufficient, for a structure to exist).
+    pub fn feasible(&self, carbons: u32) -> bool {
+        let lo: u64 = self.lo.iter().map(|&x| x as u64).sum();
+        let hi: u64 = self.hi.iter().map(|&x| x as u64).sum();
+        let single_hi = (self.hi[CarbonClass::Sp3.index()] as u64
+            + self.hi[CarbonClass::Sp3Hetero.index()] as u64)
+            .min(self.single_hi as u64);
+        (0..6).all(|c| self.lo[c] <= self.hi[c])
+            && lo <= carbons as u64
+            && hi >= carbons as u64
+            && self.single_least() as u64 <= single_hi
+    }
+
+    /// Whether a structure's carbons meet these bounds: `counts` per class,
+    /// `by_h` per class and H count, `pi2` the carbons with two units of
+    /// extra bond order.
+    pub fn admits(&self, counts: &[u32; 6], by_h: &[[u32; MAX_H + 1]; 6], pi2: u32) -> bool {
+        let single = counts[CarbonClass::Sp3.index()] + counts[CarbonClass::Sp3Hetero.index()];
+        let by_h_over = self
+            .hi_by_h
+            .as_ref()
+            .is_some_and(|t| (0..6).any(|c| (0..=MAX_H).any(|h| by_h[c][h] > t[c][h])));
+        (0..6).all(|c| counts[c] >= self.lo[c] && counts[c] <= self.hi[c])
+            && single <= self.single_hi
+            && single >= self.single_lo
+            && pi2 <= self.pi2_hi
+            && !by_h_over
+    }
+
     pub fn describe(&self) -> String {
         let mut parts: Vec<String> = CarbonClass::ALL
             .iter()
@@ -266,9 +315,47 @@ pub struct Constraints {
     pub require: Vec<Fragment>,
     /// Fragments no structure may contain.
     pub forbid: Vec<Fragment>,
+    /// Carbon types if every 13C line lies in its class's typical region
+    /// (`carbon13::typical_classes`): narrower than `classes` and not
+    /// sound, so never a bound by itself. A ranking searches these first
+    /// ([`Constraints::stages`]).
+    pub typical: Option<ClassCounts>,
+    /// Leave out every structure whose carbons fit these types: an earlier
+    /// stage of the same ranking searched them ([`Constraints::stages`]).
+    pub exclude: Option<ClassCounts>,
 }
 
 impl Constraints {
+    /// The searches a ranking runs, in order, whose structures together
+    /// are exactly those these constraints allow, each structure in one of
+    /// them. Without typical carbon types, one: these constraints. With
+    /// them, two: first the structures whose carbons fit the typical types
+    /// (`classes` narrowed to `typical`), then the rest (`exclude`). The
+    /// first is usually a small part of the second and holds the usual
+    /// answers, so a ranking under a time limit meets them early and its
+    /// cutoff tightens; a complete ranking is the same either way.
+    pub fn stages(&self) -> Vec<Constraints> {
+        match &self.typical {
+            Some(t) if self.exclude.is_none() => {
+                let first = Constraints {
+                    classes: Some(t.clone()),
+                    typical: None,
+                    ..self.clone()
+                };
+                let rest = Constraints {
+                    typical: None,
+                    exclude: Some(t.clone()),
+                    ..self.clone()
+                };
+                vec![first, rest]
+            }
+            _ => vec![Constraints {
+                typical: None,
+                ..self.clone()
+            }],
+        }
+    }
+
     /// One name per constraint, in the order the search counts their cuts:
     /// attached H, carbon types, each required fragment, each forbidden one.
     pub fn names(&self) -> Vec<String> {
@@ -292,6 +379,12 @@ impl Constraints {
         for f in &self.forbid {
             names.push(format!("--forbid {}", f.text));
         }
+        if let Some(t) = &self.exclude {
+            names.push(format!(
+                "left to this stage: carbon types outside the typical 13C regions (searched first: {})",
+                t.describe()
+            ));
+        }
         names
     }
 
@@ -300,6 +393,7 @@ impl Constraints {
             && self.classes.is_none()
             && self.require.is_empty()
             && self.forbid.is_empty()
+            && self.exclude.is_none()
     }
 
     /// Parse the `--attached-h` list, e.g. `CH3=2,CH2=1,CH=5,C=2,OH=1`:
@@ -544,6 +638,7 @@ impl Constraints {
         }
         let names = self.names();
         let forbid_at = require_at + self.require.len();
+        let exclude_at = forbid_at + self.forbid.len();
         let stats = (0..names.len())
             .map(|_| [AtomicU64::new(0), AtomicU64::new(0), AtomicU64::new(0)])
             .collect();
@@ -573,6 +668,8 @@ impl Constraints {
             classes_at,
             require_at,
             forbid_at,
+            exclude: self.exclude.clone(),
+            exclude_at,
             stats,
         })))
     }
@@ -649,6 +746,10 @@ pub struct Bounds {
     pub classes_at: usize,
     pub require_at: usize,
     pub forbid_at: usize,
+    /// Structures whose carbons fit these types are left out (an earlier
+    /// stage searched them: [`Constraints::stages`]); the cut's index.
+    pub exclude: Option<ClassCounts>,
+    pub exclude_at: usize,
     /// Per constraint and stage ([`STAGES`]), how many it cut.
     stats: Vec<[AtomicU64; 3]>,
 }
