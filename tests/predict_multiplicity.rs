@@ -182,6 +182,21 @@ const DEPOSITED_APART: &[(u64, &str, f64, usize, &str)] = &[
     // bonded epoxide CH pair (AA'XX'): m (1.93 m, 1.80 m, 2H each, at
     // 600 MHz).
     (10016125, "C1CCC2OC2C1", 600.0, 2, "m"),
+    // No stereocentre, but C4 carries H and NH2: the ring's two faces
+    // differ and each ring CH2 has an H cis and an H trans to the NH2,
+    // each a dd by the geminal J and the J to the CH (1.72 dd, 0.74 dd,
+    // 2H each, at 600 MHz).
+    (20200273, "CC1(C)CC(N)CC(C)(C)N1", 600.0, 3, "dd"),
+    // The CH2 of a cyclopropyl ketone, cis and trans to the carbonyl:
+    // each H next to the other CH2's strongly coupled pair, m (1.05 m,
+    // 0.82 m, 2H each, at 300 MHz).
+    (
+        20226200,
+        "COC(=O)C1(C2=C(C(=O)C3CC3)CCO2)CC1",
+        300.0,
+        10,
+        "m",
+    ),
 ];
 
 #[test]
