@@ -62,6 +62,11 @@ const DEPOSITED: &[(u64, &str, f64, usize, &str)] = &[
     (40093506, "COCOC(=O)c1ccccc1O", 500.0, 8, "t"),
     (40093506, "COCOC(=O)c1ccccc1O", 500.0, 9, "t"),
     (40093506, "COCOC(=O)c1ccccc1O", 500.0, 10, "d"),
+    // A 2,3-dihydropyrrole: the ring =CH couples to the ring CH2 beside
+    // it with a small J (about 2.5 Hz), so that CH2 reads td and not q;
+    // the =CH stays t (5.85 t, 2.67 td at 300 MHz).
+    (40022455, "COC(=O)C1=CCCN1C(=O)OC", 300.0, 5, "t"),
+    (40022455, "COC(=O)C1=CCCN1C(=O)OC", 300.0, 6, "td"),
     // Meta J through a substituted ring carbon is written (6.95 t,
     // 6.12 dd, 6.01 t at 600 MHz).
     (10005696, "Nc1cccc(N)c1", 600.0, 2, "dd"),

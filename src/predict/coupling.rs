@@ -718,6 +718,7 @@ impl Ctx<'_> {
                     push(b, gid[b][0], 1, j, n);
                     push(b, gid[b][1], 1, j, n);
                 } else if matches!(kind, CouplingKind::VicinalSp3 | CouplingKind::VicinalSp3Sp2)
+                    // (not the small J of a five-membered ring)
                     && self.abx(a, b)
                 {
                     // One J to each H of a CH2 next to a stereocentre.
@@ -818,6 +819,14 @@ impl Ctx<'_> {
         Some(match (ha, hb) {
             (3, 3) => CouplingKind::VicinalSp3,
             (2, 2) => CouplingKind::VicinalSp2Sp2,
+            // An alkene CH and an sp3 CH on a five-membered ring: the
+            // ring holds the C-H bonds near 90 degrees apart, a small J.
+            _ if !v.is_aromatic(a)
+                && !v.is_aromatic(b)
+                && v.smallest_ring_through(a, b) == Some(5) =>
+            {
+                CouplingKind::VicinalSp3Sp2Ring5
+            }
             _ => CouplingKind::VicinalSp3Sp2,
         })
     }
