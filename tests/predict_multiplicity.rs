@@ -191,13 +191,7 @@ const DEPOSITED_APART: &[(u64, &str, f64, usize, &str)] = &[
     // and one J to each, but the ring's many conformers average the two
     // vicinal J and the lines run together: m, not ddd (1.98 m at 300
     // MHz).
-    (
-        10027566,
-        "C=C1CCC2CC=C(C)CCC=C(C)CCC1C2(C)C",
-        300.0,
-        5,
-        "m",
-    ),
+    (10027566, "C=C1CCC2CC=C(C)CCC=C(C)CCC1C2(C)C", 300.0, 5, "m"),
     // No stereocentre, but C4 carries H and NH2: the ring's two faces
     // differ and each ring CH2 has an H cis and an H trans to the NH2,
     // each a dd by the geminal J and the J to the CH (1.72 dd, 0.74 dd,

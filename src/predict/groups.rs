@@ -15,7 +15,9 @@
 //!   anisochronous and usually resolved, though not always (common
 //!   practice). Such a group stays one group with `half` set (at most
 //!   [`MAX_HALVES`] per molecule, methyl pairs first, then CH2 pairs with
-//!   the fewest vicinal H); the scorer reads it
+//!   the fewest vicinal H); without a stereocentre, a ring CH2 whose ring
+//!   holds an sp3 carbon with two different places off the ring is such a
+//!   pair too (its H cis and trans to the substituent); the scorer reads it
 //!   either as one group or as two halves, whichever explains the data
 //!   better (src/score/halves.rs). The 13C list marks the methyl pairs'
 //!   carbon classes the same way (src/predict/carbon.rs).
@@ -91,7 +93,11 @@ impl Ctx<'_> {
         }
         // Without a stereocentre, a ring CH2 is still diastereotopic when
         // its ring carries a ring atom whose two faces differ (below).
-        let faces = if self.has_stereocentre { 0 } else { self.face_rings() };
+        let faces = if self.has_stereocentre {
+            0
+        } else {
+            self.face_rings()
+        };
         if self.has_stereocentre || faces != 0 {
             for g in groups.iter_mut() {
                 if self.has_stereocentre
