@@ -62,6 +62,11 @@ const DEPOSITED: &[(u64, &str, f64, usize, &str)] = &[
     (40093506, "COCOC(=O)c1ccccc1O", 500.0, 8, "t"),
     (40093506, "COCOC(=O)c1ccccc1O", 500.0, 9, "t"),
     (40093506, "COCOC(=O)c1ccccc1O", 500.0, 10, "d"),
+    // A 2,3-dihydropyrrole: the ring =CH couples to the ring CH2 beside
+    // it with a small J (about 2.5 Hz), so that CH2 reads td and not q;
+    // the =CH stays t (5.85 t, 2.67 td at 300 MHz).
+    (40022455, "COC(=O)C1=CCCN1C(=O)OC", 300.0, 5, "t"),
+    (40022455, "COC(=O)C1=CCCN1C(=O)OC", 300.0, 6, "td"),
     // Meta J through a substituted ring carbon is written (6.95 t,
     // 6.12 dd, 6.01 t at 600 MHz).
     (10005696, "Nc1cccc(N)c1", 600.0, 2, "dd"),
@@ -182,6 +187,26 @@ const DEPOSITED_APART: &[(u64, &str, f64, usize, &str)] = &[
     // bonded epoxide CH pair (AA'XX'): m (1.93 m, 1.80 m, 2H each, at
     // 600 MHz).
     (10016125, "C1CCC2OC2C1", 600.0, 2, "m"),
+    // A CH2 of a twelve-membered ring between a CH and a =CH: geminal J
+    // and one J to each, but the ring's many conformers average the two
+    // vicinal J and the lines run together: m, not ddd (1.98 m at 300
+    // MHz).
+    (10027566, "C=C1CCC2CC=C(C)CCC=C(C)CCC1C2(C)C", 300.0, 5, "m"),
+    // No stereocentre, but C4 carries H and NH2: the ring's two faces
+    // differ and each ring CH2 has an H cis and an H trans to the NH2,
+    // each a dd by the geminal J and the J to the CH (1.72 dd, 0.74 dd,
+    // 2H each, at 600 MHz).
+    (20200273, "CC1(C)CC(N)CC(C)(C)N1", 600.0, 3, "dd"),
+    // The CH2 of a cyclopropyl ketone, cis and trans to the carbonyl:
+    // each H next to the other CH2's strongly coupled pair, m (1.05 m,
+    // 0.82 m, 2H each, at 300 MHz).
+    (
+        20226200,
+        "COC(=O)C1(C2=C(C(=O)C3CC3)CCO2)CC1",
+        300.0,
+        10,
+        "m",
+    ),
 ];
 
 #[test]

@@ -192,9 +192,9 @@ fn nmrshiftdb2_dev_1h_lists() {
     assert!(dmso <= 0.148, "DMSO-d6 {dmso:.3}");
     assert!(within >= 0.940, "within 0.3 ppm {within:.3}");
     // Assignment pairing (the goal's figure), then the sorted pairing.
-    assert!(label_share >= 0.708, "labels {label_share:.3}");
+    assert!(label_share >= 0.723, "labels {label_share:.3}");
     assert!(
-        sorted_share >= 0.706,
+        sorted_share >= 0.714,
         "labels, sorted pairing {sorted_share:.3}"
     );
 }

@@ -349,7 +349,11 @@ impl Ctx<'_> {
     ///   an unresolved multiplet at routine field and are written m (common
     ///   practice; in the NMRShiftDB2 dev lists 15 of the 18 such halves
     ///   are written m, one dddd), and when the pattern has no trade name
-    ///   ([`named`]).
+    ///   ([`named`]);
+    /// - m for a ddd on a ring of eight atoms or more: the ring's many
+    ///   conformers average the two vicinal J to like values and the
+    ///   lines run together (in the dev lists 4 such halves, in 12- and
+    ///   14-membered rings: 3 written m, one td).
     fn half_pattern(
         &self,
         g: &Group,
@@ -391,7 +395,13 @@ impl Ctx<'_> {
                 parts.push((c.count, c.j));
             }
         }
-        if parts.len() > 3 {
+        // Sixteen lines or more of unlike J overlap at routine field; so
+        // do the eight of a ddd on a ring of eight atoms or more (medium
+        // and large rings: many conformers, so the two vicinal J are
+        // averages of like size and the lines run together; such ring
+        // CH2 H are mostly written m, from memory).
+        let medium_ring = self.v.ring_size[g.rep] >= 8;
+        if parts.len() > 3 || (parts.len() == 3 && medium_ring) {
             return (Multiplicity::Multiplet, Vec::new());
         }
         named(&mut parts)
@@ -718,6 +728,7 @@ impl Ctx<'_> {
                     push(b, gid[b][0], 1, j, n);
                     push(b, gid[b][1], 1, j, n);
                 } else if matches!(kind, CouplingKind::VicinalSp3 | CouplingKind::VicinalSp3Sp2)
+                    // (not the small J of a five-membered ring)
                     && self.abx(a, b)
                 {
                     // One J to each H of a CH2 next to a stereocentre.
@@ -818,6 +829,14 @@ impl Ctx<'_> {
         Some(match (ha, hb) {
             (3, 3) => CouplingKind::VicinalSp3,
             (2, 2) => CouplingKind::VicinalSp2Sp2,
+            // An alkene CH and an sp3 CH on a five-membered ring: the
+            // ring holds the C-H bonds near 90 degrees apart, a small J.
+            _ if !v.is_aromatic(a)
+                && !v.is_aromatic(b)
+                && v.smallest_ring_through(a, b) == Some(5) =>
+            {
+                CouplingKind::VicinalSp3Sp2Ring5
+            }
             _ => CouplingKind::VicinalSp3Sp2,
         })
     }

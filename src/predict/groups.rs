@@ -15,7 +15,9 @@
 //!   anisochronous and usually resolved, though not always (common
 //!   practice). Such a group stays one group with `half` set (at most
 //!   [`MAX_HALVES`] per molecule, methyl pairs first, then CH2 pairs with
-//!   the fewest vicinal H); the scorer reads it
+//!   the fewest vicinal H); without a stereocentre, a ring CH2 whose ring
+//!   holds an sp3 carbon with two different places off the ring is such a
+//!   pair too (its H cis and trans to the substituent); the scorer reads it
 //!   either as one group or as two halves, whichever explains the data
 //!   better (src/score/halves.rs). The 13C list marks the methyl pairs'
 //!   carbon classes the same way (src/predict/carbon.rs).
@@ -89,16 +91,27 @@ impl Ctx<'_> {
                 g.notes |= note::AMIDE_ROTAMER;
             }
         }
-        if self.has_stereocentre {
+        // Without a stereocentre, a ring CH2 is still diastereotopic when
+        // its ring carries a ring atom whose two faces differ (below).
+        let faces = if self.has_stereocentre {
+            0
+        } else {
+            self.face_rings()
+        };
+        if self.has_stereocentre || faces != 0 {
             for g in groups.iter_mut() {
-                if g.hs == 2 && self.v.hyb[g.rep] == 3 && self.v.element[g.rep] == Element::C {
+                if self.has_stereocentre
+                    && g.hs == 2
+                    && self.v.hyb[g.rep] == 3
+                    && self.v.element[g.rep] == Element::C
+                {
                     g.notes |= note::DIASTEREOTOPIC;
                 }
             }
             // Diastereotopic pairs: methyl pairs first, then CH2.
             let mut marked = 0;
             for g in groups.iter_mut() {
-                if marked < MAX_HALVES && g.hs == 3 && g.slot == 0 {
+                if self.has_stereocentre && marked < MAX_HALVES && g.hs == 3 && g.slot == 0 {
                     g.half = methyl_pair_half(self.v, &self.orb, g.atoms);
                     marked += usize::from(g.half != 0);
                 }
@@ -118,7 +131,13 @@ impl Ctx<'_> {
                 .take_while(|_| marked < MAX_HALVES) // none once the cap is full
                 .filter(|&i| {
                     let g = &groups[i];
-                    g.notes & note::DIASTEREOTOPIC != 0
+                    let face = g.hs == 2
+                        && bits(g.atoms).all(|a| {
+                            faces >> a & 1 == 1
+                                && self.v.hyb[a] == 3
+                                && self.v.element[a] == Element::C
+                        });
+                    (g.notes & note::DIASTEREOTOPIC != 0 || face)
                         && bits(g.atoms).all(|a| {
                             let mut nb = self.v.neighbours(a).map(|(x, _)| self.orb[x]);
                             matches!((nb.next(), nb.next(), nb.next()), (Some(x), Some(y), None) if x != y)
@@ -161,6 +180,47 @@ impl Ctx<'_> {
             (2, 0) if self.orb[others[0]] != self.orb[others[1]] => Some(c2),
             _ => None,
         }
+    }
+
+    /// The atoms of the rings (smallest cycles) that hold a face atom: an
+    /// sp3 ring carbon whose two places off the ring differ (an H and a
+    /// heavy atom, or two heavy atoms in different orbits), such as C4 of
+    /// a 4-substituted piperidine or C1 of a cyclopropyl ketone. The two
+    /// faces of such a ring differ, so the two H of each ring CH2 are cis
+    /// and trans to the substituent: diastereotopic without any
+    /// stereocentre (common practice: the axial/equatorial or cis/trans
+    /// H pairs of 4-substituted cyclohexanes and piperidines and of
+    /// cyclopropyl groups are given as two signals).
+    fn face_rings(&self) -> u64 {
+        let v = self.v;
+        let mut out = 0u64;
+        for &r in &v.rings[..v.nrings] {
+            let face = bits(r).any(|x| {
+                if v.hyb[x] != 3 || v.element[x] != Element::C || v.deg[x] + v.h[x] != 4 {
+                    return false;
+                }
+                let mut off = [u8::MAX; 2];
+                let mut k = 0;
+                for (y, _) in v.neighbours(x) {
+                    if r >> y & 1 == 0 {
+                        if k == 2 {
+                            return false;
+                        }
+                        off[k] = self.orb[y];
+                        k += 1;
+                    }
+                }
+                match (v.h[x], k) {
+                    (1, 1) => true,
+                    (0, 2) => off[0] != off[1],
+                    _ => false,
+                }
+            });
+            if face {
+                out |= r;
+            }
+        }
+        out
     }
 
     fn find_stereocentre(&mut self) -> bool {

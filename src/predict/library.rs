@@ -85,6 +85,8 @@ pub const FILES: [(&str, &str); 15] = [
 pub enum CouplingKind {
     VicinalSp3,
     VicinalSp3Sp2,
+    /// H-C(sp3)-C(sp2)=C in a five-membered ring (cyclopent-2-enone H3/H4).
+    VicinalSp3Sp2Ring5,
     VicinalSp2Sp2,
     VinylCis,
     VinylTrans,
@@ -130,12 +132,13 @@ pub enum CouplingKind {
 }
 
 /// Number of coupling kinds (the rows couplings.toml must have).
-pub const COUPLING_KINDS: usize = 33;
+pub const COUPLING_KINDS: usize = 34;
 
 impl CouplingKind {
     pub const ALL: [(CouplingKind, &'static str); COUPLING_KINDS] = [
         (CouplingKind::VicinalSp3, "vicinal_sp3"),
         (CouplingKind::VicinalSp3Sp2, "vicinal_sp3_sp2"),
+        (CouplingKind::VicinalSp3Sp2Ring5, "vicinal_sp3_sp2_ring5"),
         (CouplingKind::VicinalSp2Sp2, "vicinal_sp2_sp2"),
         (CouplingKind::VinylCis, "vinyl_cis"),
         (CouplingKind::VinylTrans, "vinyl_trans"),
