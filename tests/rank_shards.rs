@@ -130,6 +130,9 @@ fn shards_of_a_1h_and_13c_ranking_merge_to_the_single_run() {
     );
     assert_eq!(doc["candidates"][0]["smiles"], "CCOC(C)=O");
     assert_eq!(doc["source"], "constrained isomers");
+    // The 60.5 CH2 is typically an O-CH2 only (a C-CH2 in the sound 13C
+    // regions), so each shard searched in two stages, typical regions first.
+    assert_eq!(doc["coverage"]["first_stage_share"], 1.0);
     // The probabilities are over all candidates: the merged ones sum to at
     // most 1 and the first is the same number as in the single run (the
     // equality of the whole document above is the check).

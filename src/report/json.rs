@@ -36,7 +36,9 @@
 //! `evidence`), `leading` (the first candidates that together hold most of the
 //! probability, `members`, with the `evidence` that would separate them), `safety`, `complete` (false when a cap stopped the run) and
 //! `coverage` (`share` of the search covered, `stopped_by`: the option or
-//! null), and `fit`, the absolute verdict on the first candidate (null
+//! null, `first_stage_share`: for a search in two stages, typical 13C
+//! regions first, the share of that first stage covered, else null), and
+//! `fit`, the absolute verdict on the first candidate (null
 //! without candidates or observed lines):
 //!
 //! ```text

@@ -9,7 +9,8 @@
 //!                                           ranking; shards merge only when equal
 //!  "complete": bool,
 //!  "coverage": {"share": f64, "stopped_by": str or null,
-//!               "tasks_done": int, "tasks_total": int},
+//!               "tasks_done": int, "tasks_total": int,
+//!               "first_stage_share": f64 or null (optional)},
 //!  "isomers_generated": int, "isomers_excluded": int,
 //!  "plausibility_rules": [{"rule": str, "removed": int}],
 //!  "isomers_considered": int,

@@ -156,6 +156,12 @@ impl CarbonSpectrum {
             parts.push(format!("carbon types {}", k.describe()));
         }
         constraints.add_carbon_lines(&lines, formula)?;
+        if let Some(t) = &constraints.typical {
+            parts.push(format!(
+                "searched first, the structures whose carbons fit the typical 13C regions: carbon types {}",
+                t.describe()
+            ));
+        }
         Ok((!parts.is_empty()).then(|| {
         format!(
             "the 13C list constrains the search: {} (--carbon-score-only uses it in the score alone)",
