@@ -487,6 +487,56 @@ mod tests {
     }
 
     #[test]
+    fn typical_regions_narrow_a_line_within_its_sound_classes() {
+        // Common practice (values from memory): a CH3 at 55 ppm is an
+        // O-CH3 (anisole 55.1), though a C-CH3 is possible in the sound
+        // regions; one at 21 ppm a C-CH3 (toluene 21.4), though an
+        // N-CH3 or S-CH3 is possible in the sound regions.
+        let f = Formula::parse("C7H8O").unwrap();
+        assert_eq!(classes(possible_classes(55.1, Some(3), &f)), ["sp3-hetero", "sp3"]);
+        assert_eq!(classes(typical_classes(55.1, Some(3), &f)), ["sp3-hetero"]);
+        assert_eq!(classes(possible_classes(21.0, Some(3), &f)), ["sp3-hetero", "sp3"]);
+        assert_eq!(classes(typical_classes(21.0, Some(3), &f)), ["sp3"]);
+        // A line no typical region holds keeps its sound classes.
+        let odd = 240.0;
+        assert_eq!(typical_classes(odd, Some(0), &f), possible_classes(odd, Some(0), &f));
+        // In the bounds: anisole's list types its CH3 for sure only in the
+        // typical set.
+        let lines = [
+            (159.6, Some(0), 1),
+            (129.5, Some(1), 2),
+            (120.7, Some(1), 1),
+            (114.0, Some(1), 2),
+            (55.1, Some(3), 1),
+        ];
+        let facts = carbon_facts(&lines, &f).unwrap();
+        let sound = facts.classes.unwrap();
+        let typical = facts.typical.unwrap();
+        let h = CarbonClass::Sp3Hetero.index();
+        assert_eq!((sound.lo[h], typical.lo[h]), (0, 1));
+        assert_eq!(typical.hi[CarbonClass::Sp3.index()], 0);
+    }
+
+    #[test]
+    fn a_typical_set_the_formula_cannot_hold_is_not_used() {
+        // CH3-CFCl2 (dev record 20209568; 13C 118.5 C, 38.0 CH3): a
+        // quaternary carbon at 118.5 lies in the typical sp2 region, but a
+        // formula with DBE 0 has no sp2 carbon, so the line keeps its sound
+        // class (sp3-hetero) and the typical types stay consistent.
+        let f = Formula::parse("C2H3Cl2F").unwrap();
+        let facts = carbon_facts(&[(118.5, Some(0), 1), (38.0, Some(3), 1)], &f).unwrap();
+        if let Some(t) = &facts.typical {
+            assert!(t.feasible(2), "{}", t.describe());
+        }
+        let mut c = Constraints::default();
+        c.add_carbon_lines(&[(118.5, Some(0), 1), (38.0, Some(3), 1)], &f)
+            .unwrap();
+        for stage in c.stages() {
+            assert!(stage.compile(&f, 0).is_ok());
+        }
+    }
+
+    #[test]
     fn overlapping_regions_are_declined() {
         let f = Formula::parse("C6H9NOSCl").unwrap();
         // Common practice (FIELD-GUIDE section 7, from memory): 100-125 ppm
