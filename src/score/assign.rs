@@ -460,17 +460,27 @@ pub(crate) fn refill<T: Copy>(v: &mut Vec<T>, n: usize, x: T) {
     v.resize(n, x);
 }
 
+/// The least of `first` and `row`: what folding `f64::min` over them gives
+/// (the same value whatever the order, NaN in `row` skipped alike), as one
+/// compare per entry instead of `min`'s NaN handling.
+#[inline]
+fn least(first: f64, row: &[f64]) -> f64 {
+    let mut a = first;
+    for &p in row {
+        if p < a {
+            a = p;
+        }
+    }
+    a
+}
+
 /// The root bound: every group on its cheapest option, plus per multiplet the
 /// cheaper of staying empty and the least extra a group pays to go there.
 /// Fills `min_choice` with each group's cheapest option.
 pub fn root_bound(c: &CostsRef, min_choice: &mut Vec<f64>) -> f64 {
     let (g, m) = (c.groups, c.multiplets);
     min_choice.clear();
-    min_choice.extend((0..g).map(|gi| {
-        c.pair[gi * m..(gi + 1) * m]
-            .iter()
-            .fold(c.unassigned[gi], |a, &b| a.min(b))
-    }));
+    min_choice.extend((0..g).map(|gi| least(c.unassigned[gi], &c.pair[gi * m..(gi + 1) * m])));
     min_choice.iter().sum::<f64>()
         + (0..m)
             .map(|j| {
@@ -503,16 +513,16 @@ pub fn root_bound_floored(
 fn root_bound_in(c: &CostsRef, min_choice: &mut Vec<f64>, extra: &mut Vec<f64>) -> f64 {
     let (g, m) = (c.groups, c.multiplets);
     min_choice.clear();
-    min_choice.extend((0..g).map(|gi| {
-        c.pair[gi * m..(gi + 1) * m]
-            .iter()
-            .fold(c.unassigned[gi], |a, &b| a.min(b))
-    }));
+    min_choice.extend((0..g).map(|gi| least(c.unassigned[gi], &c.pair[gi * m..(gi + 1) * m])));
     refill(extra, m, f64::INFINITY);
-    for (gi, &least) in min_choice.iter().enumerate() {
+    for (gi, &low) in min_choice.iter().enumerate() {
         let row = &c.pair[gi * m..(gi + 1) * m];
         for (e, &p) in extra.iter_mut().zip(row) {
-            *e = e.min(p - least);
+            // `e.min(p - low)` without its NaN handling (see `least`).
+            let x = p - low;
+            if x < *e {
+                *e = x;
+            }
         }
     }
     min_choice.iter().sum::<f64>() + (0..m).map(|j| c.empty[j].min(extra[j])).sum::<f64>()
