@@ -107,6 +107,7 @@
 //! (reduced costs added, multipliers subtracted) cannot cut an optimum.
 
 use super::line_bound::{LineBound, Order};
+use super::small::{self, Small};
 use super::split::Split;
 
 /// Marker for "no observed multiplet".
@@ -985,6 +986,21 @@ fn run_split(
                 spent += best.0;
                 best_choice[gi] = best.1;
                 continue;
+            }
+            // Two groups on a few lines: every assignment listed in the
+            // search's order (`small`: the search's answer, without its
+            // set-up).
+            match small::solve(c, gs, ls, split.known(), below, best_choice) {
+                Small::Search => {}
+                Small::Nothing => {
+                    *nodes += 1;
+                    break 'parts Some(Outcome::Nothing);
+                }
+                Small::Below(cost) => {
+                    *nodes += 1;
+                    spent += cost;
+                    continue;
+                }
             }
             // The part's search starts from the split's known assignment
             // on it (its own heuristics would find it or a worse one, at a
@@ -2685,5 +2701,111 @@ mod tests {
         }
         // The instances did move groups (not a test of an idle search).
         assert!(changed > 400, "{changed}");
+    }
+
+    // Reference: the search on the part (`run` from the same incumbent,
+    // itself checked against exhaustive search above) and exhaustive
+    // search; the direct solve of a small part must give the search's
+    // assignment and cost to the bit, or leave the part to it.
+    #[test]
+    fn small_parts_listed_equal_the_search() {
+        let mut st = 0x51ab_77c3_0d2e_9f18u64;
+        let (mut listed, mut searched, mut below_cutoff) = (0, 0, 0);
+        for round in 0..3000 {
+            // A whole problem of 2-4 groups and 1-6 lines (repeats often,
+            // and on even rounds costs of whole numbers, so that ties
+            // between assignments are common), and a part of two of its
+            // groups on one to three of its lines.
+            let mut c = random(&mut st, 4, 6);
+            if c.groups < 2 {
+                continue;
+            }
+            if round % 2 == 0 {
+                for x in c.pair.iter_mut().chain(c.unassigned.iter_mut()) {
+                    *x = x.round();
+                }
+                for x in c.empty.iter_mut().chain(c.overlap.iter_mut()) {
+                    *x = x.round();
+                }
+            }
+            let (g, m) = (c.groups, c.multiplets);
+            let mut gs: Vec<u32> = (0..g as u32).collect();
+            while gs.len() > 2 {
+                gs.remove((rng(&mut st) * gs.len() as f64) as usize % gs.len());
+            }
+            let mut ls: Vec<u32> = (0..m as u32).collect();
+            let keep = 1 + (rng(&mut st) * 3.0) as usize;
+            while ls.len() > keep {
+                ls.remove((rng(&mut st) * ls.len() as f64) as usize % ls.len());
+            }
+            let mut known = vec![NONE; g];
+            for &x in &gs {
+                let i = (rng(&mut st) * (ls.len() + 1) as f64) as usize;
+                known[x as usize] = ls.get(i).map_or(NONE, |&j| j as u16);
+            }
+            // The part as its own problem, as the split builds it.
+            let part = Costs {
+                groups: gs.len(),
+                multiplets: ls.len(),
+                pair: gs
+                    .iter()
+                    .flat_map(|&x| ls.iter().map(move |&j| (x, j)))
+                    .map(|(x, j)| c.pair[x as usize * m + j as usize])
+                    .collect(),
+                unassigned: gs.iter().map(|&x| c.unassigned[x as usize]).collect(),
+                hydrogens: gs.iter().map(|&x| c.hydrogens[x as usize]).collect(),
+                observed_h: ls.iter().map(|&j| c.observed_h[j as usize]).collect(),
+                empty: ls.iter().map(|&j| c.empty[j as usize]).collect(),
+                overlap: ls.iter().map(|&j| c.overlap[j as usize]).collect(),
+                abs_sigma: c.abs_sigma,
+                rel_sigma: c.rel_sigma,
+            };
+            let seed: Vec<u16> = gs
+                .iter()
+                .map(|&x| match known[x as usize] {
+                    NONE => NONE,
+                    j => ls.iter().position(|&l| l == u32::from(j)).unwrap() as u16,
+                })
+                .collect();
+            let exact = brute(&part);
+            let cutoff = match round % 3 {
+                0 => f64::INFINITY,
+                1 => exact + 1e-6,
+                _ => exact,
+            };
+            let mut out = vec![NONE; g];
+            let small = small::solve(&c.view(), &gs, &ls, &known, cutoff, &mut out);
+            let mut ws = Workspace::default();
+            let tuning = Tuning {
+                split: false,
+                ..Tuning::default()
+            };
+            let search = run(&part.view(), cutoff, &mut ws, false, u64::MAX, tuning, Some(&seed));
+            match (small, search) {
+                (Small::Search, _) => searched += 1,
+                (Small::Nothing, Outcome::Nothing) => {
+                    assert!(cutoff <= exact + 1e-9);
+                    listed += 1;
+                }
+                (Small::Below(a), Outcome::Below(b)) => {
+                    assert_eq!(a.to_bits(), b.to_bits(), "round {round}");
+                    assert!((a - exact).abs() < 1e-9, "round {round}: {a} vs {exact}");
+                    for (i, &x) in gs.iter().enumerate() {
+                        let mine = out[x as usize];
+                        let theirs = match ws.best_choice[i] {
+                            NONE => NONE,
+                            j => ls[j as usize] as u16,
+                        };
+                        assert_eq!(mine, theirs, "round {round}");
+                    }
+                    listed += 1;
+                    below_cutoff += 1;
+                }
+                (a, _) => panic!("round {round}: {a:?} against the search"),
+            }
+        }
+        // Both ways were taken, and most parts were listed.
+        assert!(listed > 900 && searched > 100, "{listed} {searched}");
+        assert!(below_cutoff > 600, "{below_cutoff}");
     }
 }
