@@ -2869,7 +2869,15 @@ mod tests {
                 split: false,
                 ..Tuning::default()
             };
-            let search = run(&part.view(), cutoff, &mut ws, false, u64::MAX, tuning, Some(&seed));
+            let search = run(
+                &part.view(),
+                cutoff,
+                &mut ws,
+                false,
+                u64::MAX,
+                tuning,
+                Some(&seed),
+            );
             match (small, search) {
                 (Small::Search, _) => searched += 1,
                 (Small::Nothing, Outcome::Nothing) => {

@@ -132,10 +132,16 @@ pub(crate) fn solve(
             o[i] = (c.pair[gi * m + j as usize], i as u16);
         }
         o[l] = (c.unassigned[gi], NONE);
-        // Insertion sort (at most eight options).
+        // Insertion sort (at most four options).
         for i in 1..o.len() {
             let mut k = i;
-            while k > 0 && o[k].0.total_cmp(&o[k - 1].0).then(o[k].1.cmp(&o[k - 1].1)).is_lt() {
+            while k > 0
+                && o[k]
+                    .0
+                    .total_cmp(&o[k - 1].0)
+                    .then(o[k].1.cmp(&o[k - 1].1))
+                    .is_lt()
+            {
                 o.swap(k, k - 1);
                 k -= 1;
             }
@@ -148,10 +154,10 @@ pub(crate) fn solve(
     for (d, &x) in by.iter().enumerate() {
         hy[d] = c.hydrogens[gs[x] as usize];
     }
-    for (i, &j) in ls.iter().enumerate() {
-        for set in 0..1usize << g {
+    for (row, &j) in term.iter_mut().zip(ls) {
+        for (set, t) in row[..1 << g].iter_mut().enumerate() {
             let h: u32 = (0..g).filter(|d| set >> d & 1 == 1).map(|d| hy[d]).sum();
-            term[i][set] = c.multiplet(j as usize, h, set.count_ones());
+            *t = c.multiplet(j as usize, h, set.count_ones());
         }
     }
     // The incumbent: the known assignment, its cost summed as the search
@@ -163,7 +169,9 @@ pub(crate) fn solve(
         if j == NONE {
             total += c.unassigned[gi as usize];
         } else {
-            let i = ls.binary_search(&u32::from(j)).expect("known line in its part");
+            let i = ls
+                .binary_search(&u32::from(j))
+                .expect("known line in its part");
             total += c.pair[gi as usize * m + j as usize];
             let d = by.iter().position(|&y| y == x).unwrap();
             set[i] |= 1 << d;
