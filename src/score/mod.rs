@@ -18,6 +18,7 @@ mod matching;
 pub mod model;
 mod pattern_rows;
 pub mod prepared;
+mod small;
 mod split;
 #[cfg(test)]
 mod testgen;
