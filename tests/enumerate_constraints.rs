@@ -329,18 +329,10 @@ fn a_13c_line_list_keeps_the_structures_that_fit_it() {
         ),
         // Anisole: 159.6 (C), 129.5 (2 CH), 120.7 (CH), 114.0 (2 CH),
         // 55.1 (CH3).
-        (
-            "C7H8O",
-            "COc1ccccc1",
-            &ANISOLE_13C,
-        ),
+        ("C7H8O", "COc1ccccc1", &ANISOLE_13C),
         // Acetophenone: 198.1 (C), 137.1 (C), 133.0 (CH), 128.5 (2 CH),
         // 128.2 (2 CH), 26.5 (CH3).
-        (
-            "C8H8O",
-            "CC(c1ccccc1)=O",
-            &ACETOPHENONE_13C,
-        ),
+        ("C8H8O", "CC(c1ccccc1)=O", &ACETOPHENONE_13C),
     ];
     for (formula, truth, lines) in cases {
         let f = Formula::parse(formula).unwrap();
@@ -618,16 +610,8 @@ fn the_two_stages_of_a_13c_search_split_it_exactly() {
     // memory): anisole, whose 55.1 CH3 is typically only an O-CH3, and
     // acetophenone, whose 198.1 C is typically only a C=O.
     let cases: [(&str, &str, &[(f64, Option<u8>, u32)]); 2] = [
-        (
-            "C7H8O",
-            "COc1ccccc1",
-            &ANISOLE_13C,
-        ),
-        (
-            "C8H8O",
-            "CC(c1ccccc1)=O",
-            &ACETOPHENONE_13C,
-        ),
+        ("C7H8O", "COc1ccccc1", &ANISOLE_13C),
+        ("C8H8O", "CC(c1ccccc1)=O", &ACETOPHENONE_13C),
     ];
     let mut rest_sizes = Vec::new();
     for (formula, truth, lines) in cases {

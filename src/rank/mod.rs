@@ -466,7 +466,7 @@ pub(crate) fn collect_formula(
             &opts,
             enumerate::RankWindow,
             || Collector::new(settings.top, margin),
-            &visit,
+            visit,
             |_, part| {
                 collector.merge(part);
                 true
@@ -527,10 +527,15 @@ fn add_stage(
             .map_or(0, |(_, m)| *m);
     }
     let mut constraints = done.constraints;
-    constraints.extend(stage.constraints.into_iter().map(|c| enumerate::constraints::Cut {
-        name: format!("{label}: {}", c.name),
-        cut: c.cut,
-    }));
+    constraints.extend(
+        stage
+            .constraints
+            .into_iter()
+            .map(|c| enumerate::constraints::Cut {
+                name: format!("{label}: {}", c.name),
+                cut: c.cut,
+            }),
+    );
     enumerate::Summary {
         generated: done.generated + stage.generated,
         isomers: done.isomers + stage.isomers,
@@ -541,7 +546,11 @@ fn add_stage(
         tasks_done: done.tasks_done + stage.tasks_done,
         stopped: stage.stopped,
         share: if i == 0 { 0.0 } else { stage.share },
-        first_stage: Some(if i == 0 { stage.share } else { done.first_stage.unwrap_or(1.0) }),
+        first_stage: Some(if i == 0 {
+            stage.share
+        } else {
+            done.first_stage.unwrap_or(1.0)
+        }),
     }
 }
 

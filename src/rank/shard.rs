@@ -185,9 +185,21 @@ fn merged_coverage(shards: &[Shard]) -> Coverage {
     // The first stage's share, weighted as `share` is.
     let first_stage = shards
         .iter()
-        .map(|s| s.coverage.first_stage.map(|f| f * s.coverage.tasks_total as f64))
+        .map(|s| {
+            s.coverage
+                .first_stage
+                .map(|f| f * s.coverage.tasks_total as f64)
+        })
         .sum::<Option<f64>>()
-        .map(|x| if stopped.is_none() { 1.0 } else if tasks_total > 0 { x / tasks_total as f64 } else { 0.0 });
+        .map(|x| {
+            if stopped.is_none() {
+                1.0
+            } else if tasks_total > 0 {
+                x / tasks_total as f64
+            } else {
+                0.0
+            }
+        });
     Coverage {
         stopped,
         share,

@@ -450,8 +450,7 @@ impl Constraints {
             });
         }
         let carbons = formula.count(Element::C);
-        self.typical =
-            typical.filter(|t| t.feasible(carbons) && Some(t) != self.classes.as_ref());
+        self.typical = typical.filter(|t| t.feasible(carbons) && Some(t) != self.classes.as_ref());
         Ok(facts.notes)
     }
 }
@@ -493,13 +492,22 @@ mod tests {
         // regions; one at 21 ppm a C-CH3 (toluene 21.4), though an
         // N-CH3 or S-CH3 is possible in the sound regions.
         let f = Formula::parse("C7H8O").unwrap();
-        assert_eq!(classes(possible_classes(55.1, Some(3), &f)), ["sp3-hetero", "sp3"]);
+        assert_eq!(
+            classes(possible_classes(55.1, Some(3), &f)),
+            ["sp3-hetero", "sp3"]
+        );
         assert_eq!(classes(typical_classes(55.1, Some(3), &f)), ["sp3-hetero"]);
-        assert_eq!(classes(possible_classes(21.0, Some(3), &f)), ["sp3-hetero", "sp3"]);
+        assert_eq!(
+            classes(possible_classes(21.0, Some(3), &f)),
+            ["sp3-hetero", "sp3"]
+        );
         assert_eq!(classes(typical_classes(21.0, Some(3), &f)), ["sp3"]);
         // A line no typical region holds keeps its sound classes.
         let odd = 240.0;
-        assert_eq!(typical_classes(odd, Some(0), &f), possible_classes(odd, Some(0), &f));
+        assert_eq!(
+            typical_classes(odd, Some(0), &f),
+            possible_classes(odd, Some(0), &f)
+        );
         // In the bounds: anisole's list types its CH3 for sure only in the
         // typical set.
         let lines = [

@@ -645,7 +645,10 @@ impl Work {
             }
             // Tested last, after the fragments: what the earlier stage
             // listed is counted only when it passes everything else.
-            earlier = b.exclude.as_ref().is_some_and(|t| t.admits(&counts, &by_h, pi2));
+            earlier = b
+                .exclude
+                .as_ref()
+                .is_some_and(|t| t.admits(&counts, &by_h, pi2));
         }
         let elem = self.element_masks(node);
         let kind_nb = &self.kind_nb;
