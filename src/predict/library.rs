@@ -218,6 +218,11 @@ pub struct IncrementTable {
     /// Benzene only: the row for a ring-fusion atom whose other ring
     /// continues through an aromatic carbon (naphthalene-like fusion).
     pub fusion: Option<[f64; 3]>,
+    /// Benzene only: the row for a ring-fusion atom whose other ring, a
+    /// five-membered one, continues through a pyrrole-type N (the benzo
+    /// ring of indole, carbazole, benzimidazole N1); without it the N takes
+    /// its substituent class's row (`aromatic_n`, falling back to `aryl`).
+    pub fusion_pyrrole_n: Option<[f64; 3]>,
 }
 
 pub struct HeteroRing {
@@ -1012,6 +1017,7 @@ impl Library {
             z: resolve(&classes, &z),
             alkyl_ring,
             fusion: None,
+            fusion_pyrrole_n: None,
         };
 
         // benzene
@@ -1031,11 +1037,14 @@ impl Library {
         )?;
         let mut z = vec![None; nc];
         let mut fusion = None;
+        let mut fusion_pyrrole_n = None;
         for row in &f.substituent {
             need_source(file, &row.class, &row.source)?;
             let v = [row.ortho, row.meta, row.para];
             if row.class == "ring_fusion" {
                 fusion = Some(v);
+            } else if row.class == "ring_fusion_pyrrole_n" {
+                fusion_pyrrole_n = Some(v);
             } else {
                 z[class_id(&classes, file, &row.class)? as usize] = Some(v);
             }
@@ -1048,6 +1057,7 @@ impl Library {
             z: resolve(&classes, &z),
             alkyl_ring: None,
             fusion,
+            fusion_pyrrole_n,
         };
 
         // heteroaromatic
