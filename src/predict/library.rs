@@ -91,6 +91,8 @@ pub enum CouplingKind {
     VinylCis,
     VinylTrans,
     VinylCisRing,
+    /// Cis H-C=C-H in a five-membered ring (cyclopentene, cyclopent-2-enone).
+    VinylCisRing5,
     GeminalSp2,
     /// =CH2 on an alkene carbon that carries two carbon substituents.
     GeminalSp2Alkyl,
@@ -132,7 +134,7 @@ pub enum CouplingKind {
 }
 
 /// Number of coupling kinds (the rows couplings.toml must have).
-pub const COUPLING_KINDS: usize = 34;
+pub const COUPLING_KINDS: usize = 35;
 
 impl CouplingKind {
     pub const ALL: [(CouplingKind, &'static str); COUPLING_KINDS] = [
@@ -143,6 +145,7 @@ impl CouplingKind {
         (CouplingKind::VinylCis, "vinyl_cis"),
         (CouplingKind::VinylTrans, "vinyl_trans"),
         (CouplingKind::VinylCisRing, "vinyl_cis_ring"),
+        (CouplingKind::VinylCisRing5, "vinyl_cis_ring5"),
         (CouplingKind::GeminalSp2, "geminal_sp2"),
         (CouplingKind::GeminalSp2Alkyl, "geminal_sp2_alkyl"),
         (CouplingKind::GeminalSp3, "geminal_sp3"),
