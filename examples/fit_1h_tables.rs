@@ -251,9 +251,9 @@ fn five_ring_through(mol: &Molecule, aro: &[bool], y: usize, z: usize) -> bool {
                 b != z
                     && b != y
                     && aro[b]
-                    && mol
-                        .neighbours(b)
-                        .any(|(c, _)| c != a && c != z && aro[c] && mol.neighbours(c).any(|(w, _)| w == y))
+                    && mol.neighbours(b).any(|(c, _)| {
+                        c != a && c != z && aro[c] && mol.neighbours(c).any(|(w, _)| w == y)
+                    })
             })
     })
 }
