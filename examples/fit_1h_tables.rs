@@ -208,6 +208,56 @@ fn fusion_counts(mol: &Molecule, aro: &[bool], atom: usize) -> Option<[f64; 3]> 
     any.then_some(n)
 }
 
+/// Pyrrole-type-N fusion counts of the H on `atom` in an all-carbon
+/// aromatic six-ring: how many fusion atoms whose other ring, of five
+/// atoms, goes on through a pyrrole-type aromatic N (three connections,
+/// indole's C7a) lie ortho, meta and para to it (shift.rs's
+/// `fused_pyrrole_n`). None when there is none.
+fn pyrrole_n_fusion_counts(mol: &Molecule, aro: &[bool], atom: usize) -> Option<[f64; 3]> {
+    let ring = smallest_aromatic_ring(mol, aro, atom);
+    if ring.len() != 6 || ring.iter().any(|&x| mol.atom(x).element != Element::C) {
+        return None;
+    }
+    let at = ring.iter().position(|&x| x == atom)?;
+    let mut n = [0.0; 3];
+    let mut any = false;
+    for (i, &y) in ring.iter().enumerate() {
+        for (z, _) in mol.neighbours(y) {
+            let pyrrole_n = !ring.contains(&z)
+                && aro[z]
+                && mol.atom(z).element == Element::N
+                && mol.neighbours(z).count() + mol.atom(z).hydrogens as usize == 3
+                && five_ring_through(mol, aro, y, z);
+            if pyrrole_n {
+                let d = (i as isize - at as isize).unsigned_abs();
+                let d = d.min(6 - d);
+                if (1..=3).contains(&d) {
+                    n[d - 1] += 1.0;
+                    any = true;
+                }
+            }
+        }
+    }
+    any.then_some(n)
+}
+
+/// Whether the bond y-z lies on an aromatic ring of five atoms: a path of
+/// three more aromatic atoms leads from z back to y.
+fn five_ring_through(mol: &Molecule, aro: &[bool], y: usize, z: usize) -> bool {
+    mol.neighbours(z).any(|(a, _)| {
+        a != y
+            && aro[a]
+            && mol.neighbours(a).any(|(b, _)| {
+                b != z
+                    && b != y
+                    && aro[b]
+                    && mol.neighbours(b).any(|(c, _)| {
+                        c != a && c != z && aro[c] && mol.neighbours(c).any(|(w, _)| w == y)
+                    })
+            })
+    })
+}
+
 /// For the H on `atom` in an aromatic ring with several heteroatoms, the
 /// ring size and how many further pyridine-type N (beyond the principal
 /// heteroatom, chosen as shift.rs chooses it) lie at ring distance 1, 2, 3.
@@ -346,6 +396,16 @@ fn fusion_in_library(predictor: &Predictor) -> [f64; 3] {
         .unwrap_or([0.37, 0.20, 0.10])
 }
 
+/// The increments the library now gives a pyrrole-type-N fusion atom: its
+/// `fusion_pyrrole_n` row, or the `aryl` row the N's class falls back to.
+fn pyrrole_n_fusion_in_library(predictor: &Predictor) -> [f64; 3] {
+    predictor
+        .library()
+        .benzene
+        .fusion_pyrrole_n
+        .unwrap_or([0.37, 0.20, 0.10])
+}
+
 /// `EXPORT=FILE`: one JSON line per compound for scripts/fit_1h_groups.py:
 /// its id, whether the spectrum is in DMSO-d6, the observed C-bound H
 /// shifts, and per predicted non-exchangeable group its H count, shift,
@@ -426,6 +486,8 @@ fn main() {
     // Fusion fit: (counts, residual + current fusion increments) per half.
     let fusion_now = fusion_in_library(&predictor);
     let (mut fusion_fit, mut fusion_check) = (Vec::new(), Vec::new());
+    let pyrrole_now = pyrrole_n_fusion_in_library(&predictor);
+    let (mut pyrrole_fit, mut pyrrole_check) = (Vec::new(), Vec::new());
     // Extra-N fit per ring size 5 and 6: (counts, residual + current increments).
     let mut extra: BTreeMap<usize, (Vec<Row3>, Vec<Row3>)> = BTreeMap::new();
     let extra_now = |size: usize| {
@@ -459,6 +521,15 @@ fn main() {
                     fusion_fit.push(row);
                 } else {
                     fusion_check.push(row);
+                }
+            }
+            if let Some(n) = pyrrole_n_fusion_counts(&c.molecule, &aro, atom) {
+                let now: f64 = (0..3).map(|i| n[i] * pyrrole_now[i]).sum();
+                let row = (n, r + now);
+                if c.case.id % 2 == 0 {
+                    pyrrole_fit.push(row);
+                } else {
+                    pyrrole_check.push(row);
                 }
             }
             if let Some((size, n)) = extra_nitrogen_counts(&c.molecule, &aro, atom) {
@@ -519,6 +590,22 @@ fn main() {
         b[2],
         err(&fusion_fit, b),
         err(&fusion_check, b)
+    );
+    let b = least_squares3(&pyrrole_fit);
+    println!(
+        "pyrrole-type N fusion (H on all-carbon aromatic six-rings, {} fit H, {} check H): now ortho {:+.2} meta {:+.2} para {:+.2}, MAE fit {:.3} check {:.3}; fitted ortho {:+.2} meta {:+.2} para {:+.2}, MAE fit {:.3} check {:.3}",
+        pyrrole_fit.len(),
+        pyrrole_check.len(),
+        pyrrole_now[0],
+        pyrrole_now[1],
+        pyrrole_now[2],
+        err(&pyrrole_fit, pyrrole_now),
+        err(&pyrrole_check, pyrrole_now),
+        b[0],
+        b[1],
+        b[2],
+        err(&pyrrole_fit, b),
+        err(&pyrrole_check, b)
     );
     // Sigmas: the robust standard deviation of the residuals (1.4826 x the
     // median absolute residual, which long tails from mis-paired H or

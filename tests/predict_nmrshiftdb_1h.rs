@@ -188,13 +188,13 @@ fn nmrshiftdb2_dev_1h_lists() {
     // fitted on these compounds; the cross-validated figures (fit on even
     // ids, measure on odd, and back) are in fragment-library/README.md.
     assert!(all_h <= 0.095, "all-H {all_h:.3}");
-    assert!(aromatic <= 0.123, "aromatic {aromatic:.3}");
-    assert!(dmso <= 0.148, "DMSO-d6 {dmso:.3}");
+    assert!(aromatic <= 0.121, "aromatic {aromatic:.3}");
+    assert!(dmso <= 0.146, "DMSO-d6 {dmso:.3}");
     assert!(within >= 0.940, "within 0.3 ppm {within:.3}");
     // Assignment pairing (the goal's figure), then the sorted pairing.
-    assert!(label_share >= 0.723, "labels {label_share:.3}");
+    assert!(label_share >= 0.731, "labels {label_share:.3}");
     assert!(
-        sorted_share >= 0.714,
+        sorted_share >= 0.720,
         "labels, sorted pairing {sorted_share:.3}"
     );
 }

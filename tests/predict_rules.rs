@@ -156,6 +156,24 @@ fn aldehyde_vinyl_and_aromatic_patterns() {
 }
 
 #[test]
+fn ring_size_sets_the_cis_vinyl_j() {
+    // Cyclopent-2-enone (O=C1C=CCC1): H3 (atom 3) dt, J = 5.6 and 2.7 Hz;
+    // cyclohex-2-enone (O=C1C=CCCC1): H3 dt, J = 10.1 and 4.0 Hz (from
+    // memory; the ring-size series of cis J in cycloalkenes, 5-7 Hz in
+    // five-membered rings and 8.8-11 in six-membered, is in the handbooks).
+    let j_cis = |smiles: &str| {
+        let s = predict(smiles, "CDCl3");
+        let h3 = on(&s, 3);
+        assert_eq!(summary(h3), "dt 1H", "{smiles}");
+        h3.j_hz[0]
+    };
+    let five = j_cis("O=C1C=CCC1");
+    assert!((5.0..=7.0).contains(&five), "cyclopentenone cis J {five}");
+    let six = j_cis("O=C1C=CCCC1");
+    assert!((8.8..=11.0).contains(&six), "cyclohexenone cis J {six}");
+}
+
+#[test]
 fn small_shift_difference_gives_m() {
     // Interior CH2 of hexane lie within a few Hz of each other: not first
     // order, m (common practice: shift difference below ~10 J).

@@ -701,17 +701,18 @@ impl Ctx<'_> {
                 let (p1, p2, _) = self.alkene_places(a, b);
                 let i = Self::h_place(&p1, slot);
                 let split = self.vinyl_pair(b).is_some();
-                let ring = self.v.rings[..self.v.nrings]
-                    .iter()
-                    .any(|&r| r >> a & 1 == 1 && r >> b & 1 == 1);
+                // The smallest ring through the C=C, if any: cis J about
+                // 10 Hz in six-membered rings, about 5.5 in five-membered.
+                let ring = self.v.smallest_ring_through(a, b);
                 for (jdx, p) in p2.iter().enumerate() {
                     if *p != Place::H {
                         continue;
                     }
                     let group = if split { gid[b][jdx] } else { gid[b][0] };
                     let kind = match (i == jdx, ring) {
-                        (true, true) => CouplingKind::VinylCisRing,
-                        (true, false) => CouplingKind::VinylCis,
+                        (true, Some(5)) => CouplingKind::VinylCisRing5,
+                        (true, Some(_)) => CouplingKind::VinylCisRing,
+                        (true, None) => CouplingKind::VinylCis,
                         _ => CouplingKind::VinylTrans,
                     };
                     push(b, group, 1, self.lib.j(kind), n);

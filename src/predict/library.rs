@@ -91,6 +91,8 @@ pub enum CouplingKind {
     VinylCis,
     VinylTrans,
     VinylCisRing,
+    /// Cis H-C=C-H in a five-membered ring (cyclopentene, cyclopent-2-enone).
+    VinylCisRing5,
     GeminalSp2,
     /// =CH2 on an alkene carbon that carries two carbon substituents.
     GeminalSp2Alkyl,
@@ -132,7 +134,7 @@ pub enum CouplingKind {
 }
 
 /// Number of coupling kinds (the rows couplings.toml must have).
-pub const COUPLING_KINDS: usize = 34;
+pub const COUPLING_KINDS: usize = 35;
 
 impl CouplingKind {
     pub const ALL: [(CouplingKind, &'static str); COUPLING_KINDS] = [
@@ -143,6 +145,7 @@ impl CouplingKind {
         (CouplingKind::VinylCis, "vinyl_cis"),
         (CouplingKind::VinylTrans, "vinyl_trans"),
         (CouplingKind::VinylCisRing, "vinyl_cis_ring"),
+        (CouplingKind::VinylCisRing5, "vinyl_cis_ring5"),
         (CouplingKind::GeminalSp2, "geminal_sp2"),
         (CouplingKind::GeminalSp2Alkyl, "geminal_sp2_alkyl"),
         (CouplingKind::GeminalSp3, "geminal_sp3"),
@@ -218,6 +221,11 @@ pub struct IncrementTable {
     /// Benzene only: the row for a ring-fusion atom whose other ring
     /// continues through an aromatic carbon (naphthalene-like fusion).
     pub fusion: Option<[f64; 3]>,
+    /// Benzene only: the row for a ring-fusion atom whose other ring, a
+    /// five-membered one, continues through a pyrrole-type N (the benzo
+    /// ring of indole, carbazole, benzimidazole N1); without it the N takes
+    /// its substituent class's row (`aromatic_n`, falling back to `aryl`).
+    pub fusion_pyrrole_n: Option<[f64; 3]>,
 }
 
 pub struct HeteroRing {
@@ -1012,6 +1020,7 @@ impl Library {
             z: resolve(&classes, &z),
             alkyl_ring,
             fusion: None,
+            fusion_pyrrole_n: None,
         };
 
         // benzene
@@ -1031,11 +1040,14 @@ impl Library {
         )?;
         let mut z = vec![None; nc];
         let mut fusion = None;
+        let mut fusion_pyrrole_n = None;
         for row in &f.substituent {
             need_source(file, &row.class, &row.source)?;
             let v = [row.ortho, row.meta, row.para];
             if row.class == "ring_fusion" {
                 fusion = Some(v);
+            } else if row.class == "ring_fusion_pyrrole_n" {
+                fusion_pyrrole_n = Some(v);
             } else {
                 z[class_id(&classes, file, &row.class)? as usize] = Some(v);
             }
@@ -1048,6 +1060,7 @@ impl Library {
             z: resolve(&classes, &z),
             alkyl_ring: None,
             fusion,
+            fusion_pyrrole_n,
         };
 
         // heteroaromatic

@@ -376,14 +376,29 @@ impl Ctx<'_> {
                 nsub += 1;
                 // A fusion atom whose other ring goes on through an aromatic
                 // carbon (naphthalene-like) has its own row.
+                let shares_ring = |size: Option<u32>| {
+                    self.v.rings[..self.v.nrings].iter().any(|&q| {
+                        q >> y & 1 == 1
+                            && q >> z & 1 == 1
+                            && size.is_none_or(|n| q.count_ones() == n)
+                    })
+                };
                 let fused = method == Method::Benzene
                     && self.v.element[z] == Element::C
                     && self.v.is_aromatic(z)
-                    && self.v.rings[..self.v.nrings]
-                        .iter()
-                        .any(|&q| q >> y & 1 == 1 && q >> z & 1 == 1);
-                let row = match self.lib.benzene.fusion {
-                    Some(f) if fused => Some(f),
+                    && shares_ring(None);
+                // A fusion atom whose other ring, a five-membered one, goes
+                // on through a pyrrole-type N (indole's C7a) has its own row
+                // too: the N's lone pair shields the benzo ring, where the
+                // `aromatic_n` class (falling back to `aryl`) deshields it.
+                let fused_pyrrole_n = method == Method::Benzene
+                    && self.v.element[z] == Element::N
+                    && self.v.is_aromatic(z)
+                    && self.v.deg[z] + self.v.h[z] == 3
+                    && shares_ring(Some(5));
+                let row = match (self.lib.benzene.fusion, self.lib.benzene.fusion_pyrrole_n) {
+                    (Some(f), _) if fused => Some(f),
+                    (_, Some(f)) if fused_pyrrole_n => Some(f),
                     _ => self
                         .class_via(y, k)
                         .and_then(|c| self.lib.benzene.z[c as usize]),
