@@ -452,7 +452,7 @@ impl Workspace {
         room(&mut self.best_choice, g);
         room(&mut self.trial, g);
         room(&mut self.line_terms, g * m);
-        room(&mut self.local.term, m);
+        room(&mut self.local.term, 3 * m + 1);
     }
 }
 
@@ -681,6 +681,25 @@ fn run(
     if tuning.split && !first_only {
         if let Some(out) = run_split(c, cutoff, root, ws, max_nodes, tuning) {
             return out;
+        }
+    }
+    if let Some(seed) = seed {
+        // A known assignment that costs no more than the root bound with
+        // the floors (a lower bound on every assignment) is optimal, and
+        // the search would end at its root with it: nothing can cost
+        // strictly less. Most parts of the split end here, before the
+        // search's set-up (order, classes, options, suffix tables).
+        refill(&mut ws.h, m, 0);
+        refill(&mut ws.k, m, 0);
+        let cost = c.evaluate_in(seed, &mut ws.h, &mut ws.k);
+        if cost <= floored {
+            ws.nodes = 1;
+            if cost >= cutoff {
+                return Outcome::Nothing;
+            }
+            ws.best_choice.clear();
+            ws.best_choice.extend_from_slice(seed);
+            return Outcome::Below(cost);
         }
     }
     let Workspace {
@@ -1562,6 +1581,9 @@ pub(crate) struct Local {
 /// Fill `term` with every multiplet's term at the sums `h`, `k`.
 fn terms(c: &CostsRef, h: &[u32], k: &[u32], term: &mut Vec<f64>) {
     term.clear();
+    // Room for the local search's floors too ([`Floors`]), in one
+    // allocation.
+    term.reserve(3 * c.multiplets + 1);
     term.extend((0..c.multiplets).map(|j| c.multiplet(j, h[j], k[j])));
 }
 
@@ -1600,6 +1622,7 @@ fn exchange(
     h: &mut [u32],
     k: &[u32],
     term: &mut [f64],
+    floors: &mut Floors,
     a: usize,
     b: usize,
 ) -> Option<(u16, u16)> {
@@ -1614,17 +1637,9 @@ fn exchange(
         return None;
     }
     // The floor of the two changes first ([`CostsRef::floor`]; each
-    // multiplet keeps its k >= 1).
-    let floor = |j: u16| {
-        if j == NONE {
-            0.0
-        } else {
-            let j = j as usize;
-            c.floor(j, k[j]) - term[j]
-        }
-    };
+    // multiplet keeps its k >= 1; kept per multiplet in `floors.stay`).
     let swapped = own(c, a, jb) + own(c, b, ja) - own(c, a, ja) - own(c, b, jb);
-    if !(swapped + floor(ja) + floor(jb) < -IMPROVE_EPS) {
+    if !(swapped + floors.stay(ja) + floors.stay(jb) < -IMPROVE_EPS) {
         return None;
     }
     let delta =
@@ -1634,7 +1649,7 @@ fn exchange(
             if j != NONE {
                 let j = j as usize;
                 h[j] = (h[j] as i64 + dh) as u32;
-                term[j] = c.multiplet(j, h[j], k[j]);
+                floors.set(c, j, h, k, term);
             }
         }
         choice.swap(a, b);
@@ -1642,6 +1657,58 @@ fn exchange(
         return Some((ja, jb));
     }
     None
+}
+
+/// The local search's floors of a multiplet's term change, kept per
+/// multiplet beside the terms (each the very expression the trials used
+/// to compute, so the same bits and the same outcomes): `enter[j]`,
+/// `floor(j, k + 1) - term[j]` (j gains a group), and `stay[j]`,
+/// `floor(j, k) - term[j]` (j keeps its count; read only while j holds a
+/// group), with one more entry, 0, for [`NONE`].
+struct Floors<'a> {
+    enter: &'a mut [f64],
+    stay: &'a mut [f64],
+}
+
+impl<'a> Floors<'a> {
+    /// `buf` holds the m terms at the sums `k`; the floors are appended
+    /// (the buffer is then 3m + 1 long) and the terms returned beside them.
+    fn new(c: &CostsRef, k: &[u32], buf: &'a mut Vec<f64>) -> (&'a mut [f64], Floors<'a>) {
+        let m = c.multiplets;
+        for j in 0..m {
+            let x = c.floor(j, k[j] + 1) - buf[j];
+            buf.push(x);
+        }
+        for j in 0..m {
+            let x = c.overlap[j] * (k[j] as f64 - 1.0) - buf[j];
+            buf.push(x);
+        }
+        buf.push(0.0);
+        let (term, rest) = buf.split_at_mut(m);
+        let (enter, stay) = rest.split_at_mut(m);
+        (term, Floors { enter, stay })
+    }
+
+    /// Multiplet j's term and floors after its sums changed.
+    #[inline(always)]
+    fn set(&mut self, c: &CostsRef, j: usize, h: &[u32], k: &[u32], term: &mut [f64]) {
+        let t = c.multiplet(j, h[j], k[j]);
+        term[j] = t;
+        self.enter[j] = c.floor(j, k[j] + 1) - t;
+        // `(k - 1) as f64` for k >= 1, without the wrap at k = 0 (whose
+        // value is never read).
+        self.stay[j] = c.overlap[j] * (k[j] as f64 - 1.0) - t;
+    }
+
+    /// `stay` of multiplet j or of [`NONE`] (0).
+    #[inline(always)]
+    fn stay(&self, j: u16) -> f64 {
+        self.stay[if j == NONE {
+            self.enter.len()
+        } else {
+            j as usize
+        }]
+    }
 }
 
 /// The moves of group `gi` from `from` in the local search (`hg` its H,
@@ -1663,6 +1730,7 @@ impl Move {
         h: &[u32],
         k: &[u32],
         term: &[f64],
+        enter: &[f64],
         targets: impl Iterator<Item = u16>,
     ) -> (f64, u16) {
         let Move {
@@ -1677,7 +1745,7 @@ impl Move {
                 // The floor of the change first (`to` gains a group;
                 // [`CostsRef::floor`]).
                 let j = to as usize;
-                let floor = own(c, gi, to) + (c.floor(j, k[j] + 1) - term[j]) - leave;
+                let floor = own(c, gi, to) + enter[j] - leave;
                 if !(floor < best.0 - IMPROVE_EPS) {
                     continue;
                 }
@@ -1728,6 +1796,7 @@ pub(crate) fn improve(
     }
     let Local { term, on, stamps } = local;
     terms(c, h, k, term);
+    let (term, mut floors) = Floors::new(c, k, term);
     let words = g.div_ceil(64);
     let row = |j: u16| if j == NONE { m } else { j as usize } * words;
     // A trial that failed gives the same answer again while nothing it
@@ -1783,12 +1852,13 @@ pub(crate) fn improve(
                 leave,
             };
             let best = match targets {
-                Targets::All => moves.best(c, h, k, term, 0..m as u16),
+                Targets::All => moves.best(c, h, k, term, floors.enter, 0..m as u16),
                 Targets::Listed { start, lines, .. } => moves.best(
                     c,
                     h,
                     k,
                     term,
+                    floors.enter,
                     lines[start[gi] as usize..start[gi + 1] as usize]
                         .iter()
                         .copied(),
@@ -1800,13 +1870,13 @@ pub(crate) fn improve(
                     let j = from as usize;
                     h[j] -= c.hydrogens[gi];
                     k[j] -= 1;
-                    term[j] = c.multiplet(j, h[j], k[j]);
+                    floors.set(c, j, h, k, term);
                 }
                 if to != NONE {
                     let j = to as usize;
                     h[j] += c.hydrogens[gi];
                     k[j] += 1;
-                    term[j] = c.multiplet(j, h[j], k[j]);
+                    floors.set(c, j, h, k, term);
                 }
                 *place = to;
                 better = true;
@@ -1850,7 +1920,8 @@ pub(crate) fn improve(
                             {
                                 continue;
                             }
-                            if let Some((ja, jb)) = exchange(c, &targets, choice, h, k, term, a, b)
+                            if let Some((ja, jb)) =
+                                exchange(c, &targets, choice, h, k, term, &mut floors, a, b)
                             {
                                 on[row(ja) + a / 64] &= !(1 << (a % 64));
                                 on[row(jb) + a / 64] |= 1 << (a % 64);
@@ -1884,7 +1955,9 @@ pub(crate) fn improve(
                         {
                             continue;
                         }
-                        if let Some((ja, jb)) = exchange(c, &targets, choice, h, k, term, a, b) {
+                        if let Some((ja, jb)) =
+                            exchange(c, &targets, choice, h, k, term, &mut floors, a, b)
+                        {
                             better = true;
                             if skip {
                                 stamp += 1;
@@ -2790,6 +2863,108 @@ mod tests {
         }
         // The instances did move groups (not a test of an idle search).
         assert!(changed > 400, "{changed}");
+    }
+
+    // A search given a known assignment that costs no more than the root
+    // bound with the floors returns it without searching (`run`, `seed`).
+    // References: exhaustive search, and the search from its own
+    // incumbents (no seed), on random problems, half with whole-number
+    // costs so that the bound often meets the optimum and ties are common;
+    // seeds are the optimum or a random assignment, cutoffs above, at and
+    // just above the optimum.
+    #[test]
+    fn a_seed_at_the_root_bound_is_returned_exactly() {
+        let mut st = 0x2c41_9e07_b3d5_6a18u64;
+        let (mut at_root, mut searched) = (0, 0);
+        let tuning = Tuning {
+            split: false,
+            ..Tuning::default()
+        };
+        for round in 0..3000 {
+            let mut c = random(&mut st, 5, 6);
+            if round % 2 == 0 {
+                for x in c.pair.iter_mut().chain(c.unassigned.iter_mut()) {
+                    *x = x.round();
+                }
+                for x in c.empty.iter_mut().chain(c.overlap.iter_mut()) {
+                    *x = x.round();
+                }
+            }
+            let (g, m) = (c.groups, c.multiplets);
+            let exact = brute(&c);
+            let mut plain = Workspace::default();
+            let unseeded = run(
+                &c.view(),
+                f64::INFINITY,
+                &mut plain,
+                false,
+                u64::MAX,
+                tuning,
+                None,
+            );
+            let Outcome::Below(optimum) = unseeded else {
+                panic!("round {round}: no optimum");
+            };
+            assert!((optimum - exact).abs() < 1e-9, "round {round}");
+            let seed: Vec<u16> = if round % 3 == 0 {
+                (0..g)
+                    .map(|_| {
+                        let i = (rng(&mut st) * (m + 1) as f64) as usize;
+                        if i >= m {
+                            NONE
+                        } else {
+                            i as u16
+                        }
+                    })
+                    .collect()
+            } else {
+                plain.best_choice.clone()
+            };
+            let seed_cost = c.evaluate(&seed);
+            let cutoff = match round % 4 {
+                0 | 1 => f64::INFINITY,
+                2 => exact + 1e-6,
+                _ => exact,
+            };
+            let mut ws = Workspace::default();
+            let out = run(
+                &c.view(),
+                cutoff,
+                &mut ws,
+                false,
+                u64::MAX,
+                tuning,
+                Some(&seed),
+            );
+            // Whether the seed met the bound (the new path).
+            let (mut mc, mut ex, mut fl) = (Vec::new(), Vec::new(), Vec::new());
+            let bound = root_bound_floored(&c.view(), &mut mc, &mut ex, &mut fl);
+            let met = seed_cost <= bound;
+            match out {
+                Outcome::Below(cost) => {
+                    assert!(cutoff > exact - 1e-9, "round {round}");
+                    assert!(
+                        (cost - exact).abs() < 1e-9,
+                        "round {round}: {cost} vs {exact}"
+                    );
+                    assert!((c.evaluate(&ws.best_choice) - cost).abs() < 1e-9);
+                    if met {
+                        assert_eq!(ws.best_choice, seed, "round {round}");
+                        assert_eq!(cost.to_bits(), seed_cost.to_bits());
+                        assert_eq!(ws.nodes, 1);
+                    }
+                }
+                Outcome::Nothing => assert!(cutoff <= exact + 1e-9, "round {round}"),
+                Outcome::GaveUp => panic!("round {round}: gave up"),
+            }
+            if met {
+                at_root += 1;
+            } else {
+                searched += 1;
+            }
+        }
+        // Both ways were taken.
+        assert!(at_root > 200 && searched > 2000, "{at_root} {searched}");
     }
 
     // Reference: the search on the part (`run` from the same incumbent,
