@@ -197,15 +197,23 @@ fn fusion_counts(mol: &Molecule, aro: &[bool], atom: usize) -> Option<[f64; 3]> 
             // through y.
             && reaches_ring(mol, aro, outer[0], y, &ring);
         if fused {
-            let d = (i as isize - at as isize).unsigned_abs();
-            let d = d.min(6 - d);
-            if (1..=3).contains(&d) {
-                n[d - 1] += 1.0;
-                any = true;
-            }
+            any |= count_at_distance(&mut n, i, at);
         }
     }
     any.then_some(n)
+}
+
+/// Count ring position `i` in `n` as ortho, meta or para to position `at`
+/// of a six-ring (true when it is one of them).
+fn count_at_distance(n: &mut [f64; 3], i: usize, at: usize) -> bool {
+    let d = (i as isize - at as isize).unsigned_abs();
+    let d = d.min(6 - d);
+    if (1..=3).contains(&d) {
+        n[d - 1] += 1.0;
+        true
+    } else {
+        false
+    }
 }
 
 /// Pyrrole-type-N fusion counts of the H on `atom` in an all-carbon
@@ -229,12 +237,7 @@ fn pyrrole_n_fusion_counts(mol: &Molecule, aro: &[bool], atom: usize) -> Option<
                 && mol.neighbours(z).count() + mol.atom(z).hydrogens as usize == 3
                 && five_ring_through(mol, aro, y, z);
             if pyrrole_n {
-                let d = (i as isize - at as isize).unsigned_abs();
-                let d = d.min(6 - d);
-                if (1..=3).contains(&d) {
-                    n[d - 1] += 1.0;
-                    any = true;
-                }
+                any |= count_at_distance(&mut n, i, at);
             }
         }
     }
