@@ -74,7 +74,8 @@ pub struct Args {
     /// Use the 13C list only in the score, not to bound the search (by
     /// default its H counts and shift regions constrain the enumeration,
     /// which assumes every line belongs to the compound and its H count is
-    /// right).
+    /// right; the structures whose carbons fit the typical shift regions
+    /// are searched first, then the rest).
     #[arg(long)]
     pub carbon_score_only: bool,
     /// Output format.
