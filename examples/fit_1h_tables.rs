@@ -570,7 +570,6 @@ fn main() {
     );
     let abs = |v: &[f64]| mean(&v.iter().map(|r| r.abs()).collect::<Vec<_>>());
     println!("MAE fit {:.3}, check {:.3}", abs(&fit_all), abs(&check_all));
-    let b = least_squares3(&fusion_fit);
     let err = |rows: &[([f64; 3], f64)], b: [f64; 3]| {
         mean(
             &rows
@@ -579,36 +578,32 @@ fn main() {
                 .collect::<Vec<_>>(),
         )
     };
-    println!(
-        "ring fusion (H on all-carbon aromatic six-rings, {} fit H, {} check H): now ortho {:+.2} meta {:+.2} para {:+.2}, MAE fit {:.3} check {:.3}; fitted ortho {:+.2} meta {:+.2} para {:+.2}, MAE fit {:.3} check {:.3}",
-        fusion_fit.len(),
-        fusion_check.len(),
-        fusion_now[0],
-        fusion_now[1],
-        fusion_now[2],
-        err(&fusion_fit, fusion_now),
-        err(&fusion_check, fusion_now),
-        b[0],
-        b[1],
-        b[2],
-        err(&fusion_fit, b),
-        err(&fusion_check, b)
-    );
-    let b = least_squares3(&pyrrole_fit);
-    println!(
-        "pyrrole-type N fusion (H on all-carbon aromatic six-rings, {} fit H, {} check H): now ortho {:+.2} meta {:+.2} para {:+.2}, MAE fit {:.3} check {:.3}; fitted ortho {:+.2} meta {:+.2} para {:+.2}, MAE fit {:.3} check {:.3}",
-        pyrrole_fit.len(),
-        pyrrole_check.len(),
-        pyrrole_now[0],
-        pyrrole_now[1],
-        pyrrole_now[2],
-        err(&pyrrole_fit, pyrrole_now),
-        err(&pyrrole_check, pyrrole_now),
-        b[0],
-        b[1],
-        b[2],
-        err(&pyrrole_fit, b),
-        err(&pyrrole_check, b)
+    // One line per fusion row: its H, the values now and their error, the
+    // least-squares values on the fit half and their error on both halves.
+    let report = |what: &str, fit: &[([f64; 3], f64)], check: &[([f64; 3], f64)], now: [f64; 3]| {
+        let b = least_squares3(fit);
+        println!(
+            "{what} (H on all-carbon aromatic six-rings, {} fit H, {} check H): now ortho {:+.2} meta {:+.2} para {:+.2}, MAE fit {:.3} check {:.3}; fitted ortho {:+.2} meta {:+.2} para {:+.2}, MAE fit {:.3} check {:.3}",
+            fit.len(),
+            check.len(),
+            now[0],
+            now[1],
+            now[2],
+            err(fit, now),
+            err(check, now),
+            b[0],
+            b[1],
+            b[2],
+            err(fit, b),
+            err(check, b)
+        );
+    };
+    report("ring fusion", &fusion_fit, &fusion_check, fusion_now);
+    report(
+        "pyrrole-type N fusion",
+        &pyrrole_fit,
+        &pyrrole_check,
+        pyrrole_now,
     );
     // Sigmas: the robust standard deviation of the residuals (1.4826 x the
     // median absolute residual, which long tails from mis-paired H or

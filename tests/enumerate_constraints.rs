@@ -461,6 +461,36 @@ fn carbon_spec(c: &Constraints, f: &Formula) -> serde_json::Value {
     spec
 }
 
+/// A dev compound's formula and the constraints its 13C list gives as `rank
+/// --carbon` reads it; `None` for a list the command refuses (a shift
+/// outside the 13C range, more lines than carbons), which never reaches the
+/// search.
+fn dev_constraints(
+    case: &carbon_dev::Case,
+    solvents: &isomerank::spectrum::solvent::SolventTable,
+) -> Option<(isomerank::chem::Molecule, Formula, Constraints)> {
+    let mol = isomerank::chem::smiles::parse_smiles(&case.smiles).unwrap();
+    let f = mol.formula();
+    let raw = isomerank::spectrum::carbon::parse(&case.carbon).ok()?;
+    let (_, carbon) = isomerank::spectrum::observed(None, Some(raw), &f, solvents).ok()?;
+    let mut c = Constraints::default();
+    carbon
+        .unwrap()
+        .constrain_search(&f, &mut c)
+        .unwrap_or_else(|e| panic!("{}: {e}", case.id));
+    Some((mol, f, c))
+}
+
+/// The indices of `items` (JSON lines of SMILES and spec) whose structure
+/// fits its spec. Source: RDKit (PyPI rdkit),
+/// tests/reference/check_constraints.py.
+fn reference_fits_each(items: &[String]) -> BTreeSet<usize> {
+    let json = run_reference_script("check_constraints.py", &["--each"], &items.join("\n"));
+    let r: Reference = serde_json::from_str(&json).expect("check_constraints.py JSON");
+    assert_eq!(r.lines, items.len());
+    r.fits.into_iter().collect()
+}
+
 #[test]
 fn deposited_structures_pass_their_own_13c_constraints() {
     // Every compound of the NMRShiftDB2 v2 dev split (tests/data, 9964;
@@ -477,23 +507,10 @@ fn deposited_structures_pass_their_own_13c_constraints() {
     let mut ids = Vec::new();
     let (mut bounded, mut tight, mut refused) = (0u32, 0u32, 0u32);
     for case in &cases {
-        let mol = isomerank::chem::smiles::parse_smiles(&case.smiles).unwrap();
-        let f = mol.formula();
-        // A list the command refuses (a shift outside the 13C range, more
-        // lines than carbons) constrains nothing: it never reaches the search.
-        let Ok(raw) = isomerank::spectrum::carbon::parse(&case.carbon) else {
+        let Some((mol, f, c)) = dev_constraints(case, &solvents) else {
             refused += 1;
             continue;
         };
-        let Ok((_, carbon)) = isomerank::spectrum::observed(None, Some(raw), &f, &solvents) else {
-            refused += 1;
-            continue;
-        };
-        let mut c = Constraints::default();
-        carbon
-            .unwrap()
-            .constrain_search(&f, &mut c)
-            .unwrap_or_else(|e| panic!("{}: {e}", case.id));
         let spec = carbon_spec(&c, &f);
         if let Some(r) = spec["max_rings"].as_i64() {
             bounded += u32::from(r < f.dbe() as i64);
@@ -505,10 +522,7 @@ fn deposited_structures_pass_their_own_13c_constraints() {
         ids.push(case.id);
     }
     // Source: RDKit (PyPI rdkit), tests/reference/check_constraints.py.
-    let json = run_reference_script("check_constraints.py", &["--each"], &items.join("\n"));
-    let r: Reference = serde_json::from_str(&json).expect("check_constraints.py JSON");
-    assert_eq!(r.lines, items.len());
-    let fits: BTreeSet<usize> = r.fits.into_iter().collect();
+    let fits = reference_fits_each(&items);
     // Left out of the sp2 regions on purpose (carbon-regions.toml): the
     // =CHR end of a ketene, here ethylketene's CH at 18.6 ppm (id
     // 20052547), in a formula without N, P, S or I. Any other failure is a
@@ -559,16 +573,9 @@ fn deposited_structures_mostly_fit_the_typical_regions() {
     let mut items = Vec::new();
     let mut ids = Vec::new();
     for case in &cases {
-        let mol = isomerank::chem::smiles::parse_smiles(&case.smiles).unwrap();
-        let f = mol.formula();
-        let Ok(raw) = isomerank::spectrum::carbon::parse(&case.carbon) else {
+        let Some((_, f, c)) = dev_constraints(case, &solvents) else {
             continue;
         };
-        let Ok((_, carbon)) = isomerank::spectrum::observed(None, Some(raw), &f, &solvents) else {
-            continue;
-        };
-        let mut c = Constraints::default();
-        carbon.unwrap().constrain_search(&f, &mut c).unwrap();
         let stages = c.stages();
         if stages.len() < 2 {
             continue;
@@ -578,10 +585,7 @@ fn deposited_structures_mostly_fit_the_typical_regions() {
         ids.push(case.id);
     }
     // Source: RDKit (PyPI rdkit), tests/reference/check_constraints.py.
-    let json = run_reference_script("check_constraints.py", &["--each"], &items.join("\n"));
-    let r: Reference = serde_json::from_str(&json).expect("check_constraints.py JSON");
-    assert_eq!(r.lines, items.len());
-    let fits: BTreeSet<usize> = r.fits.into_iter().collect();
+    let fits = reference_fits_each(&items);
     let missed: Vec<u64> = (0..items.len())
         .filter(|i| !fits.contains(i))
         .map(|i| ids[i])

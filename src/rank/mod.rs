@@ -518,7 +518,7 @@ fn add_stage(
     } else {
         "second stage, the rest"
     };
-    let mut flagged = stage.flagged.clone();
+    let mut flagged = stage.flagged;
     for (rule, n) in &mut flagged {
         *n += done
             .flagged
