@@ -357,7 +357,8 @@ impl Constraints {
     }
 
     /// One name per constraint, in the order the search counts their cuts:
-    /// attached H, carbon types, each required fragment, each forbidden one.
+    /// attached H, carbon types, each required fragment, each forbidden one,
+    /// and the structures an earlier stage searched (`exclude`).
     pub fn names(&self) -> Vec<String> {
         let mut names = Vec::new();
         if !self.hydrogens.is_empty() {
